@@ -1,0 +1,29 @@
+#pragma once
+// The subcommands of the spurcast executable. Each lives in cli/<command>.cpp with an Options
+// struct, a setup_<command>() that declares its options, and a run function.
+#include <CLI/CLI.hpp>
+
+#include <functional>
+#include <memory>
+#include <vector>
+
+namespace spurcast::cli {
+
+// Exit codes (DESIGN.md §4).
+inline constexpr int exit_ok = 0;            // done, every limit met
+inline constexpr int exit_limit_exceeded = 1;  // done, a limit exceeded or a margin under the guard band
+inline constexpr int exit_bad_input = 2;     // bad input or usage
+
+struct Command {
+  CLI::App* app = nullptr;
+  std::function<int()> run;
+};
+using CommandList = std::vector<Command>;
+
+/// Registers every subcommand on `app`; the run function of the parsed one is called by main.
+void register_commands(CLI::App& app, CommandList& commands);
+
+// One per subcommand; each adds itself to `commands`.
+void setup_spectrum(CLI::App& app, CommandList& commands);
+
+}  // namespace spurcast::cli

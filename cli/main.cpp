@@ -1,0 +1,35 @@
+// spurcast: the command-line front end. Parses arguments, calls the core, prints and writes;
+// every core Error is caught here once and mapped to exit code 2.
+#include <CLI/CLI.hpp>
+
+#include <cstdio>
+#include <iostream>
+
+#include "cli/commands.hpp"
+#include "core/error.hpp"
+
+int main(int argc, char** argv) {
+  CLI::App app{"spurcast: conducted and broadcast-band EMI estimates for switching converters"};
+  app.set_version_flag("--version", std::string("spurcast ") + SPURCAST_VERSION);
+  app.require_subcommand(1);
+  spurcast::cli::CommandList commands;
+  spurcast::cli::register_commands(app, commands);
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    const int code = app.exit(e);
+    return code == 0 ? 0 : spurcast::cli::exit_bad_input;
+  }
+  try {
+    for (auto& command : commands) {
+      if (command.app->parsed()) return command.run();
+    }
+  } catch (const spurcast::Error& e) {
+    std::cerr << "spurcast: error: " << e.what() << "\n";
+    return spurcast::cli::exit_bad_input;
+  } catch (const std::exception& e) {
+    std::cerr << "spurcast: error: " << e.what() << "\n";
+    return spurcast::cli::exit_bad_input;
+  }
+  return spurcast::cli::exit_bad_input;
+}
