@@ -1,0 +1,51 @@
+#pragma once
+/// The two signal value types that flow between stages: a uniformly sampled record (Waveform) and
+/// the exact harmonic content of a periodic signal (LineSpectrum).
+#include <complex>
+#include <cstddef>
+#include <string>
+#include <vector>
+
+namespace spurcast {
+
+/// What a signal measures. Voltages are reported in dBµV, currents in dBµA.
+enum class Quantity { voltage, current };
+
+/// "dBµV" or "dBµA".
+[[nodiscard]] inline std::string level_unit(Quantity q) {
+  return q == Quantity::voltage ? "dB\xC2\xB5V" : "dB\xC2\xB5" "A";
+}
+/// CSV column suffix: "dbuv" or "dbua" (DESIGN.md §4 column names).
+[[nodiscard]] inline std::string level_suffix(Quantity q) {
+  return q == Quantity::voltage ? "dbuv" : "dbua";
+}
+
+/// A uniformly sampled record. samples[i] is the value at start_time_s + i / sample_rate_hz, in
+/// volts or amperes.
+struct Waveform {
+  Quantity quantity = Quantity::voltage;
+  double sample_rate_hz = 0.0;  ///< [Hz], > 0
+  double start_time_s = 0.0;    ///< [s]
+  std::vector<double> samples;  ///< [V] or [A]
+
+  [[nodiscard]] double duration_s() const {
+    return sample_rate_hz > 0.0 ? static_cast<double>(samples.size()) / sample_rate_hz : 0.0;
+  }
+};
+
+/// The harmonics of a periodic signal with fundamental f0:
+///   x(t) = dc + Σ_k √2 · Re( harmonics[k-1] · exp(j·2π·k·f0·t) ),  k = 1..harmonics.size()
+/// so |harmonics[k-1]| is the RMS value of harmonic k (one-sided peak amplitude / √2), which is
+/// what a receiver calibrated in RMS reads for an isolated line.
+struct LineSpectrum {
+  Quantity quantity = Quantity::voltage;
+  double fundamental_hz = 0.0;                     ///< [Hz], > 0
+  double dc = 0.0;                                 ///< mean value [V] or [A]
+  std::vector<std::complex<double>> harmonics;     ///< RMS phasors [V] or [A]
+
+  [[nodiscard]] double frequency_hz(std::size_t index) const {
+    return static_cast<double>(index + 1) * fundamental_hz;
+  }
+};
+
+}  // namespace spurcast
