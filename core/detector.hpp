@@ -28,4 +28,11 @@ enum class Detector {
 /// `expected one of peak, quasi-peak or average, found "qp"`.
 [[nodiscard]] Detector detector_from_string(std::string_view name);
 
+/// The time constants of CISPR 16-1-1 for one band (REFERENCES.md §1.1, from memory).
+struct DetectorTimeConstants {
+  double charge_s = 1e-3;       ///< [s] QP electrical charge time constant (63 % definition)
+  double discharge_s = 0.160;   ///< [s] QP electrical discharge time constant (37 % definition)
+  double meter_s = 0.160;       ///< [s] mechanical time constant of the critically damped meter
+};
+
 }  // namespace spurcast
