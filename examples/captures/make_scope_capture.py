@@ -1,7 +1,7 @@
 #!/usr/bin/env python3
 """Writes scope-switch-node.csv: an invented oscilloscope capture of a 24 V switch node at 150 kHz
 (10:1 probe, so the file holds volts / 10), 40 MS/s, 10 switching periods, with ringing and a little
-noise. Made by: python3 examples/captures/make_scope_capture.py (numpy seed 7)."""
+noise. Made by: /usr/bin/python3 examples/captures/make_scope_capture.py (numpy seed 7)."""
 import numpy as np
 
 rng = np.random.default_rng(7)
