@@ -2,6 +2,7 @@
 /// The detectors of a CISPR 16-1-1 measuring receiver, named as the scenario file and the limit
 /// files name them. The detector algorithms (run on an IF envelope) grow below the enum.
 #include <optional>
+#include <span>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -34,5 +35,64 @@ struct DetectorTimeConstants {
   double discharge_s = 0.160;   ///< [s] QP electrical discharge time constant (37 % definition)
   double meter_s = 0.160;       ///< [s] mechanical time constant of the critically damped meter
 };
+
+// ---------------------------------------------------------------------------------------------
+// Quasi-peak detector: a half-wave diode peak detector driven by the IF carrier (REFERENCES.md §1.4a).
+// The diode conducts while e·cos(ωt) > V; averaged over one IF cycle the charging current is
+// (e/(π·Rc))·(sin φ − φ·cos φ), cos φ = V/e (textbook half-wave peak-rectifier analysis), so
+//   dV/dt = e·g(V/e)/(Rc·C) − V/(Rd·C),   g(r) = (sin φ − φ·cos φ)/π,  cos φ = r  (g = 0 for r >= 1).
+// Rd·C is the discharge time constant (37 % definition). Rc·C is not the nominal charge constant:
+// it is solved so that a suddenly applied sine makes V reach 63 % of its final value at the
+// nominal charge time (the standard's definition of the electrical charge time constant). An
+// envelope-domain RC with the nominal constant reads 0.5-2.3 dB low at low PRF in bands B and C/D
+// (REFERENCES.md §1.4); the diode model follows the definitions and needs no fitted factor.
+
+/// g(r) = (sin φ − φ·cos φ)/π with cos φ = r, for 0 <= r < 1; 0 for r >= 1; 1/π for r <= 0.
+[[nodiscard]] double diode_charge_function(double ratio);
+/// cos φ_f, the CW steady state V/e of the diode model: tan φ_f − φ_f = π·Rc/Rd.
+[[nodiscard]] double diode_final_ratio(double charge_rc_s, double discharge_rc_s);
+/// The time [s] a suddenly applied constant envelope needs to charge V from 0 to 63 % (1 − 1/e) of
+/// its final value, by quadrature of dt = dV / (dV/dt).
+[[nodiscard]] double diode_charge_time_s(double charge_rc_s, double discharge_rc_s);
+
+/// The QP diode model of one band.
+struct QuasiPeakModel {
+  double charge_rc_s = 0.0;     ///< [s] Rc·C solved from the 63 % definition
+  double discharge_rc_s = 0.0;  ///< [s] Rd·C = the discharge time constant
+  double final_ratio = 1.0;     ///< V_final / envelope for a CW (cos φ_f)
+};
+/// Solves Rc·C from the nominal charge time constant (bisection on diode_charge_time_s).
+[[nodiscard]] QuasiPeakModel quasi_peak_model(const DetectorTimeConstants& constants);
+
+/// Everything the detectors need for one band, computed once.
+struct DetectorModel {
+  DetectorTimeConstants constants;
+  QuasiPeakModel quasi_peak;
+};
+[[nodiscard]] DetectorModel make_detector_model(const DetectorTimeConstants& constants);
+
+/// The QP capacitor voltage after each envelope sample (same unit as the envelope), starting from
+/// `initial_v`, integrated with Heun's method on the linearly interpolated envelope (exact
+/// exponential decay where the diode is off). `envelope` holds peak values of the IF output.
+[[nodiscard]] std::vector<double> quasi_peak_voltage(std::span<const double> envelope, double sample_interval_s,
+                                                     const QuasiPeakModel& model, double initial_v);
+
+/// Readings calibrated in RMS of a sine (same unit as the envelope, linear).
+struct DetectorReadings {
+  double peak = 0.0;
+  double quasi_peak = 0.0;
+  double average = 0.0;
+};
+
+/// The detector readings for an envelope (peak values of the IF output) that repeats with the
+/// period samples.size()·sample_interval_s, in periodic steady state (the record is repeated until
+/// the QP and meter states settle; the QP state is found as the fixed point of the one-period map).
+///   peak       = max envelope / √2 (log-parabolic interpolation between samples: exact for the
+///                Gaussian envelope of an impulse)
+///   quasi-peak = max of the meter output driven by the diode-detector voltage / (cos φ_f·√2)
+///   average    = max of the meter output driven by the envelope / √2 (CISPR average, REFERENCES.md §1.6)
+/// The meter is 1/(1 + s·T_L)² (critically damped, REFERENCES.md §1.1).
+[[nodiscard]] DetectorReadings read_periodic_envelope(std::span<const double> envelope, double sample_interval_s,
+                                                      const DetectorModel& model);
 
 }  // namespace spurcast

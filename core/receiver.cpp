@@ -8,42 +8,42 @@
 
 namespace spurcast {
 
-std::string to_string(Band band) {
+std::string to_string(CisprBand band) {
   switch (band) {
-    case Band::A: return "A";
-    case Band::B: return "B";
-    case Band::C: return "C";
-    case Band::D: return "D";
+    case CisprBand::A: return "A";
+    case CisprBand::B: return "B";
+    case CisprBand::C: return "C";
+    case CisprBand::D: return "D";
   }
   return "B";
 }
 
-std::optional<Band> find_band(std::string_view name) {
-  for (Band band : {Band::A, Band::B, Band::C, Band::D}) {
+std::optional<CisprBand> find_band(std::string_view name) {
+  for (CisprBand band : {CisprBand::A, CisprBand::B, CisprBand::C, CisprBand::D}) {
     if (to_string(band) == name) return band;
   }
   return std::nullopt;
 }
 
-Band band_from_string(std::string_view name) {
+CisprBand band_from_string(std::string_view name) {
   if (auto band = find_band(name)) return *band;
   throw Error("expected one of A, B, C or D, found \"" + std::string(name) + "\"");
 }
 
-BandParameters band_parameters(Band band) {
+BandParameters band_parameters(CisprBand band) {
   // CISPR 16-1-1 bands, 6 dB bandwidths and QP/meter time constants: REFERENCES.md §1.1 (from
   // memory; a public encyclopedia mirror and an analyser manual agree).
   switch (band) {
-    case Band::A: return {Band::A, 9e3, 150e3, 200.0, {45e-3, 500e-3, 160e-3}};
-    case Band::B: return {Band::B, 150e3, 30e6, 9e3, {1e-3, 160e-3, 160e-3}};
-    case Band::C: return {Band::C, 30e6, 300e6, 120e3, {1e-3, 550e-3, 100e-3}};
-    case Band::D: return {Band::D, 300e6, 1e9, 120e3, {1e-3, 550e-3, 100e-3}};
+    case CisprBand::A: return {CisprBand::A, 9e3, 150e3, 200.0, {45e-3, 500e-3, 160e-3}};
+    case CisprBand::B: return {CisprBand::B, 150e3, 30e6, 9e3, {1e-3, 160e-3, 160e-3}};
+    case CisprBand::C: return {CisprBand::C, 30e6, 300e6, 120e3, {1e-3, 550e-3, 100e-3}};
+    case CisprBand::D: return {CisprBand::D, 300e6, 1e9, 120e3, {1e-3, 550e-3, 100e-3}};
   }
-  return band_parameters(Band::B);
+  return band_parameters(CisprBand::B);
 }
 
-Band band_for_frequency(double frequency_hz) {
-  for (Band band : {Band::A, Band::B, Band::C, Band::D}) {
+CisprBand band_for_frequency(double frequency_hz) {
+  for (CisprBand band : {CisprBand::A, CisprBand::B, CisprBand::C, CisprBand::D}) {
     const BandParameters p = band_parameters(band);
     if (frequency_hz >= p.start_hz && frequency_hz <= p.stop_hz) return band;
   }
@@ -53,7 +53,7 @@ Band band_for_frequency(double frequency_hz) {
 
 namespace {
 
-void check_step(const TableReader& reader, std::string_view key, double step_hz, Band band) {
+void check_step(const TableReader& reader, std::string_view key, double step_hz, CisprBand band) {
   const BandParameters p = band_parameters(band);
   if (!(step_hz > 0.0)) {
     reader.fail(key, "expected a positive step, found " + format_quantity(step_hz, Dimension::frequency));
@@ -99,7 +99,7 @@ std::vector<T> read_name_array(TableReader& reader, std::string_view key, Find f
 ReceiverSpec read_receiver_section(TableReader& reader) {
   ReceiverSpec spec;
   if (reader.has("bands")) {
-    spec.bands = read_name_array<Band>(reader, "bands", find_band, "A, B, C or D");
+    spec.bands = read_name_array<CisprBand>(reader, "bands", find_band, "A, B, C or D");
   }
   if (reader.has("detectors")) {
     spec.detectors = read_name_array<Detector>(reader, "detectors", find_detector,
@@ -107,7 +107,7 @@ ReceiverSpec read_receiver_section(TableReader& reader) {
   }
   spec.step_hz = reader.optional_quantity("step", Dimension::frequency);
   if (spec.step_hz) {
-    for (Band band : spec.bands) check_step(reader, "step", *spec.step_hz, band);
+    for (CisprBand band : spec.bands) check_step(reader, "step", *spec.step_hz, band);
   }
   reader.finish({"bands", "detectors", "step"});
   return spec;
@@ -128,9 +128,9 @@ double noise_bandwidth_hz(double bandwidth_6db_hz) {
   return std::sqrt(std::numbers::pi / (8.0 * std::numbers::ln2)) * bandwidth_6db_hz;
 }
 
-double default_step_hz(Band band) { return band_parameters(band).bandwidth_6db_hz / 4.0; }
+double default_step_hz(CisprBand band) { return band_parameters(band).bandwidth_6db_hz / 4.0; }
 
-std::vector<double> tuned_frequencies(Band band, double step_hz) {
+std::vector<double> tuned_frequencies(CisprBand band, double step_hz) {
   const BandParameters p = band_parameters(band);
   if (!(step_hz > 0.0)) throw Error("expected a positive step, found " + format_quantity(step_hz, Dimension::frequency));
   std::vector<double> frequencies;

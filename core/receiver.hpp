@@ -4,7 +4,7 @@
 /// FFT receiver, every tuned frequency at once) or of a periodic line spectrum (exact fast path).
 ///
 /// Example:
-///   ScanPlan plan{.band = Band::B};                       // 150 kHz-30 MHz, 9 kHz, step 2.25 kHz
+///   ScanPlan plan{.band = CisprBand::B};                       // 150 kHz-30 MHz, 9 kHz, step 2.25 kHz
 ///   const ScanResult result = scan_waveform(waveform, plan);
 ///   for (const Reading& r : result.readings) ... r.quasi_peak_db ...
 #include <complex>
@@ -20,32 +20,32 @@
 namespace spurcast {
 
 /// CISPR 16-1-1 frequency bands. C and D share bandwidth and time constants.
-enum class Band { A, B, C, D };
+enum class CisprBand { A, B, C, D };
 
 /// "A", "B", "C" or "D".
-[[nodiscard]] std::string to_string(Band band);
+[[nodiscard]] std::string to_string(CisprBand band);
 /// The band named `name` ("A".."D", upper case), or nullopt.
-[[nodiscard]] std::optional<Band> find_band(std::string_view name);
+[[nodiscard]] std::optional<CisprBand> find_band(std::string_view name);
 /// Like find_band; throws Error (no position): `expected one of A, B, C or D, found "E"`.
-[[nodiscard]] Band band_from_string(std::string_view name);
+[[nodiscard]] CisprBand band_from_string(std::string_view name);
 
 /// The receiver parameters of a band: CISPR 16-1-1 values as listed in REFERENCES.md §1.1 (from
 /// memory, two public secondary sources agree).
 struct BandParameters {
-  Band band = Band::B;
+  CisprBand band = CisprBand::B;
   double start_hz = 0.0;            ///< [Hz] lower band edge
   double stop_hz = 0.0;             ///< [Hz] upper band edge
   double bandwidth_6db_hz = 0.0;    ///< [Hz] IF bandwidth at -6 dB
   DetectorTimeConstants detector;   ///< QP charge/discharge and meter time constants
 };
-[[nodiscard]] BandParameters band_parameters(Band band);
+[[nodiscard]] BandParameters band_parameters(CisprBand band);
 /// The band whose range holds `frequency_hz` (edges: the lower band, e.g. 150 kHz is band A,
 /// 30 MHz is band B); Error `frequency 5 kHz is outside the CISPR bands (9 kHz-1 GHz)` otherwise.
-[[nodiscard]] Band band_for_frequency(double frequency_hz);
+[[nodiscard]] CisprBand band_for_frequency(double frequency_hz);
 
 /// The [receiver] table of a scenario.
 struct ReceiverSpec {
-  std::vector<Band> bands{Band::B};
+  std::vector<CisprBand> bands{CisprBand::B};
   std::vector<Detector> detectors{Detector::peak, Detector::quasi_peak, Detector::average};
   std::optional<double> step_hz;  ///< [Hz] scan step; default default_step_hz(band); <= B6/2
 };
@@ -67,16 +67,16 @@ struct ReceiverSpec {
 /// Equivalent noise bandwidth: 0.7527·B6 (= sqrt(pi/(8 ln2))·B6; REFERENCES.md §1.2).
 [[nodiscard]] double noise_bandwidth_hz(double bandwidth_6db_hz);
 /// The default scan step: B6/4 (worst-case Gaussian scalloping 0.38 dB, REFERENCES.md §1.2).
-[[nodiscard]] double default_step_hz(Band band);
+[[nodiscard]] double default_step_hz(CisprBand band);
 /// Tuned frequencies start_hz + k·step_hz for k = 0, 1, ... while <= stop_hz (1e-9 relative slack).
-[[nodiscard]] std::vector<double> tuned_frequencies(Band band, double step_hz);
+[[nodiscard]] std::vector<double> tuned_frequencies(CisprBand band, double step_hz);
 
 // ---------------------------------------------------------------------------------------------
 // Scanning.
 
 /// What to read.
 struct ScanPlan {
-  Band band = Band::B;
+  CisprBand band = CisprBand::B;
   std::optional<double> step_hz;       ///< [Hz] default default_step_hz(band); must be <= B6/2
   std::vector<double> frequencies_hz;  ///< spot readings at these tuned frequencies; empty = scan the band
   /// [Hz] the slowest modulation in the signal (e.g. a dither rate), 0 = unknown. The sampled path
@@ -97,7 +97,7 @@ struct Reading {
 
 struct ScanResult {
   Quantity quantity = Quantity::voltage;
-  Band band = Band::B;
+  CisprBand band = CisprBand::B;
   double bandwidth_6db_hz = 0.0;  ///< [Hz]
   double step_hz = 0.0;           ///< [Hz] 0 for spot readings
   std::vector<Reading> readings;  ///< ascending frequency
