@@ -5,7 +5,7 @@
 /// Example:
 ///   const Scenario scenario = load_scenario("examples/greenhouse-buck.toml");
 ///   const Prediction p = predict(scenario);
-///   p.margins.verdict, p.scans[0].worst.readings, p.reception ...
+///   p.margins.verdict, p.scans[0].worst.readings, p.reception[i].verdict ...
 #include <optional>
 #include <string>
 #include <vector>
@@ -59,7 +59,11 @@ struct Prediction {
   std::optional<ConductedResult> conducted;
   std::vector<BandScan> scans;
   MarginReport margins;
-  BroadcastAssessment broadcast;
+  /// Field lines at the broadcast receiver [dBµV/m] (CM cable + DM loop, core/radiated.hpp), and
+  /// the per-band reception estimate made from them.
+  std::vector<FieldLine> field;
+  std::vector<BandReception> reception;
+  std::string radiation_convention;
   std::string setup_description;  ///< the LISN set-up the levels refer to
   std::vector<std::string> notes; ///< assumptions and warnings to show the user
   Verdict verdict = Verdict::pass;  ///< the margins' verdict (pass when no limit was given)
