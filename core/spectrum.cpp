@@ -51,7 +51,7 @@ void apply_window(Window window, const double* x, double* out, std::size_t n, do
       } else {
         // Chebyshev: cos(mθ) = T_m(cos θ).
         const double c2 = 2.0 * c * c - 1.0;
-        const double c3 = (2.0 * c2 - 1.0) * c - c;  // 4c³ − 3c
+        const double c3 = (2.0 * c2 - 1.0) * c;  // 4c³ − 3c
         const double c4 = 2.0 * c2 * c2 - 1.0;
         w = flat_top_a[0] - flat_top_a[1] * c + flat_top_a[2] * c2 - flat_top_a[3] * c3 + flat_top_a[4] * c4;
       }
