@@ -311,7 +311,10 @@ std::string polyline_path(const std::vector<std::vector<std::pair<double, double
   for (const auto& run : runs) {
     const auto points = decimate(run);
     for (std::size_t i = 0; i < points.size(); ++i) {
-      d += (i == 0 ? "M" : "L") + number(points[i].first) + " " + number(points[i].second);
+      d += i == 0 ? 'M' : 'L';
+      d += number(points[i].first);
+      d += ' ';
+      d += number(points[i].second);
     }
   }
   return d;
@@ -414,7 +417,14 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
     std::string d;
     if (trace.stems) {
       for (const auto& run : runs) {
-        for (const auto& [x, y] : run) d += "M" + number(x) + " " + number(layout.plot_bottom) + "V" + number(y);
+        for (const auto& [x, y] : run) {
+          d += 'M';
+          d += number(x);
+          d += ' ';
+          d += number(layout.plot_bottom);
+          d += 'V';
+          d += number(y);
+        }
       }
     } else {
       d = polyline_path(runs);
