@@ -9,11 +9,11 @@
 
 namespace spurcast {
 
-std::string verdict_name(Verdict verdict) {
+std::string reception_verdict_name(ReceptionVerdict verdict) {
   switch (verdict) {
-    case Verdict::clear: return "clear";
-    case Verdict::watch: return "watch";
-    case Verdict::noisy: return "noisy";
+    case ReceptionVerdict::clear: return "clear";
+    case ReceptionVerdict::watch: return "watch";
+    case ReceptionVerdict::noisy: return "noisy";
   }
   return "clear";
 }
@@ -35,11 +35,11 @@ ChannelReception judge_channel(const Band& band, double centre_hz, double level_
     channel.noisy_above_dbuvm = std::max(channel.clear_below_dbuvm, band.wanted_field_dbuvm - fm_threshold_cn_db);
   }
   if (level_dbuvm <= channel.clear_below_dbuvm) {
-    channel.verdict = Verdict::clear;
+    channel.verdict = ReceptionVerdict::clear;
   } else if (level_dbuvm > channel.noisy_above_dbuvm) {
-    channel.verdict = Verdict::noisy;
+    channel.verdict = ReceptionVerdict::noisy;
   } else {
-    channel.verdict = Verdict::watch;
+    channel.verdict = ReceptionVerdict::watch;
   }
   return channel;
 }
@@ -140,7 +140,7 @@ std::string bands_csv(const std::vector<BandReception>& results) {
   for (const BandReception& result : results) {
     csv += csv_field(result.band.name) + "," + std::to_string(result.band.region) + "," +
            number(result.band.low_hz, "%.0f") + "," + number(result.band.high_hz, "%.0f") + "," +
-           verdict_name(result.verdict) + ",";
+           reception_verdict_name(result.verdict) + ",";
     if (result.worst_channel) {
       const ChannelReception& worst = result.channels[*result.worst_channel];
       csv += number(worst.centre_hz, "%.0f") + "," + number(worst.level_dbuvm, "%.2f");

@@ -34,10 +34,10 @@
 
 namespace spurcast {
 
-enum class Verdict { clear, watch, noisy };
+enum class ReceptionVerdict { clear, watch, noisy };
 
 /// "clear", "watch", "noisy".
-[[nodiscard]] std::string verdict_name(Verdict verdict);
+[[nodiscard]] std::string reception_verdict_name(ReceptionVerdict verdict);
 
 /// FM threshold carrier-to-noise ratio [dB] (common practice: 10–12 dB).
 inline constexpr double fm_threshold_cn_db = 12.0;
@@ -52,13 +52,13 @@ struct ChannelReception {
   double protection_threshold_dbuvm = 0.0;  ///< wanted_field − protection_ratio [dBµV/m]
   double clear_below_dbuvm = 0.0;  ///< at or below this: clear
   double noisy_above_dbuvm = 0.0;  ///< above this: noisy
-  Verdict verdict = Verdict::clear;
+  ReceptionVerdict verdict = ReceptionVerdict::clear;
 };
 
 /// The estimate for one band.
 struct BandReception {
   Band band;
-  Verdict verdict = Verdict::clear;           ///< the worst channel's (clear when nothing is heard)
+  ReceptionVerdict verdict = ReceptionVerdict::clear;           ///< the worst channel's (clear when nothing is heard)
   std::vector<std::size_t> lines_inside;      ///< indices of input lines with low <= f <= high
   std::vector<ChannelReception> channels;     ///< channels that hear a line, ascending
   std::optional<std::size_t> worst_channel;   ///< highest verdict, then highest level − noisy_above
