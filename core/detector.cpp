@@ -98,7 +98,14 @@ QuasiPeakModel quasi_peak_model(const DetectorTimeConstants& constants) {
 }
 
 DetectorModel make_detector_model(const DetectorTimeConstants& constants) {
-  return DetectorModel{constants, quasi_peak_model(constants)};
+  DetectorModel model{constants, quasi_peak_model(constants), {}};
+  const std::size_t intervals = 8192;
+  model.charge_table.resize(intervals + 2);
+  for (std::size_t i = 0; i <= intervals; ++i) {
+    model.charge_table[i] = diode_charge_function(static_cast<double>(i) / static_cast<double>(intervals));
+  }
+  model.charge_table[intervals + 1] = 0.0;
+  return model;
 }
 
 namespace {
@@ -108,34 +115,50 @@ struct DiodeStepper {
   double inv_discharge;  // 1/(Rd·C)
   double h;              // sample interval
   double decay;          // exp(−h/(Rd·C))
+  const double* table;   // tabulated g (table_intervals + 2 entries), or null for the direct formula
+  double table_intervals;
 
-  DiodeStepper(const QuasiPeakModel& model, double sample_interval_s)
+  DiodeStepper(const QuasiPeakModel& model, double sample_interval_s, const std::vector<double>* charge_table)
       : inv_charge(1.0 / model.charge_rc_s),
         inv_discharge(1.0 / model.discharge_rc_s),
         h(sample_interval_s),
-        decay(std::exp(-sample_interval_s / model.discharge_rc_s)) {}
+        decay(std::exp(-sample_interval_s / model.discharge_rc_s)),
+        table(charge_table != nullptr && charge_table->size() > 2 ? charge_table->data() : nullptr),
+        table_intervals(table != nullptr ? static_cast<double>(charge_table->size() - 2) : 0.0) {}
 
-  [[nodiscard]] double rate(double v, double e) const {
-    const double charge = e > v ? e * diode_charge_function(v / e) * inv_charge : 0.0;
+  // g(r) for 0 <= r < 1 (callers only ask when V < e).
+  [[nodiscard]] double g(double r) const {
+    if (table == nullptr) return diode_charge_function(r);
+    const double x = r * table_intervals;
+    const auto i = static_cast<std::size_t>(x);
+    const double w = x - static_cast<double>(i);
+    return table[i] + w * (table[i + 1] - table[i]);
+  }
+
+  [[nodiscard]] double rate(double v, double e, double inverse_e) const {
+    const double charge = v < e ? e * g(v * inverse_e) * inv_charge : 0.0;
     return charge - v * inv_discharge;
   }
-  // One sample interval, envelope going linearly from e0 to e1.
-  [[nodiscard]] double step(double v, double e0, double e1) const {
+  // One sample interval, envelope going linearly from e0 to e1 (inverses given, 0 for e = 0).
+  [[nodiscard]] double step(double v, double e0, double e1, double inverse_e0, double inverse_e1) const {
     if (e0 <= v && e1 <= v * decay) return v * decay;  // diode off: exact exponential discharge
-    const double k1 = rate(v, e0);
-    const double k2 = rate(v + h * k1, e1);
+    const double k1 = rate(v, e0, inverse_e0);
+    const double k2 = rate(v + h * k1, e1, inverse_e1);
     return std::max(0.0, v + 0.5 * h * (k1 + k2));
   }
 };
 
+double safe_inverse(double e) { return e > 0.0 ? 1.0 / e : 0.0; }
+
 // V at the end of one period starting from v; the envelope is periodic, so the last interval runs
 // from the last sample back to the first. `trace` (if non-null) receives V after each sample.
-double diode_period(std::span<const double> envelope, const DiodeStepper& stepper, double v,
-                    std::vector<double>* trace) {
+double diode_period(std::span<const double> envelope, std::span<const double> inverse, const DiodeStepper& stepper,
+                    double v, double* trace) {
   const std::size_t n = envelope.size();
   for (std::size_t i = 0; i < n; ++i) {
-    v = stepper.step(v, envelope[i], envelope[i + 1 == n ? 0 : i + 1]);
-    if (trace != nullptr) (*trace)[i] = v;
+    const std::size_t next = i + 1 == n ? 0 : i + 1;
+    v = stepper.step(v, envelope[i], envelope[next], inverse[i], inverse[next]);
+    if (trace != nullptr) trace[i] = v;
   }
   return v;
 }
@@ -207,12 +230,12 @@ double interpolated_peak(std::span<const double> envelope) {
 
 std::vector<double> quasi_peak_voltage(std::span<const double> envelope, double sample_interval_s,
                                        const QuasiPeakModel& model, double initial_v) {
-  const DiodeStepper stepper(model, sample_interval_s);
+  const DiodeStepper stepper(model, sample_interval_s, nullptr);
   std::vector<double> trace(envelope.size());
   double v = initial_v;
   for (std::size_t i = 0; i + 1 < envelope.size(); ++i) {
     trace[i] = v;
-    v = stepper.step(v, envelope[i], envelope[i + 1]);
+    v = stepper.step(v, envelope[i], envelope[i + 1], safe_inverse(envelope[i]), safe_inverse(envelope[i + 1]));
   }
   if (!envelope.empty()) trace.back() = v;
   return trace;
@@ -224,44 +247,42 @@ DetectorReadings read_periodic_envelope(std::span<const double> envelope, double
   if (envelope.empty()) return readings;
   const double max_e = *std::max_element(envelope.begin(), envelope.end());
   if (!(max_e > 0.0)) return readings;
+  const double min_e = *std::min_element(envelope.begin(), envelope.end());
+  if (max_e - min_e <= 1e-9 * max_e) {
+    // A constant envelope (one line in the passband): every detector reads its RMS by calibration.
+    double sum = 0.0;
+    for (double e : envelope) sum += e;
+    readings.peak = readings.quasi_peak = readings.average = sum / static_cast<double>(envelope.size()) / std::numbers::sqrt2;
+    return readings;
+  }
   readings.peak = interpolated_peak(envelope) / std::numbers::sqrt2;
   readings.average = meter_periodic_max(envelope, sample_interval_s, model.constants.meter_s) / std::numbers::sqrt2;
 
-  // QP: the fixed point V* = P(V*) of the one-period map P, which is increasing with P(0) >= 0 and
-  // P(max e) <= max e; Illinois (modified regula falsi) on P(V) − V.
-  const DiodeStepper stepper(model.quasi_peak, sample_interval_s);
-  double lo = 0.0;
-  double f_lo = diode_period(envelope, stepper, lo, nullptr) - lo;
-  double hi = max_e;
-  double f_hi = diode_period(envelope, stepper, hi, nullptr) - hi;
-  double v = lo;
-  const double bracket_tolerance = 1e-9 * max_e;
-  const double residual_tolerance = 1e-11 * max_e;
-  if (f_lo <= 0.0) {
-    v = lo;
-  } else if (f_hi >= 0.0) {
-    v = hi;
-  } else {
-    int side = 0;
-    for (int iteration = 0; iteration < 100; ++iteration) {
-      v = (lo * f_hi - hi * f_lo) / (f_hi - f_lo);
-      const double f = diode_period(envelope, stepper, v, nullptr) - v;
-      if (std::abs(f) < residual_tolerance || hi - lo < bracket_tolerance) break;
-      if (f > 0.0) {
-        lo = v;
-        f_lo = f;
-        if (side == +1) f_hi *= 0.5;
-        side = +1;
-      } else {
-        hi = v;
-        f_hi = f;
-        if (side == -1) f_lo *= 0.5;
-        side = -1;
-      }
-    }
+  // QP: the periodic steady state is the fixed point V* = P(V*) of the one-period map P (V at the
+  // end of a period as a function of V at its start; increasing, contracting). Iterate P from the
+  // CW state of the mean envelope, with Aitken extrapolation (exact for an affine map, which P
+  // nearly is: the discharge is linear and the charge is short or nearly constant).
+  const DiodeStepper stepper(model.quasi_peak, sample_interval_s, &model.charge_table);
+  const double ratio = model.quasi_peak.final_ratio;
+  std::vector<double> inverse(envelope.size());
+  double sum = 0.0;
+  for (std::size_t i = 0; i < envelope.size(); ++i) {
+    inverse[i] = safe_inverse(envelope[i]);
+    sum += envelope[i];
   }
   std::vector<double> trace(envelope.size());
-  (void)diode_period(envelope, stepper, v, &trace);
+  const double tolerance = 1e-8 * max_e;  // < 1e-6 dB on a reading above 1 % of max e
+  double v0 = ratio * sum / static_cast<double>(envelope.size());
+  double v1 = diode_period(envelope, inverse, stepper, v0, trace.data());
+  for (int round = 0; round < 100 && std::abs(v1 - v0) > tolerance; ++round) {
+    const double v2 = diode_period(envelope, inverse, stepper, v1, trace.data());
+    if (std::abs(v2 - v1) <= tolerance) break;
+    const double slope = (v2 - v1) / (v1 - v0);  // P' estimate
+    double next = v2;
+    if (slope > 0.0 && slope < 1.0) next = v2 + (v2 - v1) * slope / (1.0 - slope);
+    v0 = std::clamp(next, 0.0, max_e);
+    v1 = diode_period(envelope, inverse, stepper, v0, trace.data());
+  }
   readings.quasi_peak = meter_periodic_max(trace, sample_interval_s, model.constants.meter_s) /
                         (model.quasi_peak.final_ratio * std::numbers::sqrt2);
   return readings;

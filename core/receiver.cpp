@@ -5,11 +5,13 @@
 #include <algorithm>
 #include <cmath>
 #include <exception>
+#include <mutex>
 #include <numbers>
 #include <thread>
 #include <utility>
 
 #include "core/error.hpp"
+#include "core/fftw_lock.hpp"
 
 namespace spurcast {
 
@@ -213,14 +215,21 @@ struct FftwBuffer {
   std::size_t size;
 };
 
+// A plan made and destroyed under the process-wide planner lock (core/fftw_lock.hpp).
 struct FftwPlan {
-  explicit FftwPlan(fftw_plan p) : plan(p) {
+  template <typename Make>
+  explicit FftwPlan(Make make) {
+    const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
+    plan = make();
     if (plan == nullptr) throw Error("cannot plan an FFT");
   }
-  ~FftwPlan() { fftw_destroy_plan(plan); }
+  ~FftwPlan() {
+    const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
+    fftw_destroy_plan(plan);
+  }
   FftwPlan(const FftwPlan&) = delete;
   FftwPlan& operator=(const FftwPlan&) = delete;
-  fftw_plan plan;
+  fftw_plan plan = nullptr;
 };
 
 // Runs body(begin, end) over [0, count) split into contiguous chunks, one per hardware thread.
@@ -269,7 +278,9 @@ void envelope_from_lines(const fftw_plan plan, FftwBuffer& buffer, const std::ve
   }
   fftw_execute_dft(plan, buffer.data, buffer.data);
   envelope.resize(m);
-  for (std::size_t i = 0; i < m; ++i) envelope[i] = std::hypot(buffer.data[i][0], buffer.data[i][1]);
+  for (std::size_t i = 0; i < m; ++i) {
+    envelope[i] = std::sqrt(buffer.data[i][0] * buffer.data[i][0] + buffer.data[i][1] * buffer.data[i][1]);
+  }
 }
 
 // One real-to-complex FFT of a record: bins X[k], k = 0..N/2, scaled by 2/N so that a cosine of peak
@@ -286,7 +297,7 @@ RecordSpectrum record_spectrum(const Waveform& waveform) {
   if (n < 2) throw Error("expected a record of at least 2 samples, found " + std::to_string(n));
   std::vector<double> input(n);
   FftwBuffer output(n / 2 + 1);
-  const FftwPlan plan(fftw_plan_dft_r2c_1d(static_cast<int>(n), input.data(), output.data, FFTW_ESTIMATE));
+  const FftwPlan plan([&] { return fftw_plan_dft_r2c_1d(static_cast<int>(n), input.data(), output.data, FFTW_ESTIMATE); });
   std::copy(waveform.samples.begin(), waveform.samples.end(), input.begin());  // after planning
   fftw_execute(plan.plan);
   RecordSpectrum spectrum;
@@ -335,9 +346,18 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   const auto [first, last] = span_indices(tuned_hz, work.bandwidth_6db_hz, s.bin_hz, 1,
                                           static_cast<long long>(s.bins.size()) - 1);
   phasors.clear();
+  // Gaussian gains on the bin grid by recurrence: with x_j = x_0 + j·Δ,
+  // exp(−a·x_{j+1}²) = exp(−a·x_j²)·q_j, q_j = exp(−a·(2·x_j·Δ + Δ²)), q_{j+1} = q_j·exp(−2·a·Δ²).
+  const double a = 4.0 * std::numbers::ln2 / (work.bandwidth_6db_hz * work.bandwidth_6db_hz);
+  const double x0 = static_cast<double>(first) * s.bin_hz - tuned_hz;
+  const double delta = s.bin_hz;
+  double gain = std::exp(-a * x0 * x0);
+  double ratio = std::exp(-a * (2.0 * x0 * delta + delta * delta));
+  const double ratio_step = std::exp(-2.0 * a * delta * delta);
   for (long long k = first; k <= last; ++k) {
-    phasors.push_back(s.bins[static_cast<std::size_t>(k)] *
-                      if_gain(static_cast<double>(k) * s.bin_hz - tuned_hz, work.bandwidth_6db_hz));
+    phasors.push_back(s.bins[static_cast<std::size_t>(k)] * gain);
+    gain *= ratio;
+    ratio *= ratio_step;
   }
   envelope_from_lines(work.plan, buffer, phasors, envelope);
 }
@@ -349,7 +369,7 @@ Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double ban
   const RecordSpectrum spectrum = record_spectrum(waveform);
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, bandwidth_6db_hz);
   FftwBuffer buffer(m);
-  const FftwPlan plan(fftw_plan_dft_1d(static_cast<int>(m), buffer.data, buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE));
+  const FftwPlan plan([&] { return fftw_plan_dft_1d(static_cast<int>(m), buffer.data, buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE); });
   std::vector<std::complex<double>> phasors;
   Envelope envelope;
   waveform_envelope_at(WaveformEnvelopeWork{spectrum, bandwidth_6db_hz, plan.plan, m}, tuned_hz, buffer, phasors,
@@ -374,8 +394,9 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const double envelope_interval_s = spectrum.period_s / static_cast<double>(m);
   const DetectorModel model = make_detector_model(band.detector);
   FftwBuffer plan_buffer(m);
-  const FftwPlan backward(
-      fftw_plan_dft_1d(static_cast<int>(m), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE));
+  const FftwPlan backward([&] {
+    return fftw_plan_dft_1d(static_cast<int>(m), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE);
+  });
   const WaveformEnvelopeWork work{spectrum, band.bandwidth_6db_hz, backward.plan, m};
 
   result.readings.resize(frequencies.size());
@@ -417,8 +438,9 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
   const double envelope_interval_s = period_s / static_cast<double>(m);
   const DetectorModel model = make_detector_model(band.detector);
   FftwBuffer plan_buffer(m);
-  const FftwPlan backward(
-      fftw_plan_dft_1d(static_cast<int>(m), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE));
+  const FftwPlan backward([&] {
+    return fftw_plan_dft_1d(static_cast<int>(m), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE);
+  });
   const auto harmonic_count = static_cast<long long>(lines.harmonics.size());
 
   result.readings.resize(frequencies.size());

@@ -14,6 +14,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <mutex>
 #include <numbers>
 #include <sstream>
 #include <string>
@@ -22,6 +23,7 @@
 #include <unistd.h>
 
 #include "core/error.hpp"
+#include "core/fftw_lock.hpp"
 #include "core/receiver.hpp"
 #include "core/toml_reader.hpp"
 #include "core/units.hpp"
@@ -62,6 +64,7 @@ Waveform sample_lines(const LineSpectrum& lines, std::size_t periods, std::size_
   w.quantity = lines.quantity;
   w.sample_rate_hz = lines.fundamental_hz * static_cast<double>(points_per_period);
   w.samples.resize(n);
+  const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
   fftw_plan plan = fftw_plan_dft_c2r_1d(static_cast<int>(n), reinterpret_cast<fftw_complex*>(spectrum.data()),
                                         w.samples.data(), FFTW_ESTIMATE);
   fftw_execute(plan);
