@@ -188,9 +188,11 @@ namespace {
 // The IF response is truncated at ±2·B6 from the tuned frequency, where the Gaussian is
 // exp(−16·ln2) = −96 dB: far below any reading that matters next to the in-band signal.
 constexpr double span_bandwidths = 2.0;
-// Envelope samples per 6 dB bandwidth (decimated complex baseband at 10·B6): the pulse tests show
-// 10 per bandwidth agree with 40 within 0.05 dB on PK, QP and AV (tests/detector_test.cpp).
-constexpr double envelope_samples_per_bandwidth = 10.0;
+// Envelope samples per 6 dB bandwidth (decimated complex baseband at 5·B6, above the 4·B6 width
+// of the truncated IF response, so no aliasing): the pulse tests show 5 per bandwidth agree with
+// 40 within 0.02 dB on PK, QP and AV wherever the pulse falls between samples
+// (tests/detector_test.cpp); 4 per bandwidth errs by 0.12 dB on QP at 1 kHz PRF.
+constexpr double envelope_samples_per_bandwidth = 5.0;
 
 // The smallest n' >= n whose factors are 2, 3 and 5 (fast FFTW sizes).
 std::size_t fast_fft_size(std::size_t n) {
@@ -283,11 +285,12 @@ void envelope_from_lines(const fftw_plan plan, FftwBuffer& buffer, const std::ve
   }
 }
 
-// One real-to-complex FFT of a record: bins X[k], k = 0..N/2, scaled by 2/N so that a cosine of peak
-// amplitude A on bin k gives |X[k]| = A.
+// One real-to-complex FFT of a record: bins X[k], k = 0..N/2; scale·X[k] (scale = 2/N) is the
+// peak complex amplitude of a cosine on bin k.
 struct RecordSpectrum {
   double bin_hz = 0.0;
   double period_s = 0.0;
+  double scale = 0.0;
   std::vector<std::complex<double>> bins;
 };
 
@@ -295,17 +298,19 @@ RecordSpectrum record_spectrum(const Waveform& waveform) {
   if (!(waveform.sample_rate_hz > 0.0)) throw Error("expected a positive sample rate");
   const std::size_t n = waveform.samples.size();
   if (n < 2) throw Error("expected a record of at least 2 samples, found " + std::to_string(n));
-  std::vector<double> input(n);
-  FftwBuffer output(n / 2 + 1);
-  const FftwPlan plan([&] { return fftw_plan_dft_r2c_1d(static_cast<int>(n), input.data(), output.data, FFTW_ESTIMATE); });
-  std::copy(waveform.samples.begin(), waveform.samples.end(), input.begin());  // after planning
-  fftw_execute(plan.plan);
   RecordSpectrum spectrum;
   spectrum.period_s = static_cast<double>(n) / waveform.sample_rate_hz;
   spectrum.bin_hz = waveform.sample_rate_hz / static_cast<double>(n);
   spectrum.bins.resize(n / 2 + 1);
-  const double scale = 2.0 / static_cast<double>(n);
-  for (std::size_t k = 0; k <= n / 2; ++k) spectrum.bins[k] = {output.data[k][0] * scale, output.data[k][1] * scale};
+  // Out of place with FFTW_ESTIMATE | FFTW_PRESERVE_INPUT: planning does not touch the arrays and
+  // the transform does not write its input, so the record is read in place (FFTW 3.3 manual §4.3.2).
+  auto* input = const_cast<double*>(waveform.samples.data());
+  auto* output = reinterpret_cast<fftw_complex*>(spectrum.bins.data());
+  const FftwPlan plan([&] {
+    return fftw_plan_dft_r2c_1d(static_cast<int>(n), input, output, FFTW_ESTIMATE | FFTW_PRESERVE_INPUT);
+  });
+  fftw_execute(plan.plan);
+  spectrum.scale = 2.0 / static_cast<double>(n);
   return spectrum;
 }
 
@@ -351,7 +356,7 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   const double a = 4.0 * std::numbers::ln2 / (work.bandwidth_6db_hz * work.bandwidth_6db_hz);
   const double x0 = static_cast<double>(first) * s.bin_hz - tuned_hz;
   const double delta = s.bin_hz;
-  double gain = std::exp(-a * x0 * x0);
+  double gain = s.scale * std::exp(-a * x0 * x0);
   double ratio = std::exp(-a * (2.0 * x0 * delta + delta * delta));
   const double ratio_step = std::exp(-2.0 * a * delta * delta);
   for (long long k = first; k <= last; ++k) {
