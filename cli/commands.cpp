@@ -5,6 +5,8 @@ namespace spurcast::cli {
 void register_commands(CLI::App& app, CommandList& commands) {
   (void)app;
   (void)commands;
+  setup_compare(app, commands);
+  setup_limits(app, commands);
 }
 
 }  // namespace spurcast::cli

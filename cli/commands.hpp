@@ -25,5 +25,7 @@ void register_commands(CLI::App& app, CommandList& commands);
 
 // One per subcommand; each adds itself to `commands`.
 void setup_spectrum(CLI::App& app, CommandList& commands);
+void setup_compare(CLI::App& app, CommandList& commands);
+void setup_limits(CLI::App& app, CommandList& commands);
 
 }  // namespace spurcast::cli

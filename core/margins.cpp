@@ -114,7 +114,32 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
   // reading detector, rows at least closest_separation_hz apart.
   std::vector<const MarginRow*> order;
   order.reserve(report.rows.size());
-  for (const MarginRow& row : report.rows) order.push_back(&row);
+  if (options.closest_local_minima_only) {
+    // Group the rows by (set, line, reading detector), sort each group by frequency, keep local minima.
+    std::vector<const MarginRow*> all;
+    all.reserve(report.rows.size());
+    for (const MarginRow& row : report.rows) all.push_back(&row);
+    std::stable_sort(all.begin(), all.end(), [](const MarginRow* a, const MarginRow* b) {
+      if (a->set_index != b->set_index) return a->set_index < b->set_index;
+      if (a->limit_detector != b->limit_detector) return detector_rank(a->limit_detector) < detector_rank(b->limit_detector);
+      if (a->reading_detector != b->reading_detector) {
+        return detector_rank(a->reading_detector) < detector_rank(b->reading_detector);
+      }
+      return a->frequency_hz < b->frequency_hz;
+    });
+    const auto same_group = [](const MarginRow* a, const MarginRow* b) {
+      return a->set_index == b->set_index && a->limit_detector == b->limit_detector &&
+             a->reading_detector == b->reading_detector;
+    };
+    for (std::size_t i = 0; i < all.size(); ++i) {
+      const bool left_ok = i == 0 || !same_group(all[i - 1], all[i]) || all[i]->margin_db <= all[i - 1]->margin_db;
+      const bool right_ok =
+          i + 1 == all.size() || !same_group(all[i + 1], all[i]) || all[i]->margin_db <= all[i + 1]->margin_db;
+      if (left_ok && right_ok) order.push_back(all[i]);
+    }
+  } else {
+    for (const MarginRow& row : report.rows) order.push_back(&row);
+  }
   std::stable_sort(order.begin(), order.end(),
                    [](const MarginRow* a, const MarginRow* b) { return a->margin_db < b->margin_db; });
   for (const MarginRow* row : order) {

@@ -70,6 +70,9 @@ struct MarginOptions {
   /// [Hz] rows of `closest` are at least this far apart (0: no thinning); for dense traces, so one
   /// emission does not fill the list with its neighbouring points.
   double closest_separation_hz = 0.0;
+  /// `closest` takes only rows whose margin is a local minimum over frequency among the rows of the
+  /// same line and reading detector (the tip of an emission, not its shoulders).
+  bool closest_local_minima_only = true;
 };
 
 /// One comparison of one reading with one line.
