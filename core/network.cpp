@@ -1,5 +1,6 @@
 #include "core/network.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <numeric>
 #include <utility>
@@ -12,6 +13,12 @@ namespace spurcast {
 namespace {
 
 using cd = std::complex<double>;
+
+/// Complex product without the C99 Annex G infinity recovery that std::complex's operator* calls
+/// out for (__muldc3): the operands here are finite.
+inline cd mul(cd a, cd b) {
+  return cd(a.real() * b.real() - a.imag() * b.imag(), a.real() * b.imag() + a.imag() * b.real());
+}
 
 std::string kind_word(ElementKind kind) {
   switch (kind) {
@@ -261,6 +268,139 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
     }
   }
   size_ = static_cast<std::size_t>(voltage_rows_start + voltage_sources);
+  prepare_sparse();
+}
+
+void NetworkSolver::prepare_sparse() {
+  // Pivot order by the Markowitz criterion on the structure (fewest (r−1)(c−1) products, i.e. least
+  // fill), among unknowns whose diagonal is structurally non-zero. A voltage source's branch row has
+  // a zero diagonal until one of its nodes is eliminated, which fills it (−1/Y): the order respects
+  // that. Markowitz, "The elimination form of the inverse and its application to linear
+  // programming", Management Science 3 (1957). Row swaps at solve time (threshold pivoting) may add
+  // fill that this order did not plan; the factorisation follows the actual non-zeros, so that
+  // costs time, not correctness.
+  const int n = static_cast<int>(size_);
+  sparse_ready_ = false;
+  if (n == 0) return;
+  std::vector<char> pattern(static_cast<std::size_t>(n * n), 0);
+  auto at = [&](int r, int c) -> char& { return pattern[static_cast<std::size_t>(r * n + c)]; };
+  for (const Stamp& stamp : stamps_) at(stamp.row, stamp.col) = 1;
+  std::vector<char> done(static_cast<std::size_t>(n), 0);
+  std::vector<int> order;
+  order.reserve(static_cast<std::size_t>(n));
+  for (int step = 0; step < n; ++step) {
+    int best = -1;
+    long best_cost = 0;
+    for (int u = 0; u < n; ++u) {
+      if (done[static_cast<std::size_t>(u)] || !at(u, u)) continue;
+      long rows = 0, cols = 0;
+      for (int i = 0; i < n; ++i) {
+        if (done[static_cast<std::size_t>(i)] || i == u) continue;
+        rows += at(i, u);
+        cols += at(u, i);
+      }
+      const long cost = rows * cols;
+      if (best < 0 || cost < best_cost) {
+        best = u;
+        best_cost = cost;
+      }
+    }
+    if (best < 0) return;  // no structurally usable pivot: the dense path is used
+    done[static_cast<std::size_t>(best)] = 1;
+    order.push_back(best);
+    for (int i = 0; i < n; ++i) {
+      if (done[static_cast<std::size_t>(i)] || !at(i, best)) continue;
+      for (int j = 0; j < n; ++j) {
+        if (!done[static_cast<std::size_t>(j)] && at(best, j)) at(i, j) = 1;
+      }
+    }
+  }
+  position_of_.assign(static_cast<std::size_t>(n), 0);
+  for (int k = 0; k < n; ++k) position_of_[static_cast<std::size_t>(order[static_cast<std::size_t>(k)])] = k;
+  stamp_target_.resize(stamps_.size());
+  for (std::size_t s = 0; s < stamps_.size(); ++s) {
+    stamp_target_[s] = position_of_[static_cast<std::size_t>(stamps_[s].row)] * n +
+                       position_of_[static_cast<std::size_t>(stamps_[s].col)];
+  }
+  sparse_ready_ = true;
+}
+
+bool NetworkSolver::sparse_factorise(SparseWork& work) const {
+  // Threshold partial pivoting (Duff, Erisman & Reid, Direct Methods for Sparse Matrices, 1986,
+  // §5.4): keep the diagonal pivot, which preserves the fill-reducing order, unless it is below
+  // 0.1 of the column's largest candidate; then swap in that row. Magnitudes in the 1-norm of the
+  // complex entry (cheap; within √2 of the modulus).
+  constexpr double pivot_threshold = 0.1;
+  const int n = static_cast<int>(size_);
+  cd* a = work.lu.data();
+  auto size_of = [](cd z) { return std::abs(z.real()) + std::abs(z.imag()); };
+  work.pivot_row.resize(static_cast<std::size_t>(n));
+  work.l_begin.assign(static_cast<std::size_t>(n + 1), 0);
+  work.u_begin.assign(static_cast<std::size_t>(n + 1), 0);
+  work.l_rows.clear();
+  work.u_cols.clear();
+  for (int k = 0; k < n; ++k) {
+    int best = -1;
+    double best_size = 0.0;
+    for (int i = k; i < n; ++i) {
+      const double v = size_of(a[i * n + k]);
+      if (v > best_size) {
+        best_size = v;
+        best = i;
+      }
+    }
+    if (best < 0 || !std::isfinite(best_size)) return false;
+    const int pivot = size_of(a[k * n + k]) >= pivot_threshold * best_size ? k : best;
+    work.pivot_row[static_cast<std::size_t>(k)] = pivot;
+    // Swap only columns k.. of the two rows: the multipliers already stored in columns < k stay
+    // with the step that made them, which is the order sparse_solve applies swaps and L in.
+    if (pivot != k) std::swap_ranges(a + k * n + k, a + (k + 1) * n, a + pivot * n + k);
+    work.l_begin[static_cast<std::size_t>(k)] = static_cast<int>(work.l_rows.size());
+    work.u_begin[static_cast<std::size_t>(k)] = static_cast<int>(work.u_cols.size());
+    const cd* row_k = a + k * n;
+    for (int j = k + 1; j < n; ++j) {
+      if (row_k[j] != cd(0.0, 0.0)) work.u_cols.push_back(j);
+    }
+    const cd inverse = 1.0 / row_k[k];
+    const int c0 = work.u_begin[static_cast<std::size_t>(k)];
+    const int c1 = static_cast<int>(work.u_cols.size());
+    for (int i = k + 1; i < n; ++i) {
+      cd* row_i = a + i * n;
+      if (row_i[k] == cd(0.0, 0.0)) continue;
+      const cd l = row_i[k] * inverse;
+      row_i[k] = l;
+      work.l_rows.push_back(i);
+      for (int c = c0; c < c1; ++c) {
+        const int j = work.u_cols[static_cast<std::size_t>(c)];
+        row_i[j] -= mul(l, row_k[j]);
+      }
+    }
+  }
+  work.l_begin[static_cast<std::size_t>(n)] = static_cast<int>(work.l_rows.size());
+  work.u_begin[static_cast<std::size_t>(n)] = static_cast<int>(work.u_cols.size());
+  return true;
+}
+
+void NetworkSolver::sparse_solve(const SparseWork& work, cd* x) const {
+  const int n = static_cast<int>(size_);
+  const cd* a = work.lu.data();
+  for (int k = 0; k < n; ++k) {  // P, then L y = b (unit diagonal); the swaps interleave with L
+    const int p = work.pivot_row[static_cast<std::size_t>(k)];
+    if (p != k) std::swap(x[k], x[p]);
+    const cd xk = x[k];
+    for (int r = work.l_begin[static_cast<std::size_t>(k)]; r < work.l_begin[static_cast<std::size_t>(k + 1)]; ++r) {
+      const int i = work.l_rows[static_cast<std::size_t>(r)];
+      x[i] -= mul(a[i * n + k], xk);
+    }
+  }
+  for (int k = n - 1; k >= 0; --k) {  // U x = y
+    cd sum = x[k];
+    for (int c = work.u_begin[static_cast<std::size_t>(k)]; c < work.u_begin[static_cast<std::size_t>(k + 1)]; ++c) {
+      const int j = work.u_cols[static_cast<std::size_t>(c)];
+      sum -= mul(a[k * n + j], x[j]);
+    }
+    x[k] = sum / a[k * n + k];
+  }
 }
 
 void NetworkSolver::element_admittances(double omega, std::vector<cd>& admittance) const {
@@ -324,7 +464,8 @@ Eigen::MatrixXcd NetworkSolver::system_matrix(double frequency_hz) const {
   return matrix;
 }
 
-Transfer NetworkSolver::transfer(const std::vector<double>& frequency_hz, const std::vector<Probe>& probes) const {
+Transfer NetworkSolver::transfer(const std::vector<double>& frequency_hz, const std::vector<Probe>& probes,
+                                 SolveMethod method) const {
   const auto& elements = network_.elements();
   for (const Probe& p : probes) {
     if (p.kind == Probe::Kind::voltage) {
@@ -366,16 +507,49 @@ Transfer NetworkSolver::transfer(const std::vector<double>& frequency_hz, const 
     return node == Network::ground ? cd(0.0, 0.0) : solution(unknown_of(node), source);
   };
 
+  // The static-pivot sparse path works in pivot-order coordinates.
+  const bool use_sparse = method == SolveMethod::automatic && sparse_ready_;
+  SparseWork work;
+  std::vector<cd> sparse_rhs, sparse_x;
+  if (use_sparse) {
+    work.lu.resize(static_cast<std::size_t>(n * n));
+    sparse_rhs.assign(static_cast<std::size_t>(n * s_count), cd(0.0, 0.0));
+    for (Eigen::Index s = 0; s < s_count; ++s) {
+      for (Eigen::Index u = 0; u < n; ++u) {
+        sparse_rhs[static_cast<std::size_t>(s * n + position_of_[static_cast<std::size_t>(u)])] = rhs(u, s);
+      }
+    }
+  }
+
   for (std::size_t fi = 0; fi < frequency_hz.size(); ++fi) {
     const double omega = 2.0 * M_PI * frequency_hz[fi];
-    if (n > 0) {
+    bool solved = false;
+    if (n > 0 && use_sparse) {
+      element_admittances(omega, admittance);
+      std::fill(work.lu.begin(), work.lu.end(), cd(0.0, 0.0));
+      for (std::size_t st = 0; st < stamps_.size(); ++st) {
+        const Stamp& stamp = stamps_[st];
+        work.lu[static_cast<std::size_t>(stamp_target_[st])] +=
+            stamp.slot < 0 ? cd(stamp.sign, 0.0) : stamp.sign * admittance[static_cast<std::size_t>(stamp.slot)];
+      }
+      if (sparse_factorise(work)) {
+        sparse_x = sparse_rhs;
+        for (Eigen::Index s = 0; s < s_count; ++s) {
+          cd* x = sparse_x.data() + s * n;
+          sparse_solve(work, x);
+          for (Eigen::Index u = 0; u < n; ++u) solution(u, s) = x[position_of_[static_cast<std::size_t>(u)]];
+        }
+        solved = solution.allFinite();
+      }
+    }
+    if (n > 0 && !solved) {
       fill(omega, matrix, admittance);
       lu.compute(matrix);
       solution.noalias() = lu.solve(rhs);
       if (!solution.allFinite()) {
         throw Error("network is singular at " + format_quantity(frequency_hz[fi], Dimension::frequency));
       }
-    } else {
+    } else if (n == 0) {
       element_admittances(omega, admittance);
     }
     for (std::size_t pi = 0; pi < probes.size(); ++pi) {

@@ -122,6 +122,17 @@ struct Transfer {
   }
 };
 
+/// How NetworkSolver::transfer factorises the system at each frequency.
+enum class SolveMethod {
+  /// LU on the matrix permuted once into a fill-reducing order (Markowitz, on the structure), with
+  /// threshold partial pivoting at each frequency (the diagonal is kept when it is at least 0.1 of
+  /// the column's largest entry) and loops that skip the zero entries: the work follows the
+  /// non-zeros, as in a sparse LU, without its bookkeeping on matrices this small.
+  automatic,
+  /// Dense partial-pivoting LU (Eigen PartialPivLU) at every frequency: the slow reference.
+  dense,
+};
+
 /// The MNA system of a Network, checked and with its stamp pattern prepared.
 class NetworkSolver {
  public:
@@ -137,7 +148,8 @@ class NetworkSolver {
 
   /// Every probe's response to every source alone, at each frequency (each > 0, finite).
   /// Throws Error "network is singular at <f>" if a solve fails (non-finite result).
-  [[nodiscard]] Transfer transfer(const std::vector<double>& frequency_hz, const std::vector<Probe>& probes) const;
+  [[nodiscard]] Transfer transfer(const std::vector<double>& frequency_hz, const std::vector<Probe>& probes,
+                                  SolveMethod method = SolveMethod::automatic) const;
 
   /// The MNA matrix at one frequency (for tests and diagnostics). Rows/columns: nodes 1..N−1, then
   /// one per voltage source in the order of addition.
@@ -157,13 +169,28 @@ class NetworkSolver {
   void fill(double omega, Eigen::MatrixXcd& matrix, std::vector<std::complex<double>>& admittance) const;
   void element_admittances(double omega, std::vector<std::complex<double>>& admittance) const;
   [[nodiscard]] int unknown_of(NodeId node) const { return node - 1; }
-
+  void prepare_sparse();
+  /// Workspace of the sparse path (one per transfer call, so the solver stays const and shareable).
+  struct SparseWork {
+    std::vector<std::complex<double>> lu;  ///< row-major n×n, pivot-order coordinates
+    std::vector<int> pivot_row;            ///< row swapped into place at each step
+    std::vector<int> l_begin, l_rows;      ///< per step k: rows i > k with L(i,k) ≠ 0
+    std::vector<int> u_begin, u_cols;      ///< per step k: columns j > k with U(k,j) ≠ 0
+  };
+  /// Factorises work.lu in place; false if a column is entirely zero (singular).
+  bool sparse_factorise(SparseWork& work) const;
+  void sparse_solve(const SparseWork& work, std::complex<double>* rhs) const;
   Network network_;
   std::size_t size_ = 0;
   std::size_t admittance_slots_ = 0;
   std::vector<int> slot_of_element_;  ///< first admittance slot per element (−1 if none)
   std::vector<Stamp> stamps_;
   std::vector<int> voltage_source_row_;  ///< per source index: row of its branch current (−1 for current sources)
+
+  // Fill-reducing order of the unknowns (see SolveMethod::automatic).
+  bool sparse_ready_ = false;
+  std::vector<int> position_of_;   ///< unknown → position in the order
+  std::vector<int> stamp_target_;  ///< per stamp: flat index position(row)·n + position(col)
 };
 
 /// The impedance seen between nodes `plus` and `minus` of `network` (its sources zeroed: voltage
