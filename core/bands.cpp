@@ -215,23 +215,37 @@ std::vector<Band> bands_for(const BroadcastSpec& spec) {
   return bands;
 }
 
+std::vector<std::size_t> sorted_line_order(const std::vector<SpectralLine>& lines) {
+  std::vector<std::size_t> order(lines.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(),
+                   [&](std::size_t a, std::size_t b) { return lines[a].frequency_hz < lines[b].frequency_hz; });
+  return order;
+}
+
 BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines) {
+  return map_sorted_lines_to_band(band, lines, sorted_line_order(lines));
+}
+
+BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines,
+                                       const std::vector<std::size_t>& order) {
+  if (order.size() != lines.size()) throw Error("line order does not match the lines");
   BandOccupancy occupancy;
   const std::vector<double> centres = band.channel_centres_hz();
   const double half_bw = 0.5 * band.bandwidth_hz;
-  // Sort line indices by frequency so each channel finds its lines by binary search.
-  std::vector<std::size_t> order(lines.size());
-  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
-  std::sort(order.begin(), order.end(),
-            [&](std::size_t a, std::size_t b) { return lines[a].frequency_hz < lines[b].frequency_hz; });
-  for (std::size_t i : order) {
-    if (band.contains(lines[i].frequency_hz)) occupancy.lines_inside.push_back(i);
+  // Each channel finds its lines by binary search in the frequency-sorted order.
+  auto first_at_or_above = [&](double f) {
+    return std::lower_bound(order.begin(), order.end(), f,
+                            [&](std::size_t index, double value) { return lines[index].frequency_hz < value; });
+  };
+  for (auto it = first_at_or_above(band.low_hz - edge_slack_hz);
+       it != order.end() && lines[*it].frequency_hz <= band.high_hz + edge_slack_hz; ++it) {
+    occupancy.lines_inside.push_back(*it);
   }
   for (const double centre : centres) {
     const double lo = centre - half_bw - edge_slack_hz;
     const double hi = centre + half_bw + edge_slack_hz;
-    auto it = std::lower_bound(order.begin(), order.end(), lo,
-                               [&](std::size_t index, double f) { return lines[index].frequency_hz < f; });
+    auto it = first_at_or_above(lo);
     ChannelHit hit;
     hit.centre_hz = centre;
     double power = 0.0;

@@ -143,4 +143,10 @@ struct BandOccupancy {
 /// Lines need not be sorted.
 [[nodiscard]] BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines);
 
+/// Indices of `lines` in ascending frequency (stable), for mapping one spectrum onto many bands.
+[[nodiscard]] std::vector<std::size_t> sorted_line_order(const std::vector<SpectralLine>& lines);
+/// map_lines_to_band() with the sort done once by the caller: `order` = sorted_line_order(lines).
+[[nodiscard]] BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines,
+                                                     const std::vector<std::size_t>& order);
+
 }  // namespace spurcast

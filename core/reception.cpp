@@ -48,10 +48,11 @@ namespace {
 
 std::string format_mhz(double hz) { return format_quantity(hz, Dimension::frequency); }
 
-BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines, const BroadcastSpec& spec) {
+BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines,
+                         const std::vector<std::size_t>& order, const BroadcastSpec& spec) {
   BandReception result;
   result.band = band;
-  const BandOccupancy occupancy = map_lines_to_band(band, lines);
+  const BandOccupancy occupancy = map_sorted_lines_to_band(band, lines, order);
   result.lines_inside = occupancy.lines_inside;
   for (const ChannelHit& hit : occupancy.channels) {
     ChannelReception channel = judge_channel(band, hit.centre_hz, hit.level_db, spec.environment);
@@ -109,7 +110,8 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
                                               const BroadcastSpec& spec) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
-  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, spec));
+  const std::vector<std::size_t> order = sorted_line_order(field_lines_dbuvm);
+  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, order, spec));
   return results;
 }
 
