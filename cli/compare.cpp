@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
+#include <algorithm>
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -111,10 +112,20 @@ int run_compare(const Options& options) {
                                                    .closest_count = options.top,
                                                    .closest_separation_hz = separation_hz});
   if (report.compared_readings == 0) {
+    double low_hz = 0.0;
+    double high_hz = 0.0;
+    for (const LimitSet& set : sets) {
+      for (const LimitLine& line : set.lines) {
+        if (low_hz == 0.0 || line.low_hz() < low_hz) low_hz = line.low_hz();
+        high_hz = std::max(high_hz, line.high_hz());
+      }
+    }
     throw Error(SourcePosition{options.trace_file, 0, 0},
-                "no trace point lies on a " + to_string(trace_detector) + "-comparable limit line (trace " +
+                "no trace point lies on a limit line for the " + to_string(trace_detector) + " detector (trace " +
                     format_quantity(trace.frequency_hz.front(), Dimension::frequency) + " to " +
-                    format_quantity(trace.frequency_hz.back(), Dimension::frequency) + ")");
+                    format_quantity(trace.frequency_hz.back(), Dimension::frequency) + ", lines " +
+                    format_quantity(low_hz, Dimension::frequency) + " to " +
+                    format_quantity(high_hz, Dimension::frequency) + ")");
   }
   std::vector<RemeasurePoint> remeasure;
   if (trace_detector == Detector::peak) remeasure = remeasure_list(trace, sets, {.guard_db = guard_db});
