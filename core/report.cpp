@@ -467,7 +467,8 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
     trace.frequency_hz = f;
     for (const Reading& r : scan.worst.readings) trace.level.push_back(r.level_db(d));
     trace.colour = detector_colour(d);
-    trace.width_px = 1.4;
+    // Drawn widest first: where the detectors agree (a steady line) all three stay visible.
+    trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
     plot.traces.push_back(std::move(trace));
   }
   for (const LimitSet& set : p.scenario.limits.sets) {
@@ -673,7 +674,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
          std::to_string(p.margins.readings) + " readings compared";
   if (p.margins.not_compared > 0) {
-    out += "; " + std::to_string(p.margins.not_compared) + " fell outside every line";
+    out += "; " + std::to_string(p.margins.not_compared) +
+           " were not compared (no line for their detector, or outside the lines' frequencies)";
   }
   out += ".</p>\n";
   if (!p.margins.worst_per_detector.empty()) {
@@ -702,7 +704,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          "<em>watch</em>: above it, below the disturbance threshold; <em>noisy</em>: a weak station is likely "
          "disturbed.</p>\n";
   out += "<table>\n<tr><th>band</th><th>range</th><th>verdict</th><th>worst channel</th><th>field</th><th>ambient</th>"
-         "<th>noisy above</th><th>caveats</th></tr>\n";
+         "<th>noisy above</th><th>notes</th></tr>\n";
+  std::vector<std::string> caveats;  // distinct caveats, numbered once below the table
   for (const BandReception& b : p.reception) {
     out += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
            html(format_quantity(b.band.low_hz, Dimension::frequency) + " \xE2\x80\x93 " +
@@ -716,9 +719,20 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     } else {
       out += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td>";
     }
-    out += "<td>" + html(join(b.caveats, "; ")) + "</td></tr>\n";
+    std::vector<std::string> refs;
+    for (const std::string& caveat : b.caveats) {
+      auto it = std::find(caveats.begin(), caveats.end(), caveat);
+      if (it == caveats.end()) it = caveats.insert(caveats.end(), caveat);
+      refs.push_back("[" + std::to_string(it - caveats.begin() + 1) + "]");
+    }
+    out += "<td>" + join(refs, " ") + "</td></tr>\n";
   }
   out += "</table>\n";
+  if (!caveats.empty()) {
+    out += "<ol class=\"caveats\">\n";
+    for (const std::string& caveat : caveats) out += "<li>" + html(caveat) + "</li>\n";
+    out += "</ol>\n";
+  }
   if (!p.radiation_convention.empty()) out += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
   out += "</section>\n";
 

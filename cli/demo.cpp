@@ -1,0 +1,48 @@
+// spurcast demo [-o DIR] [--json]: predict on the built-in example scenario (no files needed).
+// The scenario is examples/greenhouse-buck.toml, embedded at build time (CMakeLists.txt generates
+// spurcast_demo_scenario.hpp); its limit files resolve through the shipped limits folder.
+#include <memory>
+#include <string>
+
+#include "cli/commands.hpp"
+#include "cli/terminal.hpp"
+#include "core/limits.hpp"
+#include "core/prediction.hpp"
+#include "core/scenario.hpp"
+#include "spurcast_demo_scenario.hpp"
+
+namespace spurcast::cli {
+
+namespace {
+
+struct Options {
+  std::string output = "spurcast-demo";
+  bool json = false;
+};
+
+int run_demo(const Options& options) {
+  Prediction prediction;
+  {
+    Progress progress;
+    progress.show("predicting the built-in demo scenario");
+    const Scenario scenario =
+        scenario_from_text(demo_scenario_toml, "greenhouse-buck.toml (built in)", shipped_limits_directory());
+    prediction = predict(scenario);
+  }
+  return write_report_and_summarise(prediction, options.output, options.json);
+}
+
+}  // namespace
+
+void setup_demo(CLI::App& app, CommandList& commands) {
+  auto options = std::make_shared<Options>();
+  CLI::App* sub = app.add_subcommand(
+      "demo", "predict on the built-in example (a 48 V to 12 V buck, examples/greenhouse-buck.toml) and write a report");
+  sub->add_option("-o,--output", options->output, "report folder (replaced if it holds an earlier report)")
+      ->capture_default_str();
+  sub->add_flag("--json", options->json, "print summary.json instead of the text summary");
+  sub->footer("exit codes: 0 every limit met, 1 a limit exceeded or a margin under the guard band, 2 bad input");
+  commands.push_back(Command{sub, [options] { return run_demo(*options); }});
+}
+
+}  // namespace spurcast::cli
