@@ -267,8 +267,18 @@ std::string_view unquote(std::string_view s) {
   return s;
 }
 
-std::vector<std::string> split_header(std::string_view line, DelimiterMode mode) {
+std::vector<std::string> split_header(std::string_view line, DelimiterMode mode, bool tabs_only) {
   std::vector<std::string> fields;
+  if (mode == DelimiterMode::blanks && tabs_only) {
+    std::size_t i = 0;
+    while (true) {
+      const std::size_t j = line.find('\t', i);
+      fields.emplace_back(unquote(line.substr(i, j == std::string_view::npos ? std::string_view::npos : j - i)));
+      if (j == std::string_view::npos) break;
+      i = j + 1;
+    }
+    return fields;
+  }
   if (mode == DelimiterMode::blanks) {
     std::size_t i = 0;
     while (i < line.size()) {
@@ -507,7 +517,8 @@ Capture parse_capture_text(std::string_view text, const std::string& name, const
   }
 
   std::vector<std::vector<std::string>> headers;
-  for (std::string_view line : header_lines) headers.push_back(split_header(line, mode));
+  // Header names may contain blanks ("CH2 (A)"): in a tab-separated file split them at tabs only.
+  for (std::string_view line : header_lines) headers.push_back(split_header(line, mode, capture.delimiter == '\t'));
   const SourcePosition header_position{name, static_cast<int>(first_header_line), 1};
   ColumnPlan plan;
   plan.time_index = resolve_column(spec.time_column, headers, header_position, name);
@@ -597,15 +608,23 @@ Capture parse_capture_text(std::string_view text, const std::string& name, const
   const double t_first = chunks.front().time.front();
   const double t_last = previous->time.back();
   const double interval = (t_last - t_first) / static_cast<double>(sample_count - 1);
-  const std::string_view first_line = first_data;
-  const std::size_t last_line_start = text.rfind('\n', data_end - 1);
-  const std::string_view last_line = text.substr(last_line_start == std::string_view::npos ? data_start : last_line_start + 1,
-                                                 data_end - (last_line_start == std::string_view::npos ? data_start : last_line_start + 1));
+  // The printed resolution: the finest among the last 16 time cells (a cell printed in shortest
+  // form, "5e-06", hides its precision; one of 16 consecutive stamps shows all its digits).
   auto time_cell_of = [&](std::string_view line) {
-    std::vector<std::string> cells = split_header(line, mode);
+    std::vector<std::string> cells = split_header(line, mode, false);
     return static_cast<int>(cells.size()) >= plan.time_index ? cells[static_cast<std::size_t>(plan.time_index - 1)] : std::string();
   };
-  const double resolution = std::max(decimal_resolution(time_cell_of(first_line)), decimal_resolution(time_cell_of(last_line)));
+  double resolution = HUGE_VAL;
+  {
+    std::size_t line_end = data_end;
+    for (int count = 0; count < 16 && line_end > data_start; ++count) {
+      const std::size_t newline = text.rfind('\n', line_end - 1);
+      const std::size_t line_begin = (newline == std::string_view::npos || newline < data_start) ? data_start : newline + 1;
+      resolution = std::min(resolution, decimal_resolution(time_cell_of(text.substr(line_begin, line_end - line_begin))));
+      if (line_begin == data_start) break;
+      line_end = line_begin - 1;
+    }
+  }
   SamplingReport& sampling = capture.sampling;
   sampling.tolerance_s = std::max(uniform_tolerance_intervals * interval, resolution * 1.000001) * capture.time_unit_s;
   std::size_t index = 0;

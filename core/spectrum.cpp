@@ -11,6 +11,7 @@
 #include <numbers>
 
 #include "core/error.hpp"
+#include "core/fftw_lock.hpp"
 #include "core/units.hpp"
 
 namespace spurcast {
@@ -137,6 +138,7 @@ FftPlanner::FftPlanner(std::string wisdom_file, double planning_limit_s)
 
 FftPlanner::~FftPlanner() {
   const std::lock_guard<std::mutex> lock(mutex_);
+  const std::lock_guard<std::mutex> planner_lock(fftw_planner_mutex());
   for (auto& [length, plan] : plans_) fftw_destroy_plan(static_cast<fftw_plan>(plan));
 }
 
@@ -156,6 +158,9 @@ void* FftPlanner::plan_for(std::size_t length) {
   if (length > static_cast<std::size_t>(std::numeric_limits<int>::max())) {
     throw Error("record of " + std::to_string(length) + " samples is too long for one transform");
   }
+  // This object's lock guards its plan cache; FFTW's planner state is process-wide, so the calls
+  // into it also take the library's one planner lock (core/fftw_lock.hpp), always in this order.
+  const std::lock_guard<std::mutex> planner_lock(fftw_planner_mutex());
   if (!wisdom_loaded_) {
     wisdom_loaded_ = true;
     // A missing or corrupt wisdom file only means planning again.

@@ -45,9 +45,10 @@ struct WindowProperties {
 [[nodiscard]] std::vector<double> window_samples(Window window, std::size_t length);
 
 /// Real-to-complex FFTs with plans made once per size and reused. FFTW's planner is not
-/// thread-safe, so every planner call made through this object holds its mutex; executing a plan
-/// (fftw_execute_dft_r2c on the caller's buffers) runs outside the lock. FFTW keeps its planner
-/// state process-wide: make one FftPlanner per process and pass it to whoever needs transforms.
+/// thread-safe: the plan cache is guarded by this object's mutex, and every call into FFTW's
+/// (process-wide) planner also holds the library's planner lock of core/fftw_lock.hpp; executing a
+/// plan (fftw_execute_dft_r2c on the caller's buffers) runs outside both. One FftPlanner per process,
+/// passed to whoever needs transforms, shares the plans.
 ///
 /// Plans come from FFTW wisdom kept in `wisdom_file` when it has one for the size (FFTW_MEASURE |
 /// FFTW_WISDOM_ONLY, instant), else from FFTW_ESTIMATE. Measuring is opt-in (planning_limit_s > 0:
