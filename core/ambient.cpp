@@ -1,5 +1,6 @@
 #include "core/ambient.hpp"
 
+#include <algorithm>
 #include <cmath>
 
 #include "core/error.hpp"
@@ -68,7 +69,8 @@ double noise_field_dbuvm(double noise_figure_db, double frequency_hz, double ban
 }
 
 double ambient_noise_field_dbuvm(Environment environment, double frequency_hz, double bandwidth_hz) {
-  return noise_field_dbuvm(man_made_noise_figure_db(environment, frequency_hz), frequency_hz, bandwidth_hz);
+  const double fit_hz = std::clamp(frequency_hz, man_made_noise_min_hz, man_made_noise_max_hz);
+  return noise_field_dbuvm(man_made_noise_figure_db(environment, fit_hz), frequency_hz, bandwidth_hz);
 }
 
 }  // namespace spurcast

@@ -40,7 +40,9 @@ inline constexpr double man_made_noise_max_hz = 250e6;
 
 /// The man-made noise field of `environment` in `bandwidth_hz` at `frequency_hz` [dBµV/m]. Only the
 /// man-made component: galactic and atmospheric noise (large on LW/MW at night) are left out, which
-/// makes the ambient floor low and the verdict cautious.
+/// makes the ambient floor low and the verdict cautious. Outside the fitted 0.3–250 MHz the noise
+/// figure is held at the nearest edge instead of extrapolated (below 0.3 MHz, on LW, this is the
+/// lower and so the cautious figure, since the fit rises towards low frequencies).
 [[nodiscard]] double ambient_noise_field_dbuvm(Environment environment, double frequency_hz,
                                                double bandwidth_hz);
 

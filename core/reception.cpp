@@ -82,7 +82,7 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
     result.caveats.push_back("cable longer than a tenth of a wavelength: length capped at the half-wave-dipole value");
   }
   if (!man_made_noise_in_range(band.low_hz) || !man_made_noise_in_range(band.high_hz)) {
-    result.caveats.push_back("ambient noise extrapolated outside the P.372 fit (0.3-250 MHz)");
+    result.caveats.push_back("ambient noise held at the edge of the P.372 fit (0.3-250 MHz), not extrapolated");
   }
   return result;
 }

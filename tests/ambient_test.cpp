@@ -56,4 +56,7 @@ TEST_CASE("environment names; the fit's range") {
   CHECK(man_made_noise_in_range(0.3e6));
   CHECK(man_made_noise_in_range(250e6));
   CHECK_FALSE(man_made_noise_in_range(200e3));
+  // Below the fit (LW) the 0.3 MHz noise figure is held; only the field conversion follows f.
+  CHECK(near(ambient_noise_field_dbuvm(Environment::residential, 200e3, 9e3),
+             noise_field_dbuvm(man_made_noise_figure_db(Environment::residential, 0.3e6), 200e3, 9e3)));
 }

@@ -4,8 +4,11 @@
 // harmonic-to-channel cases. The fast mapping (sorted lines, binary search) has a brute-force twin.
 #include <doctest/doctest.h>
 
+#include <sys/wait.h>
+
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <random>
 #include <string>
 
@@ -387,4 +390,29 @@ protection_ratio = "20 dB"
     CHECK_THROWS_WITH_AS((void)read("[[band]]\nname = \"x\"\nlow = \"1 MHz\"\nhigh = \"2 MHz\"\nbandwidth = \"9 kHz\"\nmodulation = \"am\"\nband = 1\n"),
                          "s.toml:7:1: unknown key 'band' in [broadcast.band 1]", Error);
   }
+}
+
+TEST_CASE("spurcast bands --region 2 --json lists the Region 2 plan (end to end)") {
+  const std::string command = std::string(SPURCAST_EXECUTABLE) + " bands --region 2 --json";
+  FILE* pipe = popen(command.c_str(), "r");
+  REQUIRE(pipe != nullptr);
+  std::string output;
+  char buffer[4096];
+  while (std::fgets(buffer, sizeof buffer, pipe) != nullptr) output += buffer;
+  const int status = pclose(pipe);
+  CHECK(status == 0);
+  // MW of Region 2 on its 10 kHz raster, 530-1700 kHz (REFERENCES.md §4.1).
+  CHECK(output.find("\"name\": \"ITU Region 2\"") != std::string::npos);
+  CHECK(output.find("\"low_hz\": 525000.0") != std::string::npos);
+  CHECK(output.find("\"first_channel_hz\": 530000.0") != std::string::npos);
+  CHECK(output.find("\"last_channel_hz\": 1700000.0") != std::string::npos);
+  CHECK(output.find("ITU Region 1") == std::string::npos);
+  // A region outside 1..3 is a usage error (exit code 2).
+  const std::string bad = std::string(SPURCAST_EXECUTABLE) + " bands --region 4 2>/dev/null";
+  FILE* bad_pipe = popen(bad.c_str(), "r");
+  REQUIRE(bad_pipe != nullptr);
+  while (std::fgets(buffer, sizeof buffer, bad_pipe) != nullptr) {
+  }
+  const int bad_status = pclose(bad_pipe);
+  CHECK(WEXITSTATUS(bad_status) == 2);
 }
