@@ -7,6 +7,7 @@ void register_commands(CLI::App& app, CommandList& commands) {
   (void)commands;
   setup_compare(app, commands);
   setup_limits(app, commands);
+  setup_sweep(app, commands);
   setup_predict(app, commands);
   setup_demo(app, commands);
   setup_bands(app, commands);

@@ -27,6 +27,7 @@ void register_commands(CLI::App& app, CommandList& commands);
 void setup_spectrum(CLI::App& app, CommandList& commands);
 void setup_compare(CLI::App& app, CommandList& commands);
 void setup_limits(CLI::App& app, CommandList& commands);
+void setup_sweep(CLI::App& app, CommandList& commands);
 void setup_predict(CLI::App& app, CommandList& commands);
 void setup_demo(CLI::App& app, CommandList& commands);
 void setup_bands(CLI::App& app, CommandList& commands);

@@ -454,6 +454,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
   }
   const double tol = options.tolerance_fraction;
   std::vector<bool> band_ok(ctx.bands.size(), true);
+  bool drift_limits_ok = true;
   try {
     std::optional<std::vector<Band>> own_bands;
     if (!ctx.shared_bands) own_bands = bands_for(scenario.broadcast);
@@ -469,7 +470,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
       for (std::size_t b = 0; b < band_ok.size() && b < outcome.drift_band_ok.size(); ++b) {
         band_ok[b] = outcome.drift_band_ok[b];
       }
-      if (!outcome.drift_limits_ok) point.limits_verdict = std::max(point.limits_verdict, Verdict::marginal);
+      drift_limits_ok = outcome.drift_limits_ok;
     } else {
       point.method = "scan";
       PredictionOptions prediction = options.prediction;
@@ -484,27 +485,37 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
     point.method.clear();
     return point;
   }
-  // The point alone against each criterion (the `all` criterion is filled by the caller).
+  // The point alone against each criterion, at its nominal value and with the analytic drift
+  // check (the `all` criterion combines the others).
   point.point_meets.assign(ctx.criteria.size(), false);
+  point.drift_meets.assign(ctx.criteria.size(), false);
   for (std::size_t c = 0; c < ctx.criteria.size(); ++c) {
     const WindowCriterion& criterion = ctx.criteria[c];
     switch (criterion.kind) {
       case WindowCriterion::Kind::band_clear: {
         const std::size_t b = ctx.criterion_band[c];
-        point.point_meets[c] = point.bands[b].verdict == ReceptionVerdict::clear && band_ok[b];
+        point.point_meets[c] = point.bands[b].verdict == ReceptionVerdict::clear;
+        point.drift_meets[c] = point.point_meets[c] && band_ok[b];
         break;
       }
-      case WindowCriterion::Kind::fundamental_outside:
-        point.point_meets[c] = fundamental_outside(point.switching_frequency_hz, scenario,
-                                                   band_from_string(criterion.band), tol);
+      case WindowCriterion::Kind::fundamental_outside: {
+        const CisprBand band = band_from_string(criterion.band);
+        point.point_meets[c] = fundamental_outside(point.switching_frequency_hz, scenario, band, 0.0);
+        point.drift_meets[c] = fundamental_outside(point.switching_frequency_hz, scenario, band, tol);
         break;
+      }
       case WindowCriterion::Kind::limits_met:
         point.point_meets[c] = point.limits_verdict == Verdict::pass;
+        point.drift_meets[c] = point.point_meets[c] && drift_limits_ok;
         break;
       case WindowCriterion::Kind::all: {
-        bool all = true;
-        for (std::size_t o = 0; o < c; ++o) all = all && point.point_meets[o];
-        point.point_meets[c] = all;
+        bool nominal = true, drift = true;
+        for (std::size_t o = 0; o < c; ++o) {
+          nominal = nominal && point.point_meets[o];
+          drift = drift && point.drift_meets[o];
+        }
+        point.point_meets[c] = nominal;
+        point.drift_meets[c] = drift;
         break;
       }
     }
@@ -529,6 +540,8 @@ void find_windows(SweepResult& result) {
     for (std::size_t i = 0; i < n0; ++i) sorted_values[i] = result.points[order[i]].values[0];
     for (std::size_t c = 0; c < result.criteria.size(); ++c) {
       // failures[i] = number of failing points among the first i (prefix count).
+      // The neighbours must meet the criterion at their nominal values, the point itself with
+      // its drift checked analytically.
       std::vector<std::size_t> failures(n0 + 1, 0);
       for (std::size_t i = 0; i < n0; ++i) {
         const SweepPoint& p = result.points[order[i]];
@@ -545,7 +558,9 @@ void find_windows(SweepResult& result) {
             std::upper_bound(sorted_values.begin(), sorted_values.end(), hi) - sorted_values.begin());
         const std::size_t a = std::min(first, i);
         const std::size_t b = std::max(last, i + 1);
-        result.points[order[i]].robust[c] = failures[b] - failures[a] == 0;
+        const SweepPoint& p = result.points[order[i]];
+        const bool itself = !p.error && c < p.drift_meets.size() && p.drift_meets[c];
+        result.points[order[i]].robust[c] = itself && failures[b] - failures[a] == 0;
       }
       // Maximal runs of robust points.
       std::size_t i = 0;
@@ -556,7 +571,7 @@ void find_windows(SweepResult& result) {
         }
         std::size_t j = i;
         while (j + 1 < n0 && result.points[order[j + 1]].robust[c]) ++j;
-        SweepWindow w;
+        RobustWindow w;
         w.criterion = c;
         const SweepPoint& first_point = result.points[order[i]];
         w.fixed_values.assign(first_point.values.begin() + 1, first_point.values.end());
@@ -571,7 +586,7 @@ void find_windows(SweepResult& result) {
     }
   }
   std::stable_sort(result.windows.begin(), result.windows.end(),
-                   [](const SweepWindow& a, const SweepWindow& b) { return a.criterion < b.criterion; });
+                   [](const RobustWindow& a, const RobustWindow& b) { return a.criterion < b.criterion; });
 }
 
 std::string margin_cell(const std::optional<double>& margin) {
@@ -659,7 +674,9 @@ SweepAxis make_axis(const toml::table& table, const VarySpec& vary) {
       throw Error("--vary " + vary.key + ": " + e.what());
     }
   };
-  axis.values = sweep_values(parse(vary.from_text), parse(vary.to_text), vary.count, vary.logarithmic);
+  const double from = parse(vary.from_text);  // FROM first: its error comes first
+  const double to = parse(vary.to_text);
+  axis.values = sweep_values(from, to, vary.count, vary.logarithmic);
   return axis;
 }
 
@@ -923,7 +940,7 @@ std::string sweep_json(const SweepResult& result) {
   j["criteria"] = ordered_json::array();
   for (const WindowCriterion& c : result.criteria) j["criteria"].push_back(c.label());
   j["windows"] = ordered_json::array();
-  for (const SweepWindow& w : result.windows) {
+  for (const RobustWindow& w : result.windows) {
     j["windows"].push_back({{"criterion", result.criteria[w.criterion].label()},
                             {"fixed_values", w.fixed_values},
                             {"from", w.from_value},
@@ -999,7 +1016,7 @@ std::string sweep_windows_text(const SweepResult& result) {
     text += result.criteria[c].label();
     text += ":\n";
     bool any = false;
-    for (const SweepWindow& w : result.windows) {
+    for (const RobustWindow& w : result.windows) {
       if (w.criterion != c) continue;
       any = true;
       std::string fixed;

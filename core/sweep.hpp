@@ -31,7 +31,7 @@
 ///   options.criteria.push_back(parse_window_criterion("MW"));
 ///   options.tolerance_fraction = 0.05;
 ///   const SweepResult result = run_sweep(table, "examples/greenhouse-buck.toml", "examples", options);
-///   for (const SweepWindow& w : result.windows) ... w.from_value, w.to_value ...
+///   for (const RobustWindow& w : result.windows) ... w.from_value, w.to_value ...
 #include <cstddef>
 #include <optional>
 #include <string>
@@ -168,12 +168,14 @@ struct SweepPoint {
   std::vector<BandPoint> bands;                ///< aligned with SweepResult::bands
   std::optional<double> worst_margin_db;       ///< over every limit line
   Verdict limits_verdict = Verdict::pass;      ///< pass when no limit was compared
-  std::vector<bool> point_meets;   ///< per criterion: this point alone, drift checked analytically
-  std::vector<bool> robust;        ///< per criterion: point_meets of every grid point within ±tolerance
+  std::vector<bool> point_meets;   ///< per criterion: this point alone at its nominal value
+  std::vector<bool> drift_meets;   ///< per criterion: point_meets and the analytic drift check (lines path)
+  /// per criterion: drift_meets here and point_meets at every grid point within ±tolerance
+  std::vector<bool> robust;
 };
 
 /// A contiguous run of robust points along the first axis (the other axes fixed).
-struct SweepWindow {
+struct RobustWindow {
   std::size_t criterion = 0;          ///< index into SweepResult::criteria
   std::vector<double> fixed_values;   ///< the values of axes 2.. (empty for a 1-axis sweep)
   double from_value = 0.0;            ///< first axis value of the first robust point [SI]
@@ -192,7 +194,7 @@ struct SweepResult {
   double tolerance_fraction = 0.0;
   double guard_db = default_guard_db;
   std::vector<SweepPoint> points;             ///< the first axis fastest, then the second, ...
-  std::vector<SweepWindow> windows;           ///< per criterion, in increasing first-axis order
+  std::vector<RobustWindow> windows;           ///< per criterion, in increasing first-axis order
   std::vector<std::string> notes;
   unsigned threads = 1;
   std::size_t invalid_points = 0;

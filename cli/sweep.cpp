@@ -1,0 +1,190 @@
+// spurcast sweep: re-runs the chain across one or more scenario keys (in parallel) and prints the
+// windows of the first key where a broadcast band stays clear, the fundamental stays out of a CISPR
+// band, and/or every limit is met with the guard band, robust to a drift tolerance.
+#include <fmt/format.h>
+
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <iostream>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include <unistd.h>
+
+#include "cli/commands.hpp"
+#include "core/error.hpp"
+#include "core/plot.hpp"
+#include "core/sweep.hpp"
+#include "core/toml_reader.hpp"
+#include "core/units.hpp"
+
+namespace spurcast::cli {
+
+namespace {
+
+struct Options {
+  std::string scenario_file;
+  std::vector<std::string> vary;
+  bool logarithmic = false;
+  std::vector<std::string> clear;
+  bool meet_limits = false;
+  std::string tolerance = "0 %";
+  std::string csv_file;
+  std::string plot_file;
+  bool json = false;
+  bool scan = false;
+  unsigned threads = 0;
+};
+
+// Writes `text` to a temporary file beside `path` and renames it into place (nothing half-written).
+void write_file_atomically(const std::string& path, const std::string& text) {
+  const std::string temporary = path + ".tmp-" + std::to_string(::getpid());
+  {
+    std::ofstream out(temporary, std::ios::binary | std::ios::trunc);
+    if (!out) throw Error(SourcePosition{path, 0, 0}, "cannot write file");
+    out << text;
+    out.close();
+    if (!out) {
+      std::filesystem::remove(temporary);
+      throw Error(SourcePosition{path, 0, 0}, "cannot write file");
+    }
+  }
+  std::error_code error;
+  std::filesystem::rename(temporary, path, error);
+  if (error) {
+    std::filesystem::remove(temporary);
+    throw Error(SourcePosition{path, 0, 0}, "cannot write file: " + error.message());
+  }
+}
+
+/// The sweep plot of the report module: worst margin and band verdicts along the first axis (the
+/// first group of a grid), the windows of the last criterion highlighted.
+std::string plot_svg(const SweepResult& result, const std::string& title) {
+  const SweepAxis& axis = result.axes.front();
+  const std::size_t n = axis.values.size();
+  std::vector<std::size_t> order(n);
+  for (std::size_t i = 0; i < n; ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return axis.values[a] < axis.values[b]; });
+  SweepPlot plot;
+  plot.title = title;
+  plot.parameter_label = axis.key;
+  plot.parameter_dimension = axis.dimension;
+  plot.guard_db = result.guard_db;
+  const bool positive = axis.values.front() > 0.0 && axis.values.back() > 0.0;
+  plot.log_parameter = positive && std::max(axis.values.front(), axis.values.back()) >
+                                       20.0 * std::min(axis.values.front(), axis.values.back());
+  for (const std::string& band : result.bands) plot.bands.push_back(SweepBandRow{band, {}});
+  for (const std::size_t i : order) {
+    const SweepPoint& p = result.points[i];
+    plot.parameter.push_back(axis.values[i]);
+    plot.worst_margin_db.push_back(p.worst_margin_db ? *p.worst_margin_db : std::nan(""));
+    for (std::size_t b = 0; b < plot.bands.size(); ++b) {
+      plot.bands[b].verdicts.push_back(b < p.bands.size() && !p.error ? reception_verdict_name(p.bands[b].verdict)
+                                                                      : "noisy");
+    }
+  }
+  if (!result.criteria.empty()) {
+    const std::size_t last = result.criteria.size() - 1;
+    for (const RobustWindow& w : result.windows) {
+      if (w.criterion == last && w.last_point < n) plot.clear_windows.push_back({w.from_value, w.to_value});
+    }
+  }
+  return sweep_plot_svg(plot);
+}
+
+int run_sweep_command(const Options& options) {
+  // Inputs first: nothing is written unless every input is good.
+  const toml::table table = parse_toml_file(options.scenario_file);
+  const std::filesystem::path folder = std::filesystem::path(options.scenario_file).parent_path();
+  const std::string directory = folder.empty() ? "." : folder.string();
+
+  SweepOptions sweep;
+  for (const std::string& text : options.vary) {
+    VarySpec vary = parse_vary(text);
+    vary.logarithmic = vary.logarithmic || options.logarithmic;
+    sweep.axes.push_back(make_axis(table, vary));
+  }
+  for (const std::string& band : options.clear) sweep.criteria.push_back(parse_window_criterion(band));
+  if (options.meet_limits) sweep.criteria.push_back(WindowCriterion{WindowCriterion::Kind::limits_met, ""});
+  try {
+    sweep.tolerance_fraction = parse_quantity(options.tolerance, Dimension::fraction);
+  } catch (const Error& e) {
+    throw Error(std::string("--tolerance: ") + e.what());
+  }
+  sweep.threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
+  sweep.exact_lines = !options.scan;
+
+  const SweepResult result = run_sweep(table, options.scenario_file, directory, sweep);
+
+  std::vector<std::string> written;
+  if (!options.csv_file.empty()) {
+    write_file_atomically(options.csv_file, sweep_csv(result));
+    written.push_back(options.csv_file);
+  }
+  if (!options.plot_file.empty()) {
+    write_file_atomically(options.plot_file, plot_svg(result, "sweep of " + result.axes.front().key));
+    written.push_back(options.plot_file);
+  }
+
+  if (options.json) {
+    std::string json = sweep_json(result);
+    // The files written go in as the last member of the object.
+    std::string files = "[";
+    for (std::size_t i = 0; i < written.size(); ++i) files += (i ? ", \"" : "\"") + written[i] + "\"";
+    files += "]";
+    const auto end = json.rfind('}');
+    json = json.substr(0, end) + ",\n  \"files\": " + files + "\n}\n";
+    std::cout << json;
+  } else {
+    std::cout << sweep_windows_text(result);
+    for (const std::string& file : written) std::cout << "wrote " << file << "\n";
+    std::cout << "a prediction is not a compliance result: only an accredited test decides\n";
+  }
+
+  if (!result.criteria.empty()) {
+    const std::size_t last = result.criteria.size() - 1;  // `all criteria` when there are several
+    const bool found = std::any_of(result.windows.begin(), result.windows.end(),
+                                   [&](const RobustWindow& w) { return w.criterion == last; });
+    return found ? exit_ok : exit_limit_exceeded;
+  }
+  const bool every_point_passes = std::all_of(result.points.begin(), result.points.end(), [](const SweepPoint& p) {
+    return !p.error && p.limits_verdict == Verdict::pass;
+  });
+  return every_point_passes ? exit_ok : exit_limit_exceeded;
+}
+
+}  // namespace
+
+void setup_sweep(CLI::App& app, CommandList& commands) {
+  auto options = std::make_shared<Options>();
+  CLI::App* sub = app.add_subcommand(
+      "sweep",
+      "re-run the prediction across a scenario key and find the windows that clear a band or meet the limits.\n"
+      "Exit code 0 when a window is found (with several criteria: one meeting all of them; without any: when\n"
+      "every point meets the limits), 1 otherwise, 2 on bad input.");
+  sub->add_option("scenario", options->scenario_file, "scenario file (TOML)")->required();
+  sub->add_option("--vary", options->vary,
+                  "KEY=FROM:TO[:N][:log], e.g. switching.frequency=100kHz:3MHz:1000 (default N 101); keys are "
+                  "dotted scenario keys (switching.rise, coupling.parasitic_capacitance, filter.1.inductance, ...); "
+                  "repeat for a grid (windows run along the first)")
+      ->required();
+  sub->add_flag("--log", options->logarithmic, "space the values of every --vary geometrically");
+  sub->add_option("--clear", options->clear,
+                  "find windows where this broadcast band (e.g. MW, LW, FM, \"49 m\") is clear; a CISPR band letter "
+                  "(A-D) asks for the fundamental to stay outside that band; repeatable");
+  sub->add_flag("--meet-limits", options->meet_limits, "find windows where every limit is met with the guard band");
+  sub->add_option("--tolerance", options->tolerance,
+                  "drift of the switching frequency the windows must hold across, e.g. 5%")
+      ->capture_default_str();
+  sub->add_option("--csv", options->csv_file, "write one row per point to this CSV file");
+  sub->add_option("--plot", options->plot_file, "write the sweep plot (SVG) to this file");
+  sub->add_flag("--json", options->json, "print JSON instead of text");
+  sub->add_flag("--scan", options->scan, "use the receiver scan at every point (slow; the exact line path is the default)");
+  sub->add_option("--threads", options->threads, "worker threads (default: SPURCAST_THREADS, else every core)");
+  commands.push_back(Command{sub, [options] { return run_sweep_command(*options); }});
+}
+
+}  // namespace spurcast::cli
