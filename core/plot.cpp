@@ -320,6 +320,31 @@ std::string polyline_path(const std::vector<std::vector<std::pair<double, double
   return d;
 }
 
+/// The title at the largest font from 15 px down to 11 px that fits `available_px`; below that it
+/// is cut with an ellipsis.
+std::pair<std::string, double> fit_title(const std::string& title, double available_px) {
+  for (double font = title_font_px; font >= 11.0; font -= 1.0) {
+    if (estimate_text_box(title, 0, 0, font, TextAnchor::start).width <= available_px) return {title, font};
+  }
+  const double font = 11.0;
+  const auto fitting = static_cast<std::size_t>(std::max(1.0, available_px / (font * character_width_em)) - 1.0);
+  std::string cut;  // whole code points only
+  std::size_t count = 0;
+  for (char c : title) {
+    if ((static_cast<unsigned char>(c) & 0xC0) != 0x80) {
+      if (count == fitting) break;
+      ++count;
+    }
+    cut += c;
+  }
+  return {cut + "\xE2\x80\xA6", font};
+}
+
+void place_title(TextPlacer& placer, const std::string& title, double left, double right) {
+  const auto [text, font] = fit_title(title, right - left);
+  placer.place(text, left, 20.0, font, TextAnchor::start, "font-weight=\"bold\" fill=\"" + std::string(ink_colour) + "\"");
+}
+
 std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
   check_size(plot.width_px, plot.height_px);
   if (!(plot.min_hz > 0.0 && plot.max_hz > plot.min_hz) || !std::isfinite(plot.max_hz)) {
@@ -368,8 +393,7 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
   const LinearScale ys{y_min, y_max, layout.plot_bottom, layout.plot_top};
   const std::string clip = id_for(plot.title, "spectrum") + "-clip";
 
-  placer.place(plot.title, layout.plot_left, 20.0, title_font_px, TextAnchor::start,
-               "font-weight=\"bold\" fill=\"" + std::string(ink_colour) + "\"");
+  place_title(placer, plot.title, 12.0, plot.width_px - 12.0);
   place_legend(placer, svg, legend, layout.plot_left, layout.plot_right, 40.0);
 
   svg += "<defs><clipPath id=\"" + clip + "\"><rect x=\"" + number(layout.plot_left) + "\" y=\"" +
@@ -525,8 +549,7 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
   layout.y_min = ys.min;
   layout.y_max = ys.max;
 
-  placer.place(plot.title, layout.plot_left, 20.0, title_font_px, TextAnchor::start,
-               "font-weight=\"bold\" fill=\"" + std::string(ink_colour) + "\"");
+  place_title(placer, plot.title, 12.0, plot.width_px - 12.0);
   place_legend(placer, svg, legend, layout.plot_left, layout.plot_right, 40.0);
   svg += "<rect x=\"" + number(layout.plot_left) + "\" y=\"" + number(layout.plot_top) + "\" width=\"" +
          number(layout.plot_right - layout.plot_left) + "\" height=\"" + number(margin_bottom - layout.plot_top) +
