@@ -76,7 +76,8 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
   if (band.low_hz < near_limit_hz) {
     result.caveats.push_back("near field at " + format_quantity(spec.distance_m, Dimension::length) +
                              " below " + format_mhz(near_limit_hz) +
-                             ": the far-field cable formula is an order-of-magnitude estimate");
+                             ": the noise reaches the receiver through the mains wiring and the near field; "
+                             "the far-field cable formula used here is only an order-of-magnitude estimate");
   }
   if (spec.cable_length_m > c_m_per_s / band.high_hz / 10.0) {
     result.caveats.push_back("cable longer than a tenth of a wavelength: length capped at the half-wave-dipole value");
