@@ -11,6 +11,7 @@ void register_commands(CLI::App& app, CommandList& commands) {
   setup_predict(app, commands);
   setup_demo(app, commands);
   setup_bands(app, commands);
+  setup_scan(app, commands);
 }
 
 }  // namespace spurcast::cli

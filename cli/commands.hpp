@@ -31,5 +31,6 @@ void setup_sweep(CLI::App& app, CommandList& commands);
 void setup_predict(CLI::App& app, CommandList& commands);
 void setup_demo(CLI::App& app, CommandList& commands);
 void setup_bands(CLI::App& app, CommandList& commands);
+void setup_scan(CLI::App& app, CommandList& commands);
 
 }  // namespace spurcast::cli

@@ -385,13 +385,22 @@ Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double ban
 
 ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const BandParameters band = band_parameters(plan.band);
-  const std::vector<double> frequencies = plan_frequencies(plan);
+  std::vector<double> frequencies = plan_frequencies(plan);
   ScanResult result;
   result.quantity = waveform.quantity;
   result.band = plan.band;
   result.bandwidth_6db_hz = band.bandwidth_6db_hz;
   result.step_hz = plan.frequencies_hz.empty() ? plan.step_hz.value_or(default_step_hz(plan.band)) : 0.0;
   if (frequencies.empty()) return result;
+  // A band scan of a record sampled too slowly for the whole band (a capture, typically) reads the
+  // tuned frequencies the record covers and says where it stopped; spot readings must all be covered.
+  const double highest_covered_hz = 0.5 * waveform.sample_rate_hz - span_bandwidths * band.bandwidth_6db_hz;
+  if (plan.frequencies_hz.empty() && frequencies.back() >= highest_covered_hz && frequencies.front() < highest_covered_hz) {
+    while (frequencies.back() >= highest_covered_hz) frequencies.pop_back();
+    result.notes.push_back("tuned frequencies above " + format_quantity(frequencies.back(), Dimension::frequency) +
+                           " not read: the record's sample rate (" +
+                           format_quantity(waveform.sample_rate_hz, Dimension::frequency) + ") does not cover them");
+  }
   check_sample_rate(waveform, frequencies.back(), band.bandwidth_6db_hz);
 
   const RecordSpectrum spectrum = record_spectrum(waveform);
@@ -417,6 +426,11 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
 
   result.notes.push_back("record of " + format_quantity(spectrum.period_s, Dimension::time) +
                          " treated as periodic: detectors read in steady state with the record repeated");
+  if (spectrum.period_s * band.bandwidth_6db_hz < 4.0) {
+    result.notes.push_back("the record is shorter than the IF impulse response (4/B6 = " +
+                           format_quantity(4.0 / band.bandwidth_6db_hz, Dimension::time) +
+                           "): the readings are those of the record repeated without end");
+  }
   if (plan.slowest_modulation_hz > 0.0 && spectrum.period_s * plan.slowest_modulation_hz < 3.0) {
     result.notes.push_back("record holds " + format_quantity(spectrum.period_s * plan.slowest_modulation_hz, Dimension::number, 3) +
                            " periods of the slowest modulation (" +

@@ -276,6 +276,19 @@ TEST_CASE("band B reference impulses through the full sampled receiver read 66 d
   check_detector_order(result);
 }
 
+TEST_CASE("a band scan of a slowly sampled record stops where the sample rate ends, with a note") {
+  // 40 MS/s covers tuned frequencies up to 20 MHz − 2·9 kHz.
+  const Waveform w = cosines(40e6, 40000, {1e6}, {1e-3});
+  ScanPlan plan;
+  plan.band = CisprBand::B;
+  plan.step_hz = 4.5e3;
+  const ScanResult result = scan_waveform(w, plan);
+  REQUIRE_FALSE(result.readings.empty());
+  CHECK(result.readings.back().frequency_hz < 20e6 - 18e3);
+  CHECK(result.readings.back().frequency_hz > 20e6 - 18e3 - 4.5e3);
+  CHECK(result.notes.front() == "tuned frequencies above 19.98 MHz not read: the record's sample rate (40 MHz) does not cover them");
+}
+
 TEST_CASE("errors of the sampled receiver") {
   Waveform w;
   w.sample_rate_hz = 1e6;
