@@ -140,7 +140,7 @@ double parse_quantity(std::string_view text, Dimension expected) {
     if (unit.size() > spelling.size() && unit.substr(unit.size() - spelling.size()) == spelling) {
       const std::string_view prefix = unit.substr(0, unit.size() - spelling.size());
       for (const Prefix& p : prefixes) {
-        if (prefix == p.symbol) return value * p.factor;
+        if (prefix == p.symbol && std::isfinite(value * p.factor)) return value * p.factor;  // "1e308 THz" overflows
       }
     }
   }

@@ -1,0 +1,1 @@
+spectrum --capture {input} --column CH9 --csv {out}

@@ -1,0 +1,1 @@
+spectrum --capture {input} --column 5 --csv {out}

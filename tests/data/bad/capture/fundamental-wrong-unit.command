@@ -1,0 +1,1 @@
+spectrum --capture {input} --fundamental 100kV --csv {out}

@@ -1,0 +1,1 @@
+spectrum --capture {input} --fundamental 1MHz --max-frequency 100MHz --csv {out}

@@ -1,0 +1,1 @@
+spectrum --capture {input} --quantity power --csv {out}

@@ -1,0 +1,1 @@
+spectrum --capture {input} --scale 0 --csv {out}

@@ -1,0 +1,1 @@
+compare {input} --limits no-such-limits.toml --csv {out}
