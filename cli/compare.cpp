@@ -110,7 +110,8 @@ int run_compare(const Options& options) {
                                                   {.guard_db = guard_db,
                                                    .peak_against_every_line = trace_detector == Detector::peak,
                                                    .closest_count = options.top,
-                                                   .closest_separation_hz = separation_hz});
+                                                   .closest_separation_hz = separation_hz,
+                                                   .closest_local_minima_only = true});
   if (report.compared_readings == 0) {
     double low_hz = 0.0;
     double high_hz = 0.0;

@@ -131,11 +131,25 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
       return a->set_index == b->set_index && a->limit_detector == b->limit_detector &&
              a->reading_detector == b->reading_detector;
     };
-    for (std::size_t i = 0; i < all.size(); ++i) {
-      const bool left_ok = i == 0 || !same_group(all[i - 1], all[i]) || all[i]->margin_db <= all[i - 1]->margin_db;
-      const bool right_ok =
-          i + 1 == all.size() || !same_group(all[i + 1], all[i]) || all[i]->margin_db <= all[i + 1]->margin_db;
-      if (left_ok && right_ok) order.push_back(all[i]);
+    // A local minimum is <= both neighbours and not level with both (a flat floor is no emission);
+    // the smallest margin of each group always counts.
+    std::size_t group_start = 0;
+    while (group_start < all.size()) {
+      std::size_t group_end = group_start + 1;
+      while (group_end < all.size() && same_group(all[group_start], all[group_end])) ++group_end;
+      std::size_t smallest = group_start;
+      for (std::size_t i = group_start; i < group_end; ++i) {
+        if (all[i]->margin_db < all[smallest]->margin_db) smallest = i;
+        const double m = all[i]->margin_db;
+        const bool has_left = i > group_start;
+        const bool has_right = i + 1 < group_end;
+        const bool left_ok = !has_left || m <= all[i - 1]->margin_db;
+        const bool right_ok = !has_right || m <= all[i + 1]->margin_db;
+        const bool level_both = (!has_left || m == all[i - 1]->margin_db) && (!has_right || m == all[i + 1]->margin_db);
+        if (left_ok && right_ok && !level_both) order.push_back(all[i]);
+      }
+      if (std::find(order.begin(), order.end(), all[smallest]) == order.end()) order.push_back(all[smallest]);
+      group_start = group_end;
     }
   } else {
     for (const MarginRow& row : report.rows) order.push_back(&row);

@@ -71,8 +71,9 @@ struct MarginOptions {
   /// emission does not fill the list with its neighbouring points.
   double closest_separation_hz = 0.0;
   /// `closest` takes only rows whose margin is a local minimum over frequency among the rows of the
-  /// same line and reading detector (the tip of an emission, not its shoulders).
-  bool closest_local_minima_only = true;
+  /// same line and reading detector (the tip of an emission, not its shoulders). For dense traces and
+  /// band scans; leave it off for sparse spot readings, where neighbours are different emissions.
+  bool closest_local_minima_only = false;
 };
 
 /// One comparison of one reading with one line.

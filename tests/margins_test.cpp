@@ -6,6 +6,7 @@
 #include <string>
 
 #include "core/margins.hpp"
+#include "core/receiver.hpp"
 
 using namespace spurcast;
 
@@ -123,4 +124,38 @@ TEST_CASE("margins CSV columns (DESIGN.md §4)") {
         "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n"
         "250000,quasi-peak,60.00,61.76,1.76,\"CISPR 32 class B, AC mains port / quasi-peak\"\n");
   CHECK(csv_field("a\"b") == "\"a\"\"b\"");
+}
+
+TEST_CASE("readings_from_scan takes the receiver's Reading rows") {
+  std::vector<Reading> scan(2);
+  scan[0].frequency_hz = 1e6;
+  scan[0].peak_db = 50.0;
+  scan[0].quasi_peak_db = 45.0;
+  scan[0].average_db = 40.0;
+  scan[1].frequency_hz = 2e6;  // nothing in the passband: level_floor_db on every detector
+  const auto readings = readings_from_scan(scan, {Detector::quasi_peak, Detector::average});
+  REQUIRE(readings.size() == 2);
+  const double tol_db = 1e-12;
+  CHECK(readings[0].detector == Detector::quasi_peak);
+  CHECK(std::abs(readings[0].level - 45.0) < tol_db);
+  CHECK(std::abs(readings[1].level - 40.0) < tol_db);
+}
+
+TEST_CASE("closest rows: local minima of the margin only (the tips of emissions)") {
+  // Two emissions on a dense grid: tips at 1.00 MHz (48 dBµV) and 1.10 MHz (44 dBµV), shoulders between.
+  std::vector<LevelReading> readings;
+  for (int i = 0; i <= 20; ++i) {
+    const double f = 0.99e6 + i * 6e3;
+    const double level = 30.0 + std::max(0.0, 18.0 - 3.0 * std::abs(f - 1.0e6) / 6e3) +
+                         std::max(0.0, 14.0 - 3.0 * std::abs(f - 1.098e6) / 6e3);
+    readings.push_back({f, Detector::average, level});
+  }
+  const MarginReport report = compare_with_limits(readings, {class_b()}, {.closest_local_minima_only = true});
+  REQUIRE(report.closest.size() == 2);
+  const double tol_hz = 1e-6;
+  CHECK(std::abs(report.closest[0].frequency_hz - 1.002e6) < 3e3 + tol_hz);
+  CHECK(std::abs(report.closest[1].frequency_hz - 1.098e6) < 3e3 + tol_hz);
+  // Without the filter the shoulders of the first emission crowd the list.
+  const MarginReport crowded = compare_with_limits(readings, {class_b()}, {.closest_count = 2});
+  CHECK(std::abs(crowded.closest[1].frequency_hz - crowded.closest[0].frequency_hz) < 7e3);
 }
