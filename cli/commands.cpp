@@ -12,6 +12,7 @@ void register_commands(CLI::App& app, CommandList& commands) {
   setup_demo(app, commands);
   setup_bands(app, commands);
   setup_scan(app, commands);
+  setup_spectrum(app, commands);
 }
 
 }  // namespace spurcast::cli
