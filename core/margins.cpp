@@ -131,22 +131,24 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
       return a->set_index == b->set_index && a->limit_detector == b->limit_detector &&
              a->reading_detector == b->reading_detector;
     };
-    // A local minimum is <= both neighbours and not level with both (a flat floor is no emission);
-    // the smallest margin of each group always counts.
+    // A local minimum is a run of equal margins with larger margins on both sides (a group end counts
+    // as larger); its middle row stands for it. The smallest margin of each group always counts.
     std::size_t group_start = 0;
     while (group_start < all.size()) {
       std::size_t group_end = group_start + 1;
       while (group_end < all.size() && same_group(all[group_start], all[group_end])) ++group_end;
       std::size_t smallest = group_start;
-      for (std::size_t i = group_start; i < group_end; ++i) {
-        if (all[i]->margin_db < all[smallest]->margin_db) smallest = i;
-        const double m = all[i]->margin_db;
-        const bool has_left = i > group_start;
-        const bool has_right = i + 1 < group_end;
-        const bool left_ok = !has_left || m <= all[i - 1]->margin_db;
-        const bool right_ok = !has_right || m <= all[i + 1]->margin_db;
-        const bool level_both = (!has_left || m == all[i - 1]->margin_db) && (!has_right || m == all[i + 1]->margin_db);
-        if (left_ok && right_ok && !level_both) order.push_back(all[i]);
+      std::size_t run_start = group_start;
+      while (run_start < group_end) {
+        std::size_t run_end = run_start + 1;
+        while (run_end < group_end && all[run_end]->margin_db == all[run_start]->margin_db) ++run_end;
+        const double m = all[run_start]->margin_db;
+        const bool left_higher = run_start == group_start || all[run_start - 1]->margin_db > m;
+        const bool right_higher = run_end == group_end || all[run_end]->margin_db > m;
+        const bool whole_group = run_start == group_start && run_end == group_end;
+        if (left_higher && right_higher && !whole_group) order.push_back(all[(run_start + run_end - 1) / 2]);
+        if (m < all[smallest]->margin_db) smallest = (run_start + run_end - 1) / 2;
+        run_start = run_end;
       }
       if (std::find(order.begin(), order.end(), all[smallest]) == order.end()) order.push_back(all[smallest]);
       group_start = group_end;
