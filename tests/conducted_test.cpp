@@ -325,3 +325,69 @@ TEST_CASE("[coupling] reader: defaults, values and exact error text") {
                          Error);
   }
 }
+
+TEST_CASE("every filter kind, both LISN circuits and both set-ups build and give finite results") {
+  FilterStage lc;
+  lc.kind = FilterKind::lc;
+  lc.inductance_h = 4.7e-6;
+  lc.converter_side_capacitance_f = 10e-6;
+  FilterStage pi_stage = lc;
+  pi_stage.kind = FilterKind::pi;
+  pi_stage.lines = FilterLines::both;
+  pi_stage.lisn_side_capacitance_f = 1e-6;
+  FilterStage choke;
+  choke.kind = FilterKind::common_mode_choke;
+  choke.inductance_h = 1e-3;
+  FilterStage y;
+  y.kind = FilterKind::y_capacitors;
+  y.lines = FilterLines::both;
+  y.converter_side_capacitance_f = 4.7e-9;
+  FilterStage netlist;
+  netlist.kind = FilterKind::netlist;
+  NetlistElement r;
+  r.type = 'R';
+  r.from = "in+";
+  r.to = "mid";
+  r.value = 0.1;
+  NetlistElement l = r;
+  l.type = 'L';
+  l.from = "mid";
+  l.to = "out+";
+  l.value = 1e-6;
+  netlist.elements = {r, l};
+  const LineSpectrum v = paul_trapezoid(Quantity::voltage, 48.0, 0.25, 12e-9, 220e3, 200);
+  const LineSpectrum i = paul_trapezoid(Quantity::current, 6.0, 0.25, 12e-9, 220e3, 200);
+  for (const int lines : {1, 2}) {
+    for (const LisnCircuit circuit : {LisnCircuit::ideal, LisnCircuit::practical}) {
+      for (const LisnModel lisn_model : {LisnModel::v_network_50uh, LisnModel::v_network_5uh}) {
+        CAPTURE(lines);
+        LisnSpec lisn;
+        lisn.lines = lines;
+        lisn.circuit = circuit;
+        lisn.model = lisn_model;
+        const ConductedModel model(example_coupling(), {y, choke, pi_stage, netlist, lc}, lisn);
+        const ConductedResult result = conduct(v, i, model);
+        for (std::size_t k = 0; k < result.line1_v.size(); ++k) {
+          CHECK(std::isfinite(std::abs(result.line1_v[k])));
+          CHECK(std::isfinite(std::abs(result.line2_v[k])));
+          CHECK(std::isfinite(std::abs(result.cm_current_a[k])));
+        }
+        if (lines == 1) CHECK(std::abs(result.line2_v[0]) == 0.0);
+      }
+    }
+  }
+  // A netlist node that only capacitors reach is reported by name.
+  FilterStage floating;
+  floating.kind = FilterKind::netlist;
+  NetlistElement c1;
+  c1.type = 'C';
+  c1.from = "in+";
+  c1.to = "island";
+  c1.value = 1e-9;
+  NetlistElement c2 = c1;
+  c2.from = "island";
+  c2.to = "in-";
+  floating.elements = {c1, c2};
+  CHECK_THROWS_WITH_AS((void)ConductedModel(example_coupling(), {floating}, LisnSpec{}),
+                       "node 'filter1.island' has no DC path to the reference ground", Error);
+}
