@@ -289,12 +289,15 @@ void setup_compare(CLI::App& app, CommandList& commands) {
   CLI::App* sub = app.add_subcommand("compare", "compare a measured spectrum-analyser or receiver trace with limit "
                                                 "lines (pre-scan): margins and frequencies to re-measure");
   sub->add_option("trace", options->trace_file, "trace CSV: frequency and level columns")->required();
-  sub->add_option("--limits", options->limit_files, "limit-line file (TOML) or shipped name; repeatable")->required();
+  sub->add_option("--limits", options->limit_files, "limit-line file (TOML) or shipped name; repeatable")
+      ->required()
+      ->allow_extra_args(false);
   sub->add_option("--unit", options->unit, "level unit of the trace: dBuV or dBm (50 ohm); default from the header, else dBuV")
       ->check(CLI::IsMember({"dBuV", "dBm", "dbuv", "dbm"}));
   sub->add_option("--column", options->level_column, "name of the level column (default: the first non-frequency column)");
   sub->add_option("--correction", options->correction_files,
-                  "correction CSV (frequency, dB) added to the reading: LISN VDF, attenuator, cable loss; repeatable");
+                  "correction CSV (frequency, dB) added to the reading: LISN VDF, attenuator, cable loss; repeatable")
+      ->allow_extra_args(false);
   sub->add_option("--guard", options->guard, "guard band (pre-compliance margin)")->capture_default_str();
   sub->add_option("--detector", options->detector, "detector of the trace: peak, quasi-peak or average")
       ->capture_default_str();

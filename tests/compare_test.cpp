@@ -101,6 +101,8 @@ TEST_CASE("compare: every limit met -> exit 0, margins CSV written") {
   // A peak trace meets both the quasi-peak and the average line: two rows per point.
   CHECK(std::count(csv.begin(), csv.end(), '\n') == 1 + 2 * 400);
   CHECK_FALSE(has_temporary_files(dir));
+  // Options before the trace: each --limits takes one file, so the trace is not taken for a limit file.
+  CHECK(run(dir, "compare --limits cispr32-class-b-conducted trace.csv --limits fcc15-107-class-b-conducted").exit_code == 0);
 }
 
 TEST_CASE("compare: a margin under the guard band -> exit 1 (marginal)") {
