@@ -181,6 +181,7 @@ struct Context {
   bool shared_bands = true;     ///< no broadcast. key varies
   std::optional<ConductedModel> model;
   std::vector<Band> bands;
+  std::vector<std::vector<double>> channel_centres;  ///< per band of `bands`
   std::vector<WindowCriterion> criteria;
   std::vector<std::size_t> criterion_band;  ///< index into bands for band_clear
   // Columns.
@@ -341,25 +342,38 @@ LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& mode
   // k·f0·(1 ± tol) overlaps its passband (power sum, the worst case); the band stays clear when
   // each such channel is judged clear.
   if (tol > 0.0) {
+    std::vector<double> line_power_of(lines.size());
+    for (std::size_t l = 0; l < lines.size(); ++l) line_power_of[l] = std::pow(10.0, lines[l].level_db / 10.0);
     for (std::size_t b = 0; b < bands.size(); ++b) {
       const Band& band = bands[b];
-      const std::vector<double> centres = band.channel_centres_hz();
+      std::vector<double> own_centres;
+      if (b >= ctx.channel_centres.size() || !ctx.shared_bands) own_centres = band.channel_centres_hz();
+      const std::vector<double>& centres = own_centres.empty() ? ctx.channel_centres[b] : own_centres;
       const double half_bw = 0.5 * band.bandwidth_hz;
-      std::vector<double> power(centres.size(), 0.0);
-      std::vector<bool> touched(centres.size(), false);
-      for (const SpectralLine& line : lines) {
-        const double lo = line.frequency_hz * (1.0 - tol) - half_bw;
-        const double hi = line.frequency_hz * (1.0 + tol) + half_bw;
-        auto it = std::lower_bound(centres.begin(), centres.end(), lo);
-        for (; it != centres.end() && *it <= hi; ++it) {
-          const auto c = static_cast<std::size_t>(it - centres.begin());
-          power[c] += std::pow(10.0, line.level_db / 10.0);
-          touched[c] = true;
-        }
+      // Each line adds its power to a run of channels: difference arrays, then running sums.
+      std::vector<double> power_step(centres.size() + 1, 0.0);
+      std::vector<std::ptrdiff_t> count_step(centres.size() + 1, 0);
+      for (std::size_t l = 0; l < lines.size(); ++l) {
+        const double lo = lines[l].frequency_hz * (1.0 - tol) - half_bw;
+        const double hi = lines[l].frequency_hz * (1.0 + tol) + half_bw;
+        const auto first = static_cast<std::size_t>(std::lower_bound(centres.begin(), centres.end(), lo) - centres.begin());
+        const auto last = static_cast<std::size_t>(std::upper_bound(centres.begin(), centres.end(), hi) - centres.begin());
+        if (first >= last) continue;
+        power_step[first] += line_power_of[l];
+        power_step[last] -= line_power_of[l];
+        ++count_step[first];
+        --count_step[last];
       }
+      double power = 0.0;
+      std::ptrdiff_t count = 0;
       for (std::size_t c = 0; c < centres.size() && out.drift_band_ok[b]; ++c) {
-        if (!touched[c]) continue;
-        const double level_db = power[c] > 0.0 ? 10.0 * std::log10(power[c]) : level_floor_db;
+        power += power_step[c];
+        count += count_step[c];
+        if (count <= 0) {
+          power = 0.0;  // no line here: drop the rounding residue of the running sum
+          continue;
+        }
+        const double level_db = power > 0.0 ? 10.0 * std::log10(power) : level_floor_db;
         if (judge_channel(band, centres[c], level_db, scenario.broadcast.environment).verdict !=
             ReceptionVerdict::clear) {
           out.drift_band_ok[b] = false;
@@ -762,6 +776,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   }
   if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn);
   ctx.bands = bands_for(ctx.base.broadcast);
+  for (const Band& band : ctx.bands) ctx.channel_centres.push_back(band.channel_centres_hz());
 
   SweepResult result;
   result.axes = options.axes;
@@ -859,8 +874,8 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   const std::size_t scanned = static_cast<std::size_t>(
       std::count_if(result.points.begin(), result.points.end(), [](const SweepPoint& p) { return p.method == "scan"; }));
   if (scanned > 0) {
-    result.notes.push_back(std::to_string(scanned) +
-                           " points went through the receiver scan (dithered or captured source, or harmonics "
+    result.notes.push_back(std::to_string(scanned) + (scanned == 1 ? " point" : " points") +
+                           " went through the receiver scan (dithered or captured source, or harmonics "
                            "closer than 2 x B6): drift checked on the grid only");
   }
   if (ctx.limit_lines.empty()) result.notes.push_back("the scenario gives no limit line: every point meets the limits");

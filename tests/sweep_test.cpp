@@ -288,6 +288,14 @@ TEST_CASE("a grid over two keys equals individual predict() runs at the same poi
   }
 }
 
+TEST_CASE("the receiver scan takes over when the harmonics are closer than 2 x B6") {
+  // Band B: B6 = 9 kHz (CISPR 16-1-1), so 15 kHz harmonics share the IF passband and 25 kHz ones do not.
+  const SweepResult r = sweep_1d(loud_scenario(1), "switching.frequency=15kHz:25kHz:2", {}, 0.0);
+  CHECK(r.points[0].method == "scan");
+  CHECK(r.points[1].method == "lines");
+  CHECK(r.notes.front().rfind("1 point went through the receiver scan", 0) == 0);
+}
+
 TEST_CASE("a point the scenario rejects is kept with its message; all rejected is an error") {
   // rise 12 ns + fall 15 ns do not fit in the 12.5 ns on-time of 20 MHz at duty 0.25.
   const SweepResult r = sweep_1d(loud_scenario(1), "switching.frequency=1MHz:20MHz:2", {"MW"}, 0.0);
