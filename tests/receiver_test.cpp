@@ -312,9 +312,10 @@ TEST_CASE("IF envelope against a direct mix-and-filter by Debian's python3-numpy
     MESSAGE("SKIPPED: python3 with numpy and scipy is not available");
     return;
   }
-  // 2 ms at 2.16 MS/s (4320 samples): two sines, one off the bin grid, and a pulse.
-  const double fs = 2.16e6;
-  const std::size_t n = 4320;
+  // 2 ms at 17.28 MS/s (34560 samples, enough for the receiver's two-thread FFT split): two sines,
+  // one off the bin grid, and a pulse.
+  const double fs = 17.28e6;
+  const std::size_t n = 34560;
   Waveform w = cosines(fs, n, {300e3, 307.3e3}, {1e-3, 0.5e-3}, {0.2, 1.0});
   w.samples[1234] += 2e-3;
   const std::filesystem::path dir = std::filesystem::temp_directory_path() /
