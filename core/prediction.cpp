@@ -249,6 +249,11 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   margin_options.guard_db = scenario.limits.guard_db;
   p.margins = compare_with_limits(readings, scenario.limits.sets, margin_options);
   p.verdict = p.margins.verdict;
+  if (scenario.limits.sets.empty()) {
+    p.notes.push_back("no limit lines in the scenario: nothing was compared, the verdict says pass by default");
+  } else if (p.margins.compared_readings == 0) {
+    p.notes.push_back("no reading fell on a limit line (check the bands and the lines' frequency ranges)");
+  }
 
   // Broadcast reception: fields from the CM and DM currents of the conducted path.
   const RadiationSetup setup = radiation_setup(scenario.broadcast);
