@@ -72,7 +72,7 @@ struct FilterStage {
   double converter_side_capacitance_f = 0.0;  ///< lc, pi; y-capacitors: each capacitor
   double capacitor_esr_ohm = 0.0;
   double capacitor_esl_h = 0.0;
-  double coupling = 0.99;  ///< common-mode choke, from memory (typical wound toroid); see filter.hpp
+  double coupling = 0.99;  ///< common-mode choke k, 0 ≤ k < 1; default a typical wound toroid (common practice, no source)
   std::vector<NetlistElement> elements;  ///< netlist only
   SourcePosition where;  ///< the [[filter]] table, for messages
 };
