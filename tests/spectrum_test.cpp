@@ -18,6 +18,7 @@
 #include <numbers>
 #include <string>
 #include <thread>
+#include <sys/wait.h>
 #include <unistd.h>
 #include <vector>
 
@@ -360,5 +361,47 @@ TEST_CASE("measured wisdom is written to the cache file and reused") {
   double worst = 0.0;
   for (std::size_t k = 0; k < fast.size(); ++k) worst = std::max(worst, std::abs(fast[k] - slow[k]));
   CHECK(worst < 1e-9);
+  std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("spurcast spectrum --capture: CSV columns are the interface (DESIGN.md §4), bad input exits 2") {
+  const std::filesystem::path dir = std::filesystem::temp_directory_path() / ("spurcast_spectrum_cli_" + std::to_string(::getpid()));
+  std::filesystem::create_directories(dir);
+  // 20 periods of a 100 kHz square wave at 10 MS/s, amplitude 1 V: its fundamental is
+  // 4/π·1 V peak (common practice: square-wave Fourier series), 2·√2/π V RMS = 119.03 dBµV.
+  const std::filesystem::path capture = dir / "square.csv";
+  {
+    std::ofstream out(capture);
+    out << "Time (us),CH1 (V)\n";
+    for (int i = 0; i < 2000; ++i) out << i * 0.1 << "," << ((i % 100) < 50 ? 1.0 : -1.0) << "\n";
+  }
+  const std::filesystem::path csv = dir / "out.csv";
+  const std::string command = std::string(SPURCAST_EXECUTABLE) + " spectrum --capture " + capture.string() +
+                              " --fundamental 100kHz --window rectangular --csv " + csv.string() + " > " +
+                              (dir / "stdout.txt").string();
+  REQUIRE(std::system(command.c_str()) == 0);
+  std::ifstream in(csv);
+  std::string header;
+  std::getline(in, header);
+  CHECK(header == "harmonic,frequency_hz,level_dbuv");
+  std::string first;
+  std::getline(in, first);
+  int k = 0;
+  double f = 0.0;
+  double level = 0.0;
+  REQUIRE(std::sscanf(first.c_str(), "%d,%lf,%lf", &k, &f, &level) == 3);
+  CHECK(k == 1);
+  CHECK(f == doctest::Approx(100e3));
+  const double tol_db = 0.05;
+  CHECK(std::abs(level - volts_to_dbuv(2.0 * std::numbers::sqrt2 / pi)) < tol_db);
+
+  const std::string bad = std::string(SPURCAST_EXECUTABLE) + " spectrum --capture " +
+                          (std::string(SPURCAST_SOURCE_DIR) + "/tests/data/capture/nan.csv") + " 2> " + (dir / "stderr.txt").string();
+  const int status = std::system(bad.c_str());
+  CHECK(WEXITSTATUS(status) == 2);
+  std::ifstream err(dir / "stderr.txt");
+  std::string message;
+  std::getline(err, message);
+  CHECK(message == "spurcast: error: " + std::string(SPURCAST_SOURCE_DIR) + "/tests/data/capture/nan.csv:3:3: expected a finite number, found \"NaN\"");
   std::filesystem::remove_all(dir);
 }
