@@ -127,7 +127,9 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
     out.failure.message = std::move(message);
   };
   auto parse_number = [&](const char*& q, double& number) __attribute__((always_inline)) -> bool {
-    const auto result = fast_float::from_chars(q, end, number);
+    // Some scopes write an explicit '+' ("+1.0E-06"), which fast_float (like std::from_chars) rejects.
+    const char* digits = (q + 1 < end && *q == '+' && q[1] != '-' && q[1] != '+') ? q + 1 : q;
+    const auto result = fast_float::from_chars(digits, end, number);
     const char* after = result.ptr;
     const bool ends_cell = after == end || *after == '\n' || *after == '\r' || is_blank(*after) ||
                            (mode != DelimiterMode::blanks && *after == delimiter);
@@ -354,6 +356,7 @@ bool starts_with_number(std::string_view line) {
   line = trim(line);
   if (line.empty()) return false;
   double number = 0.0;
+  if (line.front() == '+') line.remove_prefix(1);
   const auto result = fast_float::from_chars(line.data(), line.data() + line.size(), number);
   if (result.ec != std::errc()) return false;
   const char* after = result.ptr;

@@ -177,6 +177,14 @@ TEST_CASE("column errors") {
   CHECK(c.value_header == "CH2 (V)");
 }
 
+TEST_CASE("an explicit plus sign, as some scopes write it") {
+  const Capture c = parse("Time,Ampl\n+0.000000E+00,+1.5E-01\n+1.000000E-06,-1.5E-01\n+2.000000E-06,+1.5E-01\n");
+  CHECK(c.waveform.sample_rate_hz == doctest::Approx(1e6).epsilon(rel_tol));
+  CHECK(c.waveform.samples[0] == doctest::Approx(0.15));
+  CHECK(c.waveform.samples[1] == doctest::Approx(-0.15));
+  CHECK_THROWS_WITH_AS((void)parse("t,v\n0,+-1\n1,2\n"), "mem.csv:2:3: expected a number, found \"+-1\"", Error);
+}
+
 TEST_CASE("decimal comma and trailing junk") {
   CHECK_THROWS_WITH_AS((void)parse("t;v\n0;0,5\n"),
                        "mem.csv:2:4: expected ';' or the end of the cell, found ',' (a decimal comma? write 0.5, not 0,5)", Error);
