@@ -615,11 +615,20 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
     const double y = margin_bottom + 10.0 + static_cast<double>(r) * row_height;
     for (std::size_t i = 0; i < n; ++i) {
       const double x0 = cell_edge(i, true), x1 = cell_edge(i, false);
-      svg += "<rect x=\"" + number(x0) + "\" y=\"" + number(y) + "\" width=\"" + number(std::max(0.5, x1 - x0)) +
+      // Half a pixel of overlap so neighbouring cells show no seam.
+      svg += "<rect x=\"" + number(x0) + "\" y=\"" + number(y) + "\" width=\"" + number(std::max(0.5, x1 - x0) + 0.5) +
              "\" height=\"" + number(row_height - 1.0) + "\" fill=\"" + verdict_fill(row.verdicts[i]) + "\"/>\n";
     }
     placer.try_place(row.name, layout.plot_left - 6.0, y + row_height - 3.0, span_font_px, TextAnchor::end,
                      "fill=\"" + std::string(ink_colour) + "\"");
+  }
+  // The clear windows outlined over both panels, so they stay visible above the verdict cells.
+  for (const SweepWindow& window : plot.clear_windows) {
+    const double x0 = clamp(x_of(std::max(window.from, p_min)), layout.plot_left, layout.plot_right);
+    const double x1 = clamp(x_of(std::min(window.to, p_max)), layout.plot_left, layout.plot_right);
+    svg += "<rect x=\"" + number(x0 - 1.0) + "\" y=\"" + number(layout.plot_top) + "\" width=\"" +
+           number(std::max(2.0, x1 - x0 + 2.0)) + "\" height=\"" + number(layout.plot_bottom - layout.plot_top) +
+           "\" fill=\"none\" stroke=\"#2f7a4a\" stroke-width=\"1.5\"/>\n";
   }
   svg += "</svg>\n";
   return svg;
