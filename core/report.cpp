@@ -228,7 +228,7 @@ std::vector<WorstFrequency> worst_frequencies(const Prediction& p, std::size_t c
 
 namespace {
 
-nlohmann::ordered_json margin_row_json(const MarginRow& row) {
+nlohmann::ordered_json margin_row_json(const MarginRow& row, double guard_db) {
   nlohmann::ordered_json j;
   j["frequency_hz"] = rounded(row.frequency_hz, 1);
   j["detector"] = to_string(row.reading_detector);
@@ -237,7 +237,7 @@ nlohmann::ordered_json margin_row_json(const MarginRow& row) {
   j["margin_db"] = rounded(row.margin_db, 2);
   j["limit"] = row.limit_label;
   j["limit_detector"] = to_string(row.limit_detector);
-  j["verdict"] = to_string(verdict_for(row.margin_db, 0.0) == Verdict::fail ? Verdict::fail : Verdict::pass);
+  j["verdict"] = to_string(verdict_for(row.margin_db, guard_db));
   if (row.uncertainty_db) j["uncertainty_db"] = rounded(*row.uncertainty_db, 2);
   return j;
 }
@@ -257,11 +257,10 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
     worst_per[to_string(d.detector)] = rounded(d.worst.margin_db, 2);
   }
   j["worst_margin_db"] = worst_per;
-  j["worst"] = p.margins.worst ? margin_row_json(*p.margins.worst) : nlohmann::ordered_json();
+  j["worst"] = p.margins.worst ? margin_row_json(*p.margins.worst, p.margins.guard_db) : nlohmann::ordered_json();
   nlohmann::ordered_json worst_list = nlohmann::ordered_json::array();
   for (const WorstFrequency& w : worst_frequencies(p, 5)) {
-    nlohmann::ordered_json row = margin_row_json(w.row);
-    row["verdict"] = to_string(verdict_for(w.row.margin_db, p.margins.guard_db));
+    const nlohmann::ordered_json row = margin_row_json(w.row, p.margins.guard_db);
     worst_list.push_back(row);
   }
   j["worst_frequencies"] = worst_list;
