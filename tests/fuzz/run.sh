@@ -12,12 +12,13 @@
 # committed corpus stays small. --no-merge (CI) leaves tests/ untouched.
 # Crash, leak, timeout and out-of-memory inputs land in BUILD_DIR/fuzz-artifacts/<target>/ and make
 # the script fail. Environment: FUZZ_MAX_LEN (default 4096), FUZZ_JOBS (default: no -jobs, run in
-# this process), FUZZ_EXTRA (more libFuzzer flags).
+# this process), FUZZ_EXTRA (more libFuzzer flags, e.g. -runs=10000000), FUZZ_NO_BUILD=1 (use the
+# executables as they are).
 set -euo pipefail
 merge=1
 if [[ "${1:-}" == "--no-merge" ]]; then merge=0; shift; fi
 if [[ $# -lt 2 ]]; then
-  sed -n '2,16p' "$0" >&2
+  sed -n '2,17p' "$0" >&2
   exit 2
 fi
 build_dir=$(cd "$1" && pwd)
@@ -35,8 +36,10 @@ fi
 executables=()
 for t in "${targets[@]}"; do executables+=("${t}_fuzz"); done
 # Re-configure first: a new tests/fuzz/*_fuzz.cpp is only a target after the glob is re-read.
-cmake -S "$repo" -B "$build_dir" >/dev/null
-cmake --build "$build_dir" -j2 --target "${executables[@]}" >/dev/null
+if [[ -z "${FUZZ_NO_BUILD:-}" ]]; then
+  cmake -S "$repo" -B "$build_dir" >/dev/null
+  cmake --build "$build_dir" -j2 --target "${executables[@]}" >/dev/null
+fi
 
 status=0
 for t in "${targets[@]}"; do
@@ -69,7 +72,7 @@ for t in "${targets[@]}"; do
   if (cd "$(dirname "$log")" && rm -f fuzz-*.log &&
       "$exe" "${flags[@]}" "${extra[@]}" "${jobs[@]}" -max_total_time="$seconds" "$scratch" "$corpus") >"$log" 2>&1; then
     runs=$(cat "$log" "$(dirname "$log")"/fuzz-*.log 2>/dev/null | grep -o 'stat::number_of_executed_units: *[0-9]*' | grep -o '[0-9]*$' | awk '{s += $1} END {print s}' || true)
-    echo "ok   $t: ${runs:-?} executions in ${seconds} s (log: $log)"
+    echo "ok   $t: ${runs:-?} executions, no crash, leak or timeout (limit ${seconds} s; log: $log)"
   else
     echo "FAIL $t: see $log and $artifacts/"
     tail -n 30 "$log" >&2
@@ -82,7 +85,7 @@ for t in "${targets[@]}"; do
     rm -rf "$fresh" && mkdir -p "$fresh"
     "$exe" "${flags[@]}" -merge=1 "$fresh" "$corpus" "$scratch" >"$log.merge" 2>&1
     rm -rf "$corpus" && mv "$fresh" "$corpus"
-    echo "     $t corpus: $(ls "$corpus" | wc -l) files, $(du -sh "$corpus" | cut -f1)"
+    echo "     $t corpus: $(ls "$corpus" | wc -l) files, $(du -sh --apparent-size "$corpus" | cut -f1)"
   fi
 done
 exit $status

@@ -1,0 +1,1 @@
+spectrum --capture {input} --fundamental 150kHz --max-frequency 100MHz --csv {out}

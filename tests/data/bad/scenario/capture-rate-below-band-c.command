@@ -1,0 +1,1 @@
+scan {input} --csv {out}
