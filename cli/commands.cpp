@@ -3,8 +3,6 @@
 namespace spurcast::cli {
 
 void register_commands(CLI::App& app, CommandList& commands) {
-  (void)app;
-  (void)commands;
   setup_compare(app, commands);
   setup_limits(app, commands);
   setup_sweep(app, commands);

@@ -96,15 +96,16 @@ ConductedModel::ConductedModel(const CouplingSpec& coupling, const std::vector<F
 
 std::string ConductedModel::setup_description() const {
   const bool cispr25 = lisn_.model == LisnModel::v_network_5uh;
-  const std::string network = cispr25 ? "CISPR 25 artificial network, 50 \xCE\xA9 \xE2\x88\xA5 (5 \xC2\xB5H + 1 \xCE\xA9)"
-                                      : "CISPR 16-1-2 V-network, 50 \xCE\xA9 \xE2\x88\xA5 (50 \xC2\xB5H + 5 \xCE\xA9)";
+  const std::string network = cispr25 ? "CISPR 25 artificial network" : "CISPR 16-1-2 V-network";
+  const std::string impedance = cispr25 ? "50 \xCE\xA9 \xE2\x88\xA5 (5 \xC2\xB5H + 1 \xCE\xA9)"
+                                        : "50 \xCE\xA9 \xE2\x88\xA5 (50 \xC2\xB5H + 5 \xCE\xA9)";
   std::string text;
   if (lisn_.lines == 2) {
-    text = "two " + network + " (one per supply line, to the reference ground); the differential-mode "
+    text = "two " + network + "s, " + impedance + " (one per supply line, to the reference ground); the differential-mode "
            "current loops through both 50 \xCE\xA9 receiver ports, so each port reads about 6 dB less than "
            "a single network with the return bonded at the equipment";
   } else {
-    text = "one " + network + " on the positive line, the return bonded to the reference ground at the "
+    text = "one " + network + ", " + impedance + ", on the positive line, the return bonded to the reference ground at the "
            "equipment; the whole differential-mode voltage appears across the one port (about 6 dB more "
            "than with one network per line), and common-mode current returning through the bond is not "
            "measured";

@@ -233,7 +233,7 @@ TEST_CASE("demo needs no files and writes spurcast-demo") {
   const std::string work = make_temp_dir();
   const Run r = run(quote(executable) + " demo", work);
   const nlohmann::json summary = check_report_folder(fs::path(work) / "spurcast-demo");
-  CHECK(r.status == (summary.at("verdict") == "pass" ? 0 : 1));
+  CHECK(r.status == 0);  // the demo reports its verdict but exits 0 once it ran
   CHECK(summary.at("title") == "48 V to 12 V buck, greenhouse lighting controller");
   const Run json = run(quote(executable) + " demo -o other --json", work);
   CHECK(json.out == read_file(work + "/other/summary.json"));

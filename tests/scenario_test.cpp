@@ -41,7 +41,7 @@ TEST_CASE("the greenhouse example reads with its units") {
   CHECK(s.switching->rise_s == doctest::Approx(12e-9));
   CHECK(s.coupling.input_capacitance_f == doctest::Approx(4.7e-6));
   CHECK(s.coupling.parasitic_capacitance_f == doctest::Approx(35e-12));
-  CHECK(s.filters.size() == 1);
+  CHECK(s.filters.size() == 3);
   CHECK(s.lisn.lines == 2);
   CHECK(s.limits.guard_db == doctest::Approx(6.0));
   CHECK(!s.limits.sets.empty());
