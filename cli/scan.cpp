@@ -20,6 +20,8 @@
 #include "core/capture.hpp"
 #include "core/conducted.hpp"
 #include "core/error.hpp"
+#include "core/output_dir.hpp"
+#include "core/prediction.hpp"
 #include "core/receiver.hpp"
 #include "core/scenario.hpp"
 #include "core/source.hpp"
@@ -39,30 +41,8 @@ struct Options {
   bool json = false;
 };
 
-/// The largest dithered record, in samples per waveform (about 67 MB as double).
-constexpr double max_record_samples = 8388608.0;
 /// How many of the highest readings the text output lists.
 constexpr std::size_t listed_readings = 10;
-
-void write_file_atomically(const std::string& path, const std::string& text) {
-  const std::string temporary = path + ".tmp-" + std::to_string(::getpid());
-  {
-    std::ofstream out(temporary, std::ios::binary | std::ios::trunc);
-    if (!out) throw Error(SourcePosition{path, 0, 0}, "cannot write file");
-    out << text;
-    out.close();
-    if (!out) {
-      std::filesystem::remove(temporary);
-      throw Error(SourcePosition{path, 0, 0}, "cannot write file");
-    }
-  }
-  std::error_code error;
-  std::filesystem::rename(temporary, path, error);
-  if (error) {
-    std::filesystem::remove(temporary);
-    throw Error(SourcePosition{path, 0, 0}, "cannot write file: " + error.message());
-  }
-}
 
 std::vector<double> parse_frequency_list(const std::string& text) {
   std::vector<double> frequencies;
@@ -82,34 +62,6 @@ std::vector<double> parse_frequency_list(const std::string& text) {
   return frequencies;
 }
 
-/// The per-detector maximum of two scans on the same tuned frequencies (the two LISN lines: a lab
-/// measures both and reports the higher).
-ScanResult worst_of(ScanResult a, const ScanResult& b) {
-  for (std::size_t i = 0; i < a.readings.size() && i < b.readings.size(); ++i) {
-    a.readings[i].peak_db = std::max(a.readings[i].peak_db, b.readings[i].peak_db);
-    a.readings[i].quasi_peak_db = std::max(a.readings[i].quasi_peak_db, b.readings[i].quasi_peak_db);
-    a.readings[i].average_db = std::max(a.readings[i].average_db, b.readings[i].average_db);
-  }
-  for (const std::string& note : b.notes) {
-    if (std::find(a.notes.begin(), a.notes.end(), note) == a.notes.end()) a.notes.push_back(note);
-  }
-  return a;
-}
-
-/// Record length for a dithered source: whole modulation periods, at least 3 and at least 10 ms,
-/// bounded by max_record_samples.
-double dithered_record_s(const DitherSpec& dither, double sample_rate_hz, std::vector<std::string>& notes) {
-  const double period_s = 1.0 / dither.rate_hz;
-  double duration_s = std::ceil(std::max(3.0 * period_s, 10e-3) / period_s - 1e-9) * period_s;
-  const double limit_s = max_record_samples / sample_rate_hz;
-  if (duration_s > limit_s) {
-    duration_s = std::max(period_s, std::floor(limit_s / period_s) * period_s);
-    notes.push_back("the dithered record was shortened to " + format_quantity(duration_s, Dimension::time) +
-                    " to bound memory");
-  }
-  return duration_s;
-}
-
 /// Scans one band (or spot frequencies within it) at the requested point of the chain.
 ScanResult scan_band(const Scenario& scenario, const std::string& at, const ScanPlan& plan) {
   const BandParameters band = band_parameters(plan.band);
@@ -119,9 +71,9 @@ ScanResult scan_band(const Scenario& scenario, const std::string& at, const Scan
   if (at == "lisn") model.emplace(scenario.coupling, scenario.filters, scenario.lisn);
 
   auto scan_two_lines = [&](auto&& scan_line) {
-    ScanResult result = scan_line(1);
-    if (model->line_count() == 2) result = worst_of(result, scan_line(2));
-    return result;
+    std::optional<ScanResult> line2;
+    if (model->line_count() == 2) line2 = scan_line(2);
+    return worst_of_lines(scan_line(1), line2);
   };
 
   ScanResult result;
@@ -142,11 +94,10 @@ ScanResult scan_band(const Scenario& scenario, const std::string& at, const Scan
     Waveform source_i;
     ScanPlan sampled_plan = plan;
     if (scenario.switching) {
-      // Dithered: a synthesized record through the FFT receiver, sampled at 2.5× the highest
-      // frequency the IF response reaches.
+      // Dithered: a synthesized record through the FFT receiver, as the prediction makes it.
       const SwitchingSpec& spec = *scenario.switching;
-      const double fs = 2.5 * top_hz;
-      const double duration_s = dithered_record_s(*spec.dither, fs, notes);
+      const double fs = receiver_sample_rate_hz(plan.band);
+      const double duration_s = dithered_record_duration_s(spec, fs, 0.0, notes);
       if (at != "current") source_v = synthesize_switch_node(spec, fs, duration_s);
       if (at != "source") source_i = synthesize_input_current(spec, fs, duration_s);
       sampled_plan.slowest_modulation_hz = spec.dither->rate_hz;

@@ -18,6 +18,7 @@
 #include "core/capture.hpp"
 #include "core/conducted.hpp"
 #include "core/error.hpp"
+#include "core/output_dir.hpp"
 #include "core/scenario.hpp"
 #include "core/source.hpp"
 #include "core/spectrum.hpp"
@@ -44,27 +45,6 @@ struct Options {
   bool resample = false;
   bool json = false;
 };
-
-// Writes `text` to a temporary file beside `path` and renames it into place (nothing half-written).
-void write_file_atomically(const std::string& path, const std::string& text) {
-  const std::string temporary = path + ".tmp-" + std::to_string(::getpid());
-  {
-    std::ofstream out(temporary, std::ios::binary | std::ios::trunc);
-    if (!out) throw Error(SourcePosition{path, 0, 0}, "cannot write file");
-    out << text;
-    out.close();
-    if (!out) {
-      std::filesystem::remove(temporary);
-      throw Error(SourcePosition{path, 0, 0}, "cannot write file");
-    }
-  }
-  std::error_code error;
-  std::filesystem::rename(temporary, path, error);
-  if (error) {
-    std::filesystem::remove(temporary);
-    throw Error(SourcePosition{path, 0, 0}, "cannot write file: " + error.message());
-  }
-}
 
 ColumnChoice column_choice(const std::string& text, int fallback) {
   if (text.empty()) return ColumnChoice::by_index(fallback);

@@ -16,6 +16,7 @@
 
 #include "cli/commands.hpp"
 #include "core/error.hpp"
+#include "core/output_dir.hpp"
 #include "core/plot.hpp"
 #include "core/sweep.hpp"
 #include "core/toml_reader.hpp"
@@ -38,27 +39,6 @@ struct Options {
   bool scan = false;
   unsigned threads = 0;
 };
-
-// Writes `text` to a temporary file beside `path` and renames it into place (nothing half-written).
-void write_file_atomically(const std::string& path, const std::string& text) {
-  const std::string temporary = path + ".tmp-" + std::to_string(::getpid());
-  {
-    std::ofstream out(temporary, std::ios::binary | std::ios::trunc);
-    if (!out) throw Error(SourcePosition{path, 0, 0}, "cannot write file");
-    out << text;
-    out.close();
-    if (!out) {
-      std::filesystem::remove(temporary);
-      throw Error(SourcePosition{path, 0, 0}, "cannot write file");
-    }
-  }
-  std::error_code error;
-  std::filesystem::rename(temporary, path, error);
-  if (error) {
-    std::filesystem::remove(temporary);
-    throw Error(SourcePosition{path, 0, 0}, "cannot write file: " + error.message());
-  }
-}
 
 /// The sweep plot of the report module: worst margin and band verdicts along the first axis (the
 /// first group of a grid), the windows of the last criterion highlighted.

@@ -7,6 +7,7 @@
 #include <mutex>
 
 #include "core/error.hpp"
+#include "core/fftw_lock.hpp"
 #include "core/units.hpp"
 
 namespace spurcast {
@@ -214,12 +215,8 @@ ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& i
 
 namespace {
 
-/// FFTW's planner is not thread-safe (FFTW 3.3 manual §5.4, "Thread safety"): plan creation and
-/// destruction are serialised; executing a plan is safe from any thread.
-std::mutex& fftw_planner_mutex() {
-  static std::mutex mutex;  // guards FFTW's own global planner state, not ours
-  return mutex;
-}
+// Plans are made and destroyed under the library's one planner lock (core/fftw_lock.hpp): FFTW's
+// planner is not thread-safe; executing a plan is safe from any thread.
 
 struct FftwFree {
   void operator()(void* p) const { fftw_free(p); }

@@ -8,6 +8,7 @@
 #include <cstdlib>
 #include <cstring>
 #include <filesystem>
+#include <fstream>
 #include <set>
 #include <system_error>
 
@@ -147,6 +148,26 @@ void write_output_directory(const std::string& directory, const std::vector<Outp
   } catch (...) {
     remove_quietly(temporary);
     throw;
+  }
+}
+
+void write_file_atomically(const std::string& path, const std::string& content) {
+  const std::string temporary = path + ".tmp-" + std::to_string(::getpid());
+  {
+    std::ofstream out(temporary, std::ios::binary | std::ios::trunc);
+    if (!out) throw Error(SourcePosition{path, 0, 0}, "cannot write file");
+    out << content;
+    out.close();
+    if (!out) {
+      std::filesystem::remove(temporary);
+      throw Error(SourcePosition{path, 0, 0}, "cannot write file");
+    }
+  }
+  std::error_code error;
+  std::filesystem::rename(temporary, path, error);
+  if (error) {
+    std::filesystem::remove(temporary);
+    throw Error(SourcePosition{path, 0, 0}, "cannot write file: " + error.message());
   }
 }
 

@@ -38,4 +38,9 @@ struct OutputDirectoryOptions {
 void write_output_directory(const std::string& directory, const std::vector<OutputFile>& files,
                             const OutputDirectoryOptions& options = {});
 
+/// Writes one file: first to `path.tmp-<pid>` beside it, then renamed over `path`, so nobody ever
+/// reads a half-written file. Throws Error naming `path` when the write or the rename fails (the
+/// temporary file is removed then).
+void write_file_atomically(const std::string& path, const std::string& content);
+
 }  // namespace spurcast

@@ -47,46 +47,6 @@ ScanResult scan_line_spectrum(const LineSpectrum& lines, const ScanPlan& grid_pl
   return grid;
 }
 
-ScanResult worst_of(const ScanResult& a, const std::optional<ScanResult>& b) {
-  if (!b) return a;
-  ScanResult worst = a;
-  for (std::size_t i = 0; i < worst.readings.size() && i < b->readings.size(); ++i) {
-    Reading& w = worst.readings[i];
-    const Reading& r = b->readings[i];
-    w.peak_db = std::max(w.peak_db, r.peak_db);
-    w.quasi_peak_db = std::max(w.quasi_peak_db, r.quasi_peak_db);
-    w.average_db = std::max(w.average_db, r.average_db);
-  }
-  for (const std::string& note : b->notes) {
-    if (std::find(worst.notes.begin(), worst.notes.end(), note) == worst.notes.end()) worst.notes.push_back(note);
-  }
-  return worst;
-}
-
-/// Sample rate for the FFT receiver: 2.5× the highest frequency it must see (tuned frequency plus
-/// twice the bandwidth), so the IF response stays clear of the Nyquist frequency.
-double sample_rate_for(CisprBand band) {
-  const BandParameters p = band_parameters(band);
-  return 2.5 * (p.stop_hz + 2.0 * p.bandwidth_6db_hz);
-}
-
-/// The record for a dithered source: whole modulation periods, at least three of them and at
-/// least 10 ms (the IF impulse response of band B lasts about 0.3 ms; the QP detector is run to
-/// its periodic steady state on the record), bounded by max_record_samples.
-double dithered_record_s(const SwitchingSpec& spec, double sample_rate_hz, double requested_s,
-                         std::vector<std::string>& notes) {
-  const double modulation_period_s = 1.0 / spec.dither->rate_hz;
-  double duration_s = requested_s > 0.0 ? requested_s : std::max(3.0 * modulation_period_s, 10e-3);
-  duration_s = std::ceil(duration_s / modulation_period_s - 1e-9) * modulation_period_s;
-  const double limit_s = max_record_samples / sample_rate_hz;
-  if (duration_s > limit_s) {
-    duration_s = std::max(modulation_period_s, std::floor(limit_s / modulation_period_s) * modulation_period_s);
-    notes.push_back("the dithered record was shortened to " + format_quantity(duration_s, Dimension::time) +
-                    " to bound memory");
-  }
-  return duration_s;
-}
-
 /// Spreads each line of a dithered source over its deviation k·Δf: uniformly for a triangle
 /// profile (the frequency sweeps at a constant rate), with the arcsine density for a sine profile.
 /// The power of the line is kept (Matsumoto et al., IEEE Trans. EMC 47(3), 2005: spreading does
@@ -140,6 +100,46 @@ LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>
 }
 
 }  // namespace
+
+ScanResult worst_of_lines(const ScanResult& a, const std::optional<ScanResult>& b) {
+  if (!b) return a;
+  ScanResult worst = a;
+  for (std::size_t i = 0; i < worst.readings.size() && i < b->readings.size(); ++i) {
+    Reading& w = worst.readings[i];
+    const Reading& r = b->readings[i];
+    w.peak_db = std::max(w.peak_db, r.peak_db);
+    w.quasi_peak_db = std::max(w.quasi_peak_db, r.quasi_peak_db);
+    w.average_db = std::max(w.average_db, r.average_db);
+  }
+  for (const std::string& note : b->notes) {
+    if (std::find(worst.notes.begin(), worst.notes.end(), note) == worst.notes.end()) worst.notes.push_back(note);
+  }
+  return worst;
+}
+
+/// Sample rate for the FFT receiver: 2.5× the highest frequency it must see (tuned frequency plus
+/// twice the bandwidth), so the IF response stays clear of the Nyquist frequency.
+double receiver_sample_rate_hz(CisprBand band) {
+  const BandParameters p = band_parameters(band);
+  return 2.5 * (p.stop_hz + 2.0 * p.bandwidth_6db_hz);
+}
+
+/// The record for a dithered source: whole modulation periods, at least three of them and at
+/// least 10 ms (the IF impulse response of band B lasts about 0.3 ms; the QP detector is run to
+/// its periodic steady state on the record), bounded by max_record_samples.
+double dithered_record_duration_s(const SwitchingSpec& spec, double sample_rate_hz, double requested_s,
+                                  std::vector<std::string>& notes) {
+  const double modulation_period_s = 1.0 / spec.dither->rate_hz;
+  double duration_s = requested_s > 0.0 ? requested_s : std::max(3.0 * modulation_period_s, 10e-3);
+  duration_s = std::ceil(duration_s / modulation_period_s - 1e-9) * modulation_period_s;
+  const double limit_s = max_record_samples / sample_rate_hz;
+  if (duration_s > limit_s) {
+    duration_s = std::max(modulation_period_s, std::floor(limit_s / modulation_period_s) * modulation_period_s);
+    notes.push_back("the dithered record was shortened to " + format_quantity(duration_s, Dimension::time) +
+                    " to bound memory");
+  }
+  return duration_s;
+}
 
 std::string to_string(SourceKind kind) {
   switch (kind) {
@@ -208,8 +208,8 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
         Waveform source_v, source_i;
         if (p.source_kind == SourceKind::dithered) {
           const SwitchingSpec& spec = *scenario.switching;
-          const double fs = sample_rate_for(band);
-          const double duration_s = dithered_record_s(spec, fs, options.record_duration_s, p.notes);
+          const double fs = receiver_sample_rate_hz(band);
+          const double duration_s = dithered_record_duration_s(spec, fs, options.record_duration_s, p.notes);
           source_v = synthesize_switch_node(spec, fs, duration_s);
           source_i = synthesize_input_current(spec, fs, duration_s);
           plan.slowest_modulation_hz = spec.dither->rate_hz;
@@ -221,7 +221,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
         scan.line1 = scan_waveform(port1, plan);
         if (two_lines) scan.line2 = scan_waveform(lisn_port_waveform(source_v, source_i, model, 2), plan);
       }
-      scan.worst = worst_of(scan.line1, scan.line2);
+      scan.worst = worst_of_lines(scan.line1, scan.line2);
       for (const std::string& note : scan.worst.notes) {
         const std::string text = "band " + to_string(band) + ": " + note;
         if (std::find(p.notes.begin(), p.notes.end(), text) == p.notes.end()) p.notes.push_back(text);

@@ -69,6 +69,20 @@ struct Prediction {
   Verdict verdict = Verdict::pass;  ///< the margins' verdict (pass when no limit was given)
 };
 
+/// Sample rate of the FFT receiver's synthesized records for `band`: 2.5× the highest frequency the
+/// IF response reaches (band top plus twice the bandwidth), clear of the Nyquist frequency.
+[[nodiscard]] double receiver_sample_rate_hz(CisprBand band);
+
+/// Record length for a dithered source: whole modulation periods, at least three and at least
+/// 10 ms (`requested_s` > 0 overrides that), bounded to 2^23 samples at `sample_rate_hz`; a note
+/// is added when the bound shortens it.
+[[nodiscard]] double dithered_record_duration_s(const SwitchingSpec& spec, double sample_rate_hz,
+                                                double requested_s, std::vector<std::string>& notes);
+
+/// Per tuned frequency and detector, the higher of two scans over the same tuned frequencies
+/// (the two LISN lines: a lab measures each and reports the higher); notes are merged.
+[[nodiscard]] ScanResult worst_of_lines(const ScanResult& line1, const std::optional<ScanResult>& line2);
+
 /// Runs the chain. Throws Error on inconsistent input (e.g. a capture too slow for the band).
 [[nodiscard]] Prediction predict(const Scenario& scenario, const PredictionOptions& options = {});
 
