@@ -1,6 +1,7 @@
 // libFuzzer target: the SI quantity parser (core/units.hpp). The first byte picks the Dimension, the
 // rest is the text. Contract checked beyond "no crash": a parse either throws spurcast::Error or
-// returns a finite value, and format_quantity of that value parses back in the same dimension (for |value| <= 1e300).
+// returns a finite value, and format_quantity of that value parses back in the same dimension
+// (for |value| <= 1e300).
 #include <cmath>
 #include <cstddef>
 #include <cstdint>
