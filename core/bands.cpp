@@ -44,7 +44,14 @@ std::vector<double> Band::channel_centres_hz() const {
   const double half = 0.5 * raster_hz;
   const double k_first = std::ceil((low_hz + half - channel_offset_hz - edge_slack_hz) / raster_hz);
   const double k_last = std::floor((high_hz - half - channel_offset_hz + edge_slack_hz) / raster_hz);
-  for (double k = k_first; k <= k_last; k += 1.0) centres.push_back(channel_offset_hz + k * raster_hz);
+  // Count-based, so the loop ends even where k is too large for k + 1 to differ from k.
+  const double count = k_last - k_first + 1.0;
+  if (!(count > 0.0)) return centres;
+  const auto n = static_cast<std::size_t>(std::min(count, static_cast<double>(max_channels_per_band)));
+  centres.reserve(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    centres.push_back(channel_offset_hz + (k_first + static_cast<double>(i)) * raster_hz);
+  }
   return centres;
 }
 
@@ -66,11 +73,31 @@ Band read_band(TableReader& reader, int region) {
   if (band.raster_hz > width_hz + edge_slack_hz) {
     reader.fail("raster", "raster " + format_hz(band.raster_hz) + " is wider than the band (" + format_hz(width_hz) + ")");
   }
+  // A raster that gives more channels than any broadcast band has is a typo ("5 fHz"), and one
+  // finer than the frequencies' double resolution cannot be laid out at all.
+  if (band.raster_hz > 0.0) {
+    const double channels = width_hz / band.raster_hz;
+    if (band.raster_hz < band.high_hz * 1e-12) {
+      reader.fail("raster", "raster " + format_hz(band.raster_hz) + " is finer than the resolution of frequencies near " +
+                                format_hz(band.high_hz));
+    }
+    if (!(channels <= static_cast<double>(max_channels_per_band))) {
+      reader.fail("raster", "raster " + format_hz(band.raster_hz) + " gives more than " +
+                                std::to_string(max_channels_per_band) + " channels in " + format_hz(band.low_hz) +
+                                " to " + format_hz(band.high_hz));
+    }
+  }
   band.channel_offset_hz = reader.quantity_or("channel_offset", Dimension::frequency, 0.0);
   if (band.channel_offset_hz < 0.0) reader.fail("channel_offset", "channel offset must not be negative");
   band.bandwidth_hz = reader.required_quantity("bandwidth", Dimension::frequency);
   if (!(band.bandwidth_hz > 0.0)) {
     reader.fail("bandwidth", "receiver bandwidth must be positive, found " + format_hz(band.bandwidth_hz));
+  }
+  // A channel raster with a receiver wider than the whole band is a slip of a unit; a single
+  // channel (no raster: a time signal, an aviation channel) may have any bandwidth.
+  if (band.raster_hz > 0.0 && band.bandwidth_hz > width_hz + edge_slack_hz) {
+    reader.fail("bandwidth", "receiver bandwidth " + format_hz(band.bandwidth_hz) + " is wider than the band (" +
+                                 format_hz(width_hz) + ")");
   }
   band.modulation = reader.required_choice("modulation", {"am", "fm"}) == "am" ? Modulation::am : Modulation::fm;
   const bool am = band.modulation == Modulation::am;

@@ -7,6 +7,7 @@
 ///   const BandPlan plan = load_region_band_plan(2);
 ///   const BandOccupancy mw = map_lines_to_band(plan.bands[0], lines);  // lines: {frequency_hz, level_db}
 ///   // mw.channels[i].level_db = power sum of the lines within ±bandwidth/2 of the channel centre
+#include <cstddef>
 #include <optional>
 #include <string>
 #include <vector>
@@ -17,6 +18,10 @@
 namespace spurcast {
 
 class TableReader;
+
+/// The most channels a band may have (the FM band on 100 kHz has 205, 11 m on 5 kHz 86): a finer
+/// raster is rejected by the loader as a typo.
+inline constexpr std::size_t max_channels_per_band = 100000;
 
 /// How the service is modulated; decides the reception criterion (core/reception.hpp).
 enum class Modulation { am, fm };

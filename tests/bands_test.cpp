@@ -318,6 +318,24 @@ TEST_CASE("band-plan loader errors carry file:line:column") {
                        (data_file("bad_region.toml") + ":2:10: expected ITU region 1, 2 or 3, found 4").c_str(), Error);
 }
 
+TEST_CASE("band-plan rasters that would explode the channel list are rejected (found by fuzzing)") {
+  // A typo'd unit ("5 fHz") or a band at 1e20 Hz once made the loader lay out billions of channels,
+  // or loop for ever where k + 1 == k in double precision.
+  CHECK_THROWS_WITH_AS((void)load_band_plan(data_file("raster_femtohertz.toml")),
+                       (data_file("raster_femtohertz.toml") +
+                        ":19:10: raster 5 fHz is finer than the resolution of frequencies near 19.02 MHz").c_str(),
+                       Error);
+  CHECK_THROWS_WITH_AS((void)load_band_plan(data_file("huge_channel_count.toml")),
+                       (data_file("huge_channel_count.toml") +
+                        ":9:10: raster 1 Hz gives more than 100000 channels in 1e-285 fHz to 1 THz").c_str(),
+                       Error);
+  CHECK_THROWS_AS((void)load_band_plan(data_file("raster_below_resolution.toml")), Error);
+  CHECK_THROWS_WITH_AS((void)load_band_plan(data_file("bandwidth_wider_than_band.toml")),
+                       (data_file("bandwidth_wider_than_band.toml") +
+                        ":10:13: receiver bandwidth 2 MHz is wider than the band (1.08 MHz)").c_str(),
+                       Error);
+}
+
 TEST_CASE("[broadcast] section of a scenario") {
   SUBCASE("defaults") {
     const toml::table table = parse_toml_text("", "s.toml");
