@@ -656,6 +656,14 @@ Capture parse_capture_text(std::string_view text, const std::string& name, const
                     "); set resample = true (--resample) to resample it");
   }
 
+  // A sample interval under a femtosecond is no instrument's (a subnormal time step would make
+  // the sample rate infinite downstream).
+  if (!(sampling.interval_s >= 1e-15) || !std::isfinite(1.0 / sampling.interval_s)) {
+    char interval_text[32];
+    std::snprintf(interval_text, sizeof interval_text, "%.3g s", sampling.interval_s);
+    throw Error(SourcePosition{name, static_cast<int>(capture.first_data_line + 1), 1},
+                std::string("sample interval of ") + interval_text + " is below 1 fs: check the time column and its unit");
+  }
   Waveform& waveform = capture.waveform;
   waveform.quantity = spec.quantity;
   waveform.start_time_s = t_first * capture.time_unit_s;

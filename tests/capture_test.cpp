@@ -284,6 +284,13 @@ TEST_CASE("[capture] section of a scenario") {
   CHECK_THROWS_WITH_AS((void)read_capture_section(zero_reader), "s.toml:3:9: expected a finite, non-zero scale, found 0", Error);
 }
 
+TEST_CASE("a subnormal time step is rejected before it makes the sample rate infinite (found by fuzzing)") {
+  CaptureSpec spec;
+  CHECK_THROWS_WITH_AS((void)parse_capture_text("time,v\n0,1\n1e-320,2\n2e-320,3\n", "sub.csv", spec),
+                       "sub.csv:3:1: sample interval of 1e-320 s is below 1 fs: check the time column and its unit",
+                       Error);
+}
+
 TEST_CASE("a capture shorter than one period of the fundamental asked for") {
   const Capture c = load("good_crlf_us.csv");  // 4 samples at 0.5 µs: 2 µs
   CHECK_THROWS_WITH_AS(check_capture_covers_period(c, 100e3),
