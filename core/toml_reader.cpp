@@ -14,7 +14,96 @@ SourcePosition position_of(const toml::node& node, const std::string& file) {
 
 namespace {
 
+/// TOML 1.0 allows non-ASCII text only inside strings and comments (bare keys and values are
+/// ASCII). Refusing it elsewhere before toml++ sees it gives a clear message, and keeps away from
+/// a defect of toml++ 3.3.0 (Debian 12): its is_non_ascii_horizontal_whitespace() reaches
+/// __builtin_unreachable for U+00A1..U+0499 and U+FEF6..U+FEFE met outside a string, which is
+/// undefined behaviour (found by fuzzing; tests/data/fuzz-regressions/toml/). Multi-line strings
+/// take ASCII content only, so that this scanner and the parser never disagree about where a
+/// string with non-ASCII text ends.
+void check_bare_ascii(std::string_view text, const std::string& name) {
+  enum class State { bare, comment, basic, literal, multiline_basic, multiline_literal };
+  State state = State::bare;
+  int line = 1;
+  int column = 0;
+  std::size_t i = 0;
+  if (text.substr(0, 3) == "\xEF\xBB\xBF") i = 3;  // a UTF-8 byte-order mark is allowed
+  const auto starts = [&](std::size_t at, std::string_view token) { return text.substr(at, token.size()) == token; };
+  const std::string_view triple_quote = "\"\"\"";
+  const std::string_view triple_apostrophe = "'''";
+  for (; i < text.size(); ++i) {
+    const auto byte = static_cast<unsigned char>(text[i]);
+    if (byte == '\n') {
+      ++line;
+      column = 0;
+    } else if ((byte & 0xC0) != 0x80) {
+      ++column;  // count characters, not UTF-8 continuation bytes
+    }
+    if (byte >= 0x80 && state != State::comment && state != State::basic && state != State::literal) {
+      throw Error(SourcePosition{name, line, column},
+                  state == State::bare ? "non-ASCII character outside a quoted string (TOML keys and values are "
+                                         "ASCII; quote the value, e.g. \"4.7 \xC2\xB5" "F\")"
+                                       : "non-ASCII character in a multi-line string (use a single-line string)");
+    }
+    switch (state) {
+      case State::bare:
+        if (byte == '#') {
+          state = State::comment;
+        } else if (starts(i, triple_quote)) {
+          state = State::multiline_basic;
+          i += 2;
+          column += 2;
+        } else if (starts(i, triple_apostrophe)) {
+          state = State::multiline_literal;
+          i += 2;
+          column += 2;
+        } else if (byte == '"') {
+          state = State::basic;
+        } else if (byte == '\'') {
+          state = State::literal;
+        }
+        break;
+      case State::comment:
+        if (byte == '\n') state = State::bare;
+        break;
+      case State::basic:
+        if (byte == '\\' && i + 1 < text.size() && text[i + 1] != '\n') {
+          ++i;
+          if ((static_cast<unsigned char>(text[i]) & 0xC0) != 0x80) ++column;
+          if (static_cast<unsigned char>(text[i]) >= 0x80) {
+            throw Error(SourcePosition{name, line, column}, "non-ASCII character after a backslash in a string");
+          }
+        } else if (byte == '"' || byte == '\n') {
+          state = State::bare;
+        }
+        break;
+      case State::literal:
+        if (byte == '\'' || byte == '\n') state = State::bare;
+        break;
+      case State::multiline_basic:
+        if (byte == '\\' && i + 1 < text.size() && text[i + 1] != '\n' &&
+            static_cast<unsigned char>(text[i + 1]) < 0x80) {
+          ++i;
+          ++column;
+        } else if (starts(i, triple_quote)) {
+          state = State::bare;
+          i += 2;
+          column += 2;
+        }
+        break;
+      case State::multiline_literal:
+        if (starts(i, triple_apostrophe)) {
+          state = State::bare;
+          i += 2;
+          column += 2;
+        }
+        break;
+    }
+  }
+}
+
 toml::table parse_or_throw(std::string_view text, const std::string& name) {
+  check_bare_ascii(text, name);
   try {
     return toml::parse(text, name);
   } catch (const toml::parse_error& e) {
@@ -45,19 +134,19 @@ std::string quoted_list(const std::vector<std::string>& items) {
   return text;
 }
 
+/// Optimal-string-alignment distance: insertions, deletions, substitutions and swaps of two
+/// neighbouring characters each count one edit ("stpe" is one edit from "step").
 std::size_t edit_distance(std::string_view a, std::string_view b) {
-  std::vector<std::size_t> row(b.size() + 1);
-  for (std::size_t j = 0; j <= b.size(); ++j) row[j] = j;
+  std::vector<std::vector<std::size_t>> d(a.size() + 1, std::vector<std::size_t>(b.size() + 1));
+  for (std::size_t i = 0; i <= a.size(); ++i) d[i][0] = i;
+  for (std::size_t j = 0; j <= b.size(); ++j) d[0][j] = j;
   for (std::size_t i = 1; i <= a.size(); ++i) {
-    std::size_t diagonal = row[0];
-    row[0] = i;
     for (std::size_t j = 1; j <= b.size(); ++j) {
-      const std::size_t above = row[j];
-      row[j] = std::min({row[j] + 1, row[j - 1] + 1, diagonal + (a[i - 1] == b[j - 1] ? 0 : 1)});
-      diagonal = above;
+      d[i][j] = std::min({d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + (a[i - 1] == b[j - 1] ? 0 : 1)});
+      if (i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1]) d[i][j] = std::min(d[i][j], d[i - 2][j - 2] + 1);
     }
   }
-  return row[b.size()];
+  return d[a.size()][b.size()];
 }
 
 }  // namespace
@@ -76,7 +165,8 @@ toml::table parse_toml_text(std::string_view text, const std::string& name) {
 
 std::string nearest_key(std::string_view key, const std::vector<std::string>& valid) {
   std::string best;
-  std::size_t best_distance = std::max<std::size_t>(2, key.size() / 3) + 1;
+  // A suggestion is worth making within one edit per three characters (at least one edit).
+  std::size_t best_distance = std::max<std::size_t>(1, key.size() / 3) + 1;
   for (const std::string& candidate : valid) {
     const std::size_t d = edit_distance(key, candidate);
     if (d < best_distance) {
