@@ -108,6 +108,7 @@ ScanResult scan_band(const Scenario& scenario, const std::string& at, const Scan
         throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
       }
       (is_current ? source_i : source_v) = capture.waveform;
+      sampled_plan.periodic_record = holds_whole_periods(capture);
     }
     if (at == "source") {
       result = scan_waveform(source_v.samples.empty() ? source_i : source_v, sampled_plan);

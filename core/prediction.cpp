@@ -101,6 +101,14 @@ LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>
 
 }  // namespace
 
+bool holds_whole_periods(const Capture& capture) {
+  if (!capture.switching_frequency_hz) return false;
+  const double periods = capture.waveform.duration_s() * *capture.switching_frequency_hz;
+  // Within a twentieth of a sample per period of a whole number: the record wraps seamlessly.
+  const double samples_per_period = capture.waveform.sample_rate_hz / *capture.switching_frequency_hz;
+  return periods >= 1.0 && std::fabs(periods - std::round(periods)) * samples_per_period < 0.05 * periods + 0.5;
+}
+
 ScanResult worst_of_lines(const ScanResult& a, const std::optional<ScanResult>& b) {
   if (!b) return a;
   ScanResult worst = a;
@@ -163,6 +171,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
 
   std::optional<Waveform> captured_v;
   std::optional<Waveform> captured_i;
+  bool captured_whole_periods = false;
   if (scenario.switching) {
     const SwitchingSpec& spec = *scenario.switching;
     p.source_kind = spec.dither ? SourceKind::dithered : SourceKind::described;
@@ -176,6 +185,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     p.source_kind = SourceKind::captured;
     const Capture capture = load_capture(*scenario.capture);
     const LineSpectrum lines = lines_from_capture(capture, p.notes);
+    captured_whole_periods = holds_whole_periods(capture);
     if (capture.waveform.quantity == Quantity::voltage) {
       p.switch_node_v = lines;
       p.input_current_a.quantity = Quantity::current;
@@ -216,6 +226,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
         } else {
           if (captured_v) source_v = *captured_v;
           if (captured_i) source_i = *captured_i;
+          plan.periodic_record = captured_whole_periods;
         }
         const Waveform port1 = lisn_port_waveform(source_v, source_i, model, 1);
         scan.line1 = scan_waveform(port1, plan);

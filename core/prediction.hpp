@@ -83,6 +83,10 @@ struct Prediction {
 /// (the two LISN lines: a lab measures each and reports the higher); notes are merged.
 [[nodiscard]] ScanResult worst_of_lines(const ScanResult& line1, const std::optional<ScanResult>& line2);
 
+/// True when a capture states its switching frequency and holds a whole number of its periods
+/// (to within half a sample), so the FFT receiver may treat the record as exact periods.
+[[nodiscard]] bool holds_whole_periods(const Capture& capture);
+
 /// Runs the chain. Throws Error on inconsistent input (e.g. a capture too slow for the band).
 [[nodiscard]] Prediction predict(const Scenario& scenario, const PredictionOptions& options = {});
 

@@ -376,11 +376,12 @@ std::size_t envelope_points(double period_s, double spacing_hz, double bandwidth
   return fast_fft_size(std::max({span_lines, by_rate, std::size_t{16}}));
 }
 
-void check_sample_rate(const Waveform& waveform, double max_tuned_hz, double bandwidth_6db_hz) {
+void check_sample_rate(const Waveform& waveform, CisprBand band, double max_tuned_hz, double bandwidth_6db_hz) {
   const double needed_hz = 2.0 * (max_tuned_hz + span_bandwidths * bandwidth_6db_hz);
   if (waveform.sample_rate_hz <= needed_hz) {
-    throw Error("expected a sample rate above " + format_quantity(needed_hz, Dimension::frequency) +
-                " to tune up to " + format_quantity(max_tuned_hz, Dimension::frequency) + ", found " +
+    throw Error("band " + to_string(band) + " cannot be computed from this record: tuning up to " +
+                format_quantity(max_tuned_hz, Dimension::frequency) + " needs a sample rate above " +
+                format_quantity(needed_hz, Dimension::frequency) + " (twice the tuned frequency plus the IF span), found " +
                 format_quantity(waveform.sample_rate_hz, Dimension::frequency));
   }
 }
@@ -417,7 +418,7 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
 }  // namespace
 
 Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double bandwidth_6db_hz) {
-  check_sample_rate(waveform, tuned_hz, bandwidth_6db_hz);
+  check_sample_rate(waveform, band_for_frequency(tuned_hz), tuned_hz, bandwidth_6db_hz);
   const RecordSpectrum spectrum = record_spectrum(waveform);
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, bandwidth_6db_hz);
   FftwBuffer buffer(m);
@@ -448,7 +449,16 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
                            " not read: the record's sample rate (" +
                            format_quantity(waveform.sample_rate_hz, Dimension::frequency) + ") does not cover them");
   }
-  check_sample_rate(waveform, frequencies.back(), band.bandwidth_6db_hz);
+  check_sample_rate(waveform, plan.band, frequencies.back(), band.bandwidth_6db_hz);
+  // A record shorter than the IF filter's 1/B6 cannot resolve the bandwidth, unless it holds whole
+  // periods of a periodic signal (then every line sits on a bin and the reading is exact).
+  const double duration_s = waveform.duration_s();
+  if (!plan.periodic_record && duration_s < 1.0 / band.bandwidth_6db_hz) {
+    throw Error("record of " + format_quantity(duration_s, Dimension::time) + " is shorter than 1/RBW = " +
+                format_quantity(1.0 / band.bandwidth_6db_hz, Dimension::time) + " of band " + to_string(plan.band) +
+                " (" + format_quantity(band.bandwidth_6db_hz, Dimension::frequency) +
+                "): record longer, or state the switching frequency to treat the record as whole periods");
+  }
 
   const RecordSpectrum spectrum = record_spectrum(waveform);
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, band.bandwidth_6db_hz);

@@ -82,6 +82,11 @@ struct ScanPlan {
   /// [Hz] the slowest modulation in the signal (e.g. a dither rate), 0 = unknown. The sampled path
   /// notes a record holding fewer than 3 of its periods.
   double slowest_modulation_hz = 0.0;
+  /// The sampled record holds whole periods of a periodic signal (a capture with its switching
+  /// frequency stated). Its lines then sit on FFT bins and a record shorter than 1/B6 is still
+  /// exact; otherwise scan_waveform refuses a record shorter than 1/B6, which cannot resolve the
+  /// IF bandwidth.
+  bool periodic_record = false;
 };
 
 /// One tuned frequency. Levels are RMS-calibrated readings in dBµV for a voltage, dBµA for a current;

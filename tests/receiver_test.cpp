@@ -296,7 +296,7 @@ TEST_CASE("errors of the sampled receiver") {
   ScanPlan plan;
   plan.band = CisprBand::B;
   plan.frequencies_hz = {1e6};
-  CHECK_THROWS_WITH_AS((void)scan_waveform(w, plan), "expected a sample rate above 2.036 MHz to tune up to 1 MHz, found 1 MHz",
+  CHECK_THROWS_WITH_AS((void)scan_waveform(w, plan), "band B cannot be computed from this record: tuning up to 1 MHz needs a sample rate above 2.036 MHz (twice the tuned frequency plus the IF span), found 1 MHz",
                        Error);
   plan.frequencies_hz = {31e6};
   CHECK_THROWS_WITH_AS((void)scan_waveform(w, plan), "frequency 31 MHz is outside band B (150 kHz-30 MHz)", Error);
@@ -366,4 +366,24 @@ TEST_CASE("IF envelope against a direct mix-and-filter by Debian's python3-numpy
     CHECK(max_difference < tol_relative * max_ours);
   }
   std::filesystem::remove_all(dir);
+}
+
+TEST_CASE("a record shorter than 1/RBW is refused unless it holds whole periods") {
+  // CISPR 16-1-1 band B: 9 kHz bandwidth, so the IF response lasts about 1/9 kHz = 111 µs.
+  Waveform w;
+  w.sample_rate_hz = 100e6;
+  w.samples.resize(5000);  // 50 µs: five periods of a 100 kHz sine
+  for (std::size_t i = 0; i < w.samples.size(); ++i) {
+    w.samples[i] = std::sqrt(2.0) * 1e-3 * std::sin(2.0 * std::numbers::pi * 100e3 * static_cast<double>(i) / 100e6);
+  }
+  ScanPlan plan;
+  plan.band = CisprBand::B;
+  plan.frequencies_hz = {200e3};
+  CHECK_THROWS_WITH_AS((void)scan_waveform(w, plan),
+                       "record of 50 \xC2\xB5s is shorter than 1/RBW = 111.1 \xC2\xB5s of band B (9 kHz): record longer, "
+                       "or state the switching frequency to treat the record as whole periods",
+                       Error);
+  plan.periodic_record = true;
+  plan.frequencies_hz = {300e3};  // a harmonic-free spot: nothing there
+  CHECK(scan_waveform(w, plan).readings.front().peak_db < 0.0);
 }
