@@ -1,6 +1,7 @@
 #include "core/bands.hpp"
 
 #include <algorithm>
+#include <filesystem>
 #include <cctype>
 #include <cmath>
 #include <set>
@@ -202,6 +203,21 @@ BroadcastSpec read_broadcast_section(TableReader& reader) {
   }
   spec.plan = reader.optional_string("plan");
   if (spec.plan && spec.plan->empty()) reader.fail("plan", "plan name must not be empty");
+  if (spec.plan) {
+    // A path is taken relative to the scenario's folder, like every other file a scenario names;
+    // a bare name is a shipped plan (limits/bands/<name>.toml).
+    const bool is_path = spec.plan->find('/') != std::string::npos || spec.plan->find(".toml") != std::string::npos;
+    std::filesystem::path resolved = is_path ? std::filesystem::path(*spec.plan)
+                                             : std::filesystem::path(SPURCAST_LIMITS_DIR) / "bands" / (*spec.plan + ".toml");
+    if (is_path && resolved.is_relative()) {
+      resolved = std::filesystem::path(reader.file()).parent_path() / resolved;
+    }
+    std::error_code ignored;
+    if (!std::filesystem::is_regular_file(resolved, ignored)) {
+      reader.fail("plan", "band plan not found: " + resolved.string());
+    }
+    spec.plan = resolved.string();
+  }
   if (const toml::node* area = reader.node("loop_area")) {
     if (const auto* text = area->as_string()) {
       try {
@@ -232,8 +248,6 @@ std::vector<Band> bands_for(const BroadcastSpec& spec) {
   BandPlan plan;
   if (!spec.plan) {
     plan = load_region_band_plan(spec.region);
-  } else if (spec.plan->find('/') == std::string::npos && spec.plan->find(".toml") == std::string::npos) {
-    plan = load_band_plan(std::string(SPURCAST_LIMITS_DIR) + "/bands/" + *spec.plan + ".toml");
   } else {
     plan = load_band_plan(*spec.plan);
   }

@@ -4,6 +4,8 @@
 // harmonic-to-channel cases. The fast mapping (sorted lines, binary search) has a brute-force twin.
 #include <doctest/doctest.h>
 
+#include <filesystem>
+
 #include <sys/wait.h>
 
 #include <algorithm>
@@ -318,6 +320,19 @@ TEST_CASE("band-plan loader errors carry file:line:column") {
                        (data_file("bad_region.toml") + ":2:10: expected ITU region 1, 2 or 3, found 4").c_str(), Error);
 }
 
+TEST_CASE("[broadcast] plan paths resolve against the scenario's folder; a missing plan is an error") {
+  const std::string folder = std::string(SPURCAST_SOURCE_DIR) + "/tests/data/bands";
+  const toml::table table = parse_toml_text("plan = \"unknown_key.toml\"\n", folder + "/s.toml");
+  TableReader reader(table, folder + "/s.toml", "broadcast");
+  const BroadcastSpec spec = read_broadcast_section(reader);
+  CHECK(*spec.plan == folder + "/unknown_key.toml");
+  const toml::table missing = parse_toml_text("plan = \"nowhere\"\n", "m.toml");
+  TableReader missing_reader(missing, "m.toml", "broadcast");
+  CHECK_THROWS_WITH_AS((void)read_broadcast_section(missing_reader),
+                       ("m.toml:1:8: band plan not found: " + std::string(SPURCAST_LIMITS_DIR) + "/bands/nowhere.toml").c_str(),
+                       Error);
+}
+
 TEST_CASE("band-plan rasters that would explode the channel list are rejected (found by fuzzing)") {
   // A typo'd unit ("5 fHz") or a band at 1e20 Hz once made the loader lay out billions of channels,
   // or loop for ever where k + 1 == k in double precision.
@@ -372,7 +387,8 @@ protection_ratio = "20 dB"
     CHECK(spec.distance_m == doctest::Approx(10.0));
     CHECK(spec.cable_length_m == doctest::Approx(2.0));
     CHECK(spec.environment == Environment::city);  // "business" is P.372's older name for city
-    CHECK(*spec.plan == "region2");
+    // A bare name is the shipped plan, resolved at load time.
+    CHECK(std::filesystem::path(*spec.plan).filename() == "region2.toml");
     CHECK(*spec.loop_area_m2 == doctest::Approx(4e-4));
     CHECK(spec.ground_reflection);
     REQUIRE(spec.extra_bands.size() == 1);
