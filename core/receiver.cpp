@@ -415,6 +415,16 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   envelope_from_lines(work.plan, buffer, phasors, envelope);
 }
 
+/// A result with the plan's band, bandwidth and step filled in and no readings yet.
+ScanResult empty_scan_result(Quantity quantity, const ScanPlan& plan) {
+  ScanResult result;
+  result.quantity = quantity;
+  result.band = plan.band;
+  result.bandwidth_6db_hz = band_parameters(plan.band).bandwidth_6db_hz;
+  result.step_hz = plan.frequencies_hz.empty() ? plan.step_hz.value_or(default_step_hz(plan.band)) : 0.0;
+  return result;
+}
+
 }  // namespace
 
 Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double bandwidth_6db_hz) {
@@ -434,11 +444,7 @@ Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double ban
 ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const BandParameters band = band_parameters(plan.band);
   std::vector<double> frequencies = plan_frequencies(plan);
-  ScanResult result;
-  result.quantity = waveform.quantity;
-  result.band = plan.band;
-  result.bandwidth_6db_hz = band.bandwidth_6db_hz;
-  result.step_hz = plan.frequencies_hz.empty() ? plan.step_hz.value_or(default_step_hz(plan.band)) : 0.0;
+  ScanResult result = empty_scan_result(waveform.quantity, plan);
   if (frequencies.empty()) return result;
   // A band scan of a record sampled too slowly for the whole band (a capture, typically) reads the
   // tuned frequencies the record covers and says where it stopped; spot readings must all be covered.
@@ -501,11 +507,7 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
   if (!(lines.fundamental_hz > 0.0)) throw Error("expected a positive fundamental frequency");
   const BandParameters band = band_parameters(plan.band);
   const std::vector<double> frequencies = plan_frequencies(plan);
-  ScanResult result;
-  result.quantity = lines.quantity;
-  result.band = plan.band;
-  result.bandwidth_6db_hz = band.bandwidth_6db_hz;
-  result.step_hz = plan.frequencies_hz.empty() ? plan.step_hz.value_or(default_step_hz(plan.band)) : 0.0;
+  ScanResult result = empty_scan_result(lines.quantity, plan);
   if (frequencies.empty()) return result;
 
   const double f0 = lines.fundamental_hz;

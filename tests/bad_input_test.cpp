@@ -14,6 +14,8 @@
 // A subcommand that the executable does not offer (yet) skips its cases with a message.
 #include <doctest/doctest.h>
 
+#include "cli_support.hpp"
+
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -30,32 +32,18 @@ namespace fs = std::filesystem;
 
 namespace {
 
+using spurcast::test::read_text;
+using spurcast::test::run_cli;
+using spurcast::test::RunResult;
+using spurcast::test::shell_quote;
+
 const fs::path source_dir = SPURCAST_SOURCE_DIR;
 const std::string executable = SPURCAST_EXECUTABLE;
-
-std::string read_text(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
 
 std::string first_line(const std::string& text) {
   std::string line = text.substr(0, text.find('\n'));
   if (!line.empty() && line.back() == '\r') line.pop_back();
   return line;
-}
-
-std::string shell_quote(const std::string& text) {
-  std::string quoted = "'";
-  for (const char c : text) {
-    if (c == '\'') {
-      quoted += "'\\''";
-    } else {
-      quoted += c;
-    }
-  }
-  return quoted + "'";
 }
 
 std::vector<std::string> split_words(const std::string& line) {
@@ -70,27 +58,6 @@ void replace_all(std::string& text, const std::string& from, const std::string& 
   for (std::size_t at = text.find(from); at != std::string::npos; at = text.find(from, at + to.size())) {
     text.replace(at, from.size(), to);
   }
-}
-
-struct RunResult {
-  int exit_code = -1;
-  std::string out;
-  std::string err;
-};
-
-/// Runs the CLI in `directory` with `arguments`; stdout and stderr are captured through files.
-RunResult run_cli(const fs::path& directory, const std::vector<std::string>& arguments, const fs::path& scratch) {
-  std::string command = "cd " + shell_quote(directory.string()) + " && " + shell_quote(executable);
-  for (const std::string& a : arguments) command += " " + shell_quote(a);
-  const fs::path out_file = scratch / "stdout.txt";
-  const fs::path err_file = scratch / "stderr.txt";
-  command += " >" + shell_quote(out_file.string()) + " 2>" + shell_quote(err_file.string()) + " </dev/null";
-  const int status = std::system(command.c_str());
-  RunResult result;
-  result.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  result.out = read_text(out_file);
-  result.err = read_text(err_file);
-  return result;
 }
 
 struct Case {

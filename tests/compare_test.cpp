@@ -4,6 +4,8 @@
 // The traces here are invented test inputs; the limit values they are checked against come from
 // the shipped CISPR 32 class B file (REFERENCES.md §3.1).
 #include <doctest/doctest.h>
+
+#include "cli_support.hpp"
 #include <nlohmann/json.hpp>
 
 #include <sys/wait.h>
@@ -20,44 +22,16 @@ namespace fs = std::filesystem;
 
 namespace {
 
+using spurcast::test::read_text;
+using spurcast::test::RunResult;
+using spurcast::test::write_text;
+
+fs::path fresh_directory(const std::string& name) { return spurcast::test::fresh_directory("spurcast_compare_test_", name); }
+RunResult run(const fs::path& dir, const std::string& arguments) { return spurcast::test::run_in(dir, arguments); }
+
+
 const std::string source_dir = SPURCAST_SOURCE_DIR;
 const std::string executable = SPURCAST_EXECUTABLE;
-
-struct RunResult {
-  int exit_code = -1;
-  std::string out;
-  std::string err;
-};
-
-std::string read_text(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
-
-void write_text(const fs::path& path, const std::string& text) {
-  std::ofstream out(path, std::ios::binary);
-  out << text;
-}
-
-// A fresh folder per test case.
-fs::path fresh_directory(const std::string& name) {
-  const fs::path dir = fs::temp_directory_path() / ("spurcast_compare_test_" + name);
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
-}
-
-RunResult run(const fs::path& dir, const std::string& arguments) {
-  const std::string command = "cd '" + dir.string() + "' && '" + executable + "' " + arguments + " > stdout.txt 2> stderr.txt";
-  const int status = std::system(command.c_str());
-  RunResult result;
-  result.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  result.out = read_text(dir / "stdout.txt");
-  result.err = read_text(dir / "stderr.txt");
-  return result;
-}
 
 // A trace from 150 kHz to 30 MHz, 400 log-spaced points at `floor_dbuv`, with an emission of
 // `emission_dbuv` at 1 MHz (one point).

@@ -7,6 +7,8 @@
 // A subcommand the executable does not offer (yet) is skipped with a message.
 #include <doctest/doctest.h>
 
+#include "cli_support.hpp"
+
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -22,46 +24,16 @@ namespace fs = std::filesystem;
 
 namespace {
 
+using spurcast::test::read_text;
+using spurcast::test::RunResult;
+using spurcast::test::shell_quote;
+
 const fs::path source_dir = SPURCAST_SOURCE_DIR;
 const std::string executable = SPURCAST_EXECUTABLE;
 
-std::string read_bytes(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
-
-std::string shell_quote(const std::string& text) {
-  std::string quoted = "'";
-  for (const char c : text) {
-    if (c == '\'') {
-      quoted += "'\\''";
-    } else {
-      quoted += c;
-    }
-  }
-  return quoted + "'";
-}
-
-struct Run {
-  int exit_code = -1;
-  std::string out;
-  std::string err;
-};
-
 /// Runs the CLI from the repository root; `environment` is prepended as VAR=value words.
-Run run_cli(const std::vector<std::string>& arguments, const fs::path& scratch, const std::string& environment = "") {
-  std::string command = "cd " + shell_quote(source_dir.string()) + " && " + environment + " " + shell_quote(executable);
-  for (const std::string& a : arguments) command += " " + shell_quote(a);
-  command += " >" + shell_quote((scratch / "stdout.txt").string()) + " 2>" +
-             shell_quote((scratch / "stderr.txt").string()) + " </dev/null";
-  const int status = std::system(command.c_str());
-  Run run;
-  run.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  run.out = read_bytes(scratch / "stdout.txt");
-  run.err = read_bytes(scratch / "stderr.txt");
-  return run;
+RunResult run_cli(const std::vector<std::string>& arguments, const fs::path& scratch, const std::string& environment = "") {
+  return spurcast::test::run_cli(source_dir, arguments, scratch, environment);
 }
 
 bool offers(const std::string& subcommand, const fs::path& scratch) {
@@ -78,7 +50,7 @@ std::map<std::string, std::string> csv_and_json(const fs::path& folder) {
   for (const auto& entry : fs::recursive_directory_iterator(folder)) {
     const auto ext = entry.path().extension();
     if (entry.is_regular_file() && (ext == ".csv" || ext == ".json")) {
-      files[fs::relative(entry.path(), folder).string()] = read_bytes(entry.path());
+      files[fs::relative(entry.path(), folder).string()] = read_text(entry.path());
     }
   }
   return files;
@@ -111,7 +83,7 @@ void check_identical(const std::vector<std::string>& arguments, const fs::path& 
   for (std::size_t i = 0; i < environments.size(); ++i) {
     CAPTURE(environments[i]);
     fs::remove_all(output);
-    const Run run = run_cli(arguments, scratch, environments[i]);
+    const RunResult run = run_cli(arguments, scratch, environments[i]);
     CAPTURE(run.err);
     REQUIRE(run.exit_code >= 0);
     REQUIRE(run.exit_code <= 1);  // 1 = a limit exceeded: still a complete, comparable result
@@ -120,7 +92,7 @@ void check_identical(const std::vector<std::string>& arguments, const fs::path& 
       files = csv_and_json(output);
     } else {
       REQUIRE(fs::exists(output));
-      files[output.filename().string()] = read_bytes(output);
+      files[output.filename().string()] = read_text(output);
     }
     REQUIRE(!files.empty());
     if (i == 0) {
@@ -168,12 +140,12 @@ TEST_CASE("a capture gives the same spectrum with 1, 2 and 4 parser threads") {
   for (const char* threads : {"1", "2", "4", "1"}) {
     CAPTURE(threads);
     fs::remove(csv);
-    const Run run = run_cli({"spectrum", "--capture", capture.string(), "--fundamental", "100kHz", "--threads", threads,
+    const RunResult run = run_cli({"spectrum", "--capture", capture.string(), "--fundamental", "100kHz", "--threads", threads,
                              "--csv", csv.string(), "--json"},
                             s.root);
     CAPTURE(run.err);
     REQUIRE(run.exit_code == 0);
-    const std::string bytes = read_bytes(csv);
+    const std::string bytes = read_text(csv);
     REQUIRE(!bytes.empty());
     if (reference_csv.empty()) {
       reference_csv = bytes;

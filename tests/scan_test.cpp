@@ -5,6 +5,8 @@
 // detector (CISPR 16-1-1 calibration, common practice).
 #include <doctest/doctest.h>
 
+#include "cli_support.hpp"
+
 #include <nlohmann/json.hpp>
 
 #include <cmath>
@@ -23,37 +25,15 @@ namespace fs = std::filesystem;
 
 namespace {
 
+using spurcast::test::read_text;
+using spurcast::test::RunResult;
+using spurcast::test::write_text;
+
+fs::path fresh_directory(const std::string& name) { return spurcast::test::fresh_directory("spurcast_scan_test_", name); }
+RunResult run(const fs::path& dir, const std::string& arguments) { return spurcast::test::run_in(dir, arguments); }
+
+
 const std::string executable = SPURCAST_EXECUTABLE;
-
-struct RunResult {
-  int exit_code = -1;
-  std::string out;
-  std::string err;
-};
-
-std::string read_text(const fs::path& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
-}
-
-fs::path fresh_directory(const std::string& name) {
-  const fs::path dir = fs::temp_directory_path() / ("spurcast_scan_test_" + name);
-  fs::remove_all(dir);
-  fs::create_directories(dir);
-  return dir;
-}
-
-RunResult run(const fs::path& dir, const std::string& arguments) {
-  const std::string command = "cd '" + dir.string() + "' && '" + executable + "' " + arguments + " > stdout.txt 2> stderr.txt";
-  const int status = std::system(command.c_str());
-  RunResult result;
-  result.exit_code = WIFEXITED(status) ? WEXITSTATUS(status) : -1;
-  result.out = read_text(dir / "stdout.txt");
-  result.err = read_text(dir / "stderr.txt");
-  return result;
-}
 
 const char* square_wave_scenario = R"(title = "test square wave"
 [switching]
