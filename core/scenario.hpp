@@ -11,7 +11,7 @@
 #include <string_view>
 #include <vector>
 
-#include <toml++/toml.h>
+#include "core/toml.hpp"
 
 #include "core/bands.hpp"
 #include "core/capture.hpp"

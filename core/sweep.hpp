@@ -38,7 +38,7 @@
 #include <string_view>
 #include <vector>
 
-#include <toml++/toml.h>
+#include "core/toml.hpp"
 
 #include "core/detector.hpp"
 #include "core/margins.hpp"

@@ -20,10 +20,22 @@ namespace {
 /// __builtin_unreachable for U+00A1..U+0499 and U+FEF6..U+FEFE met outside a string, which is
 /// undefined behaviour (found by fuzzing; tests/data/fuzz-regressions/toml/). Multi-line strings
 /// take ASCII content only, so that this scanner and the parser never disagree about where a
-/// string with non-ASCII text ends.
+/// string with non-ASCII text ends. For the same reason a quote opens a string only where TOML
+/// lets a string begin: at the start of a key (start of a line outside brackets, after '.', '[' or
+/// '{' or ','), or as a value (after '=', '[' or ','). A quote glued to other text (`19'9`) is
+/// invalid TOML, and the parser may read on past it as part of a date or number, so the scanner
+/// reads on as bare text too.
 void check_bare_ascii(std::string_view text, const std::string& name) {
   enum class State { bare, comment, basic, literal, multiline_basic, multiline_literal };
   State state = State::bare;
+  // Last character outside strings and comments other than blanks; '\n' at a line start
+  // outside brackets. A closing quote counts as '"' so that "a" "b" is not read as two strings.
+  char previous_significant = '\n';
+  int bracket_depth = 0;
+  const auto string_may_open_here = [&] {
+    return previous_significant == '\n' || previous_significant == '=' || previous_significant == '[' ||
+           previous_significant == '{' || previous_significant == ',' || previous_significant == '.';
+  };
   int line = 1;
   int column = 0;
   std::size_t i = 0;
@@ -49,22 +61,28 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
       case State::bare:
         if (byte == '#') {
           state = State::comment;
-        } else if (starts(i, triple_quote)) {
-          state = State::multiline_basic;
-          i += 2;
-          column += 2;
-        } else if (starts(i, triple_apostrophe)) {
-          state = State::multiline_literal;
-          i += 2;
-          column += 2;
-        } else if (byte == '"') {
-          state = State::basic;
-        } else if (byte == '\'') {
-          state = State::literal;
+        } else if ((byte == '"' || byte == '\'') && string_may_open_here()) {
+          const bool basic = byte == '"';
+          if (starts(i, basic ? triple_quote : triple_apostrophe)) {
+            state = basic ? State::multiline_basic : State::multiline_literal;
+            i += 2;
+            column += 2;
+          } else {
+            state = basic ? State::basic : State::literal;
+          }
+        } else if (byte == '\n') {
+          if (bracket_depth == 0) previous_significant = '\n';
+        } else if (byte != ' ' && byte != '\t' && byte != '\r') {
+          if (byte == '[' || byte == '{') ++bracket_depth;
+          if ((byte == ']' || byte == '}') && bracket_depth > 0) --bracket_depth;
+          previous_significant = static_cast<char>(byte);
         }
         break;
       case State::comment:
-        if (byte == '\n') state = State::bare;
+        if (byte == '\n') {
+          state = State::bare;
+          if (bracket_depth == 0) previous_significant = '\n';
+        }
         break;
       case State::basic:
         if (byte == '\\' && i + 1 < text.size() && text[i + 1] != '\n') {
@@ -75,10 +93,14 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
           }
         } else if (byte == '"' || byte == '\n') {
           state = State::bare;
+          previous_significant = byte == '\n' && bracket_depth == 0 ? '\n' : '"';
         }
         break;
       case State::literal:
-        if (byte == '\'' || byte == '\n') state = State::bare;
+        if (byte == '\'' || byte == '\n') {
+          state = State::bare;
+          previous_significant = byte == '\n' && bracket_depth == 0 ? '\n' : '"';
+        }
         break;
       case State::multiline_basic:
         if (byte == '\\' && i + 1 < text.size() && text[i + 1] != '\n' &&
@@ -87,6 +109,7 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
           ++column;
         } else if (starts(i, triple_quote)) {
           state = State::bare;
+          previous_significant = '"';
           i += 2;
           column += 2;
         }
@@ -94,6 +117,7 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
       case State::multiline_literal:
         if (starts(i, triple_apostrophe)) {
           state = State::bare;
+          previous_significant = '"';
           i += 2;
           column += 2;
         }

@@ -7,7 +7,7 @@
 ///   TableReader reader(table, "scenario.toml", "switching");
 ///   const double f_hz = reader.required_quantity("frequency", Dimension::frequency);
 ///   reader.finish({"frequency", "duty"});  // "scenario.toml:4:1: unknown key 'frequncy' in [switching]; did you mean 'frequency'?"
-#include <toml++/toml.h>
+#include "core/toml.hpp"
 
 #include <cstdint>
 #include <optional>

@@ -88,3 +88,19 @@ TEST_CASE("every fuzzer-found toml++ reproducer is refused with an Error, before
 TEST_CASE("fftw_lock: one planner lock for the whole library") {
   CHECK(&fftw_planner_mutex() == &fftw_planner_mutex());
 }
+
+TEST_CASE("toml++'s non-ASCII whitespace test answers for every code point (Unicode Zs category)") {
+  // Unicode's space separators (category Zs) above ASCII: U+00A0, U+1680, U+2000..U+200A, U+202F,
+  // U+205F, U+3000. toml++ 3.3.0 also counts U+180E, U+200B, U+2060 and U+FEFF (older Unicode
+  // versions and zero-width characters), which is harmless. core/toml.hpp makes the code points
+  // its bitmask leaves without a case answer `false` instead of reaching __builtin_unreachable.
+  const auto zs_or_toml_extra = [](char32_t c) {
+    return c == 0xA0 || c == 0x1680 || (c >= 0x2000 && c <= 0x200B) || c == 0x202F || c == 0x205F ||
+           c == 0x2060 || c == 0x3000 || c == 0x180E || c == 0xFEFF;
+  };
+  int mismatches = 0;
+  for (char32_t c = 0x80; c <= 0x10FFFF; ++c) {
+    if (toml::impl::is_non_ascii_horizontal_whitespace(c) != zs_or_toml_extra(c)) ++mismatches;
+  }
+  CHECK(mismatches == 0);
+}

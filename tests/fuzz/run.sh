@@ -57,7 +57,10 @@ for t in "${targets[@]}"; do
 
   regressions="$repo/tests/data/fuzz-regressions/$t"
   # Only the files directly in the folder: open/ holds reproducers of bugs not fixed yet.
-  mapfile -t replay < <(find "$regressions" -maxdepth 1 -type f 2>/dev/null | sort)
+  folders=("$regressions")
+  # The TOML loaders share the reader, so each replays the reader's reproducers too.
+  case $t in scenario | limits | bands) folders+=("$repo/tests/data/fuzz-regressions/toml") ;; esac
+  mapfile -t replay < <(find "${folders[@]}" -maxdepth 1 -type f 2>/dev/null | sort)
   if [[ ${#replay[@]} -gt 0 ]]; then
     if ! "$exe" "${flags[@]}" -runs=0 "${replay[@]}" >"$log.regressions" 2>&1; then
       echo "FAIL $t: a regression input of tests/data/fuzz-regressions/$t fails again (see $log.regressions)"
