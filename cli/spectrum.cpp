@@ -124,10 +124,11 @@ std::vector<double> levels_of(const std::vector<std::complex<double>>& phasors, 
   return out;
 }
 
-/// The harmonic table of a sampled record at f0 (estimated when not given).
-HarmonicTable sampled_table(const Waveform& waveform, Window window, FftPlanner& planner, std::optional<double> f0_hz,
+/// The harmonic table of a sampled record at f0 (estimated when not given). Takes the record by
+/// value: callers move it in at its last use, and the spectrum frees it once windowed.
+HarmonicTable sampled_table(Waveform waveform, Window window, FftPlanner& planner, std::optional<double> f0_hz,
                             double max_frequency_hz, Result& result) {
-  const AmplitudeSpectrum spectrum = amplitude_spectrum(waveform, window, planner);
+  const AmplitudeSpectrum spectrum = amplitude_spectrum(std::move(waveform), window, planner);
   if (result.fundamental_hz == 0.0) {
     // Refine a given f_sw against the record (a real converter is off its nominal frequency by
     // more than a bin of a long record); estimate it when none was given.
@@ -140,9 +141,11 @@ HarmonicTable sampled_table(const Waveform& waveform, Window window, FftPlanner&
   return harmonic_table(spectrum, result.fundamental_hz, max_frequency_hz);
 }
 
-Result sampled_result(const Capture& capture, const Options& options, std::optional<double> f0_hz, double max_frequency_hz,
+Result sampled_result(Capture capture, const Options& options, std::optional<double> f0_hz, double max_frequency_hz,
                       const std::string& at, const Scenario* scenario) {
   Result result;
+  result.capture_samples = capture.waveform.samples.size();
+  result.capture_duration_s = capture.waveform.duration_s();
   result.at = at;
   const Window window = parse_window(options.window);
   result.window = window_name(window);
@@ -155,7 +158,7 @@ Result sampled_result(const Capture& capture, const Options& options, std::optio
   if (at != "lisn") {
     result.what = is_current ? "captured current" : "captured voltage";
     result.quantity = capture.waveform.quantity;
-    result.rows = rows_from_table(sampled_table(capture.waveform, window, planner, f0_hz, max_frequency_hz, result));
+    result.rows = rows_from_table(sampled_table(std::move(capture.waveform), window, planner, f0_hz, max_frequency_hz, result));
   } else {
     const ConductedModel model(scenario->coupling, scenario->filters, scenario->lisn);
     Waveform source_v;
@@ -177,10 +180,10 @@ Result sampled_result(const Capture& capture, const Options& options, std::optio
     result.what = "LISN receiver port (from the captured " + std::string(is_current ? "current" : "voltage") + ")";
     result.quantity = Quantity::voltage;
     // The source record sets f0 (estimated once, on the source); the port records are read at it.
-    (void)sampled_table(capture.waveform, window, planner, f0_hz, max_frequency_hz, result);
-    auto levels = [&](const Waveform& w) {
+    (void)sampled_table(std::move(capture.waveform), window, planner, f0_hz, max_frequency_hz, result);
+    auto levels = [&](Waveform&& w) {
       std::vector<double> out;
-      for (const HarmonicLevel& line : sampled_table(w, window, planner, f0_hz, max_frequency_hz, result).lines) {
+      for (const HarmonicLevel& line : sampled_table(std::move(w), window, planner, f0_hz, max_frequency_hz, result).lines) {
         out.push_back(line.level_db);
       }
       return out;
@@ -188,19 +191,15 @@ Result sampled_result(const Capture& capture, const Options& options, std::optio
     result.rows = rows_from_table(sampled_table(v1, window, planner, f0_hz, max_frequency_hz, result));
     std::vector<double> l1;
     for (const Row& row : result.rows) l1.push_back(row.level_db);
-    std::vector<double> l2 = levels(v2);
-    std::vector<double> ldm = levels(dm);
-    std::vector<double> lcm = levels(cm);
+    std::vector<double> l2 = levels(std::move(v2));
+    std::vector<double> ldm = levels(std::move(dm));
+    std::vector<double> lcm = levels(std::move(cm));
     for (auto* l : {&l2, &ldm, &lcm}) l->resize(l1.size(), level_floor_db);
     set_lisn_columns(result.rows, l1, l2, ldm, lcm);
     result.notes.push_back(model.setup_description());
   }
-  result.capture_samples = capture.waveform.samples.size();
-  result.capture_duration_s = capture.waveform.duration_s();
-  Capture metadata = capture;
-  metadata.waveform.samples.clear();
-  metadata.waveform.samples.shrink_to_fit();
-  result.capture = std::move(metadata);
+  std::vector<double>().swap(capture.waveform.samples);  // moved from above; the metadata stays
+  result.capture = std::move(capture);
   return result;
 }
 
@@ -354,8 +353,7 @@ int run_spectrum(const Options& options) {
     if (!options.scale.empty()) spec.scale = parse_quantity(options.scale, Dimension::number);
     spec.quantity = (options.quantity == "current" || at == "current") ? Quantity::current : Quantity::voltage;
     spec.resample = options.resample;
-    const Capture capture = load_capture(spec, CaptureLoadOptions{options.threads});
-    result = sampled_result(capture, options, f0_hz, max_frequency_hz, at, nullptr);
+    result = sampled_result(load_capture(spec, CaptureLoadOptions{options.threads}), options, f0_hz, max_frequency_hz, at, nullptr);
   } else {
     const std::string at = options.at.empty() ? "lisn" : options.at;
     if (at != "source" && at != "current" && at != "lisn") {
@@ -366,8 +364,7 @@ int run_spectrum(const Options& options) {
       CaptureSpec spec = *scenario.capture;
       if (options.resample) spec.resample = true;
       if (!f0_hz) f0_hz = spec.switching_frequency_hz;
-      const Capture capture = load_capture(spec, CaptureLoadOptions{options.threads});
-      result = sampled_result(capture, options, f0_hz, max_frequency_hz, at, &scenario);
+      result = sampled_result(load_capture(spec, CaptureLoadOptions{options.threads}), options, f0_hz, max_frequency_hz, at, &scenario);
     } else if (scenario.switching) {
       result = described_result(scenario, at, max_frequency_hz);
     } else {

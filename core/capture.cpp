@@ -10,11 +10,14 @@
 #include <cctype>
 #include <cerrno>
 #include <charconv>
+#include <cstdint>
 #include <cstdio>
 #include <cmath>
 #include <cstring>
 #include <filesystem>
 #include <thread>
+#include <tuple>
+#include <utility>
 #include <vector>
 
 #include "core/units.hpp"
@@ -98,10 +101,31 @@ struct ParseFailure {
 
 struct ChunkResult {
   std::vector<double> time;
-  std::vector<double> value;
+  std::vector<double> value;  ///< already multiplied by the scale and the header's unit prefix
   std::size_t first_line_offset = 0;
   ParseFailure failure;
 };
+
+/// How a chunk is parsed, beyond its bytes.
+struct ChunkJob {
+  std::size_t time_reserve = 0;   ///< samples to reserve for the time stamps
+  std::size_t value_reserve = 0;  ///< samples to reserve for the values (the whole record in chunk 0)
+  double value_factor = 1.0;      ///< scale × unit prefix, applied as the values are stored
+  bool release_pages = false;     ///< the text is a read-only file mapping: drop the pages behind
+};
+
+/// Pages of a read-only file mapping behind the parser are handed back every this many bytes, so
+/// a large capture is not resident twice (as text and as numbers). A dropped page that is read
+/// again (an error message, the resolution probe at the end) is simply read from the file again.
+constexpr std::size_t release_step_bytes = std::size_t{32} << 20;
+
+void release_mapped_pages(const char* from, const char* to) {
+  const auto page = static_cast<std::uintptr_t>(::sysconf(_SC_PAGESIZE));
+  const std::uintptr_t first = (reinterpret_cast<std::uintptr_t>(from) + page - 1) / page * page;
+  const std::uintptr_t last = reinterpret_cast<std::uintptr_t>(to) / page * page;
+  // Only whole pages inside [from, to): a page shared with the neighbouring chunk stays.
+  if (last > first) ::madvise(reinterpret_cast<void*>(first), last - first, MADV_DONTNEED);
+}
 
 struct ColumnPlan {
   int time_index = 1;   // 1-based
@@ -113,12 +137,13 @@ struct ColumnPlan {
 /// The hot loop of the loader: one fast_float call per used cell, no allocation per line.
 template <DelimiterMode mode>
 void parse_chunk(const char* text_begin, const char* begin, const char* end, const ColumnPlan& plan,
-                 ChunkResult& out) {
+                 const ChunkJob& job, ChunkResult& out) {
   constexpr char delimiter = mode == DelimiterMode::comma ? ',' : ';';
   out.first_line_offset = static_cast<std::size_t>(begin - text_begin);
-  const std::size_t estimate = static_cast<std::size_t>(end - begin) / 24 + 16;
-  out.time.reserve(estimate);
-  out.value.reserve(estimate);
+  out.time.reserve(job.time_reserve);
+  out.value.reserve(job.value_reserve);
+  const double factor = job.value_factor;
+  const char* released_to = begin;
   double previous_time = -HUGE_VAL;
   bool have_previous = false;
   const char* p = begin;
@@ -226,7 +251,11 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
     previous_time = time;
     have_previous = true;
     out.time.push_back(time);
-    out.value.push_back(value);
+    out.value.push_back(value * factor);
+    if (job.release_pages && static_cast<std::size_t>(p - released_to) >= release_step_bytes) {
+      release_mapped_pages(released_to, p);
+      released_to = p;
+    }
   }
 }
 
@@ -380,8 +409,11 @@ class MappedFile {
     }
     size_ = static_cast<std::size_t>(info.st_size);
     if (size_ > 0) {
-      // MAP_POPULATE maps the whole (page-cached) file in one call instead of a fault per page.
-      void* address = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE | MAP_POPULATE, fd_, 0);
+      // MAP_POPULATE maps a (page-cached) file in one call instead of a fault per page, the
+      // faster way for a file of ordinary size. A large one is faulted in as it is read and
+      // handed back behind the parser instead (release_pages()), so it is never resident whole.
+      const int populate = size_ <= populate_limit_bytes ? MAP_POPULATE : 0;
+      void* address = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE | populate, fd_, 0);
       if (address == MAP_FAILED) {
         ::close(fd_);
         throw Error(SourcePosition{path, 0, 0}, "cannot map the capture into memory");
@@ -397,6 +429,10 @@ class MappedFile {
     if (fd_ >= 0) ::close(fd_);
   }
   [[nodiscard]] std::string_view text() const { return data_ ? std::string_view(data_, size_) : std::string_view(); }
+  /// Whether the parser should drop the pages it has read.
+  [[nodiscard]] bool release_pages() const { return size_ > populate_limit_bytes; }
+
+  static constexpr std::size_t populate_limit_bytes = std::size_t{256} << 20;
 
  private:
   int fd_ = -1;
@@ -444,8 +480,10 @@ std::optional<double> time_unit_from_header(std::string_view header) {
   return std::nullopt;
 }
 
-Capture parse_capture_text(std::string_view text, const std::string& name, const CaptureSpec& spec,
-                           const CaptureLoadOptions& options) {
+namespace {
+
+Capture parse_capture(std::string_view text, const std::string& name, const CaptureSpec& spec,
+                      const CaptureLoadOptions& options, bool release_pages) {
   Capture capture;
   capture.file = name;
   capture.switching_frequency_hz = spec.switching_frequency_hz;
@@ -565,14 +603,39 @@ Capture parse_capture_text(std::string_view text, const std::string& name, const
   }
   bounds.push_back(data_end);
   const std::size_t chunk_count = bounds.size() - 1;
+  // Samples expected per byte, from the first lines: chunk 0 reserves room for the values of the
+  // whole record (address space only until written), so the others are appended to it without a
+  // second copy of the record. A wrong guess costs a reallocation, never a wrong result.
+  double bytes_per_line = 0.0;
+  {
+    std::size_t at = data_start;
+    int lines = 0;
+    while (lines < 64 && at < data_end) {
+      const std::size_t newline = text.find('\n', at);
+      at = newline == std::string_view::npos ? data_end : newline + 1;
+      ++lines;
+    }
+    bytes_per_line = static_cast<double>(std::min(at, data_end) - data_start) / std::max(lines, 1);
+  }
+  const auto samples_in = [&](std::size_t bytes) {
+    return static_cast<std::size_t>(static_cast<double>(bytes) / std::max(bytes_per_line, 1.0) * 1.02) + 64;
+  };
+  const double value_factor = spec.scale * capture.value_unit;
   std::vector<ChunkResult> chunks(chunk_count);
   auto run_chunk = [&](std::size_t k) {
     try {
       const char* base = text.data();
+      ChunkJob job;
+      job.time_reserve = samples_in(bounds[k + 1] - bounds[k]);
+      job.value_reserve = k == 0 ? samples_in(data_end - data_start) : job.time_reserve;
+      job.value_factor = value_factor;
+      job.release_pages = release_pages;
+      const char* begin = base + bounds[k];
+      const char* end = base + bounds[k + 1];
       switch (mode) {
-        case DelimiterMode::comma: parse_chunk<DelimiterMode::comma>(base, base + bounds[k], base + bounds[k + 1], plan, chunks[k]); break;
-        case DelimiterMode::semicolon: parse_chunk<DelimiterMode::semicolon>(base, base + bounds[k], base + bounds[k + 1], plan, chunks[k]); break;
-        case DelimiterMode::blanks: parse_chunk<DelimiterMode::blanks>(base, base + bounds[k], base + bounds[k + 1], plan, chunks[k]); break;
+        case DelimiterMode::comma: parse_chunk<DelimiterMode::comma>(base, begin, end, plan, job, chunks[k]); break;
+        case DelimiterMode::semicolon: parse_chunk<DelimiterMode::semicolon>(base, begin, end, plan, job, chunks[k]); break;
+        case DelimiterMode::blanks: parse_chunk<DelimiterMode::blanks>(base, begin, end, plan, job, chunks[k]); break;
       }
     } catch (const std::exception& e) {
       chunks[k].failure.offset = bounds[k];
@@ -668,45 +731,62 @@ Capture parse_capture_text(std::string_view text, const std::string& name, const
   waveform.quantity = spec.quantity;
   waveform.start_time_s = t_first * capture.time_unit_s;
   waveform.sample_rate_hz = 1.0 / sampling.interval_s;
-  const double factor = spec.scale * capture.value_unit;
-  if (!(sampling.uniform && chunks.size() == 1)) waveform.samples.resize(sample_count);
-  if (sampling.uniform && chunks.size() == 1) {
-    waveform.samples = std::move(chunks.front().value);  // no second copy of the record
-    if (factor != 1.0) {
-      for (double& v : waveform.samples) v *= factor;
-    }
-  } else if (sampling.uniform) {
-    std::size_t at = 0;
-    for (const ChunkResult& chunk : chunks) {
-      double* out = waveform.samples.data() + at;
-      for (std::size_t i = 0; i < chunk.value.size(); ++i) out[i] = chunk.value[i] * factor;
-      at += chunk.value.size();
+  if (sampling.uniform) {
+    // The time stamps have done their job; the values of chunk 0 become the record and the other
+    // chunks are appended to it one by one, each freed once copied.
+    for (ChunkResult& chunk : chunks) std::vector<double>().swap(chunk.time);
+    waveform.samples = std::move(chunks.front().value);
+    waveform.samples.reserve(sample_count);
+    for (std::size_t k = 1; k < chunks.size(); ++k) {
+      waveform.samples.insert(waveform.samples.end(), chunks[k].value.begin(), chunks[k].value.end());
+      std::vector<double>().swap(chunks[k].value);
     }
   } else {
-    // Linear interpolation onto the uniform grid of the same length and span.
-    std::vector<double> time;
-    std::vector<double> value;
-    time.reserve(sample_count);
-    value.reserve(sample_count);
-    for (const ChunkResult& chunk : chunks) {
-      time.insert(time.end(), chunk.time.begin(), chunk.time.end());
-      value.insert(value.end(), chunk.value.begin(), chunk.value.end());
-    }
-    std::size_t j = 0;
+    // Linear interpolation onto the uniform grid of the same length and span, walking the chunks
+    // in file order (no concatenated copy of the time stamps and values).
+    waveform.samples.resize(sample_count);
+    std::size_t k = 0;  // chunk of sample j
+    std::size_t j = 0;  // index in chunk k: the grid point lies in [sample j, its successor]
+    while (chunks[k].time.empty()) ++k;
+    // The sample after (k, j): the next one in the chunk, else the first of the next non-empty chunk.
+    const auto successor = [&](std::size_t chunk, std::size_t index) {
+      if (index + 1 < chunks[chunk].time.size()) return std::pair{chunk, index + 1};
+      do ++chunk; while (chunks[chunk].time.empty());
+      return std::pair{chunk, std::size_t{0}};
+    };
     for (std::size_t i = 0; i < sample_count; ++i) {
       const double t = i + 1 == sample_count ? t_last : t_first + static_cast<double>(i) * interval;
-      while (j + 2 < sample_count && time[j + 1] <= t) ++j;
-      const double u = std::clamp((t - time[j]) / (time[j + 1] - time[j]), 0.0, 1.0);
-      waveform.samples[i] = (value[j] + u * (value[j + 1] - value[j])) * factor;
+      auto [next_chunk, next_index] = successor(k, j);
+      // Advance while the successor is at or before t and is not the record's last sample (the
+      // interval [second to last, last] serves the end of the grid).
+      while (chunks[next_chunk].time[next_index] <= t &&
+             !(&chunks[next_chunk] == previous && next_index + 1 == previous->time.size())) {
+        k = next_chunk;
+        j = next_index;
+        std::tie(next_chunk, next_index) = successor(k, j);
+      }
+      const double t0 = chunks[k].time[j];
+      const double t1 = chunks[next_chunk].time[next_index];
+      const double v0 = chunks[k].value[j];
+      const double v1 = chunks[next_chunk].value[next_index];
+      const double u = std::clamp((t - t0) / (t1 - t0), 0.0, 1.0);
+      waveform.samples[i] = v0 + u * (v1 - v0);
     }
     sampling.resampled = true;
   }
   return capture;
 }
 
+}  // namespace
+
+Capture parse_capture_text(std::string_view text, const std::string& name, const CaptureSpec& spec,
+                           const CaptureLoadOptions& options) {
+  return parse_capture(text, name, spec, options, false);
+}
+
 Capture load_capture(const CaptureSpec& spec, const CaptureLoadOptions& options) {
   const MappedFile mapped(spec.file);
-  return parse_capture_text(mapped.text(), spec.file, spec, options);
+  return parse_capture(mapped.text(), spec.file, spec, options, mapped.release_pages());
 }
 
 void check_capture_covers_period(const Capture& capture, double fundamental_hz) {

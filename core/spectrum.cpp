@@ -119,19 +119,14 @@ std::vector<double> window_samples(Window window, std::size_t length) {
 
 FftPlanner::Buffers::Buffers(std::size_t length)
     : length_(length),
-      input_(fftw_alloc_real(std::max<std::size_t>(length, 1))),
+      // In place (FFTW 3.3 manual §2.3: the real array is padded to 2·(N/2+1) doubles): one array
+      // instead of two, which is the difference between a 10^8-sample record fitting or not.
       output_(reinterpret_cast<std::complex<double>*>(fftw_alloc_complex(length / 2 + 1))) {
-  if (input_ == nullptr || output_ == nullptr) {
-    fftw_free(input_);
-    fftw_free(output_);
-    throw Error("out of memory for a transform of " + std::to_string(length) + " samples");
-  }
+  if (output_ == nullptr) throw Error("out of memory for a transform of " + std::to_string(length) + " samples");
+  input_ = reinterpret_cast<double*>(output_);
 }
 
-FftPlanner::Buffers::~Buffers() {
-  fftw_free(input_);
-  fftw_free(output_);
-}
+FftPlanner::Buffers::~Buffers() { fftw_free(output_); }
 
 FftPlanner::FftPlanner(std::string wisdom_file, double planning_limit_s)
     : wisdom_file_(std::move(wisdom_file)), planning_limit_s_(planning_limit_s) {}
@@ -205,8 +200,8 @@ void* FftPlanner::plan_for(std::size_t length) {
 
 void FftPlanner::forward(Buffers& buffers) {
   auto plan = static_cast<fftw_plan>(plan_for(buffers.length()));
-  // fftw_execute_dft_r2c is thread-safe (FFTW 3.3 manual §5.4); an out-of-place r2c plan made
-  // without FFTW_PRESERVE_INPUT may still clobber the input only for multi-dimensional transforms.
+  // fftw_execute_dft_r2c is thread-safe (FFTW 3.3 manual §5.4). The new-array execute needs the
+  // arrays in place exactly as the plan's were (§4.6): plan_for() plans on in-place scratch too.
   fftw_execute_dft_r2c(plan, buffers.input(), reinterpret_cast<fftw_complex*>(buffers.output()));
 }
 
@@ -220,24 +215,28 @@ std::vector<std::complex<double>> FftPlanner::forward(std::span<const double> sa
 // ---------------------------------------------------------------------------------------------
 // Spectrum
 
-AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner) {
+namespace {
+
+void check_record(const Waveform& waveform) {
   const std::size_t n = waveform.samples.size();
   if (n < 2) throw Error("expected a record of at least 2 samples, found " + std::to_string(n));
   if (!(waveform.sample_rate_hz > 0.0) || !std::isfinite(waveform.sample_rate_hz)) {
     throw Error("expected a positive sample rate, found " + format_number(waveform.sample_rate_hz) + " Hz");
   }
-  FftPlanner::Buffers buffers(n);
-  double sum_w = 0.0;
-  double sum_w2 = 0.0;
-  apply_window(window, waveform.samples.data(), buffers.input(), n, sum_w, sum_w2);
+}
+
+/// Transforms the windowed record in `buffers` and scales it to single-sided RMS.
+AmplitudeSpectrum finish_spectrum(Quantity quantity, double sample_rate_hz, Window window, FftPlanner::Buffers& buffers,
+                                  double sum_w, double sum_w2, FftPlanner& planner) {
+  const std::size_t n = buffers.length();
   planner.forward(buffers);
 
   AmplitudeSpectrum spectrum;
-  spectrum.quantity = waveform.quantity;
+  spectrum.quantity = quantity;
   spectrum.window = window;
-  spectrum.sample_rate_hz = waveform.sample_rate_hz;
+  spectrum.sample_rate_hz = sample_rate_hz;
   spectrum.record_length = n;
-  spectrum.bin_width_hz = waveform.sample_rate_hz / static_cast<double>(n);
+  spectrum.bin_width_hz = sample_rate_hz / static_cast<double>(n);
   spectrum.enbw_bins = static_cast<double>(n) * sum_w2 / (sum_w * sum_w);
   const std::size_t bins = n / 2 + 1;
   spectrum.rms.resize(bins);
@@ -253,6 +252,27 @@ AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, Ff
   spectrum.rms[0] = std::abs(spectrum.dc);
   if (n % 2 == 0) spectrum.rms[bins - 1] /= std::numbers::sqrt2;  // the Nyquist bin is real, not a pair
   return spectrum;
+}
+
+}  // namespace
+
+AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner) {
+  check_record(waveform);
+  FftPlanner::Buffers buffers(waveform.samples.size());
+  double sum_w = 0.0;
+  double sum_w2 = 0.0;
+  apply_window(window, waveform.samples.data(), buffers.input(), buffers.length(), sum_w, sum_w2);
+  return finish_spectrum(waveform.quantity, waveform.sample_rate_hz, window, buffers, sum_w, sum_w2, planner);
+}
+
+AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner) {
+  check_record(waveform);
+  FftPlanner::Buffers buffers(waveform.samples.size());
+  double sum_w = 0.0;
+  double sum_w2 = 0.0;
+  apply_window(window, waveform.samples.data(), buffers.input(), buffers.length(), sum_w, sum_w2);
+  std::vector<double>().swap(waveform.samples);  // the windowed copy in the buffer is all that is needed now
+  return finish_spectrum(waveform.quantity, waveform.sample_rate_hz, window, buffers, sum_w, sum_w2, planner);
 }
 
 double total_power(const AmplitudeSpectrum& spectrum) {

@@ -65,8 +65,8 @@ class FftPlanner {
   FftPlanner(const FftPlanner&) = delete;
   FftPlanner& operator=(const FftPlanner&) = delete;
 
-  /// Aligned buffers for one transform of `length` real samples: input()[0..length), output()
-  /// [0..length/2] complex. Each thread uses its own.
+  /// One aligned array for an in-place transform of `length` real samples: input()[0..length)
+  /// and output()[0..length/2] complex are the same memory. Each thread uses its own.
   class Buffers {
    public:
     explicit Buffers(std::size_t length);
@@ -79,12 +79,12 @@ class FftPlanner {
 
    private:
     std::size_t length_;
-    double* input_;
     std::complex<double>* output_;
+    double* input_ = nullptr;
   };
 
   /// X[k] = Σ_n x[n]·exp(−j·2π·k·n/N), k = 0..N/2, from buffers.input() into buffers.output().
-  /// Thread-safe. The input is left unchanged.
+  /// Thread-safe. The output overwrites the input.
   void forward(Buffers& buffers);
   /// Same on a copy of `samples` (convenience for small transforms and tests).
   [[nodiscard]] std::vector<std::complex<double>> forward(std::span<const double> samples);
@@ -120,6 +120,10 @@ struct AmplitudeSpectrum {
 ///   rms[k] = √2·|X[k]| / (N·CG) for 0 < k < N/2, |X[k]| / (N·CG) at k = 0 and k = N/2 (N even).
 /// Needs at least 2 samples.
 [[nodiscard]] AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner);
+/// The same, consuming the record: its samples are freed as soon as they are windowed into the
+/// transform buffer, so a long capture is resident once, not twice, while it is transformed (a
+/// 10^8-sample record: 0.8 GB less at the peak).
+[[nodiscard]] AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner);
 
 /// Mean-square value from the spectrum, Σ rms[k]² / ENBW: equals mean(x²) exactly for the
 /// rectangular window (Parseval) and mean((w·x)²)/mean(w²) for the others [V²] or [A²].
