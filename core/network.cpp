@@ -20,6 +20,16 @@ inline cd mul(cd a, cd b) {
   return cd(a.real() * b.real() - a.imag() * b.imag(), a.real() * b.imag() + a.imag() * b.real());
 }
 
+/// 1/z. The library's complex division (C99 Annex G, __divdc3) guards against overflow and NaN
+/// cases at every call and dominated the solve; here |z|² is formed directly when it is well inside
+/// the double range (always, for component values a circuit has), and the guarded form is kept for
+/// the rest, so results at the extremes are unchanged.
+inline cd reciprocal(cd z) {
+  const double norm = z.real() * z.real() + z.imag() * z.imag();
+  if (norm > 1e-290 && norm < 1e290) return cd(z.real() / norm, -z.imag() / norm);
+  return 1.0 / z;
+}
+
 std::string kind_word(ElementKind kind) {
   switch (kind) {
     case ElementKind::resistor: return "resistor";
@@ -335,6 +345,7 @@ bool NetworkSolver::sparse_factorise(SparseWork& work) const {
   cd* a = work.lu.data();
   auto size_of = [](cd z) { return std::abs(z.real()) + std::abs(z.imag()); };
   work.pivot_row.resize(static_cast<std::size_t>(n));
+  work.inverse_pivot.resize(static_cast<std::size_t>(n));
   work.l_begin.assign(static_cast<std::size_t>(n + 1), 0);
   work.u_begin.assign(static_cast<std::size_t>(n + 1), 0);
   work.l_rows.clear();
@@ -361,7 +372,8 @@ bool NetworkSolver::sparse_factorise(SparseWork& work) const {
     for (int j = k + 1; j < n; ++j) {
       if (row_k[j] != cd(0.0, 0.0)) work.u_cols.push_back(j);
     }
-    const cd inverse = 1.0 / row_k[k];
+    const cd inverse = reciprocal(row_k[k]);
+    work.inverse_pivot[static_cast<std::size_t>(k)] = inverse;
     const int c0 = work.u_begin[static_cast<std::size_t>(k)];
     const int c1 = static_cast<int>(work.u_cols.size());
     for (int i = k + 1; i < n; ++i) {
@@ -399,7 +411,7 @@ void NetworkSolver::sparse_solve(const SparseWork& work, cd* x) const {
       const int j = work.u_cols[static_cast<std::size_t>(c)];
       sum -= mul(a[k * n + j], x[j]);
     }
-    x[k] = sum / a[k * n + k];
+    x[k] = mul(sum, work.inverse_pivot[static_cast<std::size_t>(k)]);
   }
 }
 
@@ -414,13 +426,13 @@ void NetworkSolver::element_admittances(double omega, std::vector<cd>& admittanc
     const auto s = static_cast<std::size_t>(slot);
     switch (e.kind) {
       case ElementKind::resistor: admittance[s] = 1.0 / e.value_a; break;
-      case ElementKind::inductor: admittance[s] = 1.0 / cd(e.value_b, omega * e.value_a); break;
+      case ElementKind::inductor: admittance[s] = reciprocal(cd(e.value_b, omega * e.value_a)); break;
       case ElementKind::capacitor: {
         // Y = 1/(ESR + jωESL + 1/(jωC)) = jωC / (1 − ω²·ESL·C + jωC·ESR): finite at every ω > 0
         // except exact series resonance with ESR = 0, where a tiny floor keeps it a near short.
         cd denominator(1.0 - omega * omega * e.value_c * e.value_a, omega * e.value_a * e.value_b);
-        if (std::abs(denominator) < 1e-300) denominator = 1e-300;
-        admittance[s] = j * omega * e.value_a / denominator;
+        if (std::abs(denominator.real()) + std::abs(denominator.imag()) < 1e-300) denominator = 1e-300;
+        admittance[s] = mul(j * omega * e.value_a, reciprocal(denominator));
         break;
       }
       case ElementKind::coupled_inductors: {
@@ -428,10 +440,11 @@ void NetworkSolver::element_admittances(double omega, std::vector<cd>& admittanc
         const double m = e.value_c * std::sqrt(e.value_a * e.value_b);
         const cd z11(e.value_d, omega * e.value_a), z22(e.value_e, omega * e.value_b), z12(0.0, omega * m);
         const cd det = z11 * z22 - z12 * z12;
-        admittance[s] = z22 / det;
-        admittance[s + 1] = -z12 / det;
-        admittance[s + 2] = -z12 / det;
-        admittance[s + 3] = z11 / det;
+        const cd inverse_det = reciprocal(det);
+        admittance[s] = mul(z22, inverse_det);
+        admittance[s + 1] = -mul(z12, inverse_det);
+        admittance[s + 2] = admittance[s + 1];
+        admittance[s + 3] = mul(z11, inverse_det);
         break;
       }
       default: break;

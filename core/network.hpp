@@ -174,6 +174,7 @@ class NetworkSolver {
   struct SparseWork {
     std::vector<std::complex<double>> lu;  ///< row-major n×n, pivot-order coordinates
     std::vector<int> pivot_row;            ///< row swapped into place at each step
+    std::vector<std::complex<double>> inverse_pivot;  ///< 1/U(k,k), for the back substitution
     std::vector<int> l_begin, l_rows;      ///< per step k: rows i > k with L(i,k) ≠ 0
     std::vector<int> u_begin, u_cols;      ///< per step k: columns j > k with U(k,j) ≠ 0
   };
