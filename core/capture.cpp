@@ -20,6 +20,7 @@
 #include <utility>
 #include <vector>
 
+#include "core/huge_pages.hpp"
 #include "core/units.hpp"
 
 namespace spurcast {
@@ -140,8 +141,8 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
                  const ChunkJob& job, ChunkResult& out) {
   constexpr char delimiter = mode == DelimiterMode::comma ? ',' : ';';
   out.first_line_offset = static_cast<std::size_t>(begin - text_begin);
-  out.time.reserve(job.time_reserve);
-  out.value.reserve(job.value_reserve);
+  reserve_with_huge_pages(out.time, job.time_reserve);
+  reserve_with_huge_pages(out.value, job.value_reserve);
   const double factor = job.value_factor;
   const char* released_to = begin;
   double previous_time = -HUGE_VAL;

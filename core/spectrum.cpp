@@ -9,9 +9,11 @@
 #include <filesystem>
 #include <limits>
 #include <numbers>
+#include <thread>
 
 #include "core/error.hpp"
 #include "core/fftw_lock.hpp"
+#include "core/huge_pages.hpp"
 #include "core/units.hpp"
 
 namespace spurcast {
@@ -124,12 +126,15 @@ FftPlanner::Buffers::Buffers(std::size_t length)
       output_(reinterpret_cast<std::complex<double>*>(fftw_alloc_complex(length / 2 + 1))) {
   if (output_ == nullptr) throw Error("out of memory for a transform of " + std::to_string(length) + " samples");
   input_ = reinterpret_cast<double*>(output_);
+  advise_huge_pages(output_, (length / 2 + 1) * sizeof(std::complex<double>));
 }
 
 FftPlanner::Buffers::~Buffers() { fftw_free(output_); }
 
-FftPlanner::FftPlanner(std::string wisdom_file, double planning_limit_s)
-    : wisdom_file_(std::move(wisdom_file)), planning_limit_s_(planning_limit_s) {}
+FftPlanner::FftPlanner(std::string wisdom_file, double planning_limit_s, unsigned threads)
+    : wisdom_file_(std::move(wisdom_file)),
+      planning_limit_s_(planning_limit_s),
+      threads_(threads != 0 ? threads : std::max(1u, std::thread::hardware_concurrency())) {}
 
 FftPlanner::~FftPlanner() {
   const std::lock_guard<std::mutex> lock(mutex_);
@@ -162,6 +167,15 @@ void* FftPlanner::plan_for(std::size_t length) {
     if (!wisdom_file_.empty()) (void)fftw_import_wisdom_from_filename(wisdom_file_.c_str());
   }
   const int n = static_cast<int>(length);
+  // The thread count is FFTW's process-wide planner state: set for this plan, reset after.
+  const bool threaded = threads_ > 1 && length >= min_threaded_length && fftw_threads_ready();
+  if (threaded) fftw_plan_with_nthreads(static_cast<int>(threads_));
+  struct ResetThreads {
+    bool active;
+    ~ResetThreads() {
+      if (active) fftw_plan_with_nthreads(1);
+    }
+  } reset_threads{threaded};
   // Planning with FFTW_MEASURE overwrites the arrays it is given, so plan on scratch arrays of the
   // same (fftw_malloc) alignment and execute later on the caller's with fftw_execute_dft_r2c.
   Buffers scratch(length);
@@ -239,6 +253,7 @@ AmplitudeSpectrum finish_spectrum(Quantity quantity, double sample_rate_hz, Wind
   spectrum.bin_width_hz = sample_rate_hz / static_cast<double>(n);
   spectrum.enbw_bins = static_cast<double>(n) * sum_w2 / (sum_w * sum_w);
   const std::size_t bins = n / 2 + 1;
+  reserve_with_huge_pages(spectrum.rms, bins);
   spectrum.rms.resize(bins);
   // Coherent gain correction: a sine of RMS value a centred on bin k gives |X[k]| = a/√2 · Σw.
   const double line_scale = std::numbers::sqrt2 / sum_w;
