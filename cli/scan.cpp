@@ -5,6 +5,7 @@
 #include <nlohmann/json.hpp>
 
 #include <algorithm>
+#include <cstdlib>
 #include <cmath>
 #include <filesystem>
 #include <fstream>
@@ -25,6 +26,7 @@
 #include "core/receiver.hpp"
 #include "core/scenario.hpp"
 #include "core/source.hpp"
+#include "core/sweep.hpp"
 #include "core/units.hpp"
 
 namespace spurcast::cli {
@@ -39,6 +41,7 @@ struct Options {
   std::string frequencies;
   std::string csv_file;
   bool json = false;
+  unsigned threads = 0;  // 0 = SPURCAST_THREADS, else every core
 };
 
 /// How many of the highest readings the text output lists.
@@ -157,6 +160,7 @@ int run_scan(const Options& options) {
   if (!options.band.empty()) chosen_band = band_from_string(options.band);
 
   // The plans: one per band; spot frequencies go to the given band or to the band that holds each.
+  const unsigned threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   std::vector<ScanPlan> plans;
   if (!options.frequencies.empty()) {
     for (const double f : parse_frequency_list(options.frequencies)) {
@@ -165,6 +169,7 @@ int run_scan(const Options& options) {
       if (plan == plans.end()) {
         ScanPlan spot_plan;
         spot_plan.band = band;
+        spot_plan.threads = threads;
         plans.push_back(spot_plan);
         plan = plans.end() - 1;
       }
@@ -175,6 +180,7 @@ int run_scan(const Options& options) {
     for (const CisprBand band : bands) {
       ScanPlan band_plan;
       band_plan.band = band;
+      band_plan.threads = threads;
       band_plan.step_hz = step_hz;
       plans.push_back(band_plan);
     }
@@ -293,6 +299,8 @@ void setup_scan(CLI::App& app, CommandList& commands) {
   sub->add_option("--frequencies", options->frequencies, "spot readings at these tuned frequencies (e.g. 1.2MHz,3.6MHz)");
   sub->add_option("--csv", options->csv_file, "write every reading to FILE (frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv)");
   sub->add_flag("--json", options->json, "machine-readable output on stdout");
+  sub->add_option("--threads", options->threads, "threads of the FFT receiver (default: SPURCAST_THREADS, else every core)")
+      ->check(CLI::PositiveNumber);
   commands.push_back({sub, [options] { return run_scan(*options); }});
 }
 

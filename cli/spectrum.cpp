@@ -150,7 +150,7 @@ Result sampled_result(Capture capture, const Options& options, std::optional<dou
   const Window window = parse_window(options.window);
   result.window = window_name(window);
   if (f0_hz) check_capture_covers_period(capture, *f0_hz);
-  FftPlanner planner(FftPlanner::default_wisdom_file(), 0.0, options.threads);
+  FftPlanner planner;
   const bool is_current = capture.waveform.quantity == Quantity::current;
   if (at == "current" && !is_current) {
     throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
@@ -400,7 +400,7 @@ void setup_spectrum(CLI::App& app, CommandList& commands) {
   sub->add_option("--max-frequency", options->max_frequency, "highest harmonic frequency listed")->capture_default_str();
   sub->add_option("--csv", options->csv_file, "write harmonic,frequency_hz,level_dbuv,... to this file");
   sub->add_option("--top", options->top, "how many of the strongest harmonics to print")->capture_default_str();
-  sub->add_option("--threads", options->threads, "threads for the capture parser and the transform (default: all cores)");
+  sub->add_option("--threads", options->threads, "capture parser threads (default: all cores)");
   sub->add_flag("--resample", options->resample, "resample a non-uniformly sampled capture instead of failing");
   sub->add_flag("--json", options->json, "print JSON instead of text");
   commands.push_back(Command{sub, [options] { return run_spectrum(*options); }});

@@ -11,9 +11,4 @@ namespace spurcast {
 /// The lock around fftw_plan_* and fftw_destroy_plan calls.
 [[nodiscard]] std::mutex& fftw_planner_mutex();
 
-/// Initialises FFTW's thread support (fftw_init_threads, FFTW 3.3 manual §5.2) the first time it
-/// is called; afterwards does nothing. Call with fftw_planner_mutex() held, before planning with
-/// fftw_plan_with_nthreads(n > 1). False if FFTW could not start it (plans stay single-threaded).
-bool fftw_threads_ready();
-
 }  // namespace spurcast

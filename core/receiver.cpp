@@ -244,10 +244,14 @@ struct FftwPlan {
   fftw_plan plan = nullptr;
 };
 
-// Runs body(begin, end) over [0, count) split into contiguous chunks, one per hardware thread.
+/// The thread count a plan asks for (0 = every hardware thread), at most 64.
+std::size_t thread_count(unsigned requested) {
+  return std::clamp<std::size_t>(requested != 0 ? requested : std::thread::hardware_concurrency(), 1, 64);
+}
+
+// Runs body(begin, end) over [0, count) split into contiguous chunks, one per thread.
 template <typename Body>
-void parallel_chunks(std::size_t count, Body body) {
-  const std::size_t threads = std::clamp<std::size_t>(std::thread::hardware_concurrency(), 1, 64);
+void parallel_chunks(std::size_t threads, std::size_t count, Body body) {
   const std::size_t used = std::min(threads, std::max<std::size_t>(1, count / 8));
   if (used <= 1) {
     body(std::size_t{0}, count);
@@ -304,7 +308,7 @@ struct RecordSpectrum {
   std::vector<std::complex<double>> bins;
 };
 
-RecordSpectrum record_spectrum(const Waveform& waveform) {
+RecordSpectrum record_spectrum(const Waveform& waveform, std::size_t threads) {
   if (!(waveform.sample_rate_hz > 0.0)) throw Error("expected a positive sample rate");
   const std::size_t n = waveform.samples.size();
   if (n < 2) throw Error("expected a record of at least 2 samples, found " + std::to_string(n));
@@ -314,10 +318,12 @@ RecordSpectrum record_spectrum(const Waveform& waveform) {
   spectrum.bins.resize(n / 2 + 1);
   spectrum.scale = 2.0 / static_cast<double>(n);
   auto* output = reinterpret_cast<fftw_complex*>(spectrum.bins.data());
-  if (n % 2 == 0 && n >= 32768 && std::thread::hardware_concurrency() >= 2) {
-    // One radix-2 decimation-in-time step (Cooley & Tukey 1965), so that both cores transform:
+  if (n % 2 == 0 && n >= 32768) {
+    // One radix-2 decimation-in-time step (Cooley & Tukey 1965), so that two cores transform:
     // X[k] = E[k] + exp(−j2πk/N)·O[k], E and O the N/2-point transforms of the even and odd
-    // samples (E[k] = conj(E[N/2 − k]) above N/4, the real-input symmetry).
+    // samples (E[k] = conj(E[N/2 − k]) above N/4, the real-input symmetry). The same arithmetic
+    // runs whatever the thread count (one thread does the halves in turn), so the readings are
+    // identical bit for bit across thread counts.
     const std::size_t h = n / 2;
     RealBuffer even(h);
     RealBuffer odd(h);
@@ -331,16 +337,25 @@ RecordSpectrum record_spectrum(const Waveform& waveform) {
       for (std::size_t i = 0; i < h; ++i) in.data[i] = samples[2 * i + phase];
       fftw_execute_dft_r2c(plan.plan, in.data, out.data);  // thread-safe (FFTW 3.3 manual §5.4)
     };
-    std::thread odd_worker([&] { transform(1, odd, odd_out); });
-    transform(0, even, even_out);
-    odd_worker.join();
+    if (threads >= 2) {
+      std::thread odd_worker([&] { transform(1, odd, odd_out); });
+      transform(0, even, even_out);
+      odd_worker.join();
+    } else {
+      transform(0, even, even_out);
+      transform(1, odd, odd_out);
+    }
     const double angle_step = -2.0 * std::numbers::pi / static_cast<double>(n);
-    parallel_chunks(h + 1, [&](std::size_t begin, std::size_t end) {
+    parallel_chunks(threads, h + 1, [&](std::size_t begin, std::size_t end) {
       const std::complex<double> rotation = std::polar(1.0, angle_step);
-      std::complex<double> twiddle;
+      // The twiddle by recurrence, recomputed exactly at every multiple of 1024 bins (rounding
+      // stays < 1e-13). A chunk starting between anchors first steps from the anchor before it,
+      // so every bin gets the same twiddle however the bins are split between threads.
+      const std::size_t anchor = begin / 1024 * 1024;
+      std::complex<double> twiddle = std::polar(1.0, angle_step * static_cast<double>(anchor));
+      for (std::size_t k = anchor; k < begin; ++k) twiddle *= rotation;
       for (std::size_t k = begin; k < end; ++k) {
-        // The twiddle by recurrence, recomputed exactly every 1024 bins (rounding stays < 1e-13).
-        if ((k - begin) % 1024 == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
+        if (k % 1024 == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
         const bool mirrored = k > h / 2;
         const std::size_t j = mirrored ? h - k : k;
         const std::complex<double> e(even_out.data[j][0], mirrored ? -even_out.data[j][1] : even_out.data[j][1]);
@@ -429,7 +444,7 @@ ScanResult empty_scan_result(Quantity quantity, const ScanPlan& plan) {
 
 Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double bandwidth_6db_hz) {
   check_sample_rate(waveform, band_for_frequency(tuned_hz), tuned_hz, bandwidth_6db_hz);
-  const RecordSpectrum spectrum = record_spectrum(waveform);
+  const RecordSpectrum spectrum = record_spectrum(waveform, thread_count(0));
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, bandwidth_6db_hz);
   FftwBuffer buffer(m);
   const FftwPlan plan([&] { return fftw_plan_dft_1d(static_cast<int>(m), buffer.data, buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE); });
@@ -466,7 +481,7 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
                 "): record longer, or state the switching frequency to treat the record as whole periods");
   }
 
-  const RecordSpectrum spectrum = record_spectrum(waveform);
+  const RecordSpectrum spectrum = record_spectrum(waveform, thread_count(plan.threads));
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, band.bandwidth_6db_hz);
   const double envelope_interval_s = spectrum.period_s / static_cast<double>(m);
   const DetectorModel model = make_detector_model(band.detector);
@@ -477,7 +492,7 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const WaveformEnvelopeWork work{spectrum, band.bandwidth_6db_hz, backward.plan, m};
 
   result.readings.resize(frequencies.size());
-  parallel_chunks(frequencies.size(), [&](std::size_t begin, std::size_t end) {
+  parallel_chunks(thread_count(plan.threads), frequencies.size(), [&](std::size_t begin, std::size_t end) {
     FftwBuffer buffer(m);
     std::vector<std::complex<double>> phasors;
     std::vector<double> envelope;
@@ -522,7 +537,7 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
   const auto harmonic_count = static_cast<long long>(lines.harmonics.size());
 
   result.readings.resize(frequencies.size());
-  parallel_chunks(frequencies.size(), [&](std::size_t begin, std::size_t end) {
+  parallel_chunks(thread_count(plan.threads), frequencies.size(), [&](std::size_t begin, std::size_t end) {
     FftwBuffer buffer(m);
     std::vector<std::complex<double>> phasors;
     std::vector<double> envelope;

@@ -89,6 +89,9 @@ struct ScanPlan {
   /// exact; otherwise scan_waveform refuses a record shorter than 1/B6, which cannot resolve the
   /// IF bandwidth.
   bool periodic_record = false;
+  /// Threads of the sampled path (its record transform and the tuned frequencies, split into
+  /// contiguous runs); 0 = std::thread::hardware_concurrency(). The readings do not depend on it.
+  unsigned threads = 0;
 };
 
 /// One tuned frequency. Levels are RMS-calibrated readings in dBµV for a voltage, dBµA for a current;
@@ -121,7 +124,7 @@ struct ScanResult {
 /// for each tuned frequency the bins within ±2·B6 are weighted by the Gaussian IF response and
 /// inverse-transformed into a decimated complex envelope, on which the detectors run.
 /// Error if the sample rate does not cover the band (tuned frequency + 2·B6 above Nyquist) or the
-/// record is empty. Uses up to std::thread::hardware_concurrency() threads.
+/// record is empty. Uses plan.threads threads.
 [[nodiscard]] ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan);
 
 /// Exact receiver for a periodic line spectrum: the IF output at each tuned frequency is the sum of

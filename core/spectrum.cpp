@@ -9,7 +9,6 @@
 #include <filesystem>
 #include <limits>
 #include <numbers>
-#include <thread>
 
 #include "core/error.hpp"
 #include "core/fftw_lock.hpp"
@@ -131,10 +130,8 @@ FftPlanner::Buffers::Buffers(std::size_t length)
 
 FftPlanner::Buffers::~Buffers() { fftw_free(output_); }
 
-FftPlanner::FftPlanner(std::string wisdom_file, double planning_limit_s, unsigned threads)
-    : wisdom_file_(std::move(wisdom_file)),
-      planning_limit_s_(planning_limit_s),
-      threads_(threads != 0 ? threads : std::max(1u, std::thread::hardware_concurrency())) {}
+FftPlanner::FftPlanner(std::string wisdom_file, double planning_limit_s)
+    : wisdom_file_(std::move(wisdom_file)), planning_limit_s_(planning_limit_s) {}
 
 FftPlanner::~FftPlanner() {
   const std::lock_guard<std::mutex> lock(mutex_);
@@ -167,15 +164,6 @@ void* FftPlanner::plan_for(std::size_t length) {
     if (!wisdom_file_.empty()) (void)fftw_import_wisdom_from_filename(wisdom_file_.c_str());
   }
   const int n = static_cast<int>(length);
-  // The thread count is FFTW's process-wide planner state: set for this plan, reset after.
-  const bool threaded = threads_ > 1 && length >= min_threaded_length && fftw_threads_ready();
-  if (threaded) fftw_plan_with_nthreads(static_cast<int>(threads_));
-  struct ResetThreads {
-    bool active;
-    ~ResetThreads() {
-      if (active) fftw_plan_with_nthreads(1);
-    }
-  } reset_threads{threaded};
   // Planning with FFTW_MEASURE overwrites the arrays it is given, so plan on scratch arrays of the
   // same (fftw_malloc) alignment and execute later on the caller's with fftw_execute_dft_r2c.
   Buffers scratch(length);

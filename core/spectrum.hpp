@@ -60,10 +60,7 @@ class FftPlanner {
  public:
   /// wisdom_file: "" for none; default: $XDG_CACHE_HOME/spurcast/fftw-wisdom, else
   /// ~/.cache/spurcast/fftw-wisdom. planning_limit_s ≤ 0: never measure (see above).
-  /// threads: FFTW threads for one large transform (FFTW 3.3 manual §5, fftw_plan_with_nthreads);
-  /// 0 = std::thread::hardware_concurrency(). Transforms under min_threaded_length run on one.
-  explicit FftPlanner(std::string wisdom_file = default_wisdom_file(), double planning_limit_s = 0.0,
-                      unsigned threads = 1);
+  explicit FftPlanner(std::string wisdom_file = default_wisdom_file(), double planning_limit_s = 0.0);
   ~FftPlanner();
   FftPlanner(const FftPlanner&) = delete;
   FftPlanner& operator=(const FftPlanner&) = delete;
@@ -95,17 +92,12 @@ class FftPlanner {
   /// The default wisdom path described above, or "" when neither variable is set.
   [[nodiscard]] static std::string default_wisdom_file();
 
-  /// Below this length a transform takes well under a millisecond and threads cost more than
-  /// they save.
-  static constexpr std::size_t min_threaded_length = std::size_t{1} << 18;
-
  private:
   void* plan_for(std::size_t length);  // fftw_plan, created on first use (mutex held inside)
   std::mutex mutex_;
   std::map<std::size_t, void*> plans_;
   std::string wisdom_file_;
   double planning_limit_s_;
-  unsigned threads_;
   bool wisdom_loaded_ = false;
 };
 

@@ -1,9 +1,8 @@
 // Reproducibility (issue 9): the same inputs give byte-identical CSV and JSON, run to run and across
 // thread counts. The CLI runs twice (or once per thread count) on the shipped examples with the SAME
 // output path each time, and the written files and the --json output are compared byte for byte.
-// Thread knobs that exist: `spectrum --threads N` (capture parser), `sweep --threads N` and the
-// SPURCAST_THREADS environment variable (sweep workers). The FFT receiver of `scan` picks its thread
-// count from the hardware and has no knob yet; it is compared run to run only.
+// Thread knobs: `spectrum --threads N` (capture parser), `sweep --threads N` and `scan --threads N`,
+// and the SPURCAST_THREADS environment variable (sweep workers, FFT receiver of scan).
 // A subcommand the executable does not offer (yet) is skipped with a message.
 #include <doctest/doctest.h>
 
@@ -170,6 +169,16 @@ TEST_CASE("a receiver scan gives the same CSV twice") {
   const fs::path csv = s.root / "scan.csv";
   check_identical({"scan", "examples/greenhouse-buck.toml", "--band", "B", "--csv", csv.string(), "--json"}, csv,
                   {"", ""}, s.root);
+}
+
+TEST_CASE("the FFT receiver gives the same scan with 1, 2 and 3 threads (a dithered source)") {
+  // The dithered example goes through the sampled path: one record transform split in two
+  // halves, and the tuned frequencies split between threads.
+  Scratch s;
+  if (!offers("scan", s.root)) return;
+  const fs::path csv = s.root / "scan-dithered.csv";
+  check_identical({"scan", "examples/boat-cabin-led.toml", "--band", "B", "--csv", csv.string(), "--json"}, csv,
+                  {"SPURCAST_THREADS=1", "SPURCAST_THREADS=2", "SPURCAST_THREADS=3"}, s.root);
 }
 
 TEST_CASE("a sweep gives the same CSV and JSON with 1 and 3 worker threads") {
