@@ -175,8 +175,8 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
     for (const BandReception& b : p.reception) {
       const std::string verdict_name = reception_verdict_name(b.verdict);
       std::vector<std::string> row{b.band.name,
-                                   format_quantity(b.band.low_hz, Dimension::frequency) + " - " +
-                                       format_quantity(b.band.high_hz, Dimension::frequency),
+                                   format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " - " +
+                                       format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits),
                                    paint(verdict_name, reception_colour(verdict_name), colour)};
       if (b.worst_channel) {
         const ChannelReception& c = b.channels[*b.worst_channel];

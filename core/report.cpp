@@ -444,7 +444,8 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   add("broadcast", "ground reflection", b.ground_reflection ? "yes (+6 dB)" : "no");
   for (const Band& band : b.extra_bands) {
     add("broadcast", "user band " + band.name,
-        q(band.low_hz, Dimension::frequency) + " \xE2\x80\x93 " + q(band.high_hz, Dimension::frequency));
+        format_quantity(band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
+            format_quantity(band.high_hz, Dimension::frequency, band_edge_digits));
   }
   return rows;
 }
@@ -707,8 +708,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   std::vector<std::string> caveats;  // distinct caveats, numbered once below the table
   for (const BandReception& b : p.reception) {
     out += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
-           html(format_quantity(b.band.low_hz, Dimension::frequency) + " \xE2\x80\x93 " +
-                format_quantity(b.band.high_hz, Dimension::frequency)) +
+           html(format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
+                format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits)) +
            "</td><td>" + tag(reception_verdict_name(b.verdict)) + "</td>";
     if (b.worst_channel) {
       const ChannelReception& c = b.channels[*b.worst_channel];

@@ -172,55 +172,65 @@ LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude, boo
 
 }  // namespace
 
-void validate_switching(const SwitchingSpec& spec) {
+std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
+  const auto problem = [](std::string key, std::string message) {
+    return std::optional<SwitchingProblem>(SwitchingProblem{std::move(key), std::move(message)});
+  };
   if (!(spec.frequency_hz > 0.0) || !std::isfinite(spec.frequency_hz)) {
-    throw Error("switching frequency must be positive, found " + number_text(spec.frequency_hz) + " Hz");
+    return problem("frequency", "switching frequency must be positive, found " + number_text(spec.frequency_hz) + " Hz");
   }
   if (!(spec.duty > 0.0 && spec.duty < 1.0)) {
-    throw Error("duty must be in (0, 1), found " + number_text(spec.duty));
+    return problem("duty", "duty must be in (0, 1), found " + number_text(spec.duty));
   }
   if (spec.amplitude_v < 0.0 || !std::isfinite(spec.amplitude_v)) {
-    throw Error("amplitude must not be negative, found " + number_text(spec.amplitude_v) + " V");
+    return problem("amplitude", "amplitude must not be negative, found " + number_text(spec.amplitude_v) + " V");
   }
   if (spec.current_a < 0.0 || !std::isfinite(spec.current_a)) {
-    throw Error("current must not be negative, found " + number_text(spec.current_a) + " A");
+    return problem("current", "current must not be negative, found " + number_text(spec.current_a) + " A");
   }
-  if (spec.rise_s < 0.0 || spec.fall_s < 0.0) throw Error("rise and fall times must not be negative");
+  if (spec.rise_s < 0.0 || spec.fall_s < 0.0) {
+    return problem(spec.rise_s < 0.0 ? "rise" : "fall", "rise and fall times must not be negative");
+  }
   const double period_s = spec.period_s();
   const double edges_s = spec.rise_s + spec.fall_s;
   if (edges_s >= period_s) {
-    throw Error("rise + fall (" + format_quantity(edges_s, Dimension::time) + ") is longer than the period (" +
+    return problem("fall", "rise + fall (" + format_quantity(edges_s, Dimension::time) + ") is longer than the period (" +
                 format_quantity(period_s, Dimension::time) + ")");
   }
   // With 50 % points τ apart, each ramp extends half its length either side: the plateau and
   // the off time must stay non-negative.
   const double width_s = spec.duty * period_s;
   if (edges_s / 2.0 > width_s + 1e-18) {
-    throw Error("the edges do not fit in the on time: (rise + fall)/2 = " +
+    return problem("duty", "the edges do not fit in the on time: (rise + fall)/2 = " +
                 format_quantity(edges_s / 2.0, Dimension::time) + " exceeds duty x period = " +
                 format_quantity(width_s, Dimension::time));
   }
   if (edges_s / 2.0 > period_s - width_s + 1e-18) {
-    throw Error("the edges do not fit in the off time: (rise + fall)/2 = " +
+    return problem("duty", "the edges do not fit in the off time: (rise + fall)/2 = " +
                 format_quantity(edges_s / 2.0, Dimension::time) + " exceeds (1 - duty) x period = " +
                 format_quantity(period_s - width_s, Dimension::time));
   }
   if (spec.ringing) {
     const RingingSpec& r = *spec.ringing;
-    if (!(r.frequency_hz > 0.0)) throw Error("ringing frequency must be positive");
-    if (!(r.decay_s > 0.0)) throw Error("ringing decay must be positive");
-    if (r.relative_amplitude < 0.0) throw Error("ringing amplitude must not be negative");
+    if (!(r.frequency_hz > 0.0)) return problem("ringing.frequency", "ringing frequency must be positive");
+    if (!(r.decay_s > 0.0)) return problem("ringing.decay", "ringing decay must be positive");
+    if (r.relative_amplitude < 0.0) return problem("ringing.amplitude", "ringing amplitude must not be negative");
   }
   if (spec.dither) {
     const DitherSpec& d = *spec.dither;
     if (!(d.deviation_fraction > 0.0 && d.deviation_fraction < 0.5)) {
-      throw Error("dither deviation must be in (0, 50 %), found " + format_quantity(d.deviation_fraction, Dimension::fraction));
+      return problem("dither.deviation", "dither deviation must be in (0, 50 %), found " + format_quantity(d.deviation_fraction, Dimension::fraction));
     }
-    if (!(d.rate_hz > 0.0)) throw Error("dither rate must be positive");
+    if (!(d.rate_hz > 0.0)) return problem("dither.rate", "dither rate must be positive");
     if (d.rate_hz >= spec.frequency_hz / 2.0) {
-      throw Error("dither rate must be below half the switching frequency");
+      return problem("dither.rate", "dither rate must be below half the switching frequency");
     }
   }
+  return std::nullopt;
+}
+
+void validate_switching(const SwitchingSpec& spec) {
+  if (const auto problem = switching_problem(spec)) throw Error(problem->message);
 }
 
 SwitchingSpec read_switching_section(TableReader& reader) {
@@ -261,10 +271,16 @@ SwitchingSpec read_switching_section(TableReader& reader) {
   }
   reader.finish({"frequency", "duty", "amplitude", "current", "rise", "fall", "rise_10_90", "fall_10_90",
                  "ringing", "dither"});
-  try {
-    validate_switching(spec);
-  } catch (const Error& e) {
-    throw Error(reader.table_position(), e.message());
+  if (const auto problem = switching_problem(spec)) {
+    // At the key's value: "rise" stands for "rise_10_90" too, "ringing.decay" is in a sub-table.
+    std::string key = problem->key;
+    if ((key == "rise" || key == "fall") && reader.has(key + "_10_90")) key += "_10_90";
+    const std::size_t dot = key.find('.');
+    if (dot == std::string::npos) reader.fail(key, problem->message);
+    const toml::node* table = reader.node(key.substr(0, dot));
+    const toml::node* value =
+        table != nullptr && table->as_table() != nullptr ? table->as_table()->get(key.substr(dot + 1)) : nullptr;
+    throw Error(value != nullptr ? position_of(*value, reader.file()) : reader.table_position(), problem->message);
   }
   return spec;
 }

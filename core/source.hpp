@@ -56,8 +56,17 @@ struct SwitchingSpec {
 /// Checks the physical ranges (duty in (0, 1), the edges fit in the on and off times, ...).
 [[nodiscard]] SwitchingSpec read_switching_section(TableReader& reader);
 
-/// Throws Error (without position) when the edges do not fit the period, a value is out of its
-/// range, etc. Called by the reader and by anyone who builds a spec by hand.
+/// What is wrong with a switching spec: the scenario key at fault ("duty", "rise", "fall",
+/// "ringing.decay", "dither.rate", ...) and the message.
+struct SwitchingProblem {
+  std::string key;
+  std::string message;
+};
+/// The first problem of a spec (edges that do not fit the period, a value out of its range), or
+/// nullopt when it is usable.
+[[nodiscard]] std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec);
+/// Throws Error (without position) with switching_problem()'s message. Called by anyone who builds
+/// a spec by hand; the reader reports the problem at its key instead.
 void validate_switching(const SwitchingSpec& spec);
 
 /// One breakpoint of a periodic piecewise-linear waveform.

@@ -38,6 +38,9 @@ enum class Dimension {
 /// Engineering notation with the SI prefix: format_quantity(220e3, Dimension::frequency) ==
 /// "220 kHz"; `significant` digits (default 4), trailing zeros dropped.
 [[nodiscard]] std::string format_quantity(double value, Dimension dimension, int significant = 4);
+/// Digits for values that are exact by definition, such as the edges of a broadcast band
+/// (1606.5 kHz must not print as 1.607 MHz).
+inline constexpr int band_edge_digits = 7;
 
 // Decibel conversions. Levels are RMS. dBµV = 20·log10(V / 1 µV), dBµA = 20·log10(I / 1 µA).
 [[nodiscard]] double volts_to_dbuv(double volts);
