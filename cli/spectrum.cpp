@@ -126,9 +126,9 @@ std::vector<double> levels_of(const std::vector<std::complex<double>>& phasors, 
 
 /// The harmonic table of a sampled record at f0 (estimated when not given). Takes the record by
 /// value: callers move it in at its last use, and the spectrum frees it once windowed.
-HarmonicTable sampled_table(Waveform waveform, Window window, FftPlanner& planner, std::optional<double> f0_hz,
+HarmonicTable sampled_table(Waveform waveform, Window window, FftPlanner& planner, unsigned threads, std::optional<double> f0_hz,
                             double max_frequency_hz, Result& result) {
-  const AmplitudeSpectrum spectrum = amplitude_spectrum(std::move(waveform), window, planner);
+  const AmplitudeSpectrum spectrum = amplitude_spectrum(std::move(waveform), window, planner, threads);
   if (result.fundamental_hz == 0.0) {
     // Refine a given f_sw against the record (a real converter is off its nominal frequency by
     // more than a bin of a long record); estimate it when none was given.
@@ -158,7 +158,7 @@ Result sampled_result(Capture capture, const Options& options, std::optional<dou
   if (at != "lisn") {
     result.what = is_current ? "captured current" : "captured voltage";
     result.quantity = capture.waveform.quantity;
-    result.rows = rows_from_table(sampled_table(std::move(capture.waveform), window, planner, f0_hz, max_frequency_hz, result));
+    result.rows = rows_from_table(sampled_table(std::move(capture.waveform), window, planner, options.threads, f0_hz, max_frequency_hz, result));
   } else {
     const ConductedModel model(scenario->coupling, scenario->filters, scenario->lisn);
     Waveform source_v;
@@ -180,15 +180,15 @@ Result sampled_result(Capture capture, const Options& options, std::optional<dou
     result.what = "LISN receiver port (from the captured " + std::string(is_current ? "current" : "voltage") + ")";
     result.quantity = Quantity::voltage;
     // The source record sets f0 (estimated once, on the source); the port records are read at it.
-    (void)sampled_table(std::move(capture.waveform), window, planner, f0_hz, max_frequency_hz, result);
+    (void)sampled_table(std::move(capture.waveform), window, planner, options.threads, f0_hz, max_frequency_hz, result);
     auto levels = [&](Waveform&& w) {
       std::vector<double> out;
-      for (const HarmonicLevel& line : sampled_table(std::move(w), window, planner, f0_hz, max_frequency_hz, result).lines) {
+      for (const HarmonicLevel& line : sampled_table(std::move(w), window, planner, options.threads, f0_hz, max_frequency_hz, result).lines) {
         out.push_back(line.level_db);
       }
       return out;
     };
-    result.rows = rows_from_table(sampled_table(v1, window, planner, f0_hz, max_frequency_hz, result));
+    result.rows = rows_from_table(sampled_table(v1, window, planner, options.threads, f0_hz, max_frequency_hz, result));
     std::vector<double> l1;
     for (const Row& row : result.rows) l1.push_back(row.level_db);
     std::vector<double> l2 = levels(std::move(v2));

@@ -9,6 +9,8 @@
 #include <filesystem>
 #include <limits>
 #include <numbers>
+#include <exception>
+#include <thread>
 
 #include "core/error.hpp"
 #include "core/fftw_lock.hpp"
@@ -26,14 +28,20 @@ constexpr double pi = std::numbers::pi;
 // loss, below 0.02 dB, is checked numerically in tests/spectrum_test.cpp).
 constexpr double flat_top_a[5] = {0.21557895, 0.41663158, 0.277263158, 0.083578947, 0.006947368};
 
-/// Fills out[n] = w[n]·x[n] and returns Σw and Σw². cos(2πn/N) comes from a rotation re-anchored
-/// every 1024 samples (exact cos/sin there), which keeps the window within 1e-13 of the formula at a
-/// fraction of the cost of a cos() per sample.
-void apply_window(Window window, const double* x, double* out, std::size_t n, double& sum_w, double& sum_w2) {
+/// Windows samples [begin, end) of an n-sample record: store(i, w[i]·x[i]) for each, and returns
+/// Σw and Σw² over the range. cos(2πi/N) comes from a rotation re-anchored every 1024 samples
+/// (exact cos/sin there), which keeps the window within 1e-13 of the formula at a fraction of the
+/// cost of a cos() per sample; `begin` is a multiple of 1024, so a record windowed in parts gets
+/// the same values as in one go.
+constexpr std::size_t window_block = 1024;
+
+template <typename Store>
+void window_range(Window window, const double* x, std::size_t n, std::size_t begin, std::size_t end, Store store,
+                  double& sum_w, double& sum_w2) {
   if (window == Window::rectangular) {
-    std::copy(x, x + n, out);
-    sum_w = static_cast<double>(n);
-    sum_w2 = static_cast<double>(n);
+    for (std::size_t i = begin; i < end; ++i) store(i, x[i]);
+    sum_w = static_cast<double>(end - begin);
+    sum_w2 = sum_w;
     return;
   }
   const double theta = 2.0 * pi / static_cast<double>(n);
@@ -41,11 +49,11 @@ void apply_window(Window window, const double* x, double* out, std::size_t n, do
   const double step_s = std::sin(theta);
   double s1 = 0.0;
   double s2 = 0.0;
-  constexpr std::size_t block = 1024;
-  for (std::size_t start = 0; start < n; start += block) {
+  constexpr std::size_t block = window_block;
+  for (std::size_t start = begin; start < end; start += block) {
     double c = std::cos(theta * static_cast<double>(start));
     double s = std::sin(theta * static_cast<double>(start));
-    const std::size_t stop = std::min(n, start + block);
+    const std::size_t stop = std::min(end, start + block);
     for (std::size_t i = start; i < stop; ++i) {
       double w;
       if (window == Window::hann) {
@@ -57,7 +65,7 @@ void apply_window(Window window, const double* x, double* out, std::size_t n, do
         const double c4 = 2.0 * c2 * c2 - 1.0;
         w = flat_top_a[0] - flat_top_a[1] * c + flat_top_a[2] * c2 - flat_top_a[3] * c3 + flat_top_a[4] * c4;
       }
-      out[i] = w * x[i];
+      store(i, w * x[i]);
       s1 += w;
       s2 += w * w;
       const double next_c = c * step_c - s * step_s;
@@ -67,6 +75,32 @@ void apply_window(Window window, const double* x, double* out, std::size_t n, do
   }
   sum_w = s1;
   sum_w2 = s2;
+}
+
+/// Fills out[i] = w[i]·x[i] for the whole record and returns Σw and Σw².
+void apply_window(Window window, const double* x, double* out, std::size_t n, double& sum_w, double& sum_w2) {
+  window_range(window, x, n, 0, n, [out](std::size_t i, double v) { out[i] = v; }, sum_w, sum_w2);
+}
+
+/// Runs part(0) and part(1), on two threads when `threads` >= 2. The work is the same either way.
+template <typename Part>
+void two_parts(unsigned threads, Part part) {
+  if (threads >= 2) {
+    std::exception_ptr error;
+    std::thread second([&] {
+      try {
+        part(1);
+      } catch (...) {
+        error = std::current_exception();
+      }
+    });
+    part(0);
+    second.join();
+    if (error) std::rethrow_exception(error);
+  } else {
+    part(0);
+    part(1);
+  }
 }
 
 std::string format_number(double x) {
@@ -257,25 +291,96 @@ AmplitudeSpectrum finish_spectrum(Quantity quantity, double sample_rate_hz, Wind
   return spectrum;
 }
 
-}  // namespace
+/// Records at least this long (and of even length) are transformed as two halves.
+constexpr std::size_t split_min_length = std::size_t{1} << 16;
 
-AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner) {
+AmplitudeSpectrum spectrum_of(const Waveform& waveform, std::vector<double>* consumed, Window window,
+                              FftPlanner& planner, unsigned threads) {
   check_record(waveform);
-  FftPlanner::Buffers buffers(waveform.samples.size());
-  double sum_w = 0.0;
-  double sum_w2 = 0.0;
-  apply_window(window, waveform.samples.data(), buffers.input(), buffers.length(), sum_w, sum_w2);
-  return finish_spectrum(waveform.quantity, waveform.sample_rate_hz, window, buffers, sum_w, sum_w2, planner);
+  const std::size_t n = waveform.samples.size();
+  threads = threads != 0 ? threads : std::max(1u, std::thread::hardware_concurrency());
+  if (n % 2 != 0 || n < split_min_length) {
+    FftPlanner::Buffers buffers(n);
+    double sum_w = 0.0;
+    double sum_w2 = 0.0;
+    apply_window(window, waveform.samples.data(), buffers.input(), n, sum_w, sum_w2);
+    if (consumed != nullptr) std::vector<double>().swap(*consumed);
+    return finish_spectrum(waveform.quantity, waveform.sample_rate_hz, window, buffers, sum_w, sum_w2, planner);
+  }
+  // One radix-2 decimation-in-time step (Cooley & Tukey, Math. Comp. 19, 1965): the N/2-point
+  // transforms E and O of the even and odd samples give X[k] = E[k] + exp(−j2πk/N)·O[k] for
+  // 0 <= k <= N/2, with E[k] = conj(E[N/2 − k]) above N/4 (real input). Two half-length plans
+  // cost half the planning of one full one (FFTW computes every twiddle with sincos), the halves
+  // transform on two cores, and the magnitudes are read straight from E and O. Every step is split
+  // in the same two parts whatever the thread count, so the result does not depend on it.
+  const std::size_t h = n / 2;
+  FftPlanner::Buffers even(h);
+  FftPlanner::Buffers odd(h);
+  double* even_in = even.input();
+  double* odd_in = odd.input();
+  const std::size_t middle = std::max<std::size_t>(window_block, h / window_block * window_block);  // even, block-aligned
+  double sum_w_part[2] = {0.0, 0.0};
+  double sum_w2_part[2] = {0.0, 0.0};
+  const double* x = waveform.samples.data();
+  two_parts(threads, [&](int part) {
+    const std::size_t begin = part == 0 ? 0 : middle;
+    const std::size_t end = part == 0 ? middle : n;
+    window_range(window, x, n, begin, end,
+                 [even_in, odd_in](std::size_t i, double v) { ((i & 1) != 0 ? odd_in : even_in)[i >> 1] = v; },
+                 sum_w_part[part], sum_w2_part[part]);
+  });
+  if (consumed != nullptr) std::vector<double>().swap(*consumed);
+  const double sum_w = sum_w_part[0] + sum_w_part[1];
+  const double sum_w2 = sum_w2_part[0] + sum_w2_part[1];
+  two_parts(threads, [&](int part) { planner.forward(part == 0 ? even : odd); });
+
+  AmplitudeSpectrum spectrum;
+  spectrum.quantity = waveform.quantity;
+  spectrum.window = window;
+  spectrum.sample_rate_hz = waveform.sample_rate_hz;
+  spectrum.record_length = n;
+  spectrum.bin_width_hz = waveform.sample_rate_hz / static_cast<double>(n);
+  spectrum.enbw_bins = static_cast<double>(n) * sum_w2 / (sum_w * sum_w);
+  const std::size_t bins = h + 1;
+  reserve_with_huge_pages(spectrum.rms, bins);
+  spectrum.rms.resize(bins);
+  const double line_scale = std::numbers::sqrt2 / sum_w;  // as in finish_spectrum
+  const std::complex<double>* e = even.output();
+  const std::complex<double>* o = odd.output();
+  const double angle_step = -2.0 * pi / static_cast<double>(n);
+  const std::size_t bins_middle = std::max<std::size_t>(window_block, h / 2 / window_block * window_block);
+  two_parts(threads, [&](int part) {
+    const std::size_t begin = part == 0 ? 0 : std::min(bins_middle, bins);
+    const std::size_t end = part == 0 ? std::min(bins_middle, bins) : bins;
+    const std::complex<double> rotation = std::polar(1.0, angle_step);
+    std::complex<double> twiddle;
+    for (std::size_t k = begin; k < end; ++k) {
+      // exp(−j2πk/N) by recurrence, exact at every multiple of 1024 (begin is one).
+      if (k % window_block == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
+      const bool mirrored = k > h / 2;
+      const std::size_t j = mirrored ? h - k : k;
+      const std::complex<double> ek = mirrored ? std::conj(e[j]) : e[j];
+      const std::complex<double> ok = mirrored ? std::conj(o[j]) : o[j];
+      const std::complex<double> xk = ek + twiddle * ok;
+      spectrum.rms[k] = line_scale * std::sqrt(xk.real() * xk.real() + xk.imag() * xk.imag());
+      twiddle *= rotation;
+    }
+  });
+  spectrum.dc = (e[0].real() + o[0].real()) / sum_w;
+  spectrum.rms[0] = std::abs(spectrum.dc);
+  spectrum.rms[bins - 1] /= std::numbers::sqrt2;  // the Nyquist bin is real, not a pair
+  return spectrum;
 }
 
-AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner) {
-  check_record(waveform);
-  FftPlanner::Buffers buffers(waveform.samples.size());
-  double sum_w = 0.0;
-  double sum_w2 = 0.0;
-  apply_window(window, waveform.samples.data(), buffers.input(), buffers.length(), sum_w, sum_w2);
-  std::vector<double>().swap(waveform.samples);  // the windowed copy in the buffer is all that is needed now
-  return finish_spectrum(waveform.quantity, waveform.sample_rate_hz, window, buffers, sum_w, sum_w2, planner);
+}  // namespace
+
+AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner, unsigned threads) {
+  return spectrum_of(waveform, nullptr, window, planner, threads);
+}
+
+AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner, unsigned threads) {
+  // The samples are freed as soon as they are windowed into the transform buffers.
+  return spectrum_of(waveform, &waveform.samples, window, planner, threads);
 }
 
 double total_power(const AmplitudeSpectrum& spectrum) {

@@ -119,11 +119,16 @@ struct AmplitudeSpectrum {
 /// Windows the samples, transforms them and scales to single-sided RMS:
 ///   rms[k] = √2·|X[k]| / (N·CG) for 0 < k < N/2, |X[k]| / (N·CG) at k = 0 and k = N/2 (N even).
 /// Needs at least 2 samples.
-[[nodiscard]] AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner);
+/// Records of even length from 2^16 samples are transformed as two half-length transforms (one
+/// radix-2 step) on up to two threads (`threads`, 0 = all cores); the result does not depend on
+/// the thread count.
+[[nodiscard]] AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner,
+                                                   unsigned threads = 0);
 /// The same, consuming the record: its samples are freed as soon as they are windowed into the
 /// transform buffer, so a long capture is resident once, not twice, while it is transformed (a
 /// 10^8-sample record: 0.8 GB less at the peak).
-[[nodiscard]] AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner);
+[[nodiscard]] AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner,
+                                                   unsigned threads = 0);
 
 /// Mean-square value from the spectrum, Σ rms[k]² / ENBW: equals mean(x²) exactly for the
 /// rectangular window (Parseval) and mean((w·x)²)/mean(w²) for the others [V²] or [A²].
