@@ -10,6 +10,7 @@
 #include <iostream>
 #include <optional>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include <unistd.h>
@@ -141,8 +142,8 @@ HarmonicTable sampled_table(Waveform waveform, Window window, FftPlanner& planne
   return harmonic_table(spectrum, result.fundamental_hz, max_frequency_hz);
 }
 
-Result sampled_result(Capture capture, const Options& options, std::optional<double> f0_hz, double max_frequency_hz,
-                      const std::string& at, const Scenario* scenario) {
+Result sampled_result(Capture capture, FftPlanner& planner, const Options& options, std::optional<double> f0_hz,
+                      double max_frequency_hz, const std::string& at, const Scenario* scenario) {
   Result result;
   result.capture_samples = capture.waveform.samples.size();
   result.capture_duration_s = capture.waveform.duration_s();
@@ -150,7 +151,6 @@ Result sampled_result(Capture capture, const Options& options, std::optional<dou
   const Window window = parse_window(options.window);
   result.window = window_name(window);
   if (f0_hz) check_capture_covers_period(capture, *f0_hz);
-  FftPlanner planner;
   const bool is_current = capture.waveform.quantity == Quantity::current;
   if (at == "current" && !is_current) {
     throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
@@ -329,6 +329,43 @@ void print_text(const Result& result, std::size_t top) {
   }
 }
 
+/// Loads a capture while planning its transform: the plan (FFTW computes every twiddle, tens of
+/// milliseconds for millions of points) is made on a second thread as soon as the parser knows
+/// the record length, while the loader checks the sampling and assembles the record.
+class CaptureWithPlan {
+ public:
+  CaptureWithPlan(const CaptureSpec& spec, unsigned threads) {
+    CaptureLoadOptions load{threads};
+    load.on_sample_count = [this](std::size_t samples) {
+      planning_.thread = std::thread([this, samples] {
+        try {
+          planner_.prepare(spectrum_transform_length(samples));
+        } catch (const std::exception&) {
+          // The transform plans again, and reports, when it runs.
+        }
+      });
+    };
+    capture_ = load_capture(spec, load);
+  }
+  CaptureWithPlan(const CaptureWithPlan&) = delete;
+  CaptureWithPlan& operator=(const CaptureWithPlan&) = delete;
+  [[nodiscard]] Capture take_capture() { return std::move(capture_); }
+  [[nodiscard]] FftPlanner& planner() { return planner_; }
+
+ private:
+  // Joins in its destructor, which also runs when load_capture throws from the constructor;
+  // declared after the planner, so it is joined before the planner goes.
+  struct JoiningThread {
+    std::thread thread;
+    ~JoiningThread() {
+      if (thread.joinable()) thread.join();
+    }
+  };
+  FftPlanner planner_;
+  JoiningThread planning_;
+  Capture capture_;
+};
+
 int run_spectrum(const Options& options) {
   if (options.scenario_file.empty() == options.capture_file.empty()) {
     throw Error("expected a scenario file or --capture FILE (one of them)");
@@ -353,7 +390,8 @@ int run_spectrum(const Options& options) {
     if (!options.scale.empty()) spec.scale = parse_quantity(options.scale, Dimension::number);
     spec.quantity = (options.quantity == "current" || at == "current") ? Quantity::current : Quantity::voltage;
     spec.resample = options.resample;
-    result = sampled_result(load_capture(spec, CaptureLoadOptions{options.threads}), options, f0_hz, max_frequency_hz, at, nullptr);
+    CaptureWithPlan loaded(spec, options.threads);
+    result = sampled_result(loaded.take_capture(), loaded.planner(), options, f0_hz, max_frequency_hz, at, nullptr);
   } else {
     const std::string at = options.at.empty() ? "lisn" : options.at;
     if (at != "source" && at != "current" && at != "lisn") {
@@ -364,7 +402,8 @@ int run_spectrum(const Options& options) {
       CaptureSpec spec = *scenario.capture;
       if (options.resample) spec.resample = true;
       if (!f0_hz) f0_hz = spec.switching_frequency_hz;
-      result = sampled_result(load_capture(spec, CaptureLoadOptions{options.threads}), options, f0_hz, max_frequency_hz, at, &scenario);
+      CaptureWithPlan loaded(spec, options.threads);
+      result = sampled_result(loaded.take_capture(), loaded.planner(), options, f0_hz, max_frequency_hz, at, &scenario);
     } else if (scenario.switching) {
       result = described_result(scenario, at, max_frequency_hz);
     } else {

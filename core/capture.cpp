@@ -670,6 +670,7 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
   if (sample_count < 2) {
     throw Error(SourcePosition{name, 0, 0}, "expected at least 2 samples, found " + std::to_string(sample_count));
   }
+  if (options.on_sample_count) options.on_sample_count(sample_count);
 
   // Uniform sampling: every time stamp within the tolerance of t0 + i·dt. The tolerance also
   // allows for the rounding of the printed time (one unit of the last printed digit).

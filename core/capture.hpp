@@ -12,6 +12,7 @@
 /// Errors name file:line:column and what was expected, e.g.
 ///   "node.csv:17:12: expected a number, found "nan""
 #include <cstddef>
+#include <functional>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -79,17 +80,24 @@ struct Capture {
 
 /// Parsing options that do not change the result.
 struct CaptureLoadOptions {
+  CaptureLoadOptions() = default;
+  explicit CaptureLoadOptions(unsigned parser_threads) : threads(parser_threads) {}
+
   unsigned threads = 0;  ///< parser threads; 0 = std::thread::hardware_concurrency()
+  /// Called with the number of samples as soon as the lines are parsed, before the sampling check
+  /// and the assembly of the record: a caller can start work that needs only the length (planning
+  /// the transform) while the loader finishes. Not called when parsing fails.
+  std::function<void(std::size_t)> on_sample_count;
 };
 
 /// Memory-maps spec.file and parses it. Throws Error with file:line:column on malformed input, a
 /// record shorter than 2 samples, time not strictly increasing, or non-uniform sampling (unless
 /// spec.resample).
-[[nodiscard]] Capture load_capture(const CaptureSpec& spec, const CaptureLoadOptions& options = {});
+[[nodiscard]] Capture load_capture(const CaptureSpec& spec, const CaptureLoadOptions& options = CaptureLoadOptions());
 
 /// The same over text already in memory; `name` stands for the file in messages.
 [[nodiscard]] Capture parse_capture_text(std::string_view text, const std::string& name,
-                                         const CaptureSpec& spec, const CaptureLoadOptions& options = {});
+                                         const CaptureSpec& spec, const CaptureLoadOptions& options = CaptureLoadOptions());
 
 /// Seconds per unit named in a time-column header: "Time (us)" → 1e-6, "t[ns]" → 1e-9,
 /// "time/ms" → 1e-3, "second" → 1; nullopt when the header names no time unit.

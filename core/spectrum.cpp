@@ -234,6 +234,8 @@ void* FftPlanner::plan_for(std::size_t length) {
   return plan;
 }
 
+void FftPlanner::prepare(std::size_t length) { (void)plan_for(length); }
+
 void FftPlanner::forward(Buffers& buffers) {
   auto plan = static_cast<fftw_plan>(plan_for(buffers.length()));
   // fftw_execute_dft_r2c is thread-safe (FFTW 3.3 manual §5.4). The new-array execute needs the
@@ -373,6 +375,10 @@ AmplitudeSpectrum spectrum_of(const Waveform& waveform, std::vector<double>* con
 }
 
 }  // namespace
+
+std::size_t spectrum_transform_length(std::size_t record_length) {
+  return record_length % 2 == 0 && record_length >= split_min_length ? record_length / 2 : record_length;
+}
 
 AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner, unsigned threads) {
   return spectrum_of(waveform, nullptr, window, planner, threads);

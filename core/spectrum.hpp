@@ -89,6 +89,10 @@ class FftPlanner {
   /// Same on a copy of `samples` (convenience for small transforms and tests).
   [[nodiscard]] std::vector<std::complex<double>> forward(std::span<const double> samples);
 
+  /// Makes (and keeps) the plan for `length` now, e.g. on a thread of its own while the record is
+  /// still being assembled; forward() then finds it ready.
+  void prepare(std::size_t length);
+
   /// The default wisdom path described above, or "" when neither variable is set.
   [[nodiscard]] static std::string default_wisdom_file();
 
@@ -122,6 +126,9 @@ struct AmplitudeSpectrum {
 /// Records of even length from 2^16 samples are transformed as two half-length transforms (one
 /// radix-2 step) on up to two threads (`threads`, 0 = all cores); the result does not depend on
 /// the thread count.
+/// The transform length amplitude_spectrum() plans for a record of `record_length` samples (for
+/// FftPlanner::prepare).
+[[nodiscard]] std::size_t spectrum_transform_length(std::size_t record_length);
 [[nodiscard]] AmplitudeSpectrum amplitude_spectrum(const Waveform& waveform, Window window, FftPlanner& planner,
                                                    unsigned threads = 0);
 /// The same, consuming the record: its samples are freed as soon as they are windowed into the
