@@ -328,7 +328,13 @@ AmplitudeSpectrum spectrum_of(const Waveform& waveform, std::vector<double>* con
     const std::size_t begin = part == 0 ? 0 : middle;
     const std::size_t end = part == 0 ? middle : n;
     window_range(window, x, n, begin, end,
-                 [even_in, odd_in](std::size_t i, double v) { ((i & 1) != 0 ? odd_in : even_in)[i >> 1] = v; },
+                 [even_in, odd_in](std::size_t i, double v) {
+                   // The half chosen first, then indexed: g++ 12 with -fsanitize=undefined
+                   // miscompiles `(c ? p : q)[j] = v` in this nested lambda (writes lost at -O2,
+                   // a wild read at -O0; reduced and checked by hand).
+                   double* half = (i & 1) != 0 ? odd_in : even_in;
+                   half[i >> 1] = v;
+                 },
                  sum_w_part[part], sum_w2_part[part]);
   });
   if (consumed != nullptr) std::vector<double>().swap(*consumed);
