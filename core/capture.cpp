@@ -186,6 +186,7 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
     double time = 0.0;
     double value = 0.0;
     const char* time_cell = p;
+    const char* value_cell = p;
     {
       const char* q = p;
       while (q < end && is_blank(*q)) ++q;
@@ -214,6 +215,7 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
         time_cell = p;
         if (!parse_number(p, time)) return;
       } else if (column == plan.value_index) {
+        value_cell = p;
         if (!parse_number(p, value)) return;
       } else {
         p += cell_at(p, end, mode).size();
@@ -252,7 +254,13 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
     previous_time = time;
     have_previous = true;
     out.time.push_back(time);
-    out.value.push_back(value * factor);
+    const double scaled = value * factor;
+    if (!std::isfinite(scaled)) {
+      fail(value_cell, "the value " + format_number(value) + " times the scale and unit (" + format_number(factor) +
+                           ") is beyond the range of a double");
+      return;
+    }
+    out.value.push_back(scaled);
     if (job.release_pages && static_cast<std::size_t>(p - released_to) >= release_step_bytes) {
       release_mapped_pages(released_to, p);
       released_to = p;

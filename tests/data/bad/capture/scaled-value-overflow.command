@@ -1,0 +1,1 @@
+spectrum --capture {input} --scale 10 --csv {out}
