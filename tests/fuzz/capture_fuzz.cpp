@@ -37,11 +37,9 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
   const auto& samples = capture.waveform.samples;
   if (samples.size() < 2) std::abort();
   const double rate_hz = capture.waveform.sample_rate_hz;
-  if (!(rate_hz > 0.0)) std::abort();
-  // Open bug (tests/data/fuzz-regressions/capture/open/): a time step that underflows to a subnormal
-  // number (t = 0, 1e-320, 2e-320) is accepted and gives an infinite sample rate. Skipped here so the
-  // rest of the loader can be fuzzed; make this an abort once the loader refuses such a record.
-  if (!std::isfinite(rate_hz)) return 0;
+  // Finite and positive: a time step under 1 fs (a subnormal one would make the rate infinite)
+  // is refused by the loader (tests/data/fuzz-regressions/capture/subnormal-interval-infinite-rate).
+  if (!(rate_hz > 0.0) || !std::isfinite(rate_hz)) std::abort();
   for (const double v : samples) {
     if (!std::isfinite(v)) std::abort();
   }
