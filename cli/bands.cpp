@@ -7,8 +7,8 @@
 #include <vector>
 
 #include "cli/commands.hpp"
-#include "core/bands.hpp"
-#include "core/units.hpp"
+#include "core/radio/bands.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

@@ -14,13 +14,13 @@
 #include <unistd.h>
 
 #include "cli/commands.hpp"
-#include "core/error.hpp"
-#include "core/output_dir.hpp"
-#include "core/limits.hpp"
-#include "core/margins.hpp"
-#include "core/prescan.hpp"
-#include "core/trace.hpp"
-#include "core/units.hpp"
+#include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
+#include "core/compliance/limits.hpp"
+#include "core/compliance/margins.hpp"
+#include "core/compliance/prescan.hpp"
+#include "core/compliance/trace.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

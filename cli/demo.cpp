@@ -6,9 +6,9 @@
 
 #include "cli/commands.hpp"
 #include "cli/terminal.hpp"
-#include "core/limits.hpp"
-#include "core/prediction.hpp"
-#include "core/scenario.hpp"
+#include "core/compliance/limits.hpp"
+#include "core/chain/prediction.hpp"
+#include "core/chain/scenario.hpp"
 #include "spurcast_demo_scenario.hpp"
 
 namespace spurcast::cli {

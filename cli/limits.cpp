@@ -8,9 +8,9 @@
 #include <vector>
 
 #include "cli/commands.hpp"
-#include "core/error.hpp"
-#include "core/limits.hpp"
-#include "core/units.hpp"
+#include "core/input/error.hpp"
+#include "core/compliance/limits.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

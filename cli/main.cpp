@@ -6,7 +6,7 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
-#include "core/error.hpp"
+#include "core/input/error.hpp"
 
 int main(int argc, char** argv) {
   CLI::App app{"spurcast: conducted and broadcast-band EMI estimates for switching converters"};

@@ -4,8 +4,8 @@
 
 #include "cli/commands.hpp"
 #include "cli/terminal.hpp"
-#include "core/prediction.hpp"
-#include "core/scenario.hpp"
+#include "core/chain/prediction.hpp"
+#include "core/chain/scenario.hpp"
 
 namespace spurcast::cli {
 

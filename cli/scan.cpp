@@ -18,16 +18,16 @@
 
 #include "cli/commands.hpp"
 #include "cli/terminal.hpp"
-#include "core/capture.hpp"
-#include "core/conducted.hpp"
-#include "core/error.hpp"
-#include "core/output_dir.hpp"
-#include "core/prediction.hpp"
-#include "core/receiver.hpp"
-#include "core/scenario.hpp"
-#include "core/source.hpp"
-#include "core/sweep.hpp"
-#include "core/units.hpp"
+#include "core/source/capture.hpp"
+#include "core/coupling/conducted.hpp"
+#include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
+#include "core/chain/prediction.hpp"
+#include "core/receiver/receiver.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/source/source.hpp"
+#include "core/chain/sweep.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

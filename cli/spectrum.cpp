@@ -16,14 +16,14 @@
 #include <unistd.h>
 
 #include "cli/commands.hpp"
-#include "core/capture.hpp"
-#include "core/conducted.hpp"
-#include "core/error.hpp"
-#include "core/output_dir.hpp"
-#include "core/scenario.hpp"
-#include "core/source.hpp"
-#include "core/spectrum.hpp"
-#include "core/units.hpp"
+#include "core/source/capture.hpp"
+#include "core/coupling/conducted.hpp"
+#include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/source/source.hpp"
+#include "core/source/spectrum.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

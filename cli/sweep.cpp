@@ -15,12 +15,12 @@
 #include <unistd.h>
 
 #include "cli/commands.hpp"
-#include "core/error.hpp"
-#include "core/output_dir.hpp"
-#include "core/plot.hpp"
-#include "core/sweep.hpp"
-#include "core/toml_reader.hpp"
-#include "core/units.hpp"
+#include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
+#include "core/output/plot.hpp"
+#include "core/chain/sweep.hpp"
+#include "core/input/toml_reader.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

@@ -8,10 +8,10 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
-#include "core/error.hpp"
-#include "core/output_dir.hpp"
-#include "core/report.hpp"
-#include "core/units.hpp"
+#include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
+#include "core/output/report.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast::cli {
 

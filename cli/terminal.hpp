@@ -6,7 +6,7 @@
 #include <string>
 #include <vector>
 
-#include "core/prediction.hpp"
+#include "core/chain/prediction.hpp"
 
 namespace spurcast::cli {
 

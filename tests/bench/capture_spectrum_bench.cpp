@@ -22,8 +22,8 @@
 #include <string>
 #include <vector>
 
-#include "core/capture.hpp"
-#include "core/spectrum.hpp"
+#include "core/source/capture.hpp"
+#include "core/source/spectrum.hpp"
 
 using namespace spurcast;
 

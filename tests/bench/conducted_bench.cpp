@@ -9,8 +9,8 @@
 #include <string>
 #include <vector>
 
-#include "core/conducted.hpp"
-#include "core/network.hpp"
+#include "core/coupling/conducted.hpp"
+#include "core/coupling/network.hpp"
 
 using namespace spurcast;
 

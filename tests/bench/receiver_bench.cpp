@@ -9,8 +9,8 @@
 #include <thread>
 #include <vector>
 
-#include "core/receiver.hpp"
-#include "core/source.hpp"
+#include "core/receiver/receiver.hpp"
+#include "core/source/source.hpp"
 
 using namespace spurcast;
 

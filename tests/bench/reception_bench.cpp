@@ -5,7 +5,7 @@
 #include <cmath>
 #include <cstdio>
 
-#include "core/reception.hpp"
+#include "core/radio/reception.hpp"
 
 int main() {
   using clock = std::chrono::steady_clock;

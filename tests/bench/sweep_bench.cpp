@@ -13,12 +13,12 @@
 #include <string>
 #include <vector>
 
-#include "core/conducted.hpp"
-#include "core/margins.hpp"
-#include "core/scenario.hpp"
-#include "core/source.hpp"
-#include "core/sweep.hpp"
-#include "core/toml_reader.hpp"
+#include "core/coupling/conducted.hpp"
+#include "core/compliance/margins.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/source/source.hpp"
+#include "core/chain/sweep.hpp"
+#include "core/input/toml_reader.hpp"
 
 using namespace spurcast;
 

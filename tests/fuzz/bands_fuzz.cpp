@@ -1,4 +1,4 @@
-// libFuzzer target: the broadcast band-plan loader (core/bands.hpp, parse_band_plan) over TOML text in
+// libFuzzer target: the broadcast band-plan loader (core/radio/bands.hpp, parse_band_plan) over TOML text in
 // memory. Only spurcast::Error may leave it; on success each band's channel raster is expanded, which
 // must stay bounded (a plan that asks for billions of channels must be refused by the loader).
 #include <cstddef>
@@ -6,8 +6,8 @@
 #include <cstdlib>
 #include <string>
 
-#include "core/bands.hpp"
-#include "core/error.hpp"
+#include "core/radio/bands.hpp"
+#include "core/input/error.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   const std::string text(reinterpret_cast<const char*>(data), size);

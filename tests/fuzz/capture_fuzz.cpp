@@ -1,4 +1,4 @@
-// libFuzzer target: the capture CSV loader (core/capture.hpp, parse_capture_text) over text in memory.
+// libFuzzer target: the capture CSV loader (core/source/capture.hpp, parse_capture_text) over text in memory.
 // The first byte picks the interpretation (value column by index or by header name, time column,
 // resampling, quantity), the rest is the file. Only spurcast::Error may leave the loader; a loaded
 // record must have at least 2 finite samples and a finite, positive sample interval.
@@ -8,8 +8,8 @@
 #include <cstdlib>
 #include <string_view>
 
-#include "core/capture.hpp"
-#include "core/error.hpp"
+#include "core/source/capture.hpp"
+#include "core/input/error.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   if (size < 1) return 0;

@@ -1,4 +1,4 @@
-// libFuzzer target: the limit-line file loader (core/limits.hpp, parse_limit_text) over TOML text in
+// libFuzzer target: the limit-line file loader (core/compliance/limits.hpp, parse_limit_text) over TOML text in
 // memory. Only spurcast::Error may leave it; on success every line is evaluated across its range,
 // which must give finite levels (a loader must not accept a line it cannot evaluate).
 #include <cmath>
@@ -7,8 +7,8 @@
 #include <cstdlib>
 #include <string_view>
 
-#include "core/error.hpp"
-#include "core/limits.hpp"
+#include "core/input/error.hpp"
+#include "core/compliance/limits.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   const std::string_view text(reinterpret_cast<const char*>(data), size);

@@ -1,4 +1,4 @@
-// libFuzzer target: the scenario loader (core/scenario.hpp) over TOML text in memory. Every section
+// libFuzzer target: the scenario loader (core/chain/scenario.hpp) over TOML text in memory. Every section
 // reader is reached through it (switching, capture, coupling, filter, lisn, receiver, limits,
 // broadcast). Only spurcast::Error may leave the loader; anything else (a std::out_of_range from a
 // helper, a toml++ exception that was not converted) aborts so libFuzzer records the input.
@@ -6,8 +6,8 @@
 #include <cstdint>
 #include <string_view>
 
-#include "core/error.hpp"
-#include "core/scenario.hpp"
+#include "core/input/error.hpp"
+#include "core/chain/scenario.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   const std::string_view text(reinterpret_cast<const char*>(data), size);

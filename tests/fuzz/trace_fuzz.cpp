@@ -1,4 +1,4 @@
-// libFuzzer target: the measured-trace CSV loaders (core/trace.hpp) over text in memory. The first
+// libFuzzer target: the measured-trace CSV loaders (core/compliance/trace.hpp) over text in memory. The first
 // byte picks the parser (trace with unit from the header / forced dBuV / forced dBm / a named level
 // column, correction table, scan CSV); the rest is the file. Only spurcast::Error may leave a loader;
 // a loaded trace must have strictly increasing finite frequencies and finite levels.
@@ -9,8 +9,8 @@
 #include <string_view>
 #include <vector>
 
-#include "core/error.hpp"
-#include "core/trace.hpp"
+#include "core/input/error.hpp"
+#include "core/compliance/trace.hpp"
 
 namespace {
 

@@ -1,4 +1,4 @@
-// libFuzzer target: the SI quantity parser (core/units.hpp). The first byte picks the Dimension, the
+// libFuzzer target: the SI quantity parser (core/input/units.hpp). The first byte picks the Dimension, the
 // rest is the text. Contract checked beyond "no crash": a parse either throws spurcast::Error or
 // returns a finite value, and format_quantity of that value parses back in the same dimension
 // (for |value| <= 1e300).
@@ -8,8 +8,8 @@
 #include <cstdlib>
 #include <string_view>
 
-#include "core/error.hpp"
-#include "core/units.hpp"
+#include "core/input/error.hpp"
+#include "core/input/units.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
   if (size < 1) return 0;

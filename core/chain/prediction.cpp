@@ -1,0 +1,295 @@
+#include "core/chain/prediction.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <numbers>
+
+#include "core/input/error.hpp"
+#include "core/radio/radiated.hpp"
+#include "core/source/source.hpp"
+#include "core/source/spectrum.hpp"
+#include "core/input/units.hpp"
+
+namespace spurcast {
+
+namespace {
+
+/// Harmonics are computed up to the top of the FM allocations, so the broadcast estimate covers
+/// every shipped band, and further when a receiver band reaches higher.
+constexpr double broadcast_top_hz = 110e6;
+/// The sampled path keeps a record of at most 2^23 samples per waveform (about 67 MB as double).
+constexpr double max_record_samples = 8388608.0;
+
+double highest_frequency_hz(const std::vector<CisprBand>& bands) {
+  double top = broadcast_top_hz;
+  for (const CisprBand band : bands) {
+    const BandParameters p = band_parameters(band);
+    top = std::max(top, p.stop_hz + 2.0 * p.bandwidth_6db_hz);
+  }
+  return top;
+}
+
+/// Merges the band grid and the spot readings at the lines into one ascending list, so the
+/// maximum of every isolated line is read exactly (as a lab's final measurement tunes onto it).
+ScanResult scan_line_spectrum(const LineSpectrum& lines, const ScanPlan& grid_plan) {
+  ScanResult grid = scan_lines(lines, grid_plan);
+  const BandParameters p = band_parameters(grid_plan.band);
+  ScanPlan spots = grid_plan;
+  for (std::size_t i = 0; i < lines.harmonics.size(); ++i) {
+    const double f = lines.frequency_hz(i);
+    if (f >= p.start_hz && f <= p.stop_hz) spots.frequencies_hz.push_back(f);
+  }
+  if (spots.frequencies_hz.empty()) return grid;
+  const ScanResult at_lines = scan_lines(lines, spots);
+  grid.readings.insert(grid.readings.end(), at_lines.readings.begin(), at_lines.readings.end());
+  std::stable_sort(grid.readings.begin(), grid.readings.end(),
+                   [](const Reading& a, const Reading& b) { return a.frequency_hz < b.frequency_hz; });
+  return grid;
+}
+
+/// Spreads each line of a dithered source over its deviation k·Δf: uniformly for a triangle
+/// profile (the frequency sweeps at a constant rate), with the arcsine density for a sine profile.
+/// The power of the line is kept (Matsumoto et al., IEEE Trans. EMC 47(3), 2005: spreading does
+/// not reduce the harmonic power); this is the time-averaged power a channel collects.
+std::vector<SpectralLine> spread_lines(const std::vector<double>& frequency_hz, const std::vector<double>& level_db,
+                                       const DitherSpec& dither) {
+  constexpr double resolution_hz = 1e3;  // finer than any channel raster (5 kHz and up)
+  constexpr std::size_t max_sub_lines = 2000;
+  std::vector<SpectralLine> out;
+  for (std::size_t i = 0; i < frequency_hz.size(); ++i) {
+    const double centre = frequency_hz[i];
+    const double deviation = centre * dither.deviation_fraction;
+    const auto count = static_cast<std::size_t>(
+        std::clamp(std::ceil(2.0 * deviation / resolution_hz), 1.0, static_cast<double>(max_sub_lines)));
+    const double power = std::pow(10.0, level_db[i] / 10.0);
+    for (std::size_t m = 0; m < count; ++m) {
+      // Sub-band m covers x in [x0, x1] of the normalised deviation [-1, 1].
+      const double x0 = -1.0 + 2.0 * static_cast<double>(m) / static_cast<double>(count);
+      const double x1 = -1.0 + 2.0 * static_cast<double>(m + 1) / static_cast<double>(count);
+      double weight = 1.0 / static_cast<double>(count);
+      if (dither.profile == DitherProfile::sine) {
+        weight = (std::asin(std::clamp(x1, -1.0, 1.0)) - std::asin(std::clamp(x0, -1.0, 1.0))) / std::numbers::pi;
+      }
+      if (weight <= 0.0 || power <= 0.0) continue;
+      out.push_back({centre + deviation * 0.5 * (x0 + x1), 10.0 * std::log10(power * weight)});
+    }
+  }
+  return out;
+}
+
+LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>& notes) {
+  FftPlanner planner;
+  const AmplitudeSpectrum spectrum = amplitude_spectrum(capture.waveform, Window::hann, planner);
+  double f0 = 0.0;
+  if (capture.switching_frequency_hz) {
+    f0 = *capture.switching_frequency_hz;
+  } else {
+    f0 = estimate_fundamental(spectrum).frequency_hz;
+    notes.push_back("switching frequency estimated from the capture: " + format_quantity(f0, Dimension::frequency, 6));
+  }
+  check_capture_covers_period(capture, f0);
+  const HarmonicTable table = harmonic_table(spectrum, f0, capture.waveform.sample_rate_hz / 2.0);
+  LineSpectrum lines;
+  lines.quantity = capture.waveform.quantity;
+  lines.fundamental_hz = f0;
+  lines.dc = table.dc;
+  // A single capture drives one path; the phase of its lines does not change their magnitudes at
+  // the LISN, so the lines carry their RMS magnitudes with zero phase.
+  for (const HarmonicLevel& h : table.lines) lines.harmonics.emplace_back(h.rms, 0.0);
+  return lines;
+}
+
+}  // namespace
+
+bool holds_whole_periods(const Capture& capture) {
+  if (!capture.switching_frequency_hz) return false;
+  const double periods = capture.waveform.duration_s() * *capture.switching_frequency_hz;
+  // Within a twentieth of a sample per period of a whole number: the record wraps seamlessly.
+  const double samples_per_period = capture.waveform.sample_rate_hz / *capture.switching_frequency_hz;
+  return periods >= 1.0 && std::fabs(periods - std::round(periods)) * samples_per_period < 0.05 * periods + 0.5;
+}
+
+ScanResult worst_of_lines(const ScanResult& a, const std::optional<ScanResult>& b) {
+  if (!b) return a;
+  ScanResult worst = a;
+  for (std::size_t i = 0; i < worst.readings.size() && i < b->readings.size(); ++i) {
+    Reading& w = worst.readings[i];
+    const Reading& r = b->readings[i];
+    w.peak_db = std::max(w.peak_db, r.peak_db);
+    w.quasi_peak_db = std::max(w.quasi_peak_db, r.quasi_peak_db);
+    w.average_db = std::max(w.average_db, r.average_db);
+  }
+  for (const std::string& note : b->notes) {
+    if (std::find(worst.notes.begin(), worst.notes.end(), note) == worst.notes.end()) worst.notes.push_back(note);
+  }
+  return worst;
+}
+
+/// Sample rate for the FFT receiver: 2.5× the highest frequency it must see (tuned frequency plus
+/// twice the bandwidth), so the IF response stays clear of the Nyquist frequency.
+double receiver_sample_rate_hz(CisprBand band) {
+  const BandParameters p = band_parameters(band);
+  return 2.5 * (p.stop_hz + 2.0 * p.bandwidth_6db_hz);
+}
+
+/// The record for a dithered source: whole modulation periods, at least three of them and at
+/// least 10 ms (the IF impulse response of band B lasts about 0.3 ms; the QP detector is run to
+/// its periodic steady state on the record), bounded by max_record_samples.
+double dithered_record_duration_s(const SwitchingSpec& spec, double sample_rate_hz, double requested_s,
+                                  std::vector<std::string>& notes) {
+  const double modulation_period_s = 1.0 / spec.dither->rate_hz;
+  double duration_s = requested_s > 0.0 ? requested_s : std::max(3.0 * modulation_period_s, 10e-3);
+  duration_s = std::ceil(duration_s / modulation_period_s - 1e-9) * modulation_period_s;
+  const double limit_s = max_record_samples / sample_rate_hz;
+  if (duration_s > limit_s) {
+    duration_s = std::max(modulation_period_s, std::floor(limit_s / modulation_period_s) * modulation_period_s);
+    notes.push_back("the dithered record was shortened to " + format_quantity(duration_s, Dimension::time) +
+                    " to bound memory");
+  }
+  return duration_s;
+}
+
+std::string to_string(SourceKind kind) {
+  switch (kind) {
+    case SourceKind::described: return "described";
+    case SourceKind::dithered: return "dithered";
+    case SourceKind::captured: return "captured";
+  }
+  return "described";
+}
+
+Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
+  Prediction p;
+  p.scenario = scenario;
+  const std::vector<CisprBand> bands = options.bands.empty() ? scenario.receiver.bands : options.bands;
+  const std::optional<double> step_hz = options.step_hz ? options.step_hz : scenario.receiver.step_hz;
+  const double top_hz = highest_frequency_hz(bands);
+
+  const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn);
+  p.setup_description = model.setup_description();
+  const bool two_lines = model.line_count() == 2;
+
+  std::optional<Waveform> captured_v;
+  std::optional<Waveform> captured_i;
+  bool captured_whole_periods = false;
+  if (scenario.switching) {
+    const SwitchingSpec& spec = *scenario.switching;
+    p.source_kind = spec.dither ? SourceKind::dithered : SourceKind::described;
+    p.switch_node_v = switch_node_spectrum(spec, top_hz);
+    p.input_current_a = input_current_spectrum(spec, top_hz);
+    if (spec.dither) {
+      p.notes.push_back("dithered source: receiver readings come from a sampled record through the FFT receiver; "
+                        "the harmonic tables show the undithered lines");
+    }
+  } else {
+    p.source_kind = SourceKind::captured;
+    const Capture capture = load_capture(*scenario.capture);
+    const LineSpectrum lines = lines_from_capture(capture, p.notes);
+    captured_whole_periods = holds_whole_periods(capture);
+    if (capture.waveform.quantity == Quantity::voltage) {
+      p.switch_node_v = lines;
+      p.input_current_a.quantity = Quantity::current;
+      p.input_current_a.fundamental_hz = lines.fundamental_hz;
+      captured_v = capture.waveform;
+    } else {
+      p.input_current_a = lines;
+      p.switch_node_v.quantity = Quantity::voltage;
+      p.switch_node_v.fundamental_hz = lines.fundamental_hz;
+      captured_i = capture.waveform;
+    }
+    p.notes.push_back("captured source: the capture drives the " +
+                      std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
+                      " only");
+  }
+  p.conducted = conduct(p.switch_node_v, p.input_current_a, model);
+
+  // Receiver scans per band.
+  if (!options.skip_scans) {
+    for (const CisprBand band : bands) {
+      BandScan scan;
+      scan.band = band;
+      ScanPlan plan;
+      plan.band = band;
+      plan.step_hz = step_hz;
+      if (p.source_kind == SourceKind::described) {
+        scan.line1 = scan_line_spectrum(p.conducted->line_spectrum(1), plan);
+        if (two_lines) scan.line2 = scan_line_spectrum(p.conducted->line_spectrum(2), plan);
+      } else {
+        Waveform source_v, source_i;
+        if (p.source_kind == SourceKind::dithered) {
+          const SwitchingSpec& spec = *scenario.switching;
+          const double fs = receiver_sample_rate_hz(band);
+          const double duration_s = dithered_record_duration_s(spec, fs, options.record_duration_s, p.notes);
+          source_v = synthesize_switch_node(spec, fs, duration_s);
+          source_i = synthesize_input_current(spec, fs, duration_s);
+          plan.slowest_modulation_hz = spec.dither->rate_hz;
+        } else {
+          if (captured_v) source_v = *captured_v;
+          if (captured_i) source_i = *captured_i;
+          plan.periodic_record = captured_whole_periods;
+        }
+        const Waveform port1 = lisn_port_waveform(source_v, source_i, model, 1);
+        scan.line1 = scan_waveform(port1, plan);
+        if (two_lines) scan.line2 = scan_waveform(lisn_port_waveform(source_v, source_i, model, 2), plan);
+      }
+      scan.worst = worst_of_lines(scan.line1, scan.line2);
+      for (const std::string& note : scan.worst.notes) {
+        const std::string text = "band " + to_string(band) + ": " + note;
+        if (std::find(p.notes.begin(), p.notes.end(), text) == p.notes.end()) p.notes.push_back(text);
+      }
+      p.scans.push_back(std::move(scan));
+    }
+  }
+
+  // Margins against the scenario's limit lines.
+  std::vector<LevelReading> readings;
+  for (const BandScan& scan : p.scans) {
+    const auto band_readings = readings_from_scan(scan.worst.readings, scenario.receiver.detectors);
+    readings.insert(readings.end(), band_readings.begin(), band_readings.end());
+  }
+  if (options.skip_scans) {
+    // A periodic source's isolated line reads its RMS value on every detector (CISPR 16-1-1
+    // calibration); the sweep uses this when the harmonics are far apart compared with the RBW.
+    for (std::size_t k = 0; k < p.conducted->frequency_hz.size(); ++k) {
+      const double level = volts_to_dbuv(std::max(std::abs(p.conducted->line1_v[k]),
+                                                  two_lines ? std::abs(p.conducted->line2_v[k]) : 0.0));
+      for (const Detector d : scenario.receiver.detectors) readings.push_back({p.conducted->frequency_hz[k], d, level});
+    }
+  }
+  MarginOptions margin_options;
+  margin_options.guard_db = scenario.limits.guard_db;
+  p.margins = compare_with_limits(readings, scenario.limits.sets, margin_options);
+  p.verdict = p.margins.verdict;
+  if (scenario.limits.sets.empty()) {
+    p.notes.push_back("no limit lines in the scenario: nothing was compared, the verdict says pass by default");
+  } else if (p.margins.compared_readings == 0) {
+    p.notes.push_back("no reading fell on a limit line (check the bands and the lines' frequency ranges)");
+  }
+
+  // Broadcast reception: fields from the CM and DM currents of the conducted path.
+  const RadiationSetup setup = radiation_setup(scenario.broadcast);
+  p.radiation_convention = radiation_convention(setup);
+  std::vector<double> cm_a, dm_a;
+  cm_a.reserve(p.conducted->frequency_hz.size());
+  dm_a.reserve(p.conducted->frequency_hz.size());
+  for (std::size_t k = 0; k < p.conducted->frequency_hz.size(); ++k) {
+    cm_a.push_back(std::abs(p.conducted->cm_current_a[k]));
+    dm_a.push_back(std::abs(p.conducted->dm_current_a[k]));
+  }
+  p.field = radiated_field(setup, p.conducted->frequency_hz, cm_a, dm_a);
+  std::vector<double> field_hz, field_db;
+  for (const FieldLine& line : p.field) {
+    field_hz.push_back(line.frequency_hz);
+    field_db.push_back(line.total_dbuvm);
+  }
+  std::vector<SpectralLine> field_lines;
+  if (p.source_kind == SourceKind::dithered) {
+    field_lines = spread_lines(field_hz, field_db, *scenario.switching->dither);
+  } else {
+    for (std::size_t k = 0; k < field_hz.size(); ++k) field_lines.push_back({field_hz[k], field_db[k]});
+  }
+  p.reception = estimate_reception(bands_for(scenario.broadcast), field_lines, scenario.broadcast);
+  return p;
+}
+
+}  // namespace spurcast

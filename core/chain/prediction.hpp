@@ -1,0 +1,93 @@
+#pragma once
+/// The whole chain of a prediction (DESIGN.md §2): source → spectrum → conducted path → LISN port →
+/// receiver → limits / bands. One call, one value out; the report writers and the sweep consume it.
+///
+/// Example:
+///   const Scenario scenario = load_scenario("examples/greenhouse-buck.toml");
+///   const Prediction p = predict(scenario);
+///   p.margins.verdict, p.scans[0].worst.readings, p.reception[i].verdict ...
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "core/coupling/conducted.hpp"
+#include "core/compliance/margins.hpp"
+#include "core/receiver/receiver.hpp"
+#include "core/radio/reception.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/source/waveform.hpp"
+
+namespace spurcast {
+
+/// How the source was given, which decides the receiver path.
+enum class SourceKind {
+  described,  ///< periodic trapezoid: exact lines, exact line-spectrum receiver
+  dithered,   ///< described with dither: sampled synthesis and the FFT receiver
+  captured,   ///< a capture: its samples through the conducted path and the FFT receiver
+};
+[[nodiscard]] std::string to_string(SourceKind kind);
+
+struct PredictionOptions {
+  std::optional<double> step_hz;       ///< scan step override [Hz]
+  std::vector<CisprBand> bands;        ///< override of the scenario's receiver bands (empty: keep)
+  /// [s] record length of the sampled path for dithered sources; 0 = automatic (enough modulation
+  /// periods for the detectors, bounded for memory).
+  double record_duration_s = 0.0;
+  /// Skip the receiver scans (the sweep's margins-only mode reads the lines directly).
+  bool skip_scans = false;
+};
+
+/// The readings of one CISPR band at the LISN port(s).
+struct BandScan {
+  CisprBand band = CisprBand::B;
+  ScanResult line1;
+  std::optional<ScanResult> line2;
+  /// Per tuned frequency and detector, the higher of the two lines (what a lab reports after
+  /// measuring each line in turn).
+  ScanResult worst;
+};
+
+struct Prediction {
+  Scenario scenario;
+  SourceKind source_kind = SourceKind::described;
+  /// Exact harmonics at the source: switch-node voltage and input current. For a dithered source
+  /// these are the undithered (nominal) lines; for a capture, the lines read from its spectrum.
+  LineSpectrum switch_node_v;
+  LineSpectrum input_current_a;
+  /// The conducted result at the harmonics (every source kind; for a dithered source it holds the
+  /// nominal, undithered lines).
+  std::optional<ConductedResult> conducted;
+  std::vector<BandScan> scans;
+  MarginReport margins;
+  /// Field lines at the broadcast receiver [dBµV/m] (CM cable + DM loop, core/radio/radiated.hpp), and
+  /// the per-band reception estimate made from them.
+  std::vector<FieldLine> field;
+  std::vector<BandReception> reception;
+  std::string radiation_convention;
+  std::string setup_description;  ///< the LISN set-up the levels refer to
+  std::vector<std::string> notes; ///< assumptions and warnings to show the user
+  Verdict verdict = Verdict::pass;  ///< the margins' verdict (pass when no limit was given)
+};
+
+/// Sample rate of the FFT receiver's synthesized records for `band`: 2.5× the highest frequency the
+/// IF response reaches (band top plus twice the bandwidth), clear of the Nyquist frequency.
+[[nodiscard]] double receiver_sample_rate_hz(CisprBand band);
+
+/// Record length for a dithered source: whole modulation periods, at least three and at least
+/// 10 ms (`requested_s` > 0 overrides that), bounded to 2^23 samples at `sample_rate_hz`; a note
+/// is added when the bound shortens it.
+[[nodiscard]] double dithered_record_duration_s(const SwitchingSpec& spec, double sample_rate_hz,
+                                                double requested_s, std::vector<std::string>& notes);
+
+/// Per tuned frequency and detector, the higher of two scans over the same tuned frequencies
+/// (the two LISN lines: a lab measures each and reports the higher); notes are merged.
+[[nodiscard]] ScanResult worst_of_lines(const ScanResult& line1, const std::optional<ScanResult>& line2);
+
+/// True when a capture states its switching frequency and holds a whole number of its periods
+/// (to within half a sample), so the FFT receiver may treat the record as exact periods.
+[[nodiscard]] bool holds_whole_periods(const Capture& capture);
+
+/// Runs the chain. Throws Error on inconsistent input (e.g. a capture too slow for the band).
+[[nodiscard]] Prediction predict(const Scenario& scenario, const PredictionOptions& options = {});
+
+}  // namespace spurcast

@@ -1,0 +1,79 @@
+#include "core/chain/scenario.hpp"
+
+#include <filesystem>
+
+#include "core/input/error.hpp"
+#include "core/input/toml_reader.hpp"
+
+namespace spurcast {
+
+const std::vector<std::string>& scenario_sections() {
+  static const std::vector<std::string> sections{"title",  "description", "switching", "capture",
+                                                 "coupling", "filter",    "lisn",      "receiver",
+                                                 "limits", "broadcast"};
+  return sections;
+}
+
+Scenario scenario_from_table(const toml::table& table, const std::string& file, const std::string& directory) {
+  Scenario scenario;
+  scenario.file = file;
+  scenario.directory = directory;
+  TableReader top(table, file, "scenario");
+  scenario.title = top.optional_string("title").value_or("");
+  scenario.description = top.optional_string("description").value_or("");
+
+  if (const toml::table* section = top.optional_table("switching")) {
+    TableReader reader(*section, file, "switching");
+    scenario.switching = read_switching_section(reader);
+  }
+  if (const toml::table* section = top.optional_table("capture")) {
+    TableReader reader(*section, file, "capture");
+    scenario.capture = read_capture_section(reader);  // resolves the file against the scenario's folder
+  }
+  if (scenario.switching && scenario.capture) {
+    throw Error(top.position("capture"), "give either [switching] or [capture], not both");
+  }
+  if (!scenario.switching && !scenario.capture) {
+    throw Error(SourcePosition{file, 1, 1}, "a scenario needs a source: a [switching] or a [capture] section");
+  }
+  if (const toml::table* section = top.optional_table("coupling")) {
+    TableReader reader(*section, file, "coupling");
+    scenario.coupling = read_coupling_section(reader);
+    scenario.has_coupling = true;
+  }
+  int index = 0;
+  for (const toml::table* stage : top.table_array("filter")) {
+    TableReader reader(*stage, file, "filter " + std::to_string(++index));
+    scenario.filters.push_back(read_filter_stage(reader));
+  }
+  if (const toml::table* section = top.optional_table("lisn")) {
+    TableReader reader(*section, file, "lisn");
+    scenario.lisn = read_lisn_section(reader);
+  }
+  if (const toml::table* section = top.optional_table("receiver")) {
+    TableReader reader(*section, file, "receiver");
+    scenario.receiver = read_receiver_section(reader);
+  }
+  if (const toml::table* section = top.optional_table("limits")) {
+    TableReader reader(*section, file, "limits");
+    scenario.limits = read_limits_section(reader, directory);
+  }
+  if (const toml::table* section = top.optional_table("broadcast")) {
+    TableReader reader(*section, file, "broadcast");
+    scenario.broadcast = read_broadcast_section(reader);
+  }
+  top.finish(scenario_sections());
+  return scenario;
+}
+
+Scenario load_scenario(const std::string& path) {
+  const toml::table table = parse_toml_file(path);
+  const std::filesystem::path folder = std::filesystem::path(path).parent_path();
+  return scenario_from_table(table, path, folder.empty() ? "." : folder.string());
+}
+
+Scenario scenario_from_text(std::string_view text, const std::string& name, const std::string& directory) {
+  return scenario_from_table(parse_toml_text(text, name), name, directory);
+}
+
+}  // namespace spurcast

@@ -1,0 +1,1051 @@
+#include "core/chain/sweep.hpp"
+
+#include <algorithm>
+#include <atomic>
+#include <charconv>
+#include <cmath>
+#include <exception>
+#include <limits>
+#include <map>
+#include <mutex>
+#include <thread>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+#include "core/radio/bands.hpp"
+#include "core/coupling/conducted.hpp"
+#include "core/input/error.hpp"
+#include "core/radio/radiated.hpp"
+#include "core/receiver/receiver.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/source/source.hpp"
+
+namespace spurcast {
+
+namespace {
+
+// ---------------------------------------------------------------------------------------------
+// Keys: dotted paths into the parsed scenario.
+
+std::string trim(std::string_view text) {
+  const auto first = text.find_first_not_of(" \t");
+  if (first == std::string_view::npos) return "";
+  const auto last = text.find_last_not_of(" \t");
+  return std::string(text.substr(first, last - first + 1));
+}
+
+std::vector<std::string> split(std::string_view text, char separator) {
+  std::vector<std::string> parts;
+  std::size_t start = 0;
+  while (true) {
+    const std::size_t end = text.find(separator, start);
+    parts.emplace_back(text.substr(start, end == std::string_view::npos ? std::string_view::npos : end - start));
+    if (end == std::string_view::npos) break;
+    start = end + 1;
+  }
+  return parts;
+}
+
+std::vector<std::string> key_parts(std::string_view key) {
+  std::vector<std::string> parts = split(key, '.');
+  const bool bad = parts.size() < 2 || std::any_of(parts.begin(), parts.end(), [](const std::string& p) {
+                     return p.empty() || p.find_first_of(" \t=") != std::string::npos;
+                   });
+  if (bad) {
+    throw Error("expected a dotted scenario key such as \"switching.frequency\", found \"" + std::string(key) + "\"");
+  }
+  return parts;
+}
+
+std::string joined(const std::vector<std::string>& parts, std::size_t count) {
+  std::string out;
+  for (std::size_t i = 0; i < count && i < parts.size(); ++i) out += (i ? "." : "") + parts[i];
+  return out;
+}
+
+/// The 1-based index of an array element in a key ("filter.2.inductance").
+std::size_t array_index(const std::vector<std::string>& parts, std::size_t i, std::size_t size) {
+  std::size_t index = 0;
+  const std::string& text = parts[i];
+  const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), index);
+  if (ec != std::errc() || end != text.data() + text.size() || index == 0) {
+    throw Error("expected a [[" + joined(parts, i) + "]] number from 1 after '" + joined(parts, i) + ".', found \"" +
+                text + "\"");
+  }
+  if (index > size) {
+    throw Error("no [[" + joined(parts, i) + "]] " + text + " in the scenario (it has " + std::to_string(size) + ")");
+  }
+  return index - 1;
+}
+
+/// The node at `parts` (nullptr when a table on the way or the key itself is absent); throws on a
+/// path through a non-table or a missing array element.
+const toml::node* find_key(const toml::table& table, const std::vector<std::string>& parts) {
+  const toml::table* current = &table;
+  for (std::size_t i = 0; i + 1 < parts.size(); ++i) {
+    const toml::node* child = current->get(parts[i]);
+    if (!child) return nullptr;
+    if (const toml::array* array = child->as_array()) {
+      if (i + 2 >= parts.size()) {
+        throw Error("expected a key after '" + joined(parts, i + 2) + "', e.g. \"" + joined(parts, i + 1) +
+                    ".1.inductance\"");
+      }
+      const std::size_t index = array_index(parts, i + 1, array->size());
+      const toml::table* element = array->get(index)->as_table();
+      if (!element) throw Error("'" + joined(parts, i + 2) + "' is not a table");
+      current = element;
+      ++i;
+      continue;
+    }
+    current = child->as_table();
+    if (!current) throw Error("'" + joined(parts, i + 1) + "' is not a table, so it has no key '" + parts[i + 1] + "'");
+  }
+  const toml::node* leaf = current->get(parts.back());
+  if (leaf && (leaf->is_table() || leaf->is_array())) {
+    throw Error("'" + joined(parts, parts.size()) + "' is a " + (leaf->is_table() ? "table" : "list") +
+                ", not a number");
+  }
+  return leaf;
+}
+
+/// The table that holds the key's leaf, created where missing.
+toml::table& parent_for_write(toml::table& table, const std::vector<std::string>& parts) {
+  toml::table* current = &table;
+  for (std::size_t i = 0; i + 1 < parts.size(); ++i) {
+    toml::node* child = current->get(parts[i]);
+    if (!child) {
+      auto [it, inserted] = current->insert(parts[i], toml::table{});
+      (void)inserted;
+      current = it->second.as_table();
+      continue;
+    }
+    if (toml::array* array = child->as_array()) {
+      if (i + 2 >= parts.size()) throw Error("expected a key after '" + joined(parts, i + 2) + "'");
+      const std::size_t index = array_index(parts, i + 1, array->size());
+      toml::table* element = array->get(index)->as_table();
+      if (!element) throw Error("'" + joined(parts, i + 2) + "' is not a table");
+      current = element;
+      ++i;
+      continue;
+    }
+    current = child->as_table();
+    if (!current) throw Error("'" + joined(parts, i + 1) + "' is not a table, so it has no key '" + parts[i + 1] + "'");
+  }
+  return *current;
+}
+
+/// Dimensions tried when a unit decides (fraction last: "%" only; number is the plain case).
+constexpr Dimension unit_dimensions[] = {
+    Dimension::frequency,   Dimension::time,       Dimension::voltage,     Dimension::current,
+    Dimension::capacitance, Dimension::inductance, Dimension::resistance,  Dimension::length,
+    Dimension::level_dbuv,  Dimension::level_dbua, Dimension::level_dbuvm, Dimension::decibel,
+    Dimension::fraction,
+};
+
+bool parses_as(std::string_view text, Dimension dimension) {
+  try {
+    (void)parse_quantity(text, dimension);
+    return true;
+  } catch (const Error&) {
+    return false;
+  }
+}
+
+/// The dimension a quantity text's unit names; nullopt for a plain number or no known unit.
+std::optional<Dimension> dimension_of_text(std::string_view text) {
+  if (parses_as(text, Dimension::number)) return std::nullopt;
+  for (const Dimension d : unit_dimensions) {
+    if (parses_as(text, d)) return d;
+  }
+  return std::nullopt;
+}
+
+std::string format_value(double value, Dimension dimension) {
+  if (dimension == Dimension::number) return fmt::format("{:.6g}", value);
+  if (dimension == Dimension::fraction) return fmt::format("{:.6g} %", 100.0 * value);
+  return format_quantity(value, dimension, 6);
+}
+
+// ---------------------------------------------------------------------------------------------
+// The per-sweep context shared (read-only) by the workers.
+
+struct Context {
+  const toml::table* table = nullptr;
+  std::string file;
+  std::string directory;
+  const SweepOptions* options = nullptr;
+  Scenario base;
+  bool reread_limits = false;   ///< a limits. key varies
+  bool shared_model = true;     ///< no coupling./filter./lisn. key varies
+  bool shared_bands = true;     ///< no broadcast. key varies
+  std::optional<ConductedModel> model;
+  std::vector<Band> bands;
+  std::vector<std::vector<double>> channel_centres;  ///< per band of `bands`
+  std::vector<WindowCriterion> criteria;
+  std::vector<std::size_t> criterion_band;  ///< index into bands for band_clear
+  // Columns.
+  std::vector<Detector> detectors;
+  std::vector<std::string> limit_lines;
+  std::map<std::string, std::size_t> limit_line_index;
+};
+
+struct LinesOutcome {
+  MarginReport margins;
+  std::vector<BandReception> reception;
+  bool drift_limits_ok = true;
+  std::vector<bool> drift_band_ok;  ///< per band, analytic drift check (true when tolerance is 0)
+};
+
+/// The smallest value of `line` over [lo, hi] where it is defined (log-linear segments are
+/// monotone, so the extremes are at the ends of each covered piece); nullopt when not covered.
+std::optional<double> min_limit_over(const LimitLine& line, double lo, double hi) {
+  std::optional<double> least;
+  for (const LimitSegment& s : line.segments) {
+    const double a = std::max(lo, s.from_hz);
+    const double b = std::min(hi, s.to_hz);
+    if (a > b) continue;
+    const double v = std::min(s.level_at(a), s.level_at(b));
+    if (!least || v < *least) least = v;
+  }
+  return least;
+}
+
+/// Harmonic numbers k (ascending) with k·f0 in any of `ranges` [lo, hi].
+std::vector<std::size_t> harmonics_in(std::vector<std::pair<double, double>> ranges, double f0) {
+  std::sort(ranges.begin(), ranges.end());
+  std::vector<std::size_t> ks;
+  std::size_t next = 1;
+  for (const auto& [lo, hi] : ranges) {
+    const double k_lo = std::max(1.0, std::ceil(lo / f0 - 1e-9));
+    const double k_hi = std::floor(hi / f0 + 1e-9);
+    for (double k = std::max(k_lo, static_cast<double>(next)); k <= k_hi; k += 1.0) {
+      ks.push_back(static_cast<std::size_t>(k));
+    }
+    if (k_hi + 1.0 > static_cast<double>(next)) next = static_cast<std::size_t>(std::max(k_hi + 1.0, 1.0));
+  }
+  return ks;
+}
+
+/// The exact line-spectrum path for a described, undithered source (see sweep.hpp).
+LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& model, const std::vector<Band>& bands,
+                            const Context& ctx) {
+  const SwitchingSpec& spec = *scenario.switching;
+  const double f0 = spec.frequency_hz;
+  const double tol = ctx.options->tolerance_fraction;
+
+  // Which harmonics matter: the receiver bands with the IF skirt (2·B6) at their edges and the
+  // drift range, and every broadcast band's channel passbands with the drift range.
+  std::vector<std::pair<double, double>> ranges;
+  std::vector<BandParameters> receiver;
+  for (const CisprBand b : scenario.receiver.bands) {
+    const BandParameters p = band_parameters(b);
+    receiver.push_back(p);
+    ranges.emplace_back(std::min(p.start_hz - 2.0 * p.bandwidth_6db_hz, p.start_hz / (1.0 + tol)),
+                        std::max(p.stop_hz + 2.0 * p.bandwidth_6db_hz, p.stop_hz / (1.0 - tol)));
+  }
+  for (const Band& band : bands) {
+    ranges.emplace_back((band.low_hz - band.bandwidth_hz) / (1.0 + tol), (band.high_hz + band.bandwidth_hz) / (1.0 - tol));
+  }
+  const std::vector<std::size_t> ks = harmonics_in(ranges, f0);
+  LinesOutcome out;
+  out.drift_band_ok.assign(bands.size(), true);
+  if (ks.empty()) {
+    out.margins = compare_with_limits({}, scenario.limits.sets, {.guard_db = scenario.limits.guard_db});
+    out.reception = estimate_reception(bands, {}, scenario.broadcast);
+    return out;
+  }
+  const double top_hz = static_cast<double>(ks.back()) * f0 * (1.0 + 1e-9);
+  const LineSpectrum v_sw = switch_node_spectrum(spec, top_hz);
+  const LineSpectrum i_in = input_current_spectrum(spec, top_hz);
+  std::vector<double> frequency_hz(ks.size());
+  for (std::size_t j = 0; j < ks.size(); ++j) frequency_hz[j] = static_cast<double>(ks[j]) * f0;
+  const TransferFunctions h = transfer_at(model, frequency_hz);
+  const bool two_lines = model.line_count() == 2;
+
+  // Conducted levels (the higher of the two ports) and the CM/DM currents per harmonic,
+  // superposition of the two sources as in conduct().
+  std::vector<double> port_dbuv(ks.size()), cm_a(ks.size()), dm_a(ks.size());
+  for (std::size_t j = 0; j < ks.size(); ++j) {
+    const std::size_t k = ks[j] - 1;
+    const std::complex<double> v = k < v_sw.harmonics.size() ? v_sw.harmonics[k] : 0.0;
+    const std::complex<double> i = k < i_in.harmonics.size() ? i_in.harmonics[k] : 0.0;
+    const std::complex<double> v1 = h.port1_per_input_current_ohm[j] * i + h.port1_per_switch_node[j] * v;
+    const std::complex<double> v2 = h.port2_per_input_current_ohm[j] * i + h.port2_per_switch_node[j] * v;
+    const std::complex<double> i1 = h.line1_current_per_input_current[j] * i + h.line1_current_per_switch_node_s[j] * v;
+    const std::complex<double> i2 = h.line2_current_per_input_current[j] * i + h.line2_current_per_switch_node_s[j] * v;
+    port_dbuv[j] = volts_to_dbuv(std::max(std::abs(v1), two_lines ? std::abs(v2) : 0.0));
+    cm_a[j] = std::abs(0.5 * (i1 + i2));
+    dm_a[j] = std::abs(0.5 * (i1 - i2));
+  }
+
+  // Receiver readings: an isolated line reads its RMS on every detector at its own frequency; a
+  // line just outside a band is read at the band edge through the Gaussian IF skirt.
+  std::vector<LevelReading> readings;
+  readings.reserve(ks.size() * scenario.receiver.detectors.size());
+  for (const BandParameters& p : receiver) {
+    for (std::size_t j = 0; j < ks.size(); ++j) {
+      const double f = frequency_hz[j];
+      double tuned = f;
+      double level = port_dbuv[j];
+      if (f < p.start_hz || f > p.stop_hz) {
+        tuned = f < p.start_hz ? p.start_hz : p.stop_hz;
+        if (std::abs(tuned - f) >= 2.0 * p.bandwidth_6db_hz) continue;
+        level += 20.0 * std::log10(if_gain(tuned - f, p.bandwidth_6db_hz));
+      }
+      if (level <= level_floor_db) continue;
+      for (const Detector d : scenario.receiver.detectors) readings.push_back({tuned, d, level});
+    }
+  }
+  out.margins = compare_with_limits(readings, scenario.limits.sets, {.guard_db = scenario.limits.guard_db});
+
+  // Drift of the lines against the limits: each reading against the lowest value of its line over
+  // f·(1 ± tol); lines that drift into a band from outside are read at their drifted frequency.
+  if (tol > 0.0) {
+    for (const BandParameters& p : receiver) {
+      for (std::size_t j = 0; j < ks.size() && out.drift_limits_ok; ++j) {
+        const double lo = std::max(frequency_hz[j] * (1.0 - tol), p.start_hz);
+        const double hi = std::min(frequency_hz[j] * (1.0 + tol), p.stop_hz);
+        if (lo > hi) continue;
+        for (const Detector d : scenario.receiver.detectors) {
+          for (const LimitSet& set : scenario.limits.sets) {
+            const LimitLine* line = set.line_for(d);
+            if (!line) continue;
+            const std::optional<double> least = min_limit_over(*line, lo, hi);
+            if (least && *least - port_dbuv[j] < scenario.limits.guard_db) out.drift_limits_ok = false;
+          }
+        }
+      }
+    }
+  }
+
+  // Broadcast bands: fields of the CM and DM currents, then the reception estimate.
+  std::vector<double> field_hz, field_cm, field_dm;
+  for (std::size_t j = 0; j < ks.size(); ++j) {
+    const double f = frequency_hz[j];
+    const bool in_some_band = std::any_of(bands.begin(), bands.end(), [&](const Band& b) {
+      return f >= (b.low_hz - b.bandwidth_hz) / (1.0 + tol) && f <= (b.high_hz + b.bandwidth_hz) / (1.0 - tol);
+    });
+    if (!in_some_band) continue;
+    field_hz.push_back(f);
+    field_cm.push_back(cm_a[j]);
+    field_dm.push_back(dm_a[j]);
+  }
+  const std::vector<FieldLine> fields =
+      radiated_field(radiation_setup(scenario.broadcast), field_hz, field_cm, field_dm);
+  std::vector<SpectralLine> lines;
+  lines.reserve(fields.size());
+  for (const FieldLine& field : fields) lines.push_back({field.frequency_hz, field.total_dbuvm});
+  out.reception = estimate_reception(bands, lines, scenario.broadcast);
+
+  // Drift of the lines across the channels, analytically: a channel hears every line whose range
+  // k·f0·(1 ± tol) overlaps its passband (power sum, the worst case); the band stays clear when
+  // each such channel is judged clear.
+  if (tol > 0.0) {
+    std::vector<double> line_power_of(lines.size());
+    for (std::size_t l = 0; l < lines.size(); ++l) line_power_of[l] = std::pow(10.0, lines[l].level_db / 10.0);
+    for (std::size_t b = 0; b < bands.size(); ++b) {
+      const Band& band = bands[b];
+      std::vector<double> own_centres;
+      if (b >= ctx.channel_centres.size() || !ctx.shared_bands) own_centres = band.channel_centres_hz();
+      const std::vector<double>& centres = own_centres.empty() ? ctx.channel_centres[b] : own_centres;
+      const double half_bw = 0.5 * band.bandwidth_hz;
+      // Each line adds its power to a run of channels: difference arrays, then running sums.
+      std::vector<double> power_step(centres.size() + 1, 0.0);
+      std::vector<std::ptrdiff_t> count_step(centres.size() + 1, 0);
+      for (std::size_t l = 0; l < lines.size(); ++l) {
+        const double lo = lines[l].frequency_hz * (1.0 - tol) - half_bw;
+        const double hi = lines[l].frequency_hz * (1.0 + tol) + half_bw;
+        const auto first = static_cast<std::size_t>(std::lower_bound(centres.begin(), centres.end(), lo) - centres.begin());
+        const auto last = static_cast<std::size_t>(std::upper_bound(centres.begin(), centres.end(), hi) - centres.begin());
+        if (first >= last) continue;
+        power_step[first] += line_power_of[l];
+        power_step[last] -= line_power_of[l];
+        ++count_step[first];
+        --count_step[last];
+      }
+      double power = 0.0;
+      std::ptrdiff_t count = 0;
+      for (std::size_t c = 0; c < centres.size() && out.drift_band_ok[b]; ++c) {
+        power += power_step[c];
+        count += count_step[c];
+        if (count <= 0) {
+          power = 0.0;  // no line here: drop the rounding residue of the running sum
+          continue;
+        }
+        const double level_db = power > 0.0 ? 10.0 * std::log10(power) : level_floor_db;
+        if (judge_channel(band, centres[c], level_db, scenario.broadcast.environment).verdict !=
+            ReceptionVerdict::clear) {
+          out.drift_band_ok[b] = false;
+        }
+      }
+    }
+  }
+  return out;
+}
+
+/// The receiver bands' 6 dB bandwidths decide whether the lines are isolated in the IF filter.
+bool lines_are_isolated(const Scenario& scenario) {
+  if (!scenario.switching || scenario.switching->dither) return false;
+  for (const CisprBand b : scenario.receiver.bands) {
+    if (!(scenario.switching->frequency_hz > 2.0 * band_parameters(b).bandwidth_6db_hz)) return false;
+  }
+  return true;
+}
+
+void fill_margins(SweepPoint& point, const MarginReport& report, const Context& ctx) {
+  point.detectors.resize(ctx.detectors.size());
+  for (std::size_t d = 0; d < ctx.detectors.size(); ++d) point.detectors[d].detector = ctx.detectors[d];
+  for (const DetectorMargin& worst : report.worst_per_detector) {
+    const auto it = std::find(ctx.detectors.begin(), ctx.detectors.end(), worst.detector);
+    if (it == ctx.detectors.end() || worst.comparisons == 0) continue;
+    DetectorMarginPoint& cell = point.detectors[static_cast<std::size_t>(it - ctx.detectors.begin())];
+    cell.margin_db = worst.worst.margin_db;
+    cell.frequency_hz = worst.worst.frequency_hz;
+  }
+  point.limit_lines.assign(ctx.limit_lines.size(), LineMarginPoint{});
+  for (const MarginRow& row : report.rows) {
+    const auto it = ctx.limit_line_index.find(row.limit_label);
+    if (it == ctx.limit_line_index.end()) continue;
+    LineMarginPoint& cell = point.limit_lines[it->second];
+    if (!cell.margin_db || row.margin_db < *cell.margin_db) {
+      cell.margin_db = row.margin_db;
+      cell.frequency_hz = row.frequency_hz;
+    }
+  }
+  if (report.worst) point.worst_margin_db = report.worst->margin_db;
+  point.limits_verdict = report.verdict;
+}
+
+void fill_bands(SweepPoint& point, const std::vector<BandReception>& reception, const Context& ctx) {
+  point.bands.assign(ctx.bands.size(), BandPoint{});
+  for (std::size_t b = 0; b < reception.size() && b < point.bands.size(); ++b) {
+    const BandReception& r = reception[b];
+    BandPoint& cell = point.bands[b];
+    cell.channels_hit = r.channels.size();
+    cell.verdict = r.verdict;
+    if (r.worst_channel) {
+      cell.worst_channel_hz = r.channels[*r.worst_channel].centre_hz;
+      cell.worst_level_dbuvm = r.channels[*r.worst_channel].level_dbuvm;
+    }
+  }
+}
+
+/// The fundamental's frequency range: dither deviation and drift tolerance.
+bool fundamental_outside(double f0, const Scenario& scenario, CisprBand band, double tol) {
+  if (!(f0 > 0.0)) return false;
+  const double deviation = scenario.switching && scenario.switching->dither ? scenario.switching->dither->deviation_fraction : 0.0;
+  const double lo = f0 * (1.0 - deviation) * (1.0 - tol);
+  const double hi = f0 * (1.0 + deviation) * (1.0 + tol);
+  const BandParameters p = band_parameters(band);
+  return hi < p.start_hz || lo > p.stop_hz;
+}
+
+std::string point_label(const std::vector<SweepAxis>& axes, const std::vector<double>& values) {
+  std::string label;
+  for (std::size_t a = 0; a < axes.size(); ++a) {
+    label += (a ? ", " : "") + axes[a].key + " = " + format_value(values[a], axes[a].dimension);
+  }
+  return label;
+}
+
+SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values) {
+  SweepPoint point;
+  point.values = values;
+  const SweepOptions& options = *ctx.options;
+  Scenario scenario;
+  try {
+    toml::table copy = *ctx.table;
+    if (!ctx.reread_limits) copy.erase("limits");  // the limit files are read once, not per point
+    for (std::size_t a = 0; a < options.axes.size(); ++a) {
+      set_scenario_key(copy, options.axes[a].key, values[a], options.axes[a].dimension);
+    }
+    scenario = scenario_from_table(copy, ctx.file, ctx.directory);
+    if (!ctx.reread_limits) scenario.limits = ctx.base.limits;
+  } catch (const Error& e) {
+    point.error = e.what();
+    return point;
+  }
+  const double tol = options.tolerance_fraction;
+  std::vector<bool> band_ok(ctx.bands.size(), true);
+  bool drift_limits_ok = true;
+  try {
+    std::optional<std::vector<Band>> own_bands;
+    if (!ctx.shared_bands) own_bands = bands_for(scenario.broadcast);
+    const std::vector<Band>& bands = own_bands ? *own_bands : ctx.bands;
+    if (options.exact_lines && lines_are_isolated(scenario)) {
+      point.method = "lines";
+      point.switching_frequency_hz = scenario.switching->frequency_hz;
+      std::optional<ConductedModel> own_model;
+      if (!ctx.shared_model) own_model.emplace(scenario.coupling, scenario.filters, scenario.lisn);
+      const LinesOutcome outcome = evaluate_lines(scenario, own_model ? *own_model : *ctx.model, bands, ctx);
+      fill_margins(point, outcome.margins, ctx);
+      fill_bands(point, outcome.reception, ctx);
+      for (std::size_t b = 0; b < band_ok.size() && b < outcome.drift_band_ok.size(); ++b) {
+        band_ok[b] = outcome.drift_band_ok[b];
+      }
+      drift_limits_ok = outcome.drift_limits_ok;
+    } else {
+      point.method = "scan";
+      PredictionOptions prediction = options.prediction;
+      prediction.skip_scans = false;
+      const Prediction p = predict(scenario, prediction);
+      point.switching_frequency_hz = p.switch_node_v.fundamental_hz;
+      fill_margins(point, p.margins, ctx);
+      fill_bands(point, p.reception, ctx);
+    }
+  } catch (const Error& e) {
+    point.error = e.what();
+    point.method.clear();
+    return point;
+  }
+  // The point alone against each criterion, at its nominal value and with the analytic drift
+  // check (the `all` criterion combines the others).
+  point.point_meets.assign(ctx.criteria.size(), false);
+  point.drift_meets.assign(ctx.criteria.size(), false);
+  for (std::size_t c = 0; c < ctx.criteria.size(); ++c) {
+    const WindowCriterion& criterion = ctx.criteria[c];
+    switch (criterion.kind) {
+      case WindowCriterion::Kind::band_clear: {
+        const std::size_t b = ctx.criterion_band[c];
+        point.point_meets[c] = point.bands[b].verdict == ReceptionVerdict::clear;
+        point.drift_meets[c] = point.point_meets[c] && band_ok[b];
+        break;
+      }
+      case WindowCriterion::Kind::fundamental_outside: {
+        const CisprBand band = band_from_string(criterion.band);
+        point.point_meets[c] = fundamental_outside(point.switching_frequency_hz, scenario, band, 0.0);
+        point.drift_meets[c] = fundamental_outside(point.switching_frequency_hz, scenario, band, tol);
+        break;
+      }
+      case WindowCriterion::Kind::limits_met:
+        point.point_meets[c] = point.limits_verdict == Verdict::pass;
+        point.drift_meets[c] = point.point_meets[c] && drift_limits_ok;
+        break;
+      case WindowCriterion::Kind::all: {
+        bool nominal = true, drift = true;
+        for (std::size_t o = 0; o < c; ++o) {
+          nominal = nominal && point.point_meets[o];
+          drift = drift && point.drift_meets[o];
+        }
+        point.point_meets[c] = nominal;
+        point.drift_meets[c] = drift;
+        break;
+      }
+    }
+  }
+  return point;
+}
+
+/// Robustness on the grid and the windows, per group of points sharing the values of axes 2..
+void find_windows(SweepResult& result) {
+  const std::size_t n0 = result.axes.front().values.size();
+  const std::size_t groups = n0 == 0 ? 0 : result.points.size() / n0;
+  const double tol = result.tolerance_fraction;
+  for (SweepPoint& p : result.points) p.robust.assign(result.criteria.size(), false);
+  for (std::size_t g = 0; g < groups; ++g) {
+    // Points of the group in increasing first-axis value.
+    std::vector<std::size_t> order(n0);
+    for (std::size_t i = 0; i < n0; ++i) order[i] = g * n0 + i;
+    std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
+      return result.points[a].values[0] < result.points[b].values[0];
+    });
+    std::vector<double> sorted_values(n0);
+    for (std::size_t i = 0; i < n0; ++i) sorted_values[i] = result.points[order[i]].values[0];
+    for (std::size_t c = 0; c < result.criteria.size(); ++c) {
+      // failures[i] = number of failing points among the first i (prefix count).
+      // The neighbours must meet the criterion at their nominal values, the point itself with
+      // its drift checked analytically.
+      std::vector<std::size_t> failures(n0 + 1, 0);
+      for (std::size_t i = 0; i < n0; ++i) {
+        const SweepPoint& p = result.points[order[i]];
+        const bool ok = !p.error && c < p.point_meets.size() && p.point_meets[c];
+        failures[i + 1] = failures[i] + (ok ? 0 : 1);
+      }
+      for (std::size_t i = 0; i < n0; ++i) {
+        const double v = sorted_values[i];
+        const double lo = std::min(v * (1.0 - tol), v * (1.0 + tol));
+        const double hi = std::max(v * (1.0 - tol), v * (1.0 + tol));
+        const auto first = static_cast<std::size_t>(
+            std::lower_bound(sorted_values.begin(), sorted_values.end(), lo) - sorted_values.begin());
+        const auto last = static_cast<std::size_t>(
+            std::upper_bound(sorted_values.begin(), sorted_values.end(), hi) - sorted_values.begin());
+        const std::size_t a = std::min(first, i);
+        const std::size_t b = std::max(last, i + 1);
+        const SweepPoint& p = result.points[order[i]];
+        const bool itself = !p.error && c < p.drift_meets.size() && p.drift_meets[c];
+        result.points[order[i]].robust[c] = itself && failures[b] - failures[a] == 0;
+      }
+      // Maximal runs of robust points.
+      std::size_t i = 0;
+      while (i < n0) {
+        if (!result.points[order[i]].robust[c]) {
+          ++i;
+          continue;
+        }
+        std::size_t j = i;
+        while (j + 1 < n0 && result.points[order[j + 1]].robust[c]) ++j;
+        RobustWindow w;
+        w.criterion = c;
+        const SweepPoint& first_point = result.points[order[i]];
+        w.fixed_values.assign(first_point.values.begin() + 1, first_point.values.end());
+        w.from_value = sorted_values[i];
+        w.to_value = sorted_values[j];
+        w.first_point = order[i];
+        w.last_point = order[j];
+        w.point_count = j - i + 1;
+        result.windows.push_back(w);
+        i = j + 1;
+      }
+    }
+  }
+  std::stable_sort(result.windows.begin(), result.windows.end(),
+                   [](const RobustWindow& a, const RobustWindow& b) { return a.criterion < b.criterion; });
+}
+
+std::string margin_cell(const std::optional<double>& margin) {
+  return margin ? fmt::format("{:.2f}", *margin) : std::string();
+}
+
+std::string detector_column(Detector d) { return to_string(d) + "_margin_db"; }
+
+}  // namespace
+
+// ---------------------------------------------------------------------------------------------
+
+VarySpec parse_vary(std::string_view text) {
+  const std::string usage = "expected KEY=FROM:TO[:N] (e.g. \"switching.frequency=100kHz:3MHz:1000\"), found \"" +
+                            std::string(text) + "\"";
+  const auto equals = text.find('=');
+  if (equals == std::string_view::npos) throw Error(usage);
+  VarySpec vary;
+  vary.key = trim(text.substr(0, equals));
+  std::vector<std::string> fields = split(text.substr(equals + 1), ':');
+  for (std::string& f : fields) f = trim(f);
+  if (!fields.empty() && (fields.back() == "log" || fields.back() == "lin")) {
+    vary.logarithmic = fields.back() == "log";
+    fields.pop_back();
+  }
+  if (vary.key.empty() || fields.size() < 2 || fields.size() > 3 || fields[0].empty() || fields[1].empty()) {
+    throw Error(usage);
+  }
+  (void)key_parts(vary.key);
+  vary.from_text = fields[0];
+  vary.to_text = fields[1];
+  if (fields.size() == 3) {
+    const std::string& n = fields[2];
+    std::size_t count = 0;
+    const auto [end, ec] = std::from_chars(n.data(), n.data() + n.size(), count);
+    if (ec != std::errc() || end != n.data() + n.size() || count == 0) {
+      throw Error("expected a point count >= 1 after TO, found \"" + n + "\"");
+    }
+    vary.count = count;
+  }
+  return vary;
+}
+
+std::vector<double> sweep_values(double from, double to, std::size_t count, bool logarithmic) {
+  if (count == 0) throw Error("expected a point count >= 1, found 0");
+  if (!std::isfinite(from) || !std::isfinite(to)) throw Error("expected finite sweep limits");
+  if (count == 1) {
+    if (std::abs(from - to) > 1e-12 * std::max(std::abs(from), std::abs(to))) {
+      throw Error("a sweep of 1 point needs FROM = TO");
+    }
+    return {from};
+  }
+  if (logarithmic && !(from * to > 0.0)) {
+    throw Error("a logarithmic sweep needs FROM and TO of one sign and non-zero, found " + fmt::format("{:g}", from) +
+                " and " + fmt::format("{:g}", to));
+  }
+  std::vector<double> values(count);
+  const double steps = static_cast<double>(count - 1);
+  for (std::size_t i = 0; i < count; ++i) {
+    const double x = static_cast<double>(i) / steps;
+    values[i] = logarithmic ? from * std::pow(to / from, x) : from + (to - from) * x;
+  }
+  values.back() = to;  // exact end point
+  return values;
+}
+
+Dimension scenario_key_dimension(const toml::table& table, std::string_view key, std::string_view example_text) {
+  const std::vector<std::string> parts = key_parts(key);
+  if (const toml::node* node = find_key(table, parts)) {
+    if (const auto* text = node->as_string()) {
+      if (const std::optional<Dimension> d = dimension_of_text(text->get())) return *d;
+    }
+  }
+  return dimension_of_text(example_text).value_or(Dimension::number);
+}
+
+SweepAxis make_axis(const toml::table& table, const VarySpec& vary) {
+  SweepAxis axis;
+  axis.key = vary.key;
+  axis.dimension = scenario_key_dimension(table, vary.key, vary.from_text);
+  auto parse = [&](const std::string& text) {
+    try {
+      return parse_quantity(text, axis.dimension);
+    } catch (const Error& e) {
+      throw Error("--vary " + vary.key + ": " + e.what());
+    }
+  };
+  const double from = parse(vary.from_text);  // FROM first: its error comes first
+  const double to = parse(vary.to_text);
+  axis.values = sweep_values(from, to, vary.count, vary.logarithmic);
+  return axis;
+}
+
+void set_scenario_key(toml::table& table, std::string_view key, double value, Dimension dimension) {
+  const std::vector<std::string> parts = key_parts(key);
+  toml::table& parent = parent_for_write(table, parts);
+  const toml::node* existing = parent.get(parts.back());
+  if (existing && existing->is_integer()) {
+    const double rounded = std::round(value);
+    if (std::abs(rounded - value) > 1e-9 * std::max(1.0, std::abs(value))) {
+      throw Error("expected a whole number for '" + std::string(key) + "', found " + fmt::format("{:g}", value));
+    }
+    parent.insert_or_assign(parts.back(), static_cast<std::int64_t>(rounded));
+    return;
+  }
+  if (dimension == Dimension::number || dimension == Dimension::fraction) {
+    parent.insert_or_assign(parts.back(), value);
+    return;
+  }
+  // Full precision with the unit: the section's reader then checks the unit for the key.
+  parent.insert_or_assign(parts.back(), fmt::format("{:.17g} {}", value, unit_symbol(dimension)));
+}
+
+std::string WindowCriterion::label() const {
+  switch (kind) {
+    case Kind::band_clear: return band + " clear";
+    case Kind::fundamental_outside: return "fundamental outside band " + band;
+    case Kind::limits_met: return "limits met";
+    case Kind::all: return "all criteria";
+  }
+  return "";
+}
+
+WindowCriterion parse_window_criterion(std::string_view band_name) {
+  WindowCriterion criterion;
+  criterion.band = trim(band_name);
+  if (criterion.band.empty()) throw Error("expected a band name such as \"MW\" or \"B\", found \"\"");
+  criterion.kind = find_band(criterion.band) ? WindowCriterion::Kind::fundamental_outside
+                                             : WindowCriterion::Kind::band_clear;
+  return criterion;
+}
+
+unsigned sweep_thread_count(const char* environment_value) {
+  if (environment_value && *environment_value) {
+    const std::string_view text(environment_value);
+    unsigned count = 0;
+    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
+    if (ec != std::errc() || end != text.data() + text.size() || count == 0) {
+      throw Error("expected SPURCAST_THREADS to be a positive integer, found \"" + std::string(text) + "\"");
+    }
+    return count;
+  }
+  return std::max(1u, std::thread::hardware_concurrency());
+}
+
+SweepResult run_sweep(const toml::table& table, const std::string& file, const std::string& directory,
+                      const SweepOptions& options) {
+  if (options.axes.empty()) throw Error("a sweep needs at least one --vary");
+  if (!(options.tolerance_fraction >= 0.0 && options.tolerance_fraction < 0.5)) {
+    throw Error("expected a tolerance from 0 to 50 %, found " + fmt::format("{:g} %", 100.0 * options.tolerance_fraction));
+  }
+  std::size_t total = 1;
+  for (const SweepAxis& axis : options.axes) {
+    if (axis.values.empty()) throw Error("the sweep of '" + axis.key + "' has no values");
+    (void)key_parts(axis.key);
+    total *= axis.values.size();
+    if (total > max_sweep_point_count) {
+      throw Error("expected at most " + std::to_string(max_sweep_point_count) + " sweep points, found more");
+    }
+  }
+
+  Context ctx;
+  ctx.table = &table;
+  ctx.file = file;
+  ctx.directory = directory;
+  ctx.options = &options;
+  ctx.base = scenario_from_table(table, file, directory);
+  for (const SweepAxis& axis : options.axes) {
+    const std::string section = key_parts(axis.key).front();
+    if (section == "limits") ctx.reread_limits = true;
+    if (section == "coupling" || section == "filter" || section == "lisn") ctx.shared_model = false;
+    if (section == "broadcast") ctx.shared_bands = false;
+  }
+  if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn);
+  ctx.bands = bands_for(ctx.base.broadcast);
+  for (const Band& band : ctx.bands) ctx.channel_centres.push_back(band.channel_centres_hz());
+
+  SweepResult result;
+  result.axes = options.axes;
+  result.tolerance_fraction = options.tolerance_fraction;
+  result.guard_db = ctx.base.limits.guard_db;
+  for (const SweepAxis& axis : options.axes) {
+    (void)scenario_key_dimension(table, axis.key, "");  // checks the key's path
+  }
+
+  // Criteria, with the band names checked against the plan.
+  ctx.criteria = options.criteria;
+  if (ctx.criteria.size() > 1) ctx.criteria.push_back(WindowCriterion{WindowCriterion::Kind::all, ""});
+  for (const WindowCriterion& c : ctx.criteria) {
+    std::size_t index = 0;
+    if (c.kind == WindowCriterion::Kind::band_clear) {
+      const auto it = std::find_if(ctx.bands.begin(), ctx.bands.end(), [&](const Band& b) { return b.name == c.band; });
+      if (it == ctx.bands.end()) {
+        std::string names;
+        for (const Band& b : ctx.bands) names += (names.empty() ? "" : ", ") + b.name;
+        throw Error("no band \"" + c.band + "\" in the scenario's band plan (bands: " + names +
+                    "; or a CISPR band A, B, C, D)");
+      }
+      index = static_cast<std::size_t>(it - ctx.bands.begin());
+    }
+    ctx.criterion_band.push_back(index);
+  }
+  result.criteria = ctx.criteria;
+
+  // Columns: the line detectors that have a reading detector, and every limit line.
+  for (const Detector d : all_detectors()) {
+    const bool read = std::find(ctx.base.receiver.detectors.begin(), ctx.base.receiver.detectors.end(), d) !=
+                      ctx.base.receiver.detectors.end();
+    const bool limited = std::any_of(ctx.base.limits.sets.begin(), ctx.base.limits.sets.end(),
+                                     [&](const LimitSet& s) { return s.line_for(d) != nullptr; });
+    if (read && limited) ctx.detectors.push_back(d);
+  }
+  for (const LimitSet& set : ctx.base.limits.sets) {
+    for (const LimitLine& line : set.lines) {
+      const std::string label = line_label(set, line);
+      if (ctx.limit_line_index.emplace(label, ctx.limit_lines.size()).second) ctx.limit_lines.push_back(label);
+    }
+  }
+  result.detectors = ctx.detectors;
+  result.limit_lines = ctx.limit_lines;
+  for (const Band& b : ctx.bands) result.bands.push_back(b.name);
+
+  // The grid: the first axis fastest.
+  std::vector<std::vector<double>> grid(total, std::vector<double>(options.axes.size()));
+  for (std::size_t i = 0; i < total; ++i) {
+    std::size_t rest = i;
+    for (std::size_t a = 0; a < options.axes.size(); ++a) {
+      const std::size_t n = options.axes[a].values.size();
+      grid[i][a] = options.axes[a].values[rest % n];
+      rest /= n;
+    }
+  }
+
+  const unsigned threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
+  result.threads = static_cast<unsigned>(std::min<std::size_t>(threads, total));
+  result.points.resize(total);
+  std::atomic<std::size_t> next{0};
+  std::exception_ptr failure;
+  std::mutex failure_mutex;
+  auto worker = [&] {
+    try {
+      for (std::size_t i = next++; i < total; i = next++) result.points[i] = evaluate_point(ctx, grid[i]);
+    } catch (...) {
+      const std::lock_guard lock(failure_mutex);
+      if (!failure) failure = std::current_exception();
+      next = total;
+    }
+  };
+  if (result.threads <= 1) {
+    worker();
+  } else {
+    std::vector<std::thread> pool;
+    pool.reserve(result.threads);
+    for (unsigned t = 0; t < result.threads; ++t) pool.emplace_back(worker);
+    for (std::thread& t : pool) t.join();
+  }
+  if (failure) std::rethrow_exception(failure);
+
+  for (const SweepPoint& p : result.points) {
+    if (p.error) ++result.invalid_points;
+  }
+  if (result.invalid_points == total) {
+    throw Error(point_label(options.axes, result.points.front().values) + ": " + *result.points.front().error);
+  }
+  if (result.invalid_points > 0) {
+    const auto it = std::find_if(result.points.begin(), result.points.end(), [](const SweepPoint& p) { return p.error.has_value(); });
+    result.notes.push_back(std::to_string(result.invalid_points) + " of " + std::to_string(total) +
+                           " points were rejected by the scenario's checks, e.g. " +
+                           point_label(options.axes, it->values) + ": " + *it->error);
+  }
+  const std::size_t scanned = static_cast<std::size_t>(
+      std::count_if(result.points.begin(), result.points.end(), [](const SweepPoint& p) { return p.method == "scan"; }));
+  if (scanned > 0) {
+    result.notes.push_back(std::to_string(scanned) + (scanned == 1 ? " point" : " points") +
+                           " went through the receiver scan (dithered or captured source, or harmonics "
+                           "closer than 2 x B6): drift checked on the grid only");
+  }
+  if (ctx.limit_lines.empty()) result.notes.push_back("the scenario gives no limit line: every point meets the limits");
+  if (result.tolerance_fraction > 0.0) {
+    result.notes.push_back("windows hold across +/-" + fmt::format("{:g}", 100.0 * result.tolerance_fraction) +
+                           " % of " + options.axes.front().key +
+                           " on the grid; the harmonics' drift k*f0*(1 +/- tolerance) is checked analytically against "
+                           "every channel passband and limit line");
+  }
+  find_windows(result);
+  return result;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Writers.
+
+std::string sweep_csv(const SweepResult& result) {
+  std::string csv;
+  std::vector<std::string> header;
+  for (const SweepAxis& axis : result.axes) header.push_back(csv_field(axis.key));
+  header.insert(header.end(), {"method", "limits_verdict", "worst_margin_db"});
+  for (const Detector d : result.detectors) header.push_back(detector_column(d));
+  for (const std::string& line : result.limit_lines) header.push_back(csv_field("margin_db:" + line));
+  for (const std::string& band : result.bands) header.push_back(csv_field("verdict:" + band));
+  for (const WindowCriterion& c : result.criteria) header.push_back(csv_field("robust:" + c.label()));
+  header.push_back("error");
+  for (std::size_t i = 0; i < header.size(); ++i) csv += (i ? "," : "") + header[i];
+  csv += "\n";
+  for (const SweepPoint& p : result.points) {
+    std::string row;
+    for (const double v : p.values) row += fmt::format("{:.12g},", v);
+    if (p.error) {
+      row += ",,";
+    } else {
+      row += p.method + "," + to_string(p.limits_verdict) + ",";
+    }
+    row += margin_cell(p.worst_margin_db);
+    for (std::size_t d = 0; d < result.detectors.size(); ++d) {
+      row += ',';
+      row += (d < p.detectors.size() ? margin_cell(p.detectors[d].margin_db) : std::string());
+    }
+    for (std::size_t l = 0; l < result.limit_lines.size(); ++l) {
+      row += ',';
+      row += (l < p.limit_lines.size() ? margin_cell(p.limit_lines[l].margin_db) : std::string());
+    }
+    for (std::size_t b = 0; b < result.bands.size(); ++b) {
+      row += ',';
+      row += (b < p.bands.size() ? reception_verdict_name(p.bands[b].verdict) : std::string());
+    }
+    for (std::size_t c = 0; c < result.criteria.size(); ++c) {
+      row += ',';
+      row += std::string(c < p.robust.size() && p.robust[c] ? "1" : "0");
+    }
+    row += ',';
+    row += (p.error ? csv_field(*p.error) : std::string());
+    csv += row + "\n";
+  }
+  return csv;
+}
+
+std::string sweep_json(const SweepResult& result) {
+  using nlohmann::ordered_json;
+  auto optional_number = [](const std::optional<double>& v) { return v ? ordered_json(*v) : ordered_json(nullptr); };
+  ordered_json j;
+  j["axes"] = ordered_json::array();
+  for (const SweepAxis& axis : result.axes) {
+    j["axes"].push_back({{"key", axis.key}, {"unit", unit_symbol(axis.dimension)}, {"points", axis.values.size()},
+                         {"from", axis.values.front()}, {"to", axis.values.back()}});
+  }
+  j["tolerance_fraction"] = result.tolerance_fraction;
+  j["guard_db"] = result.guard_db;
+  j["threads"] = result.threads;
+  j["detectors"] = ordered_json::array();
+  for (const Detector d : result.detectors) j["detectors"].push_back(to_string(d));
+  j["limit_lines"] = result.limit_lines;
+  j["bands"] = result.bands;
+  j["criteria"] = ordered_json::array();
+  for (const WindowCriterion& c : result.criteria) j["criteria"].push_back(c.label());
+  j["windows"] = ordered_json::array();
+  for (const RobustWindow& w : result.windows) {
+    j["windows"].push_back({{"criterion", result.criteria[w.criterion].label()},
+                            {"fixed_values", w.fixed_values},
+                            {"from", w.from_value},
+                            {"to", w.to_value},
+                            {"points", w.point_count}});
+  }
+  j["invalid_points"] = result.invalid_points;
+  j["notes"] = result.notes;
+  j["points"] = ordered_json::array();
+  for (const SweepPoint& p : result.points) {
+    ordered_json point;
+    point["values"] = p.values;
+    if (p.error) {
+      point["error"] = *p.error;
+      j["points"].push_back(point);
+      continue;
+    }
+    point["method"] = p.method;
+    point["switching_frequency_hz"] = p.switching_frequency_hz;
+    point["limits_verdict"] = to_string(p.limits_verdict);
+    point["worst_margin_db"] = optional_number(p.worst_margin_db);
+    ordered_json detectors = ordered_json::object();
+    for (const DetectorMarginPoint& d : p.detectors) {
+      detectors[to_string(d.detector)] = {{"margin_db", optional_number(d.margin_db)}, {"frequency_hz", d.frequency_hz}};
+    }
+    point["worst_margin_per_detector"] = detectors;
+    ordered_json lines = ordered_json::object();
+    for (std::size_t l = 0; l < p.limit_lines.size() && l < result.limit_lines.size(); ++l) {
+      lines[result.limit_lines[l]] = {{"margin_db", optional_number(p.limit_lines[l].margin_db)},
+                                      {"frequency_hz", p.limit_lines[l].frequency_hz}};
+    }
+    point["limit_lines"] = lines;
+    ordered_json bands = ordered_json::array();
+    for (std::size_t b = 0; b < p.bands.size() && b < result.bands.size(); ++b) {
+      const BandPoint& band = p.bands[b];
+      bands.push_back({{"band", result.bands[b]},
+                       {"verdict", reception_verdict_name(band.verdict)},
+                       {"channels_hit", band.channels_hit},
+                       {"worst_channel_hz", optional_number(band.worst_channel_hz)},
+                       {"worst_level_dbuvm", optional_number(band.worst_level_dbuvm)}});
+    }
+    point["bands"] = bands;
+    ordered_json robust = ordered_json::object();
+    for (std::size_t c = 0; c < result.criteria.size() && c < p.robust.size(); ++c) {
+      robust[result.criteria[c].label()] = static_cast<bool>(p.robust[c]);
+    }
+    point["robust"] = robust;
+    j["points"].push_back(point);
+  }
+  return j.dump(2) + "\n";
+}
+
+std::string sweep_windows_text(const SweepResult& result) {
+  const SweepAxis& axis = result.axes.front();
+  std::string text = fmt::format("Sweep of {}: {} points", axis.key, result.points.size());
+  text += result.axes.size() > 1 ? " (grid)" : "";
+  text += fmt::format(", {} thread{}", result.threads, result.threads == 1 ? "" : "s");
+  if (result.tolerance_fraction > 0.0) text += fmt::format(", windows robust to +/-{:g} %", 100.0 * result.tolerance_fraction);
+  text += fmt::format(", guard {:g} dB\n", result.guard_db);
+  // The overall picture: best and worst margins over the valid points.
+  std::optional<double> best, worst;
+  for (const SweepPoint& p : result.points) {
+    if (p.error || !p.worst_margin_db) continue;
+    if (!best || *p.worst_margin_db > *best) best = *p.worst_margin_db;
+    if (!worst || *p.worst_margin_db < *worst) worst = *p.worst_margin_db;
+  }
+  if (best) text += fmt::format("worst margin over the sweep: {:.2f} dB at the worst point, {:.2f} dB at the best\n", *worst, *best);
+  if (result.criteria.empty()) {
+    text += "no window asked for (use --clear BAND and/or --meet-limits)\n";
+  }
+  for (std::size_t c = 0; c < result.criteria.size(); ++c) {
+    text += '\n';
+    text += result.criteria[c].label();
+    text += ":\n";
+    bool any = false;
+    for (const RobustWindow& w : result.windows) {
+      if (w.criterion != c) continue;
+      any = true;
+      std::string fixed;
+      for (std::size_t a = 1; a < result.axes.size() && a - 1 < w.fixed_values.size(); ++a) {
+        fixed += fmt::format("  at {} = {}", result.axes[a].key, format_value(w.fixed_values[a - 1], result.axes[a].dimension));
+      }
+      text += fmt::format("  {:>12} to {:<12} {:>7} point{}{}\n", format_value(w.from_value, axis.dimension),
+                          format_value(w.to_value, axis.dimension), w.point_count, w.point_count == 1 ? " " : "s",
+                          fixed);
+    }
+    if (!any) text += "  no window\n";
+  }
+  for (const std::string& note : result.notes) text += "note: " + note + "\n";
+  return text;
+}
+
+}  // namespace spurcast

@@ -1,0 +1,100 @@
+#include "core/compliance/prescan.hpp"
+
+#include <algorithm>
+#include <cmath>
+
+#include "core/compliance/margins.hpp"
+
+namespace spurcast {
+
+double prescan_rbw_hz(double frequency_hz) {
+  // CISPR 16-1-1 bands, REFERENCES.md §1.1 [F: de.zxc.wiki Quasispitzenwert; analyser manual].
+  if (frequency_hz < 150e3) return 200.0;
+  if (frequency_hz <= 30e6) return 9e3;
+  if (frequency_hz <= 1e9) return 120e3;
+  return 1e6;  // band E, above 1 GHz
+}
+
+std::vector<RemeasurePoint> remeasure_list(const MeasuredTrace& trace, const std::vector<LimitSet>& sets,
+                                           const PrescanOptions& options) {
+  std::vector<RemeasurePoint> candidates;
+  const std::size_t n = trace.frequency_hz.size();
+  for (std::size_t i = 0; i < n; ++i) {
+    const double level = trace.level_dbuv[i];
+    const bool left_ok = i == 0 || level >= trace.level_dbuv[i - 1];
+    const bool right_ok = i + 1 == n || level >= trace.level_dbuv[i + 1];
+    if (!left_ok || !right_ok) continue;
+    RemeasurePoint point;
+    point.frequency_hz = trace.frequency_hz[i];
+    point.peak_dbuv = level;
+    bool wanted = false;
+    for (const LimitSet& set : sets) {
+      for (const LimitLine& line : set.lines) {
+        if (line.detector == Detector::peak) continue;  // the peak trace is already the final peak reading
+        const auto limit = line.level_at(point.frequency_hz);
+        if (!limit) continue;
+        const double margin_db = *limit - level;
+        if (margin_db >= options.guard_db) continue;  // the peak under the line by the guard proves it
+        if (std::find(point.detectors.begin(), point.detectors.end(), line.detector) == point.detectors.end()) {
+          point.detectors.push_back(line.detector);
+        }
+        if (!wanted || margin_db < point.margin_db) {
+          point.margin_db = margin_db;
+          point.limit_label = line_label(set, line);
+        }
+        wanted = true;
+      }
+    }
+    if (wanted) candidates.push_back(point);
+  }
+
+  std::vector<RemeasurePoint> merged;
+  double group_end_hz = 0.0;
+  for (RemeasurePoint& candidate : candidates) {
+    const bool joins = !merged.empty() &&
+                       candidate.frequency_hz - group_end_hz <= options.merge_rbw * prescan_rbw_hz(group_end_hz);
+    if (!joins) {
+      merged.push_back(candidate);
+    } else {
+      RemeasurePoint& group = merged.back();
+      std::vector<Detector> detectors = group.detectors;
+      for (Detector d : candidate.detectors) {
+        if (std::find(detectors.begin(), detectors.end(), d) == detectors.end()) detectors.push_back(d);
+      }
+      if (candidate.margin_db < group.margin_db) group = candidate;
+      group.detectors = detectors;
+    }
+    group_end_hz = candidate.frequency_hz;
+  }
+  for (RemeasurePoint& point : merged) {
+    std::sort(point.detectors.begin(), point.detectors.end(),
+              [](Detector a, Detector b) { return static_cast<int>(a) < static_cast<int>(b); });
+  }
+  return merged;
+}
+
+std::vector<PredictionCheck> compare_with_prediction(const std::vector<RemeasurePoint>& points,
+                                                     const std::vector<ScanCsvRow>& prediction, double window_rbw) {
+  std::vector<PredictionCheck> checks;
+  for (const RemeasurePoint& point : points) {
+    PredictionCheck check;
+    check.frequency_hz = point.frequency_hz;
+    check.measured_peak_dbuv = point.peak_dbuv;
+    const double window_hz = window_rbw * prescan_rbw_hz(point.frequency_hz);
+    double best_distance_hz = window_hz;
+    for (const ScanCsvRow& row : prediction) {
+      const double distance_hz = std::abs(row.frequency_hz - point.frequency_hz);
+      if (distance_hz <= best_distance_hz) {
+        best_distance_hz = distance_hz;
+        check.predicted = row;
+      }
+    }
+    if (check.predicted && check.predicted->peak_dbuv > level_floor_db) {
+      check.difference_db = point.peak_dbuv - check.predicted->peak_dbuv;
+    }
+    checks.push_back(check);
+  }
+  return checks;
+}
+
+}  // namespace spurcast

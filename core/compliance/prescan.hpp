@@ -1,0 +1,56 @@
+#pragma once
+/// The pre-scan step of a lab measurement: a fast peak trace is compared with every line (peak >=
+/// quasi-peak >= average, so a peak under a line proves that line is met), and the local maxima
+/// within the guard band of a quasi-peak or average line are listed for re-measurement with those
+/// detectors, merged within a few RBW. Labs work this way because quasi-peak scans are slow
+/// (REFERENCES.md §1.7: band B quasi-peak about 200 s/MHz, peak 100 ms/MHz, from memory).
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "core/receiver/detector.hpp"
+#include "core/compliance/limits.hpp"
+#include "core/compliance/trace.hpp"
+
+namespace spurcast {
+
+/// The CISPR 16-1-1 6 dB bandwidth of the band holding frequency_hz: 200 Hz below 150 kHz, 9 kHz up
+/// to 30 MHz, 120 kHz up to 1 GHz, 1 MHz above (REFERENCES.md §1.1, band E §1.1 note).
+[[nodiscard]] double prescan_rbw_hz(double frequency_hz);
+
+struct PrescanOptions {
+  double guard_db = default_guard_db;  ///< [dB] re-measure where the peak is within this of a QP/AV line
+  double merge_rbw = 3.0;              ///< candidates closer than merge_rbw × RBW are one emission
+};
+
+/// A frequency to re-measure with the quasi-peak and/or average detector.
+struct RemeasurePoint {
+  double frequency_hz = 0.0;        ///< [Hz] the trace maximum of the merged group
+  double peak_dbuv = 0.0;           ///< [unit of the sets] corrected trace level there
+  std::vector<Detector> detectors;  ///< quasi-peak and/or average, in that order
+  double margin_db = 0.0;           ///< smallest margin of the peak to those lines [dB]
+  std::string limit_label;          ///< the line of that margin
+};
+
+/// Local maxima of the trace (a point at least as high as both neighbours; the ends count against
+/// their one neighbour) whose peak level is less than guard_db under a quasi-peak or average line of
+/// any set, merged: sorted by frequency, a candidate within merge_rbw·RBW of the previous one joins
+/// its group; each group reports its smallest-margin member with the union of detectors.
+[[nodiscard]] std::vector<RemeasurePoint> remeasure_list(const MeasuredTrace& trace,
+                                                         const std::vector<LimitSet>& sets,
+                                                         const PrescanOptions& options = {});
+
+/// A prediction next to the measurement at one re-measure frequency.
+struct PredictionCheck {
+  double frequency_hz = 0.0;          ///< [Hz]
+  double measured_peak_dbuv = 0.0;    ///< corrected trace level
+  std::optional<ScanCsvRow> predicted;  ///< the predicted scan row nearest in frequency (within window)
+  std::optional<double> difference_db;  ///< measured peak − predicted peak [dB]
+};
+
+/// For each re-measure point, the predicted scan row nearest in frequency within window_rbw × RBW.
+[[nodiscard]] std::vector<PredictionCheck> compare_with_prediction(const std::vector<RemeasurePoint>& points,
+                                                                  const std::vector<ScanCsvRow>& prediction,
+                                                                  double window_rbw = 3.0);
+
+}  // namespace spurcast

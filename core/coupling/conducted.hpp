@@ -1,0 +1,127 @@
+#pragma once
+/// The converter's conducted-noise model and the source → LISN-port computation.
+///
+/// Circuit (all in one linear Network, solved by MNA at each harmonic):
+///   LISN 1 ─ line 1 ─┐                        ┌─ conv+ ──┬───────────┬──────────────┐
+///                    │  [[filter]] stages     │          │ input     │ I_in(t)      │
+///                    │  (listed from the      │         === C, ESR,  (↓) current   │
+///   LISN 2 ─ line 2 ─┘   LISN side)           └─ conv− ──┴── ESL ────┴──────────────┤
+///                                                                     V_sw(t) (+) ──┘ switch node
+///                                                         switch node ── C_par ── reference ground
+///  - differential mode: the pulsed input current I_in (a LineSpectrum in A), drawn by the switch
+///    from conv+ and returned into conv−; the input capacitor (C, ESR, ESL) supplies most of it, the
+///    rest divides between the filter and the LISNs;
+///  - common mode: the switch-node voltage V_sw (a LineSpectrum in V, referred to conv−) drives the
+///    parasitic capacitance to the reference ground; that current returns through the LISNs, which
+///    a CM source sees in parallel.
+/// Superposition holds (linear network): both sources are solved at once with unit amplitude and the
+/// responses are weighted by the source phasors.
+///
+/// Measurement set-up the numbers refer to (lisn.lines): with two networks (one per line) the DM
+/// current loops through both 50 Ω ports in series, so each port reads about 6 dB less than a
+/// single-network set-up with the return bonded at the equipment, where the whole DM voltage
+/// appears across the one port (REFERENCES.md §2.3 [D]).
+#include <complex>
+#include <string>
+#include <vector>
+
+#include "core/coupling/filter.hpp"
+#include "core/coupling/lisn.hpp"
+#include "core/coupling/network.hpp"
+#include "core/input/toml_reader.hpp"
+#include "core/source/waveform.hpp"
+
+namespace spurcast {
+
+/// The [coupling] section: the converter's own coupling paths.
+/// Defaults are typical of a small DC-DC converter with a ceramic input capacitor (common
+/// practice, not from a source): used when the scenario gives no value.
+struct CouplingSpec {
+  double input_capacitance_f = 10e-6;      ///< converter input capacitor [F], > 0
+  double input_esr_ohm = 5e-3;             ///< its equivalent series resistance [Ω], ≥ 0
+  double input_esl_h = 1e-9;               ///< its equivalent series inductance [H], ≥ 0
+  double parasitic_capacitance_f = 30e-12; ///< switch node to reference ground [F], ≥ 0 (0: no CM path)
+};
+
+/// Reads [coupling]: input_capacitance, input_esr, input_esl, parasitic_capacitance (each optional,
+/// defaults above). Rejects unknown keys and out-of-range values at their position.
+[[nodiscard]] CouplingSpec read_coupling_section(TableReader& reader);
+
+/// The built network with its probes, ready to evaluate at any frequencies.
+class ConductedModel {
+ public:
+  /// Builds LISN(s) + filter stages (from the LISN side) + converter input capacitor + the DM and CM
+  /// sources. Throws Error if a filter stage is invalid or the network has a floating node.
+  ConductedModel(const CouplingSpec& coupling, const std::vector<FilterStage>& filters, const LisnSpec& lisn);
+
+  [[nodiscard]] const NetworkSolver& solver() const noexcept { return solver_; }
+  [[nodiscard]] const LisnSpec& lisn() const noexcept { return lisn_; }
+  [[nodiscard]] const CouplingSpec& coupling() const noexcept { return coupling_; }
+  /// Number of LISN ports (1 or 2).
+  [[nodiscard]] int line_count() const noexcept { return lisn_.lines; }
+  /// A human-readable description of the measurement set-up for the report, e.g.
+  /// "two CISPR 16-1-2 V-networks, 50 Ω ∥ (50 µH + 5 Ω), one per supply line ...".
+  [[nodiscard]] std::string setup_description() const;
+
+  /// The probes, in this order: port 1 voltage, port 2 voltage, line 1 current, line 2 current
+  /// (currents flow from the LISN into the equipment). Port 2 is the ground for lines = 1.
+  [[nodiscard]] const std::vector<Probe>& probes() const noexcept { return probes_; }
+
+  // Source indices in the solver's Transfer.
+  static constexpr int source_input_current = 0;  ///< the DM current source [A]
+  static constexpr int source_switch_node = 1;    ///< the CM switch-node voltage source [V]
+
+ private:
+  CouplingSpec coupling_;
+  LisnSpec lisn_;
+  std::vector<Probe> probes_;
+  NetworkSolver solver_;
+};
+
+/// Transfer functions of the model at arbitrary frequencies (each > 0). Index [f].
+/// Port voltages per unit source: from the input current in V/A (a transimpedance), from the switch
+/// node in V/V. Line currents (flowing from the LISN into the equipment) in A/A and A/V.
+/// For lines = 1, the line-2 entries are zero (the return is bonded at the equipment; the bond's
+/// current is in line2_current_* all the same).
+struct TransferFunctions {
+  std::vector<double> frequency_hz;
+  std::vector<std::complex<double>> port1_per_input_current_ohm, port1_per_switch_node;
+  std::vector<std::complex<double>> port2_per_input_current_ohm, port2_per_switch_node;
+  std::vector<std::complex<double>> line1_current_per_input_current, line1_current_per_switch_node_s;
+  std::vector<std::complex<double>> line2_current_per_input_current, line2_current_per_switch_node_s;
+};
+[[nodiscard]] TransferFunctions transfer_at(const ConductedModel& model, const std::vector<double>& frequency_hz);
+
+/// The conducted result at the harmonics k·f0 of the sources (index k−1, aligned with the inputs).
+/// All phasors are RMS, like LineSpectrum::harmonics.
+struct ConductedResult {
+  double fundamental_hz = 0.0;
+  std::vector<double> frequency_hz;
+  std::vector<std::complex<double>> line1_v, line2_v;  ///< receiver-port voltage of LISN 1 / 2 [V]
+  std::vector<std::complex<double>> dm_v;  ///< (V1 − V2)/2 [V]
+  std::vector<std::complex<double>> cm_v;  ///< (V1 + V2)/2 [V]
+  std::vector<std::complex<double>> line1_current_a, line2_current_a;  ///< into the equipment [A]
+  std::vector<std::complex<double>> dm_current_a;  ///< DM loop current (I1 − I2)/2 [A]
+  std::vector<std::complex<double>> cm_current_a;  ///< CM current per conductor (I1 + I2)/2 [A]; total 2×
+  std::string setup;  ///< ConductedModel::setup_description()
+
+  /// The port voltage of `line` (1 or 2) as a LineSpectrum (dc = 0: the LISN blocks nothing at DC
+  /// but the receiver does not measure it).
+  [[nodiscard]] LineSpectrum line_spectrum(int line) const;
+};
+
+/// Evaluates the model at the harmonics of the two sources. Both must have the same fundamental
+/// (relative tolerance 1e-9) unless one has no harmonics (then it is absent); the shorter one is
+/// padded with zeros. Throws Error on a fundamental mismatch or a wrong quantity.
+[[nodiscard]] ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& input_current_a,
+                                      const ConductedModel& model);
+
+/// The receiver-port voltage waveform of `line` (1 or 2) for sampled sources (dithered or captured):
+/// both records are transformed (FFTW r2c), multiplied by the transfer functions at each bin and
+/// transformed back (c2r). The record is treated as ONE PERIOD of a periodic signal (circular
+/// convolution): a record that is not a whole number of periods leaks at its ends. The two records
+/// must have the same sample rate and length; either may be empty (absent). DC is removed.
+[[nodiscard]] Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input_current_a,
+                                          const ConductedModel& model, int line);
+
+}  // namespace spurcast

@@ -1,0 +1,77 @@
+#pragma once
+/// Line impedance stabilisation networks (artificial mains networks) as sub-circuits of a Network:
+/// the CISPR 16-1-2 V-network, 50 Ω ∥ (50 µH + 5 Ω) as seen by the equipment, and the CISPR 25
+/// artificial network, 50 Ω ∥ (5 µH + 1 Ω). One network per supply line, to the reference ground.
+///
+/// Two circuit levels:
+///  - ideal: the impedance the standards define, seen from the EUT terminal; the receiver's 50 Ω is
+///    connected straight to the terminal, so the port voltage is the terminal voltage. This is what a
+///    lab reports after its voltage-division-factor correction (REFERENCES.md §2.3).
+///  - practical: the schematic's parts, values from memory (REFERENCES.md §2.1 [M]): the supply-side
+///    capacitor in series with the damping resistor, the coupling capacitor into the 50 Ω receiver
+///    and the 1 kΩ discharge resistor across the receiver port; the port then reads less than the
+///    terminal at the low end (the voltage division factor).
+#include <string>
+#include <vector>
+
+#include "core/coupling/network.hpp"
+#include "core/input/toml_reader.hpp"
+
+namespace spurcast {
+
+enum class LisnModel {
+  v_network_50uh,  ///< "v-network-50uH": CISPR 16-1-2, 50 Ω ∥ (50 µH + 5 Ω)
+  v_network_5uh,   ///< "v-network-5uH": CISPR 25, 50 Ω ∥ (5 µH + 1 Ω)
+};
+
+enum class LisnCircuit {
+  ideal,      ///< "ideal": the defined impedance, port = terminal
+  practical,  ///< "practical": with coupling capacitor, supply-side capacitor and 1 kΩ discharge resistor
+};
+
+/// The [lisn] section of a scenario.
+struct LisnSpec {
+  LisnModel model = LisnModel::v_network_50uh;
+  /// 2: one network per supply line (the usual set-up); 1: a single network on the positive line,
+  /// the return bonded to the reference ground at the equipment.
+  int lines = 2;
+  LisnCircuit circuit = LisnCircuit::ideal;
+};
+
+/// Reads [lisn]: model = "v-network-50uH" | "v-network-5uH" (default the first), lines = 1 | 2
+/// (default 2), circuit = "ideal" | "practical" (default "ideal"). Rejects unknown keys.
+[[nodiscard]] LisnSpec read_lisn_section(TableReader& reader);
+
+/// "v-network-50uH" / "v-network-5uH".
+[[nodiscard]] std::string lisn_model_name(LisnModel model);
+
+/// Part values of one network [Ω, H, F]. For the ideal circuit the capacitors are not used.
+struct LisnParts {
+  double inductance_h = 0.0;            ///< series inductor, EUT terminal to supply side
+  double damping_resistance_ohm = 0.0;  ///< supply side to ground (5 Ω / 1 Ω)
+  double supply_capacitance_f = 0.0;    ///< in series with the damping resistor (practical only)
+  double coupling_capacitance_f = 0.0;  ///< EUT terminal to receiver port (practical only)
+  double discharge_resistance_ohm = 0.0;  ///< across the receiver port (practical only)
+  double receiver_resistance_ohm = 50.0;  ///< the measuring receiver's input
+};
+
+/// The part values used for `model` (see lisn.cpp for each value's source).
+[[nodiscard]] LisnParts lisn_parts(LisnModel model);
+
+/// Nodes of one network placed in a Network.
+struct LisnNodes {
+  NodeId terminal = 0;  ///< where the EUT's supply line connects
+  NodeId port = 0;      ///< the receiver port (the node across the 50 Ω receiver input)
+  ElementId receiver = -1;  ///< the 50 Ω receiver resistor (its current × 50 Ω = port voltage)
+};
+
+/// Adds one network from `terminal` to the ground. Internal nodes are named `prefix` + ".supply",
+/// ".port" (practical) so several networks can share a Network.
+LisnNodes add_lisn(Network& network, NodeId terminal, LisnModel model, LisnCircuit circuit,
+                   const std::string& prefix);
+
+/// The impedance the standard defines for `model`, closed form: Z = R_rx ∥ (R_d + jωL)
+/// (REFERENCES.md §2.2 [D]). For the tests' cross-check of the MNA sub-circuit.
+[[nodiscard]] std::complex<double> lisn_nominal_impedance(LisnModel model, double frequency_hz);
+
+}  // namespace spurcast

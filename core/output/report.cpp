@@ -1,0 +1,850 @@
+#include "core/output/report.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+#include <cstdio>
+#include <limits>
+#include <map>
+
+#include <nlohmann/json.hpp>
+
+#include "core/input/error.hpp"
+#include "core/source/source.hpp"
+#include "core/input/units.hpp"
+
+namespace spurcast {
+
+namespace {
+
+// Colours of the detectors and lines (our own palette, shared by the plots and the page).
+constexpr const char* peak_colour = "#3f8fa6";
+constexpr const char* quasi_peak_colour = "#c8553d";
+constexpr const char* average_colour = "#6a5aa8";
+constexpr const char* limit_colour = "#22303a";
+
+std::string fixed(double value, int decimals) {
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, "%.*f", decimals, value);
+  std::string text = buffer;
+  if (text.find_first_not_of("-0.") == std::string::npos && text.front() == '-') text.erase(0, 1);  // no "-0.00"
+  return text;
+}
+std::string level_text(double level_db) { return fixed(level_db, 2); }
+std::string frequency_text(double frequency_hz) { return fixed(frequency_hz, 1); }
+/// The value exactly as the CSV prints it, for JSON (so the two agree to the last digit).
+double rounded(double value, int decimals) { return std::stod(fixed(value, decimals)); }
+
+double magnitude_dbuv(std::complex<double> phasor) { return volts_to_dbuv(std::abs(phasor)); }
+
+std::string html(std::string_view text) { return xml_escape(text); }
+
+std::string detector_colour(Detector detector) {
+  switch (detector) {
+    case Detector::peak: return peak_colour;
+    case Detector::quasi_peak: return quasi_peak_colour;
+    case Detector::average: return average_colour;
+  }
+  return peak_colour;
+}
+std::string detector_dash(Detector detector) {
+  switch (detector) {
+    case Detector::peak: return "2 3";
+    case Detector::quasi_peak: return "";
+    case Detector::average: return "8 4";
+  }
+  return "";
+}
+std::string detector_short(Detector detector) {
+  switch (detector) {
+    case Detector::peak: return "PK";
+    case Detector::quasi_peak: return "QP";
+    case Detector::average: return "AV";
+  }
+  return "PK";
+}
+
+/// A dB value with a true minus sign for the page and the plots.
+std::string signed_db(double value_db, int decimals = 1) {
+  std::string text = fixed(value_db, decimals);
+  if (!text.empty() && text.front() == '-') text = "\xE2\x88\x92" + text.substr(1);
+  return text + " dB";
+}
+
+std::string frequency_quantity(double frequency_hz) { return format_quantity(frequency_hz, Dimension::frequency, 5); }
+
+/// The 6 dB bandwidth of the scan holding `frequency_hz` (9 kHz when no scan holds it).
+double bandwidth_at(const Prediction& p, double frequency_hz) {
+  for (const BandScan& scan : p.scans) {
+    const BandParameters band = band_parameters(scan.band);
+    if (frequency_hz >= band.start_hz && frequency_hz <= band.stop_hz) return band.bandwidth_6db_hz;
+  }
+  return 9e3;
+}
+
+std::string lisn_circuit_name(LisnCircuit circuit) {
+  return circuit == LisnCircuit::ideal ? "ideal" : "practical";
+}
+std::string filter_lines_name(FilterLines lines) {
+  switch (lines) {
+    case FilterLines::positive: return "positive";
+    case FilterLines::negative: return "negative";
+    case FilterLines::both: return "both";
+  }
+  return "positive";
+}
+std::string dither_profile_name(DitherProfile profile) {
+  return profile == DitherProfile::triangle ? "triangle" : "sine";
+}
+std::string quantity_name(Quantity quantity) { return quantity == Quantity::voltage ? "voltage" : "current"; }
+
+std::string join(const std::vector<std::string>& items, const std::string& separator) {
+  std::string out;
+  for (std::size_t i = 0; i < items.size(); ++i) out += (i ? separator : "") + items[i];
+  return out;
+}
+
+std::string verdict_sentence(const Prediction& p) {
+  const MarginReport& m = p.margins;
+  if (!m.worst) {
+    return p.scenario.limits.sets.empty() ? "no limit lines were given: nothing to compare"
+                                          : "no reading fell within the limit lines: nothing compared";
+  }
+  const MarginRow& w = *m.worst;
+  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
+                            " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
+  switch (m.verdict) {
+    case Verdict::pass: return "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
+    case Verdict::marginal:
+      return "every limit is met, but a margin is under the " + signed_db(m.guard_db, 1) + " guard band: " + where;
+    case Verdict::fail: return "a limit is exceeded: " + where;
+  }
+  return where;
+}
+
+const char* verdict_word(Verdict verdict) {
+  switch (verdict) {
+    case Verdict::pass: return "PASS";
+    case Verdict::marginal: return "MARGINAL";
+    case Verdict::fail: return "FAIL";
+  }
+  return "PASS";
+}
+
+std::optional<double> uncertainty_for(const Prediction& p) {
+  for (const MarginRow& row : p.margins.rows) {
+    if (row.uncertainty_db) return row.uncertainty_db;
+  }
+  if (!p.scans.empty()) {
+    const BandParameters band = band_parameters(p.scans.front().band);
+    return cispr_uncertainty_db(LimitQuantity::conducted_voltage, (band.start_hz + band.stop_hz) / 2.0);
+  }
+  return std::nullopt;
+}
+
+}  // namespace
+
+// ---------------------------------------------------------------------------------------------
+// CSV files.
+
+std::string lisn_spectrum_csv(const Prediction& p) {
+  std::string csv = "harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv\n";
+  if (!p.conducted) return csv;
+  const ConductedResult& c = *p.conducted;
+  for (std::size_t k = 0; k < c.frequency_hz.size(); ++k) {
+    const double line1 = magnitude_dbuv(c.line1_v[k]);
+    const double line2 = k < c.line2_v.size() ? magnitude_dbuv(c.line2_v[k]) : level_floor_db;
+    const double dm = k < c.dm_v.size() ? magnitude_dbuv(c.dm_v[k]) : level_floor_db;
+    const double cm = k < c.cm_v.size() ? magnitude_dbuv(c.cm_v[k]) : level_floor_db;
+    csv += std::to_string(k + 1) + "," + frequency_text(c.frequency_hz[k]) + "," + level_text(std::max(line1, line2)) +
+           "," + level_text(line1) + "," + level_text(line2) + "," + level_text(dm) + "," + level_text(cm) + "\n";
+  }
+  return csv;
+}
+
+namespace {
+
+std::string line_spectrum_csv(const LineSpectrum& lines, const std::optional<SwitchingSpec>& spec, double amplitude) {
+  const std::string suffix = level_suffix(lines.quantity);
+  std::string csv = "harmonic,frequency_hz,level_" + suffix + (spec ? ",envelope_" + suffix : std::string()) + "\n";
+  for (std::size_t k = 0; k < lines.harmonics.size(); ++k) {
+    const double f = lines.frequency_hz(k);
+    csv += std::to_string(k + 1) + "," + frequency_text(f) + "," + level_text(volts_to_dbuv(std::abs(lines.harmonics[k])));
+    if (spec) csv += "," + level_text(volts_to_dbuv(trapezoid_envelope_rms(*spec, amplitude, f)));
+    csv += "\n";
+  }
+  return csv;
+}
+
+}  // namespace
+
+std::string source_spectrum_csv(const Prediction& p) {
+  const std::optional<SwitchingSpec>& spec = p.scenario.switching;
+  return line_spectrum_csv(p.switch_node_v, spec, spec ? spec->amplitude_v : 0.0);
+}
+
+std::string source_current_spectrum_csv(const Prediction& p) {
+  const std::optional<SwitchingSpec>& spec = p.scenario.switching;
+  return line_spectrum_csv(p.input_current_a, spec, spec ? spec->current_a : 0.0);
+}
+
+std::string scan_csv(const Prediction& p) {
+  std::vector<Reading> rows;
+  for (const BandScan& scan : p.scans) {
+    for (const Reading& r : scan.worst.readings) rows.push_back(r);
+  }
+  // Stable: at a shared frequency the earlier (lower) band stays first, then duplicates are dropped.
+  std::stable_sort(rows.begin(), rows.end(), [](const Reading& a, const Reading& b) { return a.frequency_hz < b.frequency_hz; });
+  std::string csv = "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n";
+  std::string previous;
+  for (const Reading& r : rows) {
+    const std::string f = frequency_text(r.frequency_hz);
+    if (f == previous) continue;
+    previous = f;
+    csv += f + "," + level_text(r.peak_db) + "," + level_text(r.quasi_peak_db) + "," + level_text(r.average_db) + "\n";
+  }
+  return csv;
+}
+
+std::vector<WorstFrequency> worst_frequencies(const Prediction& p, std::size_t count) {
+  std::vector<const MarginRow*> order;
+  for (const MarginRow& row : p.margins.rows) order.push_back(&row);
+  std::stable_sort(order.begin(), order.end(),
+                   [](const MarginRow* a, const MarginRow* b) { return a->margin_db < b->margin_db; });
+  std::vector<WorstFrequency> kept;
+  for (const MarginRow* row : order) {
+    if (kept.size() >= count) break;
+    const double separation = bandwidth_at(p, row->frequency_hz);
+    const bool near = std::any_of(kept.begin(), kept.end(), [&](const WorstFrequency& k) {
+      return std::abs(k.row.frequency_hz - row->frequency_hz) < separation;
+    });
+    if (!near) kept.push_back({*row, separation});
+  }
+  return kept;
+}
+
+// ---------------------------------------------------------------------------------------------
+// summary.json
+
+namespace {
+
+nlohmann::ordered_json margin_row_json(const MarginRow& row, double guard_db) {
+  nlohmann::ordered_json j;
+  j["frequency_hz"] = rounded(row.frequency_hz, 1);
+  j["detector"] = to_string(row.reading_detector);
+  j["reading_dbuv"] = rounded(row.reading, 2);
+  j["limit_dbuv"] = rounded(row.limit, 2);
+  j["margin_db"] = rounded(row.margin_db, 2);
+  j["limit"] = row.limit_label;
+  j["limit_detector"] = to_string(row.limit_detector);
+  j["verdict"] = to_string(verdict_for(row.margin_db, guard_db));
+  if (row.uncertainty_db) j["uncertainty_db"] = rounded(*row.uncertainty_db, 2);
+  return j;
+}
+
+}  // namespace
+
+std::string summary_json(const Prediction& p, const std::vector<std::string>& files) {
+  nlohmann::ordered_json j;
+  j["spurcast_version"] = SPURCAST_VERSION;
+  j["title"] = p.scenario.title;
+  j["scenario"] = p.scenario.file;
+  j["source"] = to_string(p.source_kind);
+  j["verdict"] = to_string(p.verdict);
+  j["guard_db"] = rounded(p.margins.guard_db, 2);
+  nlohmann::ordered_json worst_per = nlohmann::ordered_json::object();
+  for (const DetectorMargin& d : p.margins.worst_per_detector) {
+    worst_per[to_string(d.detector)] = rounded(d.worst.margin_db, 2);
+  }
+  j["worst_margin_db"] = worst_per;
+  j["worst"] = p.margins.worst ? margin_row_json(*p.margins.worst, p.margins.guard_db) : nlohmann::ordered_json();
+  nlohmann::ordered_json worst_list = nlohmann::ordered_json::array();
+  for (const WorstFrequency& w : worst_frequencies(p, 5)) {
+    const nlohmann::ordered_json row = margin_row_json(w.row, p.margins.guard_db);
+    worst_list.push_back(row);
+  }
+  j["worst_frequencies"] = worst_list;
+  const std::optional<double> u = uncertainty_for(p);
+  j["uncertainty_db"] = u ? nlohmann::ordered_json(rounded(*u, 2)) : nlohmann::ordered_json();
+  nlohmann::ordered_json limits = nlohmann::ordered_json::array();
+  for (const LimitSet& set : p.scenario.limits.sets) {
+    limits.push_back({{"name", set.name},
+                      {"file", set.file},
+                      {"measures", to_string(set.measures)},
+                      {"source", set.source},
+                      {"confidence", set.confidence_text}});
+  }
+  j["limits"] = limits;
+  nlohmann::ordered_json bands = nlohmann::ordered_json::array();
+  for (const BandReception& b : p.reception) {
+    nlohmann::ordered_json band;
+    band["name"] = b.band.name;
+    band["region"] = b.band.region;
+    band["low_hz"] = rounded(b.band.low_hz, 1);
+    band["high_hz"] = rounded(b.band.high_hz, 1);
+    band["verdict"] = reception_verdict_name(b.verdict);
+    if (b.worst_channel) {
+      const ChannelReception& c = b.channels[*b.worst_channel];
+      band["worst_channel_hz"] = rounded(c.centre_hz, 1);
+      band["worst_level_dbuvm"] = rounded(c.level_dbuvm, 2);
+    } else {
+      band["worst_channel_hz"] = nullptr;
+      band["worst_level_dbuvm"] = nullptr;
+    }
+    bands.push_back(band);
+  }
+  j["bands"] = bands;
+  nlohmann::ordered_json scans = nlohmann::ordered_json::array();
+  for (const BandScan& scan : p.scans) {
+    const BandParameters band = band_parameters(scan.band);
+    scans.push_back({{"band", to_string(scan.band)},
+                     {"start_hz", rounded(band.start_hz, 1)},
+                     {"stop_hz", rounded(band.stop_hz, 1)},
+                     {"bandwidth_6db_hz", rounded(scan.worst.bandwidth_6db_hz, 1)},
+                     {"step_hz", rounded(scan.worst.step_hz, 1)},
+                     {"points", scan.worst.readings.size()},
+                     {"lines", scan.line2 ? 2 : 1}});
+  }
+  j["scans"] = scans;
+  j["lisn_setup"] = p.setup_description;
+  j["notes"] = p.notes;
+  j["files"] = files;
+  return j.dump(2) + "\n";
+}
+
+// ---------------------------------------------------------------------------------------------
+// Scenario table.
+
+std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
+  std::vector<ScenarioInput> rows;
+  auto add = [&](const std::string& section, const std::string& name, const std::string& value) {
+    rows.push_back({section, name, value});
+  };
+  auto q = [](double value, Dimension dimension) { return format_quantity(value, dimension); };
+  add("scenario", "title", s.title.empty() ? "(none)" : s.title);
+  if (!s.description.empty()) add("scenario", "description", s.description);
+  add("scenario", "file", s.file);
+  if (s.switching) {
+    const SwitchingSpec& w = *s.switching;
+    add("switching", "frequency", q(w.frequency_hz, Dimension::frequency));
+    add("switching", "duty", q(w.duty, Dimension::fraction));
+    add("switching", "amplitude (switch-node swing)", q(w.amplitude_v, Dimension::voltage));
+    add("switching", "current (pulsed input current)", q(w.current_a, Dimension::current));
+    add("switching", "rise (0-100 %)", q(w.rise_s, Dimension::time));
+    add("switching", "fall (0-100 %)", q(w.fall_s, Dimension::time));
+    if (w.ringing) {
+      add("switching", "ringing frequency", q(w.ringing->frequency_hz, Dimension::frequency));
+      add("switching", "ringing decay (1/e)", q(w.ringing->decay_s, Dimension::time));
+      add("switching", "ringing amplitude (of the edge step)", q(w.ringing->relative_amplitude, Dimension::fraction));
+    } else {
+      add("switching", "ringing", "none");
+    }
+    if (w.dither) {
+      add("switching", "dither profile", dither_profile_name(w.dither->profile));
+      add("switching", "dither deviation", q(w.dither->deviation_fraction, Dimension::fraction));
+      add("switching", "dither rate", q(w.dither->rate_hz, Dimension::frequency));
+    } else {
+      add("switching", "dither", "none");
+    }
+  }
+  if (s.capture) {
+    const CaptureSpec& c = *s.capture;
+    add("capture", "file", c.file);
+    add("capture", "time column", c.time_column.describe());
+    add("capture", "value column", c.column.describe());
+    add("capture", "scale", q(c.scale, Dimension::number));
+    add("capture", "quantity", quantity_name(c.quantity));
+    add("capture", "switching frequency",
+        c.switching_frequency_hz ? q(*c.switching_frequency_hz, Dimension::frequency) : "estimated from the record");
+    add("capture", "resample", c.resample ? "yes" : "no");
+  }
+  const std::string coupling_note = s.has_coupling ? "" : " (default)";
+  add("coupling", "input capacitance", q(s.coupling.input_capacitance_f, Dimension::capacitance) + coupling_note);
+  add("coupling", "input capacitor ESR", q(s.coupling.input_esr_ohm, Dimension::resistance) + coupling_note);
+  add("coupling", "input capacitor ESL", q(s.coupling.input_esl_h, Dimension::inductance) + coupling_note);
+  add("coupling", "parasitic capacitance (switch node to ground)",
+      q(s.coupling.parasitic_capacitance_f, Dimension::capacitance) + coupling_note);
+  if (s.filters.empty()) add("filter", "stages", "none");
+  for (std::size_t i = 0; i < s.filters.size(); ++i) {
+    const FilterStage& f = s.filters[i];
+    const std::string section = "filter " + std::to_string(i + 1) + " (" + filter_kind_name(f.kind) + ")";
+    switch (f.kind) {
+      case FilterKind::lc:
+      case FilterKind::pi:
+        add(section, "inductance", q(f.inductance_h, Dimension::inductance));
+        add(section, "inductor resistance", q(f.inductor_resistance_ohm, Dimension::resistance));
+        if (f.kind == FilterKind::pi) {
+          add(section, "LISN-side capacitance", q(f.lisn_side_capacitance_f, Dimension::capacitance));
+        }
+        add(section, f.kind == FilterKind::pi ? "converter-side capacitance" : "capacitance",
+            q(f.converter_side_capacitance_f, Dimension::capacitance));
+        add(section, "capacitor ESR", q(f.capacitor_esr_ohm, Dimension::resistance));
+        add(section, "capacitor ESL", q(f.capacitor_esl_h, Dimension::inductance));
+        add(section, "lines", filter_lines_name(f.lines));
+        break;
+      case FilterKind::common_mode_choke:
+        add(section, "inductance (per winding)", q(f.inductance_h, Dimension::inductance));
+        add(section, "coupling factor", q(f.coupling, Dimension::number));
+        add(section, "winding resistance", q(f.inductor_resistance_ohm, Dimension::resistance));
+        break;
+      case FilterKind::y_capacitors:
+        add(section, "capacitance (each)", q(f.converter_side_capacitance_f, Dimension::capacitance));
+        add(section, "capacitor ESR", q(f.capacitor_esr_ohm, Dimension::resistance));
+        add(section, "capacitor ESL", q(f.capacitor_esl_h, Dimension::inductance));
+        add(section, "lines", filter_lines_name(f.lines));
+        break;
+      case FilterKind::netlist:
+        for (const NetlistElement& e : f.elements) {
+          std::string value;
+          switch (e.type) {
+            case 'R': value = q(e.value, Dimension::resistance); break;
+            case 'L':
+              value = q(e.value, Dimension::inductance);
+              if (e.resistance_ohm > 0) value += ", " + q(e.resistance_ohm, Dimension::resistance);
+              break;
+            case 'C':
+              value = q(e.value, Dimension::capacitance);
+              if (e.esr_ohm > 0) value += ", ESR " + q(e.esr_ohm, Dimension::resistance);
+              if (e.esl_h > 0) value += ", ESL " + q(e.esl_h, Dimension::inductance);
+              break;
+            case 'K':
+              value = q(e.value, Dimension::inductance) + " / " + q(e.value_2, Dimension::inductance) + ", k = " +
+                      q(e.coupling, Dimension::number) + " (" + e.from_2 + " \xE2\x86\x92 " + e.to_2 + ")";
+              break;
+            default: value = q(e.value, Dimension::number);
+          }
+          add(section, std::string(1, e.type) + " " + e.from + " \xE2\x86\x92 " + e.to, value);
+        }
+        break;
+    }
+  }
+  add("lisn", "model", lisn_model_name(s.lisn.model));
+  add("lisn", "lines", std::to_string(s.lisn.lines));
+  add("lisn", "circuit", lisn_circuit_name(s.lisn.circuit));
+  std::vector<std::string> bands, detectors;
+  for (CisprBand b : s.receiver.bands) bands.push_back(to_string(b));
+  for (Detector d : s.receiver.detectors) detectors.push_back(to_string(d));
+  add("receiver", "CISPR bands", join(bands, ", "));
+  add("receiver", "detectors", join(detectors, ", "));
+  add("receiver", "step", s.receiver.step_hz ? q(*s.receiver.step_hz, Dimension::frequency) : "default (B6/4)");
+  if (s.limits.sets.empty()) add("limits", "sets", "none");
+  for (const LimitSet& set : s.limits.sets) add("limits", "set", set.name + (set.file.empty() ? " (inline)" : ""));
+  add("limits", "guard band", q(s.limits.guard_db, Dimension::decibel));
+  const BroadcastSpec& b = s.broadcast;
+  add("broadcast", "ITU region", std::to_string(b.region));
+  if (b.plan) add("broadcast", "band plan", *b.plan);
+  add("broadcast", "distance", q(b.distance_m, Dimension::length));
+  add("broadcast", "cable length", q(b.cable_length_m, Dimension::length));
+  add("broadcast", "environment", environment_name(b.environment));
+  if (b.loop_area_m2) {
+    char area[64];
+    std::snprintf(area, sizeof area, "%.4g cm\xC2\xB2", *b.loop_area_m2 * 1e4);
+    add("broadcast", "DM loop area", area);
+  }
+  add("broadcast", "ground reflection", b.ground_reflection ? "yes (+6 dB)" : "no");
+  for (const Band& band : b.extra_bands) {
+    add("broadcast", "user band " + band.name,
+        format_quantity(band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
+            format_quantity(band.high_hz, Dimension::frequency, band_edge_digits));
+  }
+  return rows;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Plots.
+
+SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
+  const BandParameters band = band_parameters(scan.band);
+  SpectrumPlot plot;
+  plot.title = "Receiver readings at the LISN, CISPR band " + to_string(scan.band) + " (worst of the lines)";
+  plot.min_hz = band.start_hz;
+  plot.max_hz = band.stop_hz;
+  std::vector<double> f;
+  for (const Reading& r : scan.worst.readings) f.push_back(r.frequency_hz);
+  for (Detector d : p.scenario.receiver.detectors) {
+    PlotTrace trace;
+    trace.label = to_string(d);
+    trace.frequency_hz = f;
+    for (const Reading& r : scan.worst.readings) trace.level.push_back(r.level_db(d));
+    trace.colour = detector_colour(d);
+    // Drawn widest first: where the detectors agree (a steady line) all three stay visible.
+    trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
+    plot.traces.push_back(std::move(trace));
+  }
+  for (const LimitSet& set : p.scenario.limits.sets) {
+    if (set.measures != LimitQuantity::conducted_voltage) continue;
+    for (const LimitLine& line : set.lines) {
+      PlotTrace trace;
+      trace.label = line_label(set, line) + " limit";
+      trace.colour = limit_colour;
+      trace.width_px = 2.0;
+      trace.dash = detector_dash(line.detector);
+      double previous_end = -1.0;
+      for (const LimitSegment& seg : line.segments) {
+        if (previous_end > 0 && std::abs(seg.from_hz - previous_end) > 1e-9 * seg.from_hz) {
+          trace.frequency_hz.push_back(seg.from_hz);  // a gap between segments breaks the line
+          trace.level.push_back(std::numeric_limits<double>::quiet_NaN());
+        }
+        trace.frequency_hz.push_back(seg.from_hz);
+        trace.level.push_back(seg.start_level);
+        trace.frequency_hz.push_back(seg.to_hz);
+        trace.level.push_back(seg.end_level);
+        previous_end = seg.to_hz;
+      }
+      plot.traces.push_back(std::move(trace));
+    }
+  }
+  for (const BandReception& b : p.reception) {
+    if (b.band.high_hz <= plot.min_hz || b.band.low_hz >= plot.max_hz) continue;
+    plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
+  }
+  std::size_t marked = 0;
+  for (const WorstFrequency& w : worst_frequencies(p, 10)) {
+    if (w.row.frequency_hz < band.start_hz || w.row.frequency_hz > band.stop_hz || marked >= 3) continue;
+    plot.markers.push_back({w.row.frequency_hz, w.row.reading,
+                            detector_short(w.row.reading_detector) + " " + signed_db(w.row.margin_db), "#a8321f"});
+    ++marked;
+  }
+  return plot;
+}
+
+SpectrumPlot source_plot(const Prediction& p) {
+  const bool voltage = !p.switch_node_v.harmonics.empty() || p.input_current_a.harmonics.empty();
+  const LineSpectrum& lines = voltage ? p.switch_node_v : p.input_current_a;
+  SpectrumPlot plot;
+  plot.title = std::string(voltage ? "Switch-node voltage" : "Input current") + ": harmonics at the source";
+  plot.y_label = "level (" + level_unit(lines.quantity) + ")";
+  const double f0 = lines.fundamental_hz > 0 ? lines.fundamental_hz : 100e3;
+  plot.min_hz = std::pow(10.0, std::floor(std::log10(f0)));
+  plot.max_hz = lines.harmonics.empty() ? f0 * 10 : std::max(lines.frequency_hz(lines.harmonics.size() - 1), f0 * 10);
+  PlotTrace stems;
+  stems.label = "harmonic (RMS)";
+  stems.stems = true;
+  stems.colour = peak_colour;
+  stems.width_px = 1.0;
+  for (std::size_t k = 0; k < lines.harmonics.size(); ++k) {
+    stems.frequency_hz.push_back(lines.frequency_hz(k));
+    stems.level.push_back(volts_to_dbuv(std::abs(lines.harmonics[k])));
+  }
+  double top = level_floor_db;
+  for (double level : stems.level) top = std::max(top, level);
+  plot.traces.push_back(std::move(stems));
+  if (p.scenario.switching) {
+    const SwitchingSpec& spec = *p.scenario.switching;
+    PlotTrace envelope;
+    envelope.label = "trapezoid envelope (\xE2\x88\x92" "20/\xE2\x88\x92" "40 dB per decade)";
+    envelope.colour = quasi_peak_colour;
+    envelope.dash = "7 4";
+    envelope.width_px = 1.8;
+    const double amplitude = voltage ? spec.amplitude_v : spec.current_a;
+    constexpr int points = 400;
+    for (int i = 0; i <= points; ++i) {
+      const double f = plot.min_hz * std::pow(plot.max_hz / plot.min_hz, static_cast<double>(i) / points);
+      envelope.frequency_hz.push_back(f);
+      envelope.level.push_back(volts_to_dbuv(trapezoid_envelope_rms(spec, amplitude, f)));
+      top = std::max(top, envelope.level.back());
+    }
+    plot.traces.push_back(std::move(envelope));
+  }
+  if (top > level_floor_db) {
+    plot.y_max = std::ceil((top + 8.0) / 10.0) * 10.0;
+    plot.y_min = *plot.y_max - 120.0;
+  }
+  for (const BandReception& b : p.reception) {
+    if (b.band.high_hz <= plot.min_hz || b.band.low_hz >= plot.max_hz) continue;
+    plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
+  }
+  return plot;
+}
+
+// ---------------------------------------------------------------------------------------------
+// The page.
+
+const std::vector<std::string>& report_section_ids() {
+  static const std::vector<std::string> ids{"verdict", "scenario", "plots", "margins", "bands",
+                                            "pre-lab", "assumptions", "safety", "files"};
+  return ids;
+}
+
+namespace {
+
+constexpr const char* page_css = R"css(
+:root { --paper:#f4f2ec; --card:#fbfaf6; --ink:#22303a; --soft:#5b6770; --rule:#d9d5ca;
+        --pass:#2f7a4a; --marginal:#a86b00; --fail:#a8321f; --accent:#3f8fa6; }
+* { box-sizing: border-box; }
+body { margin:0; background:var(--paper); color:var(--ink);
+       font: 15px/1.5 'DejaVu Sans','Liberation Sans',Arial,sans-serif; }
+main { max-width: 1040px; margin: 0 auto; padding: 28px 24px 48px; }
+header .kicker { margin:0; color:var(--soft); letter-spacing:.08em; text-transform:uppercase; font-size:12px; }
+h1 { margin: 4px 0 6px; font-size: 26px; }
+h2 { margin: 0 0 12px; font-size: 19px; border-bottom: 2px solid var(--rule); padding-bottom: 4px; }
+h3 { margin: 16px 0 6px; font-size: 15px; }
+section { background:var(--card); border:1px solid var(--rule); border-radius:6px; padding:16px 20px; margin:18px 0; }
+.verdict { display:flex; gap:16px; align-items:center; border-left:10px solid var(--soft); }
+.verdict .word { font-size: 28px; font-weight: bold; letter-spacing:.04em; }
+.verdict.pass { border-left-color:var(--pass); } .verdict.pass .word { color:var(--pass); }
+.verdict.marginal { border-left-color:var(--marginal); } .verdict.marginal .word { color:var(--marginal); }
+.verdict.fail { border-left-color:var(--fail); } .verdict.fail .word { color:var(--fail); }
+table { border-collapse: collapse; width: 100%; font-size: 13.5px; }
+th, td { text-align:left; padding: 4px 8px; border-bottom: 1px solid var(--rule); vertical-align: top; }
+th { background:#ece8dd; font-weight: 600; }
+td.num { text-align:right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.section { color: var(--soft); white-space: nowrap; }
+.tag { display:inline-block; padding:0 8px; border-radius:10px; font-size:12px; font-weight:bold; }
+.tag.pass, .tag.clear { background:#d5ead9; color:var(--pass); }
+.tag.marginal, .tag.watch { background:#f5e3b3; color:var(--marginal); }
+.tag.fail, .tag.noisy { background:#f2d0c8; color:var(--fail); }
+figure { margin: 0 0 18px; }
+figure svg { width:100%; height:auto; border:1px solid var(--rule); border-radius:4px; background:#fbfaf6; }
+figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
+.practice { color: var(--soft); font-style: italic; }
+.caution { border-left: 10px solid var(--fail); }
+ul { margin: 6px 0; padding-left: 22px; }
+code { font-family: 'DejaVu Sans Mono','Liberation Mono',monospace; font-size: 13px; }
+footer { color: var(--soft); font-size: 12px; text-align:center; margin-top: 24px; }
+)css";
+
+std::string tag(const std::string& text) { return "<span class=\"tag " + html(text) + "\">" + html(text) + "</span>"; }
+
+std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>& rows) {
+  std::string out = "<table>\n<tr><th>frequency</th><th>detector</th><th>reading</th><th>limit</th><th>margin</th>"
+                    "<th>U<sub>cispr</sub></th><th>line</th><th>verdict</th></tr>\n";
+  for (const WorstFrequency& w : rows) {
+    const MarginRow& r = w.row;
+    out += "<tr><td class=\"num\">" + html(frequency_quantity(r.frequency_hz)) + "</td><td>" +
+           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) +
+           " dB\xC2\xB5V</td><td class=\"num\">" + level_text(r.limit) + " dB\xC2\xB5V</td><td class=\"num\">" +
+           html(signed_db(r.margin_db, 2)) + "</td><td class=\"num\">" +
+           (r.uncertainty_db ? html(fixed(*r.uncertainty_db, 1) + " dB") : "\xE2\x80\x94") + "</td><td>" +
+           html(r.limit_label) + "</td><td>" + tag(to_string(verdict_for(r.margin_db, p.margins.guard_db))) +
+           "</td></tr>\n";
+  }
+  return out + "</table>\n";
+}
+
+}  // namespace
+
+std::string report_html(const Prediction& p, const std::vector<std::string>& files) {
+  const Scenario& s = p.scenario;
+  const std::string verdict = to_string(p.verdict);
+  std::string out;
+  out += "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n";
+  out += "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n";
+  out += "<title>spurcast report: " + html(s.title.empty() ? s.file : s.title) + "</title>\n";
+  out += "<style>" + std::string(page_css) + "</style>\n</head>\n<body>\n<main>\n";
+  out += "<header>\n<p class=\"kicker\">spurcast prediction report</p>\n<h1>" + html(s.title.empty() ? s.file : s.title) +
+         "</h1>\n";
+  if (!s.description.empty()) out += "<p>" + html(s.description) + "</p>\n";
+  out += "</header>\n";
+
+  // 1. The verdict in one line.
+  out += "<section id=\"verdict\" class=\"verdict " + verdict + "\">\n<h2 hidden>Verdict</h2>\n<span class=\"word\">" +
+         verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span>\n</section>\n";
+
+  // 2. The scenario.
+  out += "<section id=\"scenario\">\n<h2>Scenario</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
+  std::string last_section;
+  for (const ScenarioInput& row : scenario_inputs(s)) {
+    out += "<tr><td class=\"section\">" + (row.section == last_section ? std::string() : html(row.section)) +
+           "</td><td>" + html(row.name) + "</td><td>" + html(row.value) + "</td></tr>\n";
+    last_section = row.section;
+  }
+  out += "</table>\n<p>LISN set-up the levels refer to: " + html(p.setup_description) + "</p>\n</section>\n";
+
+  // 3. The plots.
+  out += "<section id=\"plots\">\n<h2>Plots</h2>\n";
+  int figure = 1;
+  for (const BandScan& scan : p.scans) {
+    out += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan)) + "<figcaption>Figure " + std::to_string(figure++) +
+           ". Peak, quasi-peak and average readings of a CISPR 16-1-1 receiver at the LISN port (the higher of the "
+           "lines at each frequency) against the limit lines; broadcast bands shaded; the worst readings marked with "
+           "their margin to the line of their detector.</figcaption>\n</figure>\n";
+  }
+  out += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
+         ". Harmonic lines of the source (RMS)" +
+         (s.switching ? std::string(" with the trapezoid bound of C. R. Paul (flat, then \xE2\x88\x92" "20 dB per decade "
+                                    "above 1/(\xCF\x80\xCF\x84), \xE2\x88\x92" "40 dB per decade above 1/(\xCF\x80t<sub>r</sub>))")
+                      : std::string()) +
+         (p.source_kind == SourceKind::dithered ? ". Dithered source: the undithered lines are shown" : "") +
+         ".</figcaption>\n</figure>\n</section>\n";
+
+  // 4. Margins.
+  out += "<section id=\"margins\">\n<h2>Margins</h2>\n";
+  out += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
+         " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
+         std::to_string(p.margins.readings) + " readings compared";
+  if (p.margins.not_compared > 0) {
+    out += "; " + std::to_string(p.margins.not_compared) +
+           " were not compared (no line for their detector, or outside the lines' frequencies)";
+  }
+  out += ".</p>\n";
+  if (!p.margins.worst_per_detector.empty()) {
+    out += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
+           "<th>at</th><th>reading</th><th>line</th><th>comparisons</th></tr>\n";
+    for (const DetectorMargin& d : p.margins.worst_per_detector) {
+      out += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
+             "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
+             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " dB\xC2\xB5V</td><td>" +
+             html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
+    }
+    out += "</table>\n";
+    out += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
+  } else {
+    out += "<p>No reading was compared with a limit line.</p>\n";
+  }
+  out += "</section>\n";
+
+  // 5. Broadcast bands.
+  out += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
+  out += "<p>Estimated field of the harmonics at a receiver " + html(format_quantity(s.broadcast.distance_m, Dimension::length)) +
+         " from the product and its " + html(format_quantity(s.broadcast.cable_length_m, Dimension::length)) +
+         " supply cable (" + html(environment_name(s.broadcast.environment)) +
+         " environment, ITU region " + std::to_string(s.broadcast.region) +
+         "). <em>clear</em>: under the ambient man-made noise (ITU-R P.372) or the level the receiver rejects; "
+         "<em>watch</em>: above it, below the disturbance threshold; <em>noisy</em>: a weak station is likely "
+         "disturbed.</p>\n";
+  out += "<table>\n<tr><th>band</th><th>range</th><th>verdict</th><th>worst channel</th><th>field</th><th>ambient</th>"
+         "<th>noisy above</th><th>notes</th></tr>\n";
+  std::vector<std::string> caveats;  // distinct caveats, numbered once below the table
+  for (const BandReception& b : p.reception) {
+    out += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
+           html(format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
+                format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits)) +
+           "</td><td>" + tag(reception_verdict_name(b.verdict)) + "</td>";
+    if (b.worst_channel) {
+      const ChannelReception& c = b.channels[*b.worst_channel];
+      out += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
+             level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.ambient_dbuvm) +
+             " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td>";
+    } else {
+      out += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td>";
+    }
+    std::vector<std::string> refs;
+    for (const std::string& caveat : b.caveats) {
+      auto it = std::find(caveats.begin(), caveats.end(), caveat);
+      if (it == caveats.end()) it = caveats.insert(caveats.end(), caveat);
+      refs.push_back("[" + std::to_string(it - caveats.begin() + 1) + "]");
+    }
+    out += "<td>" + join(refs, " ") + "</td></tr>\n";
+  }
+  out += "</table>\n";
+  if (!caveats.empty()) {
+    out += "<ol class=\"caveats\">\n";
+    for (const std::string& caveat : caveats) out += "<li>" + html(caveat) + "</li>\n";
+    out += "</ol>\n";
+  }
+  if (!p.radiation_convention.empty()) out += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
+  out += "</section>\n";
+
+  // 6. Pre-lab.
+  out += "<section id=\"pre-lab\">\n<h2>Before the lab</h2>\n<h3>Standard and class</h3>\n<ul>\n";
+  if (s.limits.sets.empty()) out += "<li>No limit lines were given.</li>\n";
+  for (const LimitSet& set : s.limits.sets) {
+    out += "<li><strong>" + html(set.name) + "</strong> \xE2\x80\x94 " + html(set.source) + " <span class=\"practice\">(" +
+           html(set.confidence_text) + ")</span>" + (set.file.empty() ? "" : " <code>" + html(set.file) + "</code>") +
+           "</li>\n";
+  }
+  out += "</ul>\n<h3>Detector plan</h3>\n<ol>\n";
+  for (const BandScan& scan : p.scans) {
+    const BandParameters band = band_parameters(scan.band);
+    out += "<li>Peak pre-scan of CISPR band " + to_string(scan.band) + " (" +
+           html(format_quantity(band.start_hz, Dimension::frequency) + " \xE2\x80\x93 " +
+                format_quantity(band.stop_hz, Dimension::frequency)) +
+           ", " + html(format_quantity(band.bandwidth_6db_hz, Dimension::frequency)) +
+           " bandwidth, step at most " + html(format_quantity(band.bandwidth_6db_hz / 2.0, Dimension::frequency)) +
+           ") on each supply line in turn.</li>\n";
+  }
+  out += "<li>Quasi-peak and average readings at the frequencies below (and at any other peak reading within the guard "
+         "band of a line), each line in turn, dwelling long enough for the meter to settle "
+         "<span class=\"practice\">(common practice: at least 1 s per frequency for quasi-peak)</span>.</li>\n"
+         "<li>A peak reading under the average line meets every line (peak \xE2\x89\xA5 quasi-peak \xE2\x89\xA5 average); "
+         "such frequencies need no final measurement.</li>\n</ol>\n";
+  out += "<h3>Frequencies to re-measure with quasi-peak and average</h3>\n";
+  const std::vector<WorstFrequency> remeasure = worst_frequencies(p, 10);
+  if (remeasure.empty()) {
+    out += "<p>None predicted (no reading was compared with a line).</p>\n";
+  } else {
+    out += margin_table(p, remeasure);
+  }
+  out += "<h3>Measurement uncertainty</h3>\n<p>";
+  if (const std::optional<double> u = uncertainty_for(p)) {
+    out += "CISPR 16-4-2 U<sub>cispr</sub> for this measurement: " + html(fixed(*u, 1)) +
+           " dB (expanded, k = 2; from memory, REFERENCES.md \xC2\xA7" "7). When the lab's own uncertainty is at most "
+           "U<sub>cispr</sub>, the product complies when the measured value is at or under the limit; a predicted "
+           "margin smaller than U<sub>cispr</sub> can fall either side at the lab.";
+  } else {
+    out += "No CISPR 16-4-2 value is listed for this measurement.";
+  }
+  out += "</p>\n<h3>Set-up</h3>\n<p>" + html(p.setup_description) + "</p>\n<ul>\n"
+         "<li>Table-top equipment: 0.8 m above the reference ground plane, 0.4 m from a vertical reference plane.</li>\n"
+         "<li>Floor-standing equipment: on an insulating support 0.1 m above the reference ground plane.</li>\n"
+         "<li>Each LISN bonded to the reference ground plane with a short, wide connection.</li>\n"
+         "<li>Excess mains or supply cable folded non-inductively into a bundle 0.3\xE2\x80\x93" "0.4 m long.</li>\n"
+         "<li>The lines not being measured terminated in 50 \xCE\xA9 (the LISN's own port termination).</li>\n"
+         "</ul>\n<p class=\"practice\">common practice (from memory; CISPR 16-2-1 / CISPR 32 describe the arrangement)</p>\n"
+         "</section>\n";
+
+  // 7. Limits of the model.
+  out += "<section id=\"assumptions\">\n<h2>Limits of the model</h2>\n<ul>\n"
+         "<li>The coupling network is linear and time-invariant: parts do not saturate or heat, and the filter does not "
+         "change the source (the switch waveform is taken as given).</li>\n"
+         "<li>Only the parts listed are modelled: the input capacitor with its ESR and ESL, the filter stages, one "
+         "switch-node capacitance to ground for the common-mode path. Layout coupling, heatsink and cable resonances "
+         "are not.</li>\n";
+  out += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
+         " circuit of " + html(lisn_model_name(s.lisn.model)) +
+         (s.lisn.circuit == LisnCircuit::ideal
+              ? " (the defined impedance, port = terminal; a lab reports levels after its voltage-division correction)"
+              : " (part values from memory)") +
+         ".</li>\n";
+  out += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
+         "mask is met only approximately. Detectors are calibrated so a sine reads its RMS value.</li>\n"
+         "<li>Broadcast-band fields use short-cable (common mode) and small-loop (differential mode) formulas "
+         "(C. R. Paul); they are far-field estimates, and near the product at low frequencies the receiver is in the "
+         "near field, where they are rough. The ambient is man-made noise only (ITU-R P.372).</li>\n"
+         "<li>Limit values marked <em>from memory</em> must be checked against the standard before a decision.</li>\n";
+  for (const std::string& note : p.notes) out += "<li>" + html(note) + "</li>\n";
+  out += "</ul>\n</section>\n";
+
+  // 8. Safety.
+  out += "<section id=\"safety\" class=\"caution\">\n<h2>Safety</h2>\n<ul>\n"
+         "<li>Switch nodes and their ringing can reach hundreds of volts: measure with probes rated for the voltage, "
+         "and with an isolated supply where appropriate.</li>\n"
+         "<li>A LISN passes a large leakage current to earth: bond it to protective earth before mains is applied.</li>\n"
+         "<li>A prediction is not a compliance result: only an accredited test decides. Local codes and licensed "
+         "practice take precedence over anything in this report.</li>\n</ul>\n</section>\n";
+
+  // 9. Files.
+  out += "<section id=\"files\">\n<h2>Files</h2>\n<p>Written beside this page: ";
+  std::vector<std::string> names;
+  for (const std::string& f : files) names.push_back("<code>" + html(f) + "</code>");
+  out += join(names, ", ") + ".</p>\n</section>\n";
+  out += "<footer>spurcast " SPURCAST_VERSION " \xE2\x80\x94 a pre-compliance estimate from a model; not a test "
+         "result.</footer>\n</main>\n</body>\n</html>\n";
+  return out;
+}
+
+std::vector<OutputFile> report_files(const Prediction& p) {
+  std::vector<OutputFile> files;
+  files.push_back({"spectrum.csv", lisn_spectrum_csv(p)});
+  files.push_back({"source_spectrum.csv", source_spectrum_csv(p)});
+  if (!p.input_current_a.harmonics.empty()) {
+    files.push_back({"source_current_spectrum.csv", source_current_spectrum_csv(p)});
+  }
+  files.push_back({"scan.csv", scan_csv(p)});
+  files.push_back({"margins.csv", margins_csv(p.margins)});
+  files.push_back({"bands.csv", bands_csv(p.reception)});
+  for (const BandScan& scan : p.scans) {
+    files.push_back({"scan-" + to_string(scan.band) + ".svg", spectrum_plot_svg(readings_plot(p, scan))});
+  }
+  files.push_back({"source.svg", spectrum_plot_svg(source_plot(p))});
+  std::vector<std::string> names;
+  for (const OutputFile& f : files) names.push_back(f.name);
+  names.push_back("report.html");
+  names.push_back("summary.json");
+  files.push_back({"report.html", report_html(p, names)});
+  files.push_back({"summary.json", summary_json(p, names)});
+  return files;
+}
+
+}  // namespace spurcast

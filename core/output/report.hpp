@@ -1,0 +1,82 @@
+#pragma once
+/// The prediction report (issue 8): the files of a report folder, made from one Prediction.
+///   spectrum.csv         LISN-port harmonics: harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv
+///                        (level_dbuv is the higher of the two lines; DESIGN.md §4)
+///   source_spectrum.csv  source harmonics: harmonic,frequency_hz,level_dbuv[,envelope_dbuv]
+///                        (the switch-node voltage; envelope for described sources)
+///   source_current_spectrum.csv  the same for the pulsed input current (level_dbua[,envelope_dbua])
+///   scan.csv             receiver readings, the worst of the lines: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv
+///   margins.csv          core/compliance/margins.hpp margins_csv()
+///   bands.csv            core/radio/reception.hpp bands_csv()
+///   scan-<band>.svg, source.svg  the plots, also inlined in the report
+///   report.html          one self-contained page (inline CSS and SVG, nothing fetched, no script)
+///   summary.json         verdict, worst_margin_db per detector, bands, files, and more
+/// Numbers are printed with fixed decimals (frequencies %.1f Hz, levels %.2f dB) so the same
+/// prediction always gives the same bytes.
+///
+/// Example:
+///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml"));
+///   write_output_directory("spurcast-report", report_files(p));
+#include <cstddef>
+#include <string>
+#include <vector>
+
+#include "core/output/output_dir.hpp"
+#include "core/output/plot.hpp"
+#include "core/chain/prediction.hpp"
+
+namespace spurcast {
+
+/// spectrum.csv: the conducted result at the harmonics (header only when there is none).
+[[nodiscard]] std::string lisn_spectrum_csv(const Prediction& prediction);
+/// source_spectrum.csv: the switch-node voltage lines; `envelope_dbuv` (Paul's trapezoid bound,
+/// core/source/source.hpp trapezoid_envelope_rms) for a described source.
+[[nodiscard]] std::string source_spectrum_csv(const Prediction& prediction);
+/// source_current_spectrum.csv: the input-current lines, `level_dbua` and `envelope_dbua`.
+[[nodiscard]] std::string source_current_spectrum_csv(const Prediction& prediction);
+/// scan.csv: the worst-of-lines readings of every band in one ascending list; at a frequency shared
+/// by two bands (30 MHz) the lower band's reading is kept (CISPR 16-1-1: 30 MHz belongs to band B).
+[[nodiscard]] std::string scan_csv(const Prediction& prediction);
+
+/// A reading that stands out: the smallest margin at one frequency.
+struct WorstFrequency {
+  MarginRow row;
+  double separation_hz = 0.0;  ///< the thinning distance used (the band's 6 dB bandwidth) [Hz]
+};
+/// The `count` smallest margins at distinct frequencies: rows sorted by margin, each kept only when
+/// it is at least one receiver bandwidth (B6 of its band) away from the rows already kept, so one
+/// emission does not fill the list with its neighbouring scan points.
+[[nodiscard]] std::vector<WorstFrequency> worst_frequencies(const Prediction& prediction, std::size_t count);
+
+/// summary.json (DESIGN.md §4): keys verdict, worst_margin_db {detector: dB} (per limit-line
+/// detector), bands [{name, region, verdict, ...}], files, plus title, scenario, source, guard_db,
+/// worst, worst_frequencies, uncertainty_db, limits, scans, notes. dB values rounded to 0.01 exactly
+/// as the CSVs print them.
+[[nodiscard]] std::string summary_json(const Prediction& prediction, const std::vector<std::string>& files);
+
+/// One row of the scenario table: what, and its value with units (format_quantity).
+struct ScenarioInput {
+  std::string section;  ///< "source", "coupling", "filter 1", "lisn", ...
+  std::string name;
+  std::string value;
+};
+/// Every input of the scenario, in file order, for the report.
+[[nodiscard]] std::vector<ScenarioInput> scenario_inputs(const Scenario& scenario);
+
+/// The receiver plot of one band: peak / quasi-peak / average against the limit lines, broadcast
+/// bands shaded, the three worst readings of the band marked with their margin.
+[[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan);
+/// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with Paul's
+/// −20/−40 dB per decade envelope for a described source.
+[[nodiscard]] SpectrumPlot source_plot(const Prediction& prediction);
+
+/// The report page. `files` are the names written beside it (listed at the end).
+[[nodiscard]] std::string report_html(const Prediction& prediction, const std::vector<std::string>& files);
+
+/// The titles of the report's sections, in order (each is an <h2> with an id; tests check them).
+[[nodiscard]] const std::vector<std::string>& report_section_ids();
+
+/// Every file of the report folder, summary.json last.
+[[nodiscard]] std::vector<OutputFile> report_files(const Prediction& prediction);
+
+}  // namespace spurcast

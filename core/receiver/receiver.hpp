@@ -1,0 +1,144 @@
+#pragma once
+/// Emulation of a CISPR 16-1-1 measuring receiver: bands with their Gaussian IF selectivity, the
+/// tuned-frequency grid, and the peak / quasi-peak / average readings of a sampled record (an
+/// FFT receiver, every tuned frequency at once) or of a periodic line spectrum (exact fast path).
+///
+/// Example:
+///   ScanPlan plan{.band = CisprBand::B};                       // 150 kHz-30 MHz, 9 kHz, step 2.25 kHz
+///   const ScanResult result = scan_waveform(waveform, plan);
+///   for (const Reading& r : result.readings) ... r.quasi_peak_db ...
+#include <complex>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "core/receiver/detector.hpp"
+#include "core/input/toml_reader.hpp"
+#include "core/source/waveform.hpp"
+
+namespace spurcast {
+
+/// CISPR 16-1-1 frequency bands. C and D share bandwidth and time constants.
+enum class CisprBand { A, B, C, D };
+
+/// "A", "B", "C" or "D".
+[[nodiscard]] std::string to_string(CisprBand band);
+/// The band named `name` ("A".."D", upper case), or nullopt.
+[[nodiscard]] std::optional<CisprBand> find_band(std::string_view name);
+/// Like find_band; throws Error (no position): `expected one of A, B, C or D, found "E"`.
+[[nodiscard]] CisprBand band_from_string(std::string_view name);
+
+/// The receiver parameters of a band: CISPR 16-1-1 values as listed in REFERENCES.md §1.1 (from
+/// memory, two public secondary sources agree).
+struct BandParameters {
+  CisprBand band = CisprBand::B;
+  double start_hz = 0.0;            ///< [Hz] lower band edge
+  double stop_hz = 0.0;             ///< [Hz] upper band edge
+  double bandwidth_6db_hz = 0.0;    ///< [Hz] IF bandwidth at -6 dB
+  DetectorTimeConstants detector;   ///< QP charge/discharge and meter time constants
+};
+[[nodiscard]] BandParameters band_parameters(CisprBand band);
+/// The band whose range holds `frequency_hz` (edges: the lower band, e.g. 150 kHz is band A,
+/// 30 MHz is band B); Error `frequency 5 kHz is outside the CISPR bands (9 kHz-1 GHz)` otherwise.
+[[nodiscard]] CisprBand band_for_frequency(double frequency_hz);
+
+/// The [receiver] table of a scenario.
+struct ReceiverSpec {
+  std::vector<CisprBand> bands{CisprBand::B};
+  std::vector<Detector> detectors{Detector::peak, Detector::quasi_peak, Detector::average};
+  std::optional<double> step_hz;  ///< [Hz] scan step; default default_step_hz(band); <= B6/2
+};
+
+/// Reads the [receiver] table: keys `bands` (array of "A".."D", default ["B"]), `detectors` (array
+/// of "peak", "quasi-peak", "average", default all three) and `step` (a frequency, at most half the
+/// 6 dB bandwidth of every listed band). Calls reader.finish(). Errors carry the value's position.
+[[nodiscard]] ReceiverSpec read_receiver_section(TableReader& reader);
+
+// ---------------------------------------------------------------------------------------------
+// IF selectivity: Gaussian, |H(f)| = exp(-4·ln2·(f - f_tuned)²/B6²), so |H| = 1/2 (-6.02 dB) at
+// ±B6/2. A Gaussian meets the CISPR 16-1-1 selectivity mask only approximately; the mask itself is
+// not reproduced here (REFERENCES.md §1.2: mask values not confirmed). tests/receiver/receiver_test.cpp
+// checks the simulated shape in every band against this Gaussian down to -60 dB and the 6 dB
+// bandwidth against a ±10 % tolerance (from memory).
+
+/// Gain of the Gaussian IF filter (linear, <= 1) at `offset_hz` from the tuned frequency.
+[[nodiscard]] double if_gain(double offset_hz, double bandwidth_6db_hz);
+/// Impulse bandwidth of the Gaussian filter: 1.0645·B6 (= sqrt(pi/(4 ln2))·B6; REFERENCES.md §1.2).
+[[nodiscard]] double impulse_bandwidth_hz(double bandwidth_6db_hz);
+/// Equivalent noise bandwidth: 0.7527·B6 (= sqrt(pi/(8 ln2))·B6; REFERENCES.md §1.2).
+[[nodiscard]] double noise_bandwidth_hz(double bandwidth_6db_hz);
+/// The default scan step: B6/4 (worst-case Gaussian scalloping 0.38 dB, REFERENCES.md §1.2).
+[[nodiscard]] double default_step_hz(CisprBand band);
+/// Tuned frequencies start_hz + k·step_hz for k = 0, 1, ... while <= stop_hz (1e-9 relative slack).
+[[nodiscard]] std::vector<double> tuned_frequencies(CisprBand band, double step_hz);
+
+// ---------------------------------------------------------------------------------------------
+// Scanning.
+
+/// What to read.
+struct ScanPlan {
+  CisprBand band = CisprBand::B;
+  std::optional<double> step_hz;       ///< [Hz] default default_step_hz(band); must be <= B6/2
+  std::vector<double> frequencies_hz;  ///< spot readings at these tuned frequencies; empty = scan the band
+  /// [Hz] the slowest modulation in the signal (e.g. a dither rate), 0 = unknown. The sampled path
+  /// notes a record holding fewer than 3 of its periods.
+  double slowest_modulation_hz = 0.0;
+  /// The sampled record holds whole periods of a periodic signal (a capture with its switching
+  /// frequency stated). Its lines then sit on FFT bins and a record shorter than 1/B6 is still
+  /// exact; otherwise scan_waveform refuses a record shorter than 1/B6, which cannot resolve the
+  /// IF bandwidth.
+  bool periodic_record = false;
+  /// Threads of the sampled path (its record transform and the tuned frequencies, split into
+  /// contiguous runs); 0 = std::thread::hardware_concurrency(). The readings do not depend on it.
+  unsigned threads = 0;
+};
+
+/// One tuned frequency. Levels are RMS-calibrated readings in dBµV for a voltage, dBµA for a current;
+/// level_floor_db where nothing is in the passband.
+struct Reading {
+  double frequency_hz = 0.0;
+  double peak_db = level_floor_db;
+  double quasi_peak_db = level_floor_db;
+  double average_db = level_floor_db;
+
+  [[nodiscard]] double level_db(Detector detector) const;
+};
+
+struct ScanResult {
+  Quantity quantity = Quantity::voltage;
+  CisprBand band = CisprBand::B;
+  double bandwidth_6db_hz = 0.0;  ///< [Hz]
+  double step_hz = 0.0;           ///< [Hz] 0 for spot readings
+  std::vector<Reading> readings;  ///< ascending frequency
+  /// Facts the user should know about how the readings were made ("record treated as periodic ...").
+  std::vector<std::string> notes;
+};
+
+/// The tuned frequencies a plan reads (the band grid, or the spot frequencies). Error on a step
+/// above B6/2, a non-positive step, or a spot frequency outside the plan's band.
+[[nodiscard]] std::vector<double> plan_frequencies(const ScanPlan& plan);
+
+/// FFT receiver on a sampled record. The record is taken as one period of a periodic signal (the
+/// detectors are run to their periodic steady state; a note says so). One FFT of the whole record;
+/// for each tuned frequency the bins within ±2·B6 are weighted by the Gaussian IF response and
+/// inverse-transformed into a decimated complex envelope, on which the detectors run.
+/// Error if the sample rate does not cover the band (tuned frequency + 2·B6 above Nyquist) or the
+/// record is empty. Uses plan.threads threads.
+[[nodiscard]] ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan);
+
+/// Exact receiver for a periodic line spectrum: the IF output at each tuned frequency is the sum of
+/// the lines within ±2·B6 weighted by the Gaussian response; its envelope is periodic with 1/f0.
+/// One line in the passband reads |H|·RMS on every detector.
+[[nodiscard]] ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan);
+
+/// The IF envelope (magnitude of the complex IF output, peak volts) at one tuned frequency of a
+/// sampled record, over one record length, treated as periodic: `samples.size()` points spaced
+/// `sample_interval_s`. Exposed for tests (cross-check against a direct mix-and-filter).
+struct Envelope {
+  double sample_interval_s = 0.0;
+  std::vector<double> samples;
+};
+[[nodiscard]] Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double bandwidth_6db_hz);
+
+}  // namespace spurcast

@@ -1,0 +1,119 @@
+#pragma once
+/// The described noise source: a periodic trapezoid (the switch node of a hard-switched converter)
+/// with optional damped ringing at each edge and optional frequency dither; the same timing gives
+/// the pulsed input current.
+///
+/// Conventions (as in C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed., §3.2):
+/// duty = pulse width at half amplitude / period; rise and fall are 0–100 % ramp times
+/// (t_0-100 = t_10-90 / 0.8). Spectra are one-sided RMS: |H_k| = √2·|c_k| for the two-sided
+/// Fourier coefficient c_k.
+///
+/// Example:
+///   SwitchingSpec s;  s.frequency_hz = 220e3; s.duty = 0.25; s.amplitude_v = 48; s.rise_s = 12e-9; ...
+///   LineSpectrum v = switch_node_spectrum(s, 30e6);   // exact harmonics up to 30 MHz
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "core/input/toml_reader.hpp"
+#include "core/source/waveform.hpp"
+
+namespace spurcast {
+
+/// Damped ringing after each edge: a·A·exp(−t/decay)·sin(2π·f·t), t from the end of the edge,
+/// positive after a rising edge (overshoot), negative after a falling one.
+struct RingingSpec {
+  double frequency_hz = 0.0;        ///< [Hz] > 0
+  double decay_s = 0.0;             ///< 1/e time [s] > 0
+  double relative_amplitude = 0.0;  ///< of the edge step, ≥ 0
+};
+
+enum class DitherProfile { triangle, sine };
+
+/// Spread-spectrum modulation of the switching frequency: f(t) = f0·(1 + deviation·p(t)), p a
+/// triangle or sine of period 1/rate in [−1, 1]; duty and edge times are kept.
+struct DitherSpec {
+  DitherProfile profile = DitherProfile::triangle;
+  double deviation_fraction = 0.0;  ///< peak deviation / f0, in (0, 0.5)
+  double rate_hz = 0.0;             ///< modulation rate [Hz] > 0
+};
+
+struct SwitchingSpec {
+  double frequency_hz = 0.0;  ///< switching frequency f0 [Hz] > 0
+  double duty = 0.5;          ///< pulse width at 50 % / period, in (0, 1)
+  double amplitude_v = 0.0;   ///< switch-node swing [V] ≥ 0 (drives the common-mode path)
+  double current_a = 0.0;     ///< pulsed input current [A] ≥ 0 (drives the differential-mode path)
+  double rise_s = 0.0;        ///< 0–100 % rise time [s] ≥ 0
+  double fall_s = 0.0;        ///< 0–100 % fall time [s] ≥ 0
+  std::optional<RingingSpec> ringing;
+  std::optional<DitherSpec> dither;
+
+  [[nodiscard]] double period_s() const { return 1.0 / frequency_hz; }
+};
+
+/// Reads a [switching] table: frequency, duty, amplitude, current, rise | rise_10_90,
+/// fall | fall_10_90, ringing = {frequency, decay, amplitude}, dither = {profile, deviation, rate}.
+/// Checks the physical ranges (duty in (0, 1), the edges fit in the on and off times, ...).
+[[nodiscard]] SwitchingSpec read_switching_section(TableReader& reader);
+
+/// What is wrong with a switching spec: the scenario key at fault ("duty", "rise", "fall",
+/// "ringing.decay", "dither.rate", ...) and the message.
+struct SwitchingProblem {
+  std::string key;
+  std::string message;
+};
+/// The first problem of a spec (edges that do not fit the period, a value out of its range), or
+/// nullopt when it is usable.
+[[nodiscard]] std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec);
+/// Throws Error (without position) with switching_problem()'s message. Called by anyone who builds
+/// a spec by hand; the reader reports the problem at its key instead.
+void validate_switching(const SwitchingSpec& spec);
+
+/// One breakpoint of a periodic piecewise-linear waveform.
+struct Breakpoint {
+  double time_s;  ///< within [0, period)
+  double value;   ///< [V] or [A]
+};
+
+/// Exact Fourier series of the periodic piecewise-linear waveform through `points` (sorted by time,
+/// the last segment joins the last point to the first one a period later): with x'' a train of
+/// impulses of weight Δslope_i at t_i, c_k = −Σ Δslope_i·exp(−jω_k·t_i) / (T·ω_k²), k ≥ 1.
+/// No sampling error. Harmonics k = 1..harmonic_count.
+[[nodiscard]] LineSpectrum piecewise_linear_series(const std::vector<Breakpoint>& points, double period_s,
+                                                   std::size_t harmonic_count, Quantity quantity);
+
+/// The breakpoints of one period of the trapezoid of height `amplitude`: the rising edge's 50 %
+/// point at rise/2, the falling edge's at rise/2 + duty·T.
+[[nodiscard]] std::vector<Breakpoint> trapezoid_breakpoints(const SwitchingSpec& spec, double amplitude);
+
+/// Exact harmonics of the switch-node voltage (trapezoid of amplitude_v plus ringing) up to
+/// max_frequency_hz. Dither is ignored here (a dithered source has no line spectrum at f0; use
+/// synthesize_* and the time-domain receiver).
+[[nodiscard]] LineSpectrum switch_node_spectrum(const SwitchingSpec& spec, double max_frequency_hz);
+/// Exact harmonics of the pulsed input current (trapezoid of current_a, same timing, no ringing).
+[[nodiscard]] LineSpectrum input_current_spectrum(const SwitchingSpec& spec, double max_frequency_hz);
+
+/// Paul's corner frequencies of the trapezoid bound: f1 = 1/(π·τ) with τ = duty·T, and
+/// f2 = 1/(π·t_r), t_r the faster of the two edges (for rise ≠ fall this keeps the bound an upper
+/// bound). f2 is +inf for an ideal edge.
+struct TrapezoidCorners {
+  double first_hz;
+  double second_hz;
+};
+[[nodiscard]] TrapezoidCorners trapezoid_corners(const SwitchingSpec& spec);
+
+/// The −20/−40 dB per decade bound of the trapezoid harmonics (Paul §3.2), as an RMS amplitude
+/// in the signal's unit: 2·A·D/√2 flat up to f1, then ×f1/f, then ×f1·f2/f² above f2.
+[[nodiscard]] double trapezoid_envelope_rms(const SwitchingSpec& spec, double amplitude,
+                                            double frequency_hz);
+
+/// Samples of the switch-node voltage (with ringing and dither) at sample_rate_hz for duration_s,
+/// starting at t = 0 at a rising edge. The waveform is point-sampled: choose a sample rate well
+/// above the highest frequency of interest (the trapezoid falls at 40 dB/decade above f2).
+[[nodiscard]] Waveform synthesize_switch_node(const SwitchingSpec& spec, double sample_rate_hz,
+                                              double duration_s);
+/// Samples of the pulsed input current (with dither, no ringing).
+[[nodiscard]] Waveform synthesize_input_current(const SwitchingSpec& spec, double sample_rate_hz,
+                                                double duration_s);
+
+}  // namespace spurcast

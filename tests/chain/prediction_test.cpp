@@ -1,0 +1,156 @@
+// The whole chain: source -> conducted path -> receiver -> limits -> bands.
+// External checks: the DM/CM decomposition of a two-LISN set-up (C. R. Paul, Introduction to EMC,
+// 2nd ed., §6.2; REFERENCES.md §2.3: a DM source sees the two 50 Ω ports in series, a CM source
+// sees them in parallel) with the CISPR 16-1-2 V-network impedance 50 ‖ (5 + jω·50 µH); the
+// CISPR 16-1-1 calibration (an isolated line reads its RMS value on every detector); and the
+// direction of the spread-spectrum effect (Rahkala, Suntio & Kalliomäki: dithering lowers the
+// quasi-peak and average readings, typically by 5-10 dB; REFERENCES.md §8.1).
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <complex>
+#include <numbers>
+#include <string>
+
+#include "core/chain/prediction.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/input/units.hpp"
+
+using namespace spurcast;
+using cd = std::complex<double>;
+
+namespace {
+
+const double tol_db = 0.02;
+
+std::string scenario_text(const std::string& switching, const std::string& coupling, const std::string& extra = "") {
+  return "title = \"chain check\"\n[switching]\n" + switching + "\n[coupling]\n" + coupling +
+         "\n[lisn]\nmodel = \"v-network-50uH\"\nlines = 2\n" + extra;
+}
+
+cd lisn_impedance(double f_hz) {
+  const cd series(5.0, 2.0 * std::numbers::pi * f_hz * 50e-6);
+  return 50.0 * series / (50.0 + series);
+}
+
+}  // namespace
+
+TEST_CASE("common mode: the parasitic capacitance drives both LISNs in parallel") {
+  const Scenario s = scenario_from_text(
+      scenario_text("frequency = \"200 kHz\"\nduty = 0.5\namplitude = \"10 V\"\ncurrent = \"0 A\"\n"
+                    "rise = \"20 ns\"\nfall = \"20 ns\"",
+                    "input_capacitance = \"1 F\"\ninput_esr = 0\ninput_esl = 0\nparasitic_capacitance = \"100 pF\""),
+      "cm.toml", ".");
+  const Prediction p = predict(s);
+  REQUIRE(p.conducted);
+  for (const std::size_t k : {0u, 2u, 10u, 40u}) {
+    CAPTURE(k);
+    const double f = p.conducted->frequency_hz[k];
+    const cd z_c = 1.0 / cd(0.0, 2.0 * std::numbers::pi * f * 100e-12);
+    const cd z_half = lisn_impedance(f) / 2.0;
+    const cd expected_port = p.switch_node_v.harmonics[k] * z_half / (z_c + z_half);
+    CHECK(volts_to_dbuv(std::abs(p.conducted->line1_v[k])) ==
+          doctest::Approx(volts_to_dbuv(std::abs(expected_port))).epsilon(tol_db / 100));
+    CHECK(volts_to_dbuv(std::abs(p.conducted->line2_v[k])) ==
+          doctest::Approx(volts_to_dbuv(std::abs(expected_port))).epsilon(tol_db / 100));
+    // Pure CM: the DM part vanishes.
+    CHECK(std::abs(p.conducted->dm_v[k]) < 1e-6 * std::abs(p.conducted->cm_v[k]));
+  }
+}
+
+TEST_CASE("differential mode: the input capacitor divides the pulsed current with the LISN loop") {
+  const Scenario s = scenario_from_text(
+                               scenario_text("frequency = \"100 kHz\"\nduty = 0.3\namplitude = \"0 V\"\n"
+                                             "current = \"2 A\"\nrise = \"50 ns\"\nfall = \"50 ns\"",
+                                             "input_capacitance = \"2.2 uF\"\ninput_esr = \"20 mOhm\"\n"
+                                             "input_esl = 0\nparasitic_capacitance = 0"),
+                               "dm.toml", ".");
+  const Prediction p = predict(s);
+  REQUIRE(p.conducted);
+  for (const std::size_t k : {0u, 1u, 9u, 99u}) {
+    CAPTURE(k);
+    const double f = p.conducted->frequency_hz[k];
+    const cd z_cap = cd(20e-3, 0.0) + 1.0 / cd(0.0, 2.0 * std::numbers::pi * f * 2.2e-6);
+    const cd z_l = lisn_impedance(f);
+    // The loop through the two LISNs in series is 2·Z_L; each port reads Z_L times the loop current.
+    const cd loop_current = p.input_current_a.harmonics[k] * z_cap / (z_cap + 2.0 * z_l);
+    const double expected_db = volts_to_dbuv(std::abs(z_l * loop_current));
+    CHECK(volts_to_dbuv(std::abs(p.conducted->line1_v[k])) == doctest::Approx(expected_db).epsilon(tol_db / 100));
+    CHECK(volts_to_dbuv(std::abs(p.conducted->dm_v[k])) == doctest::Approx(expected_db).epsilon(tol_db / 100));
+    CHECK(std::abs(p.conducted->cm_v[k]) < 1e-6 * std::abs(p.conducted->dm_v[k]));
+  }
+}
+
+TEST_CASE("an isolated harmonic reads its RMS on every detector, and the margin is limit - reading") {
+  const Scenario s = scenario_from_text(
+      scenario_text("frequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\n"
+                    "rise = \"12 ns\"\nfall = \"15 ns\"",
+                    "input_capacitance = \"4.7 uF\"\ninput_esr = \"8 mOhm\"\ninput_esl = \"1.5 nH\"\n"
+                    "parasitic_capacitance = \"35 pF\"",
+                    "[limits]\nfiles = [\"cispr32-class-b-conducted\"]\n"),
+      "line.toml", ".");
+  const Prediction p = predict(s);
+  REQUIRE(p.scans.size() == 1);
+  const ScanResult& worst = p.scans[0].worst;
+  // The reading tuned exactly onto harmonic 1 (220 kHz) equals the higher line's RMS level.
+  const double line_db = std::max(volts_to_dbuv(std::abs(p.conducted->line1_v[0])),
+                                  volts_to_dbuv(std::abs(p.conducted->line2_v[0])));
+  bool found = false;
+  for (const Reading& r : worst.readings) {
+    if (std::fabs(r.frequency_hz - 220e3) < 1.0) {
+      found = true;
+      CHECK(r.peak_db == doctest::Approx(line_db).epsilon(0.1 / 100));
+      CHECK(r.quasi_peak_db == doctest::Approx(line_db).epsilon(0.1 / 100));
+      CHECK(r.average_db == doctest::Approx(line_db).epsilon(0.1 / 100));
+    }
+  }
+  CHECK(found);
+  // CISPR 32 class B QP at 220 kHz: 66 - 10·log10(220/150)/log10(500/150) (REFERENCES.md §3.2).
+  const double limit_qp = 66.0 - 10.0 * std::log10(220.0 / 150.0) / std::log10(500.0 / 150.0);
+  bool margin_found = false;
+  for (const MarginRow& row : p.margins.rows) {
+    if (std::fabs(row.frequency_hz - 220e3) < 1.0 && row.reading_detector == Detector::quasi_peak &&
+        row.limit_detector == Detector::quasi_peak) {
+      margin_found = true;
+      CHECK(row.limit == doctest::Approx(limit_qp).epsilon(0.01 / 60));
+      CHECK(row.margin_db == doctest::Approx(limit_qp - row.reading).epsilon(1e-9));
+    }
+  }
+  CHECK(margin_found);
+  CHECK(!p.reception.empty());
+}
+
+TEST_CASE("dither lowers the average and quasi-peak readings at the fundamental") {
+  const std::string base =
+      "frequency = \"400 kHz\"\nduty = 0.45\namplitude = \"24 V\"\ncurrent = \"1.2 A\"\nrise = \"8 ns\"\nfall = \"10 ns\"";
+  const std::string coupling =
+      "input_capacitance = \"2.2 uF\"\ninput_esr = \"15 mOhm\"\ninput_esl = \"1 nH\"\nparasitic_capacitance = \"12 pF\"";
+  const Scenario plain = scenario_from_text(scenario_text(base, coupling), "plain.toml", ".");
+  const Scenario dithered = scenario_from_text(
+      scenario_text(base + "\ndither = { profile = \"triangle\", deviation = \"8 %\", rate = \"12 kHz\" }", coupling),
+      "dither.toml", ".");
+  PredictionOptions options;
+  options.record_duration_s = 2.0 / 12e3 * 12;  // 2 ms: whole modulation periods, a fast test
+  const Prediction a = predict(plain);
+  const Prediction b = predict(dithered, options);
+  CHECK(b.source_kind == SourceKind::dithered);
+  auto max_near = [](const Prediction& p, double lo, double hi, Detector d) {
+    double best = level_floor_db;
+    for (const Reading& r : p.scans[0].worst.readings) {
+      if (r.frequency_hz >= lo && r.frequency_hz <= hi) best = std::max(best, r.level_db(d));
+    }
+    return best;
+  };
+  const double av_plain = max_near(a, 350e3, 450e3, Detector::average);
+  const double av_dither = max_near(b, 350e3, 450e3, Detector::average);
+  const double qp_plain = max_near(a, 350e3, 450e3, Detector::quasi_peak);
+  const double qp_dither = max_near(b, 350e3, 450e3, Detector::quasi_peak);
+  CAPTURE(av_plain);
+  CAPTURE(av_dither);
+  CAPTURE(qp_plain);
+  CAPTURE(qp_dither);
+  // ±32 kHz of sweep across a 9 kHz RBW: the average falls by several dB (REFERENCES.md §8.2).
+  CHECK(av_dither < av_plain - 3.0);
+  CHECK(qp_dither < qp_plain);
+  CHECK(qp_dither > qp_plain - 25.0);
+}

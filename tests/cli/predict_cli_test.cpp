@@ -1,0 +1,323 @@
+// End-to-end tests of `spurcast predict` and `spurcast demo` through the built executable
+// (SPURCAST_EXECUTABLE): exit codes, every file written, summary.json against the CSVs, SVG and HTML
+// well-formed (Debian's Python xml.etree / html.parser), colour rules, an interrupted run, and the
+// report rendered by a real browser (headless Debian chromium; skipped with a message if absent).
+#include <doctest/doctest.h>
+
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+namespace fs = std::filesystem;
+
+namespace {
+
+const std::string executable = SPURCAST_EXECUTABLE;
+const std::string source_dir = SPURCAST_SOURCE_DIR;
+const std::string checker = source_dir + "/tests/data/report/check_report.py";
+const std::string python = "/usr/bin/python3";
+
+struct Run {
+  int status = -1;  // exit code, or 128 + signal
+  std::string out;
+  std::string err;
+};
+
+std::string read_file(const fs::path& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream text;
+  text << in.rdbuf();
+  return text.str();
+}
+
+std::string quote(const std::string& text) {
+  std::string out = "'";
+  for (char c : text) out += c == '\'' ? std::string("'\\''") : std::string(1, c);
+  return out + "'";
+}
+
+/// Runs `command` with /bin/sh in `directory`, stdout and stderr captured.
+Run run(const std::string& command, const std::string& directory) {
+  const std::string out = directory + "/.stdout", err = directory + "/.stderr";
+  const int raw = std::system(("cd " + quote(directory) + " && " + command + " > " + quote(out) + " 2> " + quote(err)).c_str());
+  Run result;
+  if (WIFEXITED(raw)) result.status = WEXITSTATUS(raw);
+  else if (WIFSIGNALED(raw)) result.status = 128 + WTERMSIG(raw);
+  result.out = read_file(out);
+  result.err = read_file(err);
+  fs::remove(out);
+  fs::remove(err);
+  return result;
+}
+
+std::string make_temp_dir() {
+  std::string pattern = (fs::temp_directory_path() / "spurcast-predict-test-XXXXXX").string();
+  REQUIRE(::mkdtemp(pattern.data()) != nullptr);
+  return pattern;
+}
+
+bool have_python() { return ::access(python.c_str(), X_OK) == 0; }
+
+std::vector<std::string> lines_of(const std::string& text) {
+  std::vector<std::string> lines;
+  std::istringstream in(text);
+  for (std::string line; std::getline(in, line);) lines.push_back(line);
+  return lines;
+}
+
+std::vector<std::string> csv_cells(const std::string& line) {
+  std::vector<std::string> cells;
+  std::string cell;
+  bool quoted = false;
+  for (char c : line) {
+    if (c == '"') quoted = !quoted;
+    else if (c == ',' && !quoted) {
+      cells.push_back(cell);
+      cell.clear();
+    } else cell += c;
+  }
+  cells.push_back(cell);
+  return cells;
+}
+
+const std::vector<std::string> required_files{"report.html", "spectrum.csv", "source_spectrum.csv", "scan.csv",
+                                              "margins.csv", "bands.csv",    "summary.json"};
+
+/// Every check of one written report folder; returns the parsed summary.
+nlohmann::json check_report_folder(const fs::path& folder) {
+  REQUIRE(fs::is_directory(folder));
+  const nlohmann::json summary = nlohmann::json::parse(read_file(folder / "summary.json"));
+  for (const std::string& name : required_files) {
+    CAPTURE(name);
+    CHECK(fs::exists(folder / name));
+    CHECK(std::find(summary.at("files").begin(), summary.at("files").end(), name) != summary.at("files").end());
+  }
+  std::vector<std::string> svgs;
+  for (const auto& name : summary.at("files")) {
+    CAPTURE(name.get<std::string>());
+    CHECK(fs::file_size(folder / name.get<std::string>()) > 0);
+    if (name.get<std::string>().ends_with(".svg")) svgs.push_back((folder / name.get<std::string>()).string());
+  }
+  // Nothing else in the folder.
+  std::size_t count = 0;
+  for ([[maybe_unused]] const auto& entry : fs::directory_iterator(folder)) ++count;
+  CHECK(count == summary.at("files").size());
+
+  const std::string verdict = summary.at("verdict");
+  CHECK((verdict == "pass" || verdict == "marginal" || verdict == "fail"));
+
+  // Column headers are interface (DESIGN.md §4).
+  CHECK(lines_of(read_file(folder / "spectrum.csv"))[0] == "harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv");
+  CHECK(lines_of(read_file(folder / "margins.csv"))[0] == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit");
+  CHECK(lines_of(read_file(folder / "bands.csv"))[0] == "band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit");
+  const std::vector<std::string> scan = lines_of(read_file(folder / "scan.csv"));
+  REQUIRE(scan.size() > 1);
+  CHECK(scan[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
+  double previous = -1.0;
+  bool ascending = true;
+  for (std::size_t i = 1; i < scan.size(); ++i) {
+    const double f = std::stod(csv_cells(scan[i])[0]);
+    ascending = ascending && f > previous;
+    previous = f;
+  }
+  CHECK(ascending);
+
+  // summary.json against margins.csv: the smallest margin per line detector (the detector named at
+  // the end of the `limit` label, core/compliance/limits.hpp line_label).
+  std::map<std::string, double> smallest;
+  double overall = INFINITY;
+  const std::vector<std::string> margins = lines_of(read_file(folder / "margins.csv"));
+  for (std::size_t i = 1; i < margins.size(); ++i) {
+    const std::vector<std::string> cells = csv_cells(margins[i]);
+    REQUIRE(cells.size() == 6);
+    const std::string detector = cells[5].substr(cells[5].rfind("/ ") + 2);
+    const double margin = std::stod(cells[4]);
+    if (!smallest.count(detector) || margin < smallest[detector]) smallest[detector] = margin;
+    overall = std::min(overall, margin);
+  }
+  const double tol_db = 1e-9;
+  CHECK(summary.at("worst_margin_db").size() == smallest.size());
+  for (const auto& [detector, margin] : smallest) {
+    CAPTURE(detector);
+    CHECK(summary.at("worst_margin_db").at(detector).get<double>() == doctest::Approx(margin).epsilon(tol_db));
+  }
+  if (std::isfinite(overall)) {
+    CHECK(summary.at("worst").at("margin_db").get<double>() == doctest::Approx(overall).epsilon(tol_db));
+    CHECK(summary.at("worst_frequencies")[0].at("margin_db").get<double>() == doctest::Approx(overall).epsilon(tol_db));
+    const double guard = summary.at("guard_db");
+    const std::string expected = overall < 0 ? "fail" : (overall < guard ? "marginal" : "pass");
+    CHECK(verdict == expected);
+  }
+  // summary.json against bands.csv: name and verdict of every band, in order.
+  const std::vector<std::string> bands = lines_of(read_file(folder / "bands.csv"));
+  REQUIRE(bands.size() == summary.at("bands").size() + 1);
+  for (std::size_t i = 0; i < summary.at("bands").size(); ++i) {
+    const std::vector<std::string> cells = csv_cells(bands[i + 1]);
+    CHECK(cells[0] == summary.at("bands")[i].at("name").get<std::string>());
+    CHECK(cells[4] == summary.at("bands")[i].at("verdict").get<std::string>());
+  }
+
+  const std::string page = read_file(folder / "report.html");
+  for (const char* id : {"verdict", "scenario", "plots", "margins", "bands", "pre-lab", "assumptions", "safety"}) {
+    CAPTURE(id);
+    CHECK(page.find(std::string("<section id=\"") + id + "\"") != std::string::npos);
+  }
+  if (have_python()) {
+    std::string command = python + " " + quote(checker) + " xml";
+    for (const std::string& svg : svgs) command += " " + quote(svg);
+    CHECK(run(command, folder.string()).status == 0);
+    const Run html = run(python + " " + quote(checker) + " html report.html", folder.string());
+    CHECK_MESSAGE(html.status == 0, html.err);
+  }
+  return summary;
+}
+
+}  // namespace
+
+TEST_CASE("predict on every example writes a whole report and exits with the documented code") {
+  if (!have_python()) MESSAGE("the SVG/HTML parse checks are skipped: /usr/bin/python3 not found");
+  const std::string work = make_temp_dir();
+  std::vector<fs::path> examples;
+  for (const auto& entry : fs::directory_iterator(source_dir + "/examples")) {
+    if (entry.path().extension() == ".toml") examples.push_back(entry.path());
+  }
+  std::sort(examples.begin(), examples.end());
+  REQUIRE(examples.size() >= 4);
+  for (const fs::path& example : examples) {
+    CAPTURE(example.string());
+    const std::string out = "out-" + example.stem().string();
+    const Run r = run(quote(executable) + " predict " + quote(example.string()) + " -o " + out, work);
+    CHECK_MESSAGE(r.err.empty(), r.err);
+    const nlohmann::json summary = check_report_folder(fs::path(work) / out);
+    // Exit codes (DESIGN.md §4): 0 every limit met; 1 a limit exceeded or a margin under the guard.
+    CHECK(r.status == (summary.at("verdict") == "pass" ? 0 : 1));
+    CHECK(r.out.find("verdict: " + summary.at("verdict").get<std::string>()) != std::string::npos);
+    CHECK(r.out.find("report written to " + out + "/") != std::string::npos);
+    CHECK(r.out.find('\x1b') == std::string::npos);  // stdout is a file here: no colour
+    if (!summary.at("worst").is_null()) CHECK(r.out.find("five worst frequencies:") != std::string::npos);
+    CHECK(r.out.find("broadcast bands:") != std::string::npos);
+    // Nothing but the report folders in the working folder: no temporary sibling left.
+    for (const auto& entry : fs::directory_iterator(work)) {
+      CHECK(entry.path().filename().string().find(".tmp-") == std::string::npos);
+    }
+  }
+  fs::remove_all(work);
+}
+
+TEST_CASE("--json prints summary.json; the default folder is spurcast-report; a rerun replaces it") {
+  const std::string work = make_temp_dir();
+  const std::string scenario = quote(source_dir + "/examples/greenhouse-buck.toml");
+  const Run first = run(quote(executable) + " predict " + scenario + " --json", work);
+  REQUIRE(fs::exists(work + "/spurcast-report/summary.json"));
+  CHECK(first.out == read_file(work + "/spurcast-report/summary.json"));
+  CHECK(nlohmann::json::parse(first.out).is_object());
+  const Run second = run(quote(executable) + " predict " + scenario + " --json", work);
+  CHECK(second.status == first.status);
+  CHECK(second.out == first.out);  // byte-reproducible
+  CHECK(read_file(work + "/spurcast-report/report.html").size() > 10000);
+  fs::remove_all(work);
+}
+
+TEST_CASE("demo needs no files and writes spurcast-demo") {
+  const std::string work = make_temp_dir();
+  const Run r = run(quote(executable) + " demo", work);
+  const nlohmann::json summary = check_report_folder(fs::path(work) / "spurcast-demo");
+  CHECK(r.status == 0);  // the demo reports its verdict but exits 0 once it ran
+  CHECK(summary.at("title") == "48 V to 12 V buck, greenhouse lighting controller");
+  const Run json = run(quote(executable) + " demo -o other --json", work);
+  CHECK(json.out == read_file(work + "/other/summary.json"));
+  fs::remove_all(work);
+}
+
+TEST_CASE("bad input exits 2 with a message and writes nothing") {
+  const std::string work = make_temp_dir();
+  const Run missing = run(quote(executable) + " predict no-such.toml -o out", work);
+  CHECK(missing.status == 2);
+  CHECK(missing.err.rfind("spurcast: error: ", 0) == 0);
+  std::ofstream(work + "/bad.toml") << "title = \"x\"\n[switching\nfrequency = \"220 kHz\"\n";  // TOML syntax error
+  const Run bad = run(quote(executable) + " predict bad.toml -o out", work);
+  CHECK(bad.status == 2);
+  CHECK(bad.err.find("bad.toml:2:") != std::string::npos);  // the error names file:line:column
+  const Run usage = run(quote(executable) + " predict", work);
+  CHECK(usage.status == 2);
+  CHECK_FALSE(fs::exists(work + "/out"));
+  CHECK_FALSE(fs::exists(work + "/spurcast-report"));
+  fs::remove_all(work);
+}
+
+TEST_CASE("a run killed while writing leaves no partial folder; an earlier report stays whole") {
+  const std::string work = make_temp_dir();
+  const std::string command = quote(executable) + " predict " + quote(source_dir + "/examples/greenhouse-buck.toml") + " -o out";
+  // No earlier report: the killed run leaves no `out`.
+  const Run killed = run("SPURCAST_TEST_ABORT_AFTER_FILES=3 " + command, work);
+  CHECK(killed.status == 137);
+  CHECK_FALSE(fs::exists(work + "/out"));
+  // An earlier report survives a killed rerun byte for byte.
+  REQUIRE(run(command, work).status <= 1);
+  const std::string before = read_file(work + "/out/summary.json");
+  const std::size_t files_before = nlohmann::json::parse(before).at("files").size();
+  const Run killed_again = run("SPURCAST_TEST_ABORT_AFTER_FILES=5 " + command, work);
+  CHECK(killed_again.status == 137);
+  CHECK(read_file(work + "/out/summary.json") == before);
+  std::size_t files_after = 0;
+  for ([[maybe_unused]] const auto& entry : fs::directory_iterator(work + "/out")) ++files_after;
+  CHECK(files_after == files_before);
+  fs::remove_all(work);
+}
+
+TEST_CASE("colour only on a terminal, never with NO_COLOR") {
+  // util-linux `script` gives the command a pseudo-terminal as stdout.
+  if (::access("/usr/bin/script", X_OK) != 0) {
+    MESSAGE("skipped: /usr/bin/script (util-linux) not found");
+    return;
+  }
+  const std::string work = make_temp_dir();
+  const std::string demo = quote(executable) + " demo -o d";
+  const Run tty = run("env -u NO_COLOR /usr/bin/script -qec " + quote(demo) + " /dev/null", work);
+  CHECK(tty.out.find("\x1b[") != std::string::npos);
+  const Run no_colour = run("NO_COLOR=1 /usr/bin/script -qec " + quote(demo) + " /dev/null", work);
+  CHECK(no_colour.out.find("verdict:") != std::string::npos);
+  CHECK(no_colour.out.find("\x1b[3") == std::string::npos);  // no colour sequence (ESC [ 3x m)
+  fs::remove_all(work);
+}
+
+TEST_CASE("the report renders in a real browser (headless chromium screenshot is not blank)") {
+  const char* candidates[] = {"/usr/bin/chromium", "/usr/bin/chromium-browser"};
+  std::string chromium;
+  for (const char* c : candidates) {
+    if (::access(c, X_OK) == 0) chromium = c;
+  }
+  if (chromium.empty() || !have_python()) {
+    MESSAGE("skipped: headless chromium (apt-get install -y chromium) or /usr/bin/python3 not installed");
+    return;
+  }
+  const std::string work = make_temp_dir();
+  REQUIRE(run(quote(executable) + " demo -o shown", work).status <= 1);
+  const std::string profile = work + "/profile";
+  fs::create_directory(profile);
+  const Run shot = run(chromium + " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                       "--disable-background-networking --disable-component-update --disable-sync --hide-scrollbars "
+                       "--user-data-dir=" + quote(profile) + " --screenshot=" + quote(work + "/report.png") +
+                       " --window-size=1280,2400 " + quote("file://" + work + "/shown/report.html"),
+                       work);
+  REQUIRE_MESSAGE(fs::exists(work + "/report.png"), shot.err);
+  const Run png = run(python + " " + quote(checker) + " png report.png", work);
+  REQUIRE_MESSAGE(png.status == 0, png.err);
+  const nlohmann::json info = nlohmann::json::parse(png.out);
+  CHECK(info.at("width") == 1280);
+  CHECK(info.at("height") == 2400);
+  // A blank page has one or two colours; the report has text, plots and shaded bands.
+  CHECK(info.at("distinct").get<int>() > 50);
+  fs::remove_all(work);
+}

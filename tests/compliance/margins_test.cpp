@@ -1,0 +1,161 @@
+// Margins, verdict and U_cispr. Margin = limit − reading (DESIGN.md §6); verdict with the guard band;
+// CISPR 16-4-2 U_cispr values of REFERENCES.md §7 (from memory).
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <string>
+
+#include "core/compliance/margins.hpp"
+#include "core/receiver/receiver.hpp"
+
+using namespace spurcast;
+
+namespace {
+
+const std::string source_dir = SPURCAST_SOURCE_DIR;
+
+LimitSet class_b() { return read_limit_file(source_dir + "/limits/cispr32-class-b-conducted.toml"); }
+
+// A scan row shaped like the receiver's Reading (frequency_hz + level_db(Detector)).
+struct FakeScanRow {
+  double frequency_hz;
+  double peak, quasi_peak, average;
+  [[nodiscard]] double level_db(Detector d) const {
+    return d == Detector::peak ? peak : d == Detector::quasi_peak ? quasi_peak : average;
+  }
+};
+
+}  // namespace
+
+TEST_CASE("verdict with the guard band") {
+  // Issue 5 definition: fail when margin < 0, marginal when 0 <= margin < guard, else pass.
+  CHECK(verdict_for(-0.01, 6.0) == Verdict::fail);
+  CHECK(verdict_for(0.0, 6.0) == Verdict::marginal);
+  CHECK(verdict_for(5.99, 6.0) == Verdict::marginal);
+  CHECK(verdict_for(6.0, 6.0) == Verdict::pass);
+  CHECK(verdict_for(0.0, 0.0) == Verdict::pass);
+  CHECK(to_string(Verdict::marginal) == "marginal");
+}
+
+TEST_CASE("U_cispr per CISPR 16-4-2 (REFERENCES.md §7, from memory)") {
+  const double tol_db = 1e-12;
+  CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::conducted_voltage, 100e3) - 3.8) < tol_db);
+  CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::conducted_voltage, 150e3) - 3.4) < tol_db);
+  CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::conducted_voltage, 30e6) - 3.4) < tol_db);
+  CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::radiated_field, 100e6) - 6.3) < tol_db);
+  CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::radiated_field, 3e9) - 5.2) < tol_db);
+  CHECK_FALSE(cispr_uncertainty_db(LimitQuantity::conducted_voltage, 50e6).has_value());
+  CHECK_FALSE(cispr_uncertainty_db(LimitQuantity::conducted_current, 1e6).has_value());
+}
+
+TEST_CASE("margins of receiver readings against CISPR 32 class B") {
+  const double tol_db = 1e-9;
+  // Limits: REFERENCES.md §3.1/§3.2: QP 56 at 1 MHz, AV 46 at 1 MHz, QP 60 / AV 50 at 10 MHz.
+  const std::vector<FakeScanRow> scan{
+      {1e6, 58.0, 52.0, 43.0},   // QP margin 4 (marginal), AV margin 3 (marginal)
+      {10e6, 55.0, 50.0, 51.0},  // QP margin 10, AV margin -1 (fail)
+      {100e3, 70.0, 65.0, 60.0}, // below 150 kHz: no line, not compared
+  };
+  const auto readings = readings_from_scan(scan, {Detector::quasi_peak, Detector::average});
+  REQUIRE(readings.size() == 6);
+  const MarginReport report = compare_with_limits(readings, {class_b()}, {.guard_db = 6.0});
+  CHECK(report.readings == 6);
+  CHECK(report.compared_readings == 4);
+  CHECK(report.not_compared == 2);
+  REQUIRE(report.rows.size() == 4);
+  CHECK(std::abs(report.rows[0].limit - 56.0) < tol_db);
+  CHECK(std::abs(report.rows[0].margin_db - 4.0) < tol_db);
+  CHECK(report.rows[0].limit_label == "CISPR 32 class B, AC mains port / quasi-peak");
+  REQUIRE(report.rows[0].uncertainty_db.has_value());
+  CHECK(std::abs(*report.rows[0].uncertainty_db - 3.4) < tol_db);
+  REQUIRE(report.worst.has_value());
+  CHECK(std::abs(report.worst->margin_db + 1.0) < tol_db);
+  CHECK(report.worst->limit_detector == Detector::average);
+  CHECK(report.verdict == Verdict::fail);
+  REQUIRE(report.worst_per_detector.size() == 2);
+  CHECK(report.worst_per_detector[0].detector == Detector::quasi_peak);
+  CHECK(std::abs(report.worst_per_detector[0].worst.margin_db - 4.0) < tol_db);
+  CHECK(report.worst_per_detector[1].detector == Detector::average);
+  CHECK(std::abs(report.worst_per_detector[1].worst.margin_db + 1.0) < tol_db);
+  REQUIRE(report.closest.size() == 4);
+  CHECK(std::abs(report.closest[0].margin_db + 1.0) < tol_db);
+  CHECK(std::abs(report.closest[1].margin_db - 3.0) < tol_db);
+
+  // The peak reading meets no line of its own detector (class B has none): nothing compared.
+  const MarginReport peak_only = compare_with_limits(readings_from_scan(scan, {Detector::peak}), {class_b()});
+  CHECK(peak_only.compared_readings == 0);
+  CHECK(peak_only.not_compared == 3);
+  CHECK_FALSE(peak_only.worst.has_value());
+
+  // Pre-scan rule: peak >= QP >= AV (REFERENCES.md §10 item 30), a peak reading meets every line.
+  const MarginReport prescan = compare_with_limits(readings_from_scan(scan, {Detector::peak}), {class_b()},
+                                                   {.guard_db = 6.0, .peak_against_every_line = true});
+  CHECK(prescan.rows.size() == 4);
+  CHECK(std::abs(prescan.worst->margin_db - (46.0 - 58.0)) < tol_db);
+}
+
+TEST_CASE("verdict over a report: pass and marginal") {
+  const double guard_db = 6.0;
+  const MarginReport pass = compare_with_limits({{1e6, Detector::quasi_peak, 50.0}}, {class_b()}, {.guard_db = guard_db});
+  CHECK(pass.verdict == Verdict::pass);  // margin 6 dB = guard
+  const MarginReport marginal =
+      compare_with_limits({{1e6, Detector::quasi_peak, 50.5}}, {class_b()}, {.guard_db = guard_db});
+  CHECK(marginal.verdict == Verdict::marginal);
+  CHECK_THROWS_WITH_AS((void)compare_with_limits({}, {class_b()}, {.guard_db = -1.0}),
+                       "expected a guard band of 0 dB or more, found -1 dB", Error);
+}
+
+TEST_CASE("closest rows keep one row per frequency and respect the separation") {
+  std::vector<LevelReading> readings;
+  for (int i = 0; i < 20; ++i) readings.push_back({1e6 + i * 1e3, Detector::peak, 50.0 + (i == 10 ? 1.0 : 0.0)});
+  const MarginReport report = compare_with_limits(
+      readings, {class_b()},
+      {.guard_db = 6.0, .peak_against_every_line = true, .closest_count = 5, .closest_separation_hz = 30e3});
+  REQUIRE(report.closest.size() == 1);  // all 20 points lie within 30 kHz of the worst one
+  const double tol_hz = 1e-6;
+  CHECK(std::abs(report.closest[0].frequency_hz - 1.010e6) < tol_hz);
+  CHECK(report.closest[0].limit_detector == Detector::average);
+}
+
+TEST_CASE("margins CSV columns (DESIGN.md §4)") {
+  const MarginReport report = compare_with_limits({{250e3, Detector::quasi_peak, 60.0}}, {class_b()});
+  // 61.76 dBµV at 250 kHz, REFERENCES.md §3.2.
+  CHECK(margins_csv(report) ==
+        "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n"
+        "250000,quasi-peak,60.00,61.76,1.76,\"CISPR 32 class B, AC mains port / quasi-peak\"\n");
+  CHECK(csv_field("a\"b") == "\"a\"\"b\"");
+}
+
+TEST_CASE("readings_from_scan takes the receiver's Reading rows") {
+  std::vector<Reading> scan(2);
+  scan[0].frequency_hz = 1e6;
+  scan[0].peak_db = 50.0;
+  scan[0].quasi_peak_db = 45.0;
+  scan[0].average_db = 40.0;
+  scan[1].frequency_hz = 2e6;  // nothing in the passband: level_floor_db on every detector
+  const auto readings = readings_from_scan(scan, {Detector::quasi_peak, Detector::average});
+  REQUIRE(readings.size() == 2);
+  const double tol_db = 1e-12;
+  CHECK(readings[0].detector == Detector::quasi_peak);
+  CHECK(std::abs(readings[0].level - 45.0) < tol_db);
+  CHECK(std::abs(readings[1].level - 40.0) < tol_db);
+}
+
+TEST_CASE("closest rows: local minima of the margin only (the tips of emissions)") {
+  // Two emissions on a dense grid: tips at 1.00 MHz (48 dBµV) and 1.10 MHz (44 dBµV), shoulders between.
+  std::vector<LevelReading> readings;
+  for (int i = 0; i <= 20; ++i) {
+    const double f = 0.99e6 + i * 6e3;
+    const double level = 30.0 + std::max(0.0, 18.0 - 3.0 * std::abs(f - 1.0e6) / 6e3) +
+                         std::max(0.0, 14.0 - 3.0 * std::abs(f - 1.098e6) / 6e3);
+    readings.push_back({f, Detector::average, level});
+  }
+  const MarginReport report = compare_with_limits(readings, {class_b()}, {.closest_local_minima_only = true});
+  REQUIRE(report.closest.size() == 2);
+  const double tol_hz = 1e-6;
+  CHECK(std::abs(report.closest[0].frequency_hz - 1.002e6) < 3e3 + tol_hz);
+  CHECK(std::abs(report.closest[1].frequency_hz - 1.098e6) < 3e3 + tol_hz);
+  // Without the filter the shoulders of the first emission crowd the list.
+  const MarginReport crowded = compare_with_limits(readings, {class_b()}, {.closest_count = 2});
+  CHECK(std::abs(crowded.closest[1].frequency_hz - crowded.closest[0].frequency_hz) < 7e3);
+}

@@ -1,0 +1,185 @@
+// Measured traces, correction tables and the pre-scan re-measure list.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+
+#include "core/compliance/prescan.hpp"
+#include "core/compliance/trace.hpp"
+
+using namespace spurcast;
+
+namespace {
+
+const std::string source_dir = SPURCAST_SOURCE_DIR;
+
+LimitSet class_b() { return read_limit_file(source_dir + "/limits/cispr32-class-b-conducted.toml"); }
+
+}  // namespace
+
+TEST_CASE("dBm traces are converted for 50 ohm: 0 dBm = 106.99 dBuV") {
+  // REFERENCES.md §9.2 and §10 item 27 [D]: 10·log10(50 Ω · 1 mW) + 120 = 106.99 dB.
+  const double tol_db = 0.005;
+  const MeasuredTrace trace = parse_trace_csv("frequency_hz,level_dbm\n1e6,0\n2e6,-50\n", "t.csv");
+  CHECK(trace.unit == TraceUnit::dbm);
+  CHECK(std::abs(trace.level_dbuv[0] - 106.99) < tol_db);
+  CHECK(std::abs(trace.level_dbuv[1] - 56.99) < tol_db);
+  // Round trip with the slow formula: dBµV = dBm + 10·log10(50e-3) + 120.
+  const double tol_exact_db = 1e-9;
+  CHECK(std::abs(trace.level_dbuv[1] - (-50.0 + 10.0 * std::log10(50e-3) + 120.0)) < tol_exact_db);
+  const MeasuredTrace forced = parse_trace_csv("1e6,0\n2e6,-50\n", "u.csv", TraceUnit::dbm);
+  CHECK(std::abs(forced.level_dbuv[0] - 106.99) < tol_db);
+  const MeasuredTrace plain = parse_trace_csv("1e6,40\n2e6,41\n", "v.csv");
+  CHECK(plain.unit == TraceUnit::dbuv);
+  CHECK(std::abs(plain.level_dbuv[0] - 40.0) < tol_exact_db);
+}
+
+TEST_CASE("trace CSV: header names, MHz column, separators, comments") {
+  const double tol = 1e-9;
+  const MeasuredTrace trace =
+      parse_trace_csv("# exported trace\nFrequency (MHz);Level (dBuV)\n0.15;50.5\n\n0.2;51\n", "w.csv");
+  REQUIRE(trace.frequency_hz.size() == 2);
+  CHECK(std::abs(trace.frequency_hz[0] - 150e3) < tol);
+  CHECK(std::abs(trace.level_dbuv[1] - 51.0) < tol);
+  CHECK(trace.level_column == "Level (dBuV)");
+}
+
+TEST_CASE("trace CSV errors carry file:line:column") {
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n1e6,40\n0.9e6,41\n", "a.csv"),
+                       "a.csv:3:1: frequencies out of order: expected above 1 MHz, found 900 kHz", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n1e6,40\n2e6,x\n", "b.csv"),
+                       "b.csv:3:5: expected a number, found \"x\"", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n1e6\n", "c.csv"),
+                       "c.csv:2: expected at least 2 columns, found 1", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbm\n1e6,0\n2e6,1\n", "d.csv", TraceUnit::dbuv),
+                       "d.csv:1:14: the level column \"level_dbm\" is in dBm, but the unit given is dBuV", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n", "e.csv"),
+                       "e.csv: expected rows of numbers, found none", Error);
+  CHECK_THROWS_WITH_AS((void)trace_unit_from_string("dBW"), "expected dBuV or dBm, found \"dBW\"", Error);
+}
+
+TEST_CASE("correction tables: linear in log-frequency, added to the reading") {
+  // Sign convention: corrected = reading + correction (LISN voltage-division factor is added to the
+  // receiver reading, REFERENCES.md §2.3 [F: emc-pstc msg57218]).
+  const CorrectionTable vdf = parse_correction_csv("frequency_hz,correction_db\n150e3,2\n1.5e6,0\n", "vdf.csv");
+  const double tol_db = 1e-9;
+  // Halfway in log10(f) between 150 kHz and 1.5 MHz is 474.34 kHz: 1 dB.
+  CHECK(std::abs(vdf.at(std::sqrt(150e3 * 1.5e6)) - 1.0) < tol_db);
+  CHECK(std::abs(vdf.at(100e3) - 2.0) < tol_db);  // held at the end values
+  CHECK(std::abs(vdf.at(30e6) - 0.0) < tol_db);
+  CHECK_FALSE(vdf.covers(100e3));
+  const CorrectionTable cable = parse_correction_csv("1e5,0.5\n1e8,0.5\n", "cable.csv");
+  const MeasuredTrace trace = parse_trace_csv("frequency_hz,level_dbuv\n150e3,40\n1.5e6,50\n", "t.csv");
+  const MeasuredTrace corrected = apply_corrections(trace, {vdf, cable});
+  CHECK(std::abs(corrected.level_dbuv[0] - 42.5) < tol_db);
+  CHECK(std::abs(corrected.level_dbuv[1] - 50.5) < tol_db);
+}
+
+TEST_CASE("correction interpolation against numpy.interp on log10(f)") {
+  const char* python = std::filesystem::exists("/usr/bin/python3") ? "/usr/bin/python3" : "python3";
+  const std::string probe = std::string(python) + " -c \"import numpy\" > /dev/null 2>&1";
+  if (std::system(probe.c_str()) != 0) {
+    MESSAGE("SKIPPED: python3 with numpy is not available");
+    return;
+  }
+  const CorrectionTable table =
+      parse_correction_csv("9e3,10.1\n50e3,4.2\n150e3,1.3\n1e6,0.2\n30e6,0.45\n", "t.csv");
+  std::ostringstream frequencies;
+  frequencies.precision(17);
+  std::vector<double> f_hz;
+  for (double f = 5e3; f < 40e6; f *= 1.37) f_hz.push_back(f);
+  for (std::size_t i = 0; i < f_hz.size(); ++i) frequencies << (i ? "," : "") << f_hz[i];
+  const std::string output_path = (std::filesystem::temp_directory_path() / "spurcast_trace_test_numpy.txt").string();
+  const std::string command = std::string(python) +
+                              " -c \"import numpy as np; x=np.log10([9e3,50e3,150e3,1e6,30e6]); "
+                              "y=[10.1,4.2,1.3,0.2,0.45]; f=np.array([" +
+                              frequencies.str() + "]); print(' '.join(repr(v) for v in np.interp(np.log10(f), x, y)))\" > " +
+                              output_path;
+  REQUIRE(std::system(command.c_str()) == 0);
+  std::ifstream in(output_path);
+  const double tol_db = 1e-9;
+  for (double f : f_hz) {
+    double expected = 0.0;
+    REQUIRE(static_cast<bool>(in >> expected));
+    CAPTURE(f);
+    CHECK(std::abs(table.at(f) - expected) < tol_db);
+  }
+  std::filesystem::remove(output_path);
+}
+
+TEST_CASE("scan CSV of a prediction") {
+  const auto rows = parse_scan_csv(
+      "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n220000,60,55,40\n440000,50,45,30\n", "scan.csv");
+  REQUIRE(rows.size() == 2);
+  const double tol_db = 1e-9;
+  CHECK(std::abs(rows[1].level_db(Detector::quasi_peak) - 45.0) < tol_db);
+  CHECK_THROWS_WITH_AS((void)parse_scan_csv("f,level\n1,2\n", "bad.csv"),
+                       "bad.csv:1:1: expected a column named \"frequency_hz\", found none", Error);
+}
+
+TEST_CASE("pre-scan re-measure list: local maxima within the guard band, merged within a few RBW") {
+  // Class B limits at 1 MHz: QP 56, AV 46 (REFERENCES.md §3.1). Guard 6 dB.
+  // Emission A at 1 MHz, peak 48: AV margin -2 (re-measure AV), QP margin 8 (proven by the peak).
+  // Emission B at 1.010 MHz (2 points of a 5 kHz grid above A, within 3 x 9 kHz): merged into A.
+  // Emission C at 3 MHz, peak 52: QP margin 4 and AV margin -6: both detectors.
+  // Emission D at 10 MHz, peak 40: AV margin 10: nothing to re-measure.
+  std::string csv = "frequency_hz,level_dbuv\n";
+  auto add = [&](double f, double level) { csv += std::to_string(f) + "," + std::to_string(level) + "\n"; };
+  for (double f = 0.98e6; f <= 1.03e6; f += 5e3) {
+    double level = 30.0;
+    if (std::abs(f - 1.0e6) < 1.0) level = 48.0;
+    if (std::abs(f - 1.010e6) < 1.0) level = 47.0;
+    add(f, level);
+  }
+  add(2.99e6, 30.0);
+  add(3.0e6, 52.0);
+  add(3.01e6, 30.0);
+  add(9.99e6, 30.0);
+  add(10e6, 40.0);
+  add(10.01e6, 30.0);
+  const MeasuredTrace trace = parse_trace_csv(csv, "trace.csv");
+  const auto points = remeasure_list(trace, {class_b()}, {.guard_db = 6.0});
+  REQUIRE(points.size() == 2);
+  const double tol = 1e-6;
+  CHECK(std::abs(points[0].frequency_hz - 1.0e6) < tol);
+  CHECK(points[0].detectors == std::vector<Detector>{Detector::average});
+  CHECK(std::abs(points[0].margin_db + 2.0) < tol);
+  CHECK(points[0].limit_label == "CISPR 32 class B, AC mains port / average");
+  CHECK(std::abs(points[1].frequency_hz - 3.0e6) < tol);
+  CHECK(points[1].detectors == std::vector<Detector>{Detector::quasi_peak, Detector::average});
+
+  // Slow twin of the selection: brute force over every point, no merging.
+  std::vector<double> brute;
+  for (std::size_t i = 1; i + 1 < trace.frequency_hz.size(); ++i) {
+    const double l = trace.level_dbuv[i];
+    if (l < trace.level_dbuv[i - 1] || l < trace.level_dbuv[i + 1]) continue;
+    const double av = *class_b().line_for(Detector::average)->level_at(trace.frequency_hz[i]);
+    if (av - l < 6.0) brute.push_back(trace.frequency_hz[i]);
+  }
+  CHECK(brute.size() == 3);  // 1.000, 1.010 and 3 MHz before merging
+
+  // Prediction side by side.
+  const auto prediction = parse_scan_csv(
+      "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n1002250,45,42,39\n3000000,53,49,44\n5000000,1,1,1\n",
+      "scan.csv");
+  const auto checks = compare_with_prediction(points, prediction);
+  REQUIRE(checks.size() == 2);
+  REQUIRE(checks[0].predicted.has_value());
+  CHECK(std::abs(checks[0].predicted->frequency_hz - 1002250.0) < tol);
+  CHECK(std::abs(*checks[0].difference_db - 3.0) < tol);
+  CHECK(std::abs(*checks[1].difference_db + 1.0) < tol);
+}
+
+TEST_CASE("prescan RBW follows the CISPR 16-1-1 bands") {
+  // REFERENCES.md §1.1 [F]: 200 Hz, 9 kHz, 120 kHz; band E 1 MHz.
+  const double tol_hz = 1e-9;
+  CHECK(std::abs(prescan_rbw_hz(100e3) - 200.0) < tol_hz);
+  CHECK(std::abs(prescan_rbw_hz(1e6) - 9e3) < tol_hz);
+  CHECK(std::abs(prescan_rbw_hz(100e6) - 120e3) < tol_hz);
+  CHECK(std::abs(prescan_rbw_hz(2e9) - 1e6) < tol_hz);
+}

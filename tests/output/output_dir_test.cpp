@@ -1,0 +1,157 @@
+// Tests of core/output/output_dir: the report folder appears complete or not at all.
+// External reference: POSIX.1-2017 rename(): the rename is atomic, and a directory can replace only
+// an empty directory (from memory of the specification), so a non-empty earlier report must be
+// moved away first; these tests check the folder is whole at every moment a reader could see it.
+#include <doctest/doctest.h>
+
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <algorithm>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
+
+namespace fs = std::filesystem;
+using spurcast::OutputFile;
+using spurcast::write_output_directory;
+
+namespace {
+
+std::string make_temp_dir() {
+  std::string pattern = (fs::temp_directory_path() / "spurcast-output-dir-test-XXXXXX").string();
+  REQUIRE(::mkdtemp(pattern.data()) != nullptr);
+  return pattern;
+}
+
+std::string read_file(const fs::path& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream text;
+  text << in.rdbuf();
+  return text.str();
+}
+
+/// Names in `folder`, sorted.
+std::vector<std::string> names_in(const fs::path& folder) {
+  std::vector<std::string> names;
+  for (const auto& entry : fs::directory_iterator(folder)) names.push_back(entry.path().filename().string());
+  std::sort(names.begin(), names.end());
+  return names;
+}
+
+const std::vector<OutputFile> report_a{{"scan.csv", "frequency_hz\n1.0\n"}, {"summary.json", "{\"run\": \"a\"}\n"}};
+const std::vector<OutputFile> report_b{
+    {"report.html", "<!DOCTYPE html>\n"}, {"scan.csv", "frequency_hz\n2.0\n"}, {"summary.json", "{\"run\": \"b\"}\n"}};
+
+}  // namespace
+
+TEST_CASE("a new folder holds exactly the files written, and no temporary folder is left") {
+  const std::string base = make_temp_dir();
+  const std::string target = base + "/report";
+  write_output_directory(target, report_a);
+  CHECK(names_in(target) == std::vector<std::string>{"scan.csv", "summary.json"});
+  CHECK(read_file(target + "/scan.csv") == "frequency_hz\n1.0\n");
+  CHECK(names_in(base) == std::vector<std::string>{"report"});
+  fs::remove_all(base);
+}
+
+TEST_CASE("an earlier report is replaced as a whole; a trailing slash names the same folder") {
+  const std::string base = make_temp_dir();
+  const std::string target = base + "/report";
+  write_output_directory(target, report_b);
+  write_output_directory(target + "/", report_a);  // report.html of run b must not survive
+  CHECK(names_in(target) == std::vector<std::string>{"scan.csv", "summary.json"});
+  CHECK(read_file(target + "/summary.json") == "{\"run\": \"a\"}\n");
+  CHECK(names_in(base) == std::vector<std::string>{"report"});  // no .old- or .tmp- folder left
+  fs::remove_all(base);
+}
+
+TEST_CASE("an empty existing folder is taken; a folder that is not a report is never touched") {
+  const std::string base = make_temp_dir();
+  fs::create_directory(base + "/empty");
+  write_output_directory(base + "/empty", report_a);
+  CHECK(names_in(base + "/empty").size() == 2);
+
+  fs::create_directory(base + "/mine");
+  std::ofstream(base + "/mine/thesis.tex") << "precious";
+  CHECK_THROWS_WITH_AS(write_output_directory(base + "/mine", report_a),
+                       (base + "/mine exists and is not a spurcast output folder (no summary.json); choose another folder").c_str(),
+                       spurcast::Error);
+  CHECK(names_in(base + "/mine") == std::vector<std::string>{"thesis.tex"});
+
+  std::ofstream(base + "/plain-file") << "x";
+  CHECK_THROWS_WITH_AS(write_output_directory(base + "/plain-file", report_a),
+                       (base + "/plain-file exists and is not a folder").c_str(), spurcast::Error);
+  CHECK(names_in(base) == std::vector<std::string>{"empty", "mine", "plain-file"});
+  fs::remove_all(base);
+}
+
+TEST_CASE("bad names and a missing parent are refused before anything is written") {
+  const std::string base = make_temp_dir();
+  CHECK_THROWS_WITH_AS(write_output_directory(base + "/r", {{"../escape.csv", "x"}}),
+                       "invalid output file name \"../escape.csv\"", spurcast::Error);
+  CHECK_THROWS_WITH_AS(write_output_directory(base + "/r", {{"a.csv", "x"}, {"a.csv", "y"}}),
+                       "output file \"a.csv\" listed twice", spurcast::Error);
+  CHECK_THROWS_WITH_AS(write_output_directory(base + "/no/such/r", report_a),
+                       ("the folder " + base + "/no/such (parent of the output folder) does not exist").c_str(),
+                       spurcast::Error);
+  CHECK_THROWS_WITH_AS(write_output_directory(".", report_a), "invalid output folder \".\"", spurcast::Error);
+  CHECK(names_in(base).empty());
+  fs::remove_all(base);
+}
+
+TEST_CASE("a process killed while writing leaves no partial folder and keeps the earlier report") {
+  const std::string base = make_temp_dir();
+  const std::string target = base + "/report";
+  write_output_directory(target, report_a);
+
+  // The child dies (std::_Exit, like SIGKILL: no unwinding, no clean-up) after 2 of 3 files.
+  const pid_t child = ::fork();
+  REQUIRE(child >= 0);
+  if (child == 0) {
+    spurcast::OutputDirectoryOptions options;
+    options.abort_after_files = 2;
+    try {
+      write_output_directory(target, report_b, options);
+    } catch (...) {
+    }
+    std::_Exit(0);  // not reached when the hook works
+  }
+  int status = 0;
+  REQUIRE(::waitpid(child, &status, 0) == child);
+  REQUIRE(WIFEXITED(status));
+  CHECK(WEXITSTATUS(status) == 137);
+
+  // The earlier report is whole; the only other thing is the abandoned temporary sibling.
+  CHECK(names_in(target) == std::vector<std::string>{"scan.csv", "summary.json"});
+  CHECK(read_file(target + "/summary.json") == "{\"run\": \"a\"}\n");
+  const std::vector<std::string> left = names_in(base);
+  REQUIRE(left.size() == 2);
+  CHECK(left[0] == "report");
+  CHECK(left[1].rfind("report.tmp-", 0) == 0);
+
+  // With no earlier report, the killed run leaves no `report` at all.
+  fs::remove_all(base);
+  fs::create_directory(base);
+  const pid_t second = ::fork();
+  REQUIRE(second >= 0);
+  if (second == 0) {
+    spurcast::OutputDirectoryOptions options;
+    options.abort_after_files = 1;
+    try {
+      write_output_directory(target, report_b, options);
+    } catch (...) {
+    }
+    std::_Exit(0);
+  }
+  REQUIRE(::waitpid(second, &status, 0) == second);
+  CHECK(WEXITSTATUS(status) == 137);
+  CHECK_FALSE(fs::exists(target));
+  fs::remove_all(base);
+}

@@ -1,0 +1,326 @@
+// Tests of core/output/report on a Prediction filled by hand (so every number is known), and on the real
+// chain for one example: CSV columns and fixed decimals, the merged scan, summary.json keys and its
+// agreement with the CSVs, the report's sections, and well-formed HTML (Debian's Python html.parser).
+#include <doctest/doctest.h>
+
+#include <unistd.h>
+
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <map>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "core/compliance/limits.hpp"
+#include "core/output/report.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/source/source.hpp"
+
+using namespace spurcast;
+
+namespace {
+
+const std::string checker = std::string(SPURCAST_SOURCE_DIR) + "/tests/data/report/check_report.py";
+const std::string python = "/usr/bin/python3";
+
+constexpr const char* test_limits = R"(
+name = "flat test line"
+measures = "conducted-voltage"
+unit = "dBuV"
+source = "invented for this test"
+confidence = "from memory: invented"
+[[line]]
+detector = "quasi-peak"
+segment = [ { from = "150 kHz", to = "30 MHz", level = "60 dBuV" } ]
+[[line]]
+detector = "average"
+segment = [ { from = "150 kHz", to = "30 MHz", level = "50 dBuV" } ]
+)";
+
+Reading reading(double f, double pk, double qp, double av) {
+  Reading r;
+  r.frequency_hz = f;
+  r.peak_db = pk;
+  r.quasi_peak_db = qp;
+  r.average_db = av;
+  return r;
+}
+
+/// A small prediction whose numbers are chosen by hand.
+Prediction hand_prediction() {
+  Prediction p;
+  p.scenario.title = "R&D buck <bench>";
+  p.scenario.file = "hand.toml";
+  SwitchingSpec spec;
+  spec.frequency_hz = 100e3;
+  spec.duty = 0.5;
+  spec.amplitude_v = 10.0;
+  spec.current_a = 1.0;
+  spec.rise_s = 10e-9;
+  spec.fall_s = 10e-9;
+  p.scenario.switching = spec;
+  p.scenario.limits.sets.push_back(parse_limit_text(test_limits, "test-limits.toml"));
+  p.scenario.limits.guard_db = 6.0;
+
+  p.switch_node_v.quantity = Quantity::voltage;
+  p.switch_node_v.fundamental_hz = 100e3;
+  p.switch_node_v.harmonics = {{1e-3, 0.0}, {0.0, 1e-4}};  // 60 dBµV, 40 dBµV
+  p.input_current_a.quantity = Quantity::current;
+  p.input_current_a.fundamental_hz = 100e3;
+  p.input_current_a.harmonics = {{1e-3, 0.0}};  // 60 dBµA
+
+  ConductedResult c;
+  c.fundamental_hz = 100e3;
+  c.frequency_hz = {100e3, 200e3};
+  c.line1_v = {{1e-3, 0.0}, {1e-5, 0.0}};   // 60, 20 dBµV
+  c.line2_v = {{1e-4, 0.0}, {0.0, 1e-4}};   // 40, 40 dBµV
+  c.dm_v = {{4.5e-4, 0.0}, {0.0, 0.0}};     // 53.06 dBµV, nothing
+  c.cm_v = {{5.5e-4, 0.0}, {2e-6, 0.0}};    // 54.81, 6.02 dBµV
+  p.conducted = c;
+
+  BandScan b;
+  b.band = CisprBand::B;
+  b.worst.band = CisprBand::B;
+  b.worst.bandwidth_6db_hz = 9e3;
+  b.worst.step_hz = 2.25e3;
+  b.worst.readings = {reading(1e6, 58.0, 55.0, 44.0), reading(2e6, 50.0, 48.0, 45.0), reading(30e6, 30.0, 29.0, 28.0)};
+  b.line1 = b.worst;
+  p.scans.push_back(b);
+  BandScan cd;
+  cd.band = CisprBand::C;
+  cd.worst.band = CisprBand::C;
+  cd.worst.bandwidth_6db_hz = 120e3;
+  cd.worst.readings = {reading(30e6, 99.0, 99.0, 99.0), reading(31e6, 20.0, 19.0, 18.0)};
+  cd.line1 = cd.worst;
+  p.scans.push_back(cd);
+
+  std::vector<LevelReading> readings = readings_from_scan(b.worst.readings, {Detector::quasi_peak, Detector::average});
+  p.margins = compare_with_limits(readings, p.scenario.limits.sets, {.guard_db = 6.0});
+  p.verdict = p.margins.verdict;
+
+  BandReception mw;
+  mw.band.name = "MW";
+  mw.band.region = 1;
+  mw.band.low_hz = 526.5e3;
+  mw.band.high_hz = 1606.5e3;
+  mw.verdict = ReceptionVerdict::noisy;
+  ChannelReception channel;
+  channel.centre_hz = 999e3;
+  channel.level_dbuvm = 31.25;
+  channel.verdict = ReceptionVerdict::noisy;
+  mw.channels.push_back(channel);
+  mw.worst_channel = 0;
+  mw.caveats = {"near field"};
+  p.reception.push_back(mw);
+  p.setup_description = "two ideal V-networks";
+  p.notes = {"a note with <markup> & ampersand"};
+  return p;
+}
+
+std::vector<std::string> lines_of(const std::string& text) {
+  std::vector<std::string> lines;
+  std::istringstream in(text);
+  for (std::string line; std::getline(in, line);) lines.push_back(line);
+  return lines;
+}
+
+bool have_python() { return ::access(python.c_str(), X_OK) == 0; }
+
+/// Runs the HTML check; returns its stdout (JSON) or "" on failure.
+std::string check_html(const std::string& page) {
+  char path[] = "/tmp/spurcast-report-test-XXXXXX";
+  const int fd = ::mkstemp(path);
+  REQUIRE(fd >= 0);
+  ::close(fd);
+  std::ofstream(path) << page;
+  const std::string out_path = std::string(path) + ".out";
+  const int status = std::system((python + " " + checker + " html " + path + " > " + out_path).c_str());
+  std::ifstream in(out_path);
+  std::ostringstream text;
+  text << in.rdbuf();
+  std::remove(path);
+  std::remove(out_path.c_str());
+  return status == 0 ? text.str() : std::string();
+}
+
+}  // namespace
+
+TEST_CASE("spectrum.csv: the LISN columns of DESIGN.md section 4, level = the higher line, fixed decimals") {
+  // dBµV = 20·log10(V / 1 µV) (definition of the unit): 1 mV = 60 dBµV, 10 µV = 20 dBµV.
+  const std::vector<std::string> lines = lines_of(lisn_spectrum_csv(hand_prediction()));
+  REQUIRE(lines.size() == 3);
+  CHECK(lines[0] == "harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv");
+  CHECK(lines[1] == "1,100000.0,60.00,60.00,40.00,53.06,54.81");
+  CHECK(lines[2] == "2,200000.0,40.00,20.00,40.00,-400.00,6.02");  // level_floor_db for a zero phasor
+}
+
+TEST_CASE("source_spectrum.csv carries Paul's trapezoid envelope") {
+  const Prediction p = hand_prediction();
+  const std::vector<std::string> lines = lines_of(source_spectrum_csv(p));
+  REQUIRE(lines.size() == 3);
+  CHECK(lines[0] == "harmonic,frequency_hz,level_dbuv,envelope_dbuv");
+  // C. R. Paul, Introduction to EMC, 2nd ed., §3.2: bound 2·A·τ/T flat to f1 = 1/(π·τ), then
+  // falling 20 dB per decade; RMS = /√2. A = 10 V, τ/T = 0.5, τ = 5 µs: f1 = 63.66 kHz; at 100 kHz
+  // (below f2 = 1/(π·10 ns) = 31.8 MHz): 7.0711 V · 63.662/100 = 4.5016 V = 133.07 dBµV.
+  const double expected_envelope_dbuv = 20.0 * std::log10(10.0 / std::sqrt(2.0) * (1.0 / (M_PI * 5e-6)) / 100e3 / 1e-6);
+  double level = 0.0, envelope = 0.0;
+  int harmonic = 0;
+  double f = 0.0;
+  REQUIRE(std::sscanf(lines[1].c_str(), "%d,%lf,%lf,%lf", &harmonic, &f, &level, &envelope) == 4);
+  const double tol_db = 0.006;  // the CSV's two decimals
+  CHECK(std::abs(level - 60.0) < tol_db);
+  CHECK(std::abs(envelope - expected_envelope_dbuv) < tol_db);
+  CHECK(lines[2].rfind("2,200000.0,40.00,", 0) == 0);
+  CHECK(lines_of(source_current_spectrum_csv(p))[0] == "harmonic,frequency_hz,level_dbua,envelope_dbua");
+
+  // A captured source has no envelope column.
+  Prediction captured = p;
+  captured.scenario.switching.reset();
+  CHECK(lines_of(source_spectrum_csv(captured))[0] == "harmonic,frequency_hz,level_dbuv");
+}
+
+TEST_CASE("scan.csv: one ascending list over the bands; 30 MHz once, from band B") {
+  const std::vector<std::string> lines = lines_of(scan_csv(hand_prediction()));
+  REQUIRE(lines.size() == 5);
+  CHECK(lines[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
+  CHECK(lines[1] == "1000000.0,58.00,55.00,44.00");
+  CHECK(lines[2] == "2000000.0,50.00,48.00,45.00");
+  CHECK(lines[3] == "30000000.0,30.00,29.00,28.00");  // CISPR 16-1-1: 30 MHz is the top of band B
+  CHECK(lines[4] == "31000000.0,20.00,19.00,18.00");
+}
+
+TEST_CASE("summary.json: the keys of DESIGN.md section 4 and values as the CSVs print them") {
+  const Prediction p = hand_prediction();
+  const std::vector<std::string> files{"scan.csv", "summary.json"};
+  const nlohmann::json j = nlohmann::json::parse(summary_json(p, files));
+  // QP 55 against 60: margin 5 < guard 6 -> marginal; AV 45 against 50 at 2 MHz: margin 5.
+  CHECK(j.at("verdict") == "marginal");
+  const double tol_db = 1e-9;
+  CHECK(j.at("worst_margin_db").at("quasi-peak").get<double>() == doctest::Approx(5.0).epsilon(tol_db));
+  CHECK(j.at("worst_margin_db").at("average").get<double>() == doctest::Approx(5.0).epsilon(tol_db));
+  CHECK_FALSE(j.at("worst_margin_db").contains("peak"));  // no peak line in the set
+  REQUIRE(j.at("bands").size() == 1);
+  CHECK(j.at("bands")[0].at("name") == "MW");
+  CHECK(j.at("bands")[0].at("verdict") == "noisy");
+  CHECK(j.at("bands")[0].at("worst_channel_hz").get<double>() == doctest::Approx(999e3));
+  CHECK(j.at("files") == files);
+  CHECK(j.at("title") == "R&D buck <bench>");
+  CHECK(j.at("guard_db").get<double>() == doctest::Approx(6.0));
+  CHECK(j.at("uncertainty_db").get<double>() == doctest::Approx(3.4));  // CISPR 16-4-2, REFERENCES.md §7 (from memory)
+  // Worst frequencies are distinct emissions, smallest margin first.
+  const auto& worst = j.at("worst_frequencies");
+  REQUIRE(worst.size() == 3);
+  CHECK(worst[0].at("margin_db").get<double>() <= worst[1].at("margin_db").get<double>());
+  CHECK(worst[0].at("verdict") == "marginal");
+}
+
+TEST_CASE("worst frequencies are thinned to one per receiver bandwidth") {
+  Prediction p = hand_prediction();
+  // Three readings of one emission, 2.25 kHz apart (band B step), and one far away.
+  const std::vector<Reading> scan{reading(1e6, 0, 57.0, 40), reading(1.00225e6, 0, 58.0, 40),
+                                  reading(1.0045e6, 0, 57.5, 40), reading(5e6, 0, 50.0, 40)};
+  p.margins = compare_with_limits(readings_from_scan(scan, {Detector::quasi_peak}), p.scenario.limits.sets);
+  const std::vector<WorstFrequency> worst = worst_frequencies(p, 5);
+  REQUIRE(worst.size() == 2);
+  CHECK(worst[0].row.frequency_hz == doctest::Approx(1.00225e6));
+  CHECK(worst[1].row.frequency_hz == doctest::Approx(5e6));
+}
+
+TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up and safety notes") {
+  const Prediction p = hand_prediction();
+  const std::string page = report_html(p, {"scan.csv", "report.html", "summary.json"});
+  for (const std::string& id : report_section_ids()) {
+    CAPTURE(id);
+    CHECK(page.find("<section id=\"" + id + "\"") != std::string::npos);
+  }
+  CHECK(page.find("R&amp;D buck &lt;bench&gt;") != std::string::npos);
+  CHECK(page.find("a note with &lt;markup&gt; &amp; ampersand") != std::string::npos);
+  CHECK(page.find("<script") == std::string::npos);
+  CHECK(page.find("https://") == std::string::npos);
+  CHECK(page.find("@import") == std::string::npos);
+  // Common practice for a conducted test set-up, marked as such (issue 8).
+  CHECK(page.find("0.8 m above the reference ground plane, 0.4 m from a vertical reference plane") != std::string::npos);
+  CHECK(page.find("0.3\xE2\x80\x93" "0.4 m") != std::string::npos);
+  CHECK(page.find("common practice (from memory; CISPR 16-2-1 / CISPR 32 describe the arrangement)") != std::string::npos);
+  // DESIGN.md §9.
+  CHECK(page.find("hundreds of volts") != std::string::npos);
+  CHECK(page.find("bond it to protective earth before mains is applied") != std::string::npos);
+  CHECK(page.find("only an accredited test decides") != std::string::npos);
+  CHECK(page.find("U<sub>cispr</sub> for this measurement: 3.4 dB") != std::string::npos);
+  CHECK(page.find("MARGINAL") != std::string::npos);
+  // Every scenario input with its unit.
+  CHECK(page.find("<td>100 kHz</td>") != std::string::npos);
+  CHECK(page.find("<td>50 %</td>") != std::string::npos);
+  CHECK(page.find("<td>10 ns</td>") != std::string::npos);
+
+  if (!have_python()) {
+    MESSAGE("skipped the html.parser check: /usr/bin/python3 not found");
+    return;
+  }
+  const std::string result = check_html(page);
+  REQUIRE_FALSE(result.empty());
+  const nlohmann::json parsed = nlohmann::json::parse(result);
+  CHECK(parsed.at("ids").get<std::vector<std::string>>() == report_section_ids());
+  CHECK(parsed.at("svg_count").get<int>() == 3);  // two band plots and the source plot
+}
+
+TEST_CASE("the files of a report are byte-reproducible and summary.json comes last") {
+  const Prediction p = hand_prediction();
+  const std::vector<OutputFile> first = report_files(p);
+  const std::vector<OutputFile> second = report_files(p);
+  REQUIRE(first.size() == second.size());
+  for (std::size_t i = 0; i < first.size(); ++i) {
+    CHECK(first[i].name == second[i].name);
+    CHECK(first[i].content == second[i].content);
+  }
+  CHECK(first.back().name == "summary.json");
+  std::vector<std::string> names;
+  for (const OutputFile& f : first) names.push_back(f.name);
+  const std::vector<std::string> expected{"spectrum.csv", "source_spectrum.csv", "source_current_spectrum.csv",
+                                          "scan.csv", "margins.csv", "bands.csv", "scan-B.svg", "scan-C.svg",
+                                          "source.svg", "report.html", "summary.json"};
+  CHECK(names == expected);
+  CHECK(nlohmann::json::parse(first.back().content).at("files").get<std::vector<std::string>>() == expected);
+}
+
+TEST_CASE("the real chain on the greenhouse example: summary.json agrees with margins.csv and bands.csv") {
+  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml");
+  const Prediction p = predict(scenario);
+  const nlohmann::json j = nlohmann::json::parse(summary_json(p, {}));
+  // Smallest margin_db per line detector, read back from the margins CSV text.
+  std::map<std::string, double> smallest;
+  const std::vector<std::string> rows = lines_of(margins_csv(p.margins));
+  for (std::size_t i = 1; i < rows.size(); ++i) {
+    std::vector<std::string> cells;
+    std::string cell;
+    bool quoted = false;
+    for (char ch : rows[i]) {
+      if (ch == '"') quoted = !quoted;
+      else if (ch == ',' && !quoted) { cells.push_back(cell); cell.clear(); }
+      else cell += ch;
+    }
+    cells.push_back(cell);
+    REQUIRE(cells.size() == 6);
+    const std::string line_detector = cells[5].substr(cells[5].rfind("/ ") + 2);
+    const double margin = std::stod(cells[4]);
+    if (!smallest.count(line_detector) || margin < smallest[line_detector]) smallest[line_detector] = margin;
+  }
+  REQUIRE_FALSE(smallest.empty());
+  const double tol_db = 1e-9;
+  for (const auto& [detector, margin] : smallest) {
+    CAPTURE(detector);
+    CHECK(j.at("worst_margin_db").at(detector).get<double>() == doctest::Approx(margin).epsilon(tol_db));
+  }
+  const std::vector<std::string> band_rows = lines_of(bands_csv(p.reception));
+  REQUIRE(band_rows.size() == j.at("bands").size() + 1);
+  for (std::size_t i = 0; i < j.at("bands").size(); ++i) {
+    const std::string expected = j.at("bands")[i].at("name").get<std::string>() + ",";
+    CHECK(band_rows[i + 1].find(expected) != std::string::npos);
+    CHECK(band_rows[i + 1].find("," + j.at("bands")[i].at("verdict").get<std::string>() + ",") != std::string::npos);
+  }
+}

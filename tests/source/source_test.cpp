@@ -1,0 +1,234 @@
+// The described source: exact Fourier series of the trapezoid, ringing, dither, sampled synthesis.
+// External checks: C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed. (Wiley 2006),
+// §3.2 (trapezoidal pulse train, two-sinc formula and its −20/−40 dB/decade bound), Example 3.5
+// and the review exercise on a 5 V, 100 MHz clock (values recomputed in REFERENCES.md §6.3).
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <complex>
+#include <numbers>
+
+#include "core/input/error.hpp"
+#include "core/source/source.hpp"
+#include "core/input/units.hpp"
+
+using namespace spurcast;
+
+namespace {
+
+const double tol_db = 0.05;
+const double tol_v = 0.001;
+
+SwitchingSpec trapezoid(double amplitude_v, double frequency_hz, double duty, double edge_s) {
+  SwitchingSpec s;
+  s.frequency_hz = frequency_hz;
+  s.duty = duty;
+  s.amplitude_v = amplitude_v;
+  s.current_a = 1.0;
+  s.rise_s = edge_s;
+  s.fall_s = edge_s;
+  return s;
+}
+
+double sinc(double x) { return x == 0.0 ? 1.0 : std::sin(std::numbers::pi * x) / (std::numbers::pi * x); }
+
+// Paul §3.2: one-sided amplitude |c_n+| = 2·A·D·|sinc(nD)|·|sinc(n·t_r·f0)| (peak, volts).
+double paul_one_sided_peak(double a, double d, double tr_s, double f0_hz, int n) {
+  return 2.0 * a * d * std::fabs(sinc(n * d)) * std::fabs(sinc(n * tr_s * f0_hz));
+}
+
+double one_sided_peak(const LineSpectrum& s, int n) { return std::abs(s.harmonics[n - 1]) * std::sqrt(2.0); }
+
+}  // namespace
+
+TEST_CASE("Paul Example 3.5: 1 V, 10 MHz, 50 %, 20 ns edges, harmonic 11") {
+  const SwitchingSpec s = trapezoid(1.0, 10e6, 0.5, 20e-9);
+  const LineSpectrum v = switch_node_spectrum(s, 200e6);
+  REQUIRE(v.harmonics.size() == 20);
+  // REFERENCES.md §6.3 / §10 item 22: exact 73.84 dBµV (one-sided peak), bound 78.46 dBµV.
+  CHECK(volts_to_dbuv(one_sided_peak(v, 11)) == doctest::Approx(73.84).epsilon(tol_db / 73.84));
+  const double bound_peak = trapezoid_envelope_rms(s, 1.0, 110e6) * std::sqrt(2.0);
+  CHECK(volts_to_dbuv(bound_peak) == doctest::Approx(78.46).epsilon(tol_db / 78.46));
+  // Corner frequencies f1 = 1/(πτ) = 6.366 MHz, f2 = 1/(π·t_r) = 15.915 MHz.
+  const TrapezoidCorners corners = trapezoid_corners(s);
+  CHECK(corners.first_hz == doctest::Approx(6.366e6).epsilon(1e-3));
+  CHECK(corners.second_hz == doctest::Approx(15.915e6).epsilon(1e-3));
+}
+
+TEST_CASE("Paul review exercise: 5 V, 100 MHz, 50 %, 1 ns edges") {
+  const SwitchingSpec s = trapezoid(5.0, 100e6, 0.5, 1e-9);
+  const LineSpectrum v = switch_node_spectrum(s, 1e9);
+  // REFERENCES.md §10 item 23: c1+ = 3.131 V, c3+ = 0.9108 V, c5+ = 0.4053, c7+ = 0.1673, c9+ = 0.0387.
+  CHECK(one_sided_peak(v, 1) == doctest::Approx(3.131).epsilon(tol_v / 3.131));
+  CHECK(one_sided_peak(v, 3) == doctest::Approx(0.9108).epsilon(tol_v / 0.9108));
+  CHECK(std::fabs(one_sided_peak(v, 5) - 0.4053) < tol_v);
+  CHECK(std::fabs(one_sided_peak(v, 7) - 0.1673) < tol_v);
+  CHECK(std::fabs(one_sided_peak(v, 9) - 0.0387) < tol_v);
+  CHECK(v.dc == doctest::Approx(2.5));  // c0 = A·D
+}
+
+TEST_CASE("exact series matches Paul's two-sinc formula for every harmonic") {
+  for (const double duty : {0.1, 0.25, 0.5, 0.73}) {
+    CAPTURE(duty);
+    const SwitchingSpec s = trapezoid(48.0, 220e3, duty, 12e-9);
+    const LineSpectrum v = switch_node_spectrum(s, 100e6);
+    for (int n = 1; n <= static_cast<int>(v.harmonics.size()); n += 7) {
+      CAPTURE(n);
+      const double expected = paul_one_sided_peak(48.0, duty, 12e-9, 220e3, n);
+      CHECK(one_sided_peak(v, n) == doctest::Approx(expected).epsilon(1e-9).scale(48.0));
+    }
+  }
+}
+
+TEST_CASE("spectral null: D = 5/12 puts harmonic 12 at zero (Paul §3.2, sinc(nD) = 0)") {
+  SwitchingSpec s = trapezoid(1.0, 1e6, 5.0 / 12.0, 10e-9);
+  const LineSpectrum v = switch_node_spectrum(s, 20e6);
+  CHECK(volts_to_dbuv(std::abs(v.harmonics[11])) < -200.0);
+}
+
+TEST_CASE("unequal edges and the bound: every harmonic sits under the envelope") {
+  SwitchingSpec s = trapezoid(48.0, 220e3, 0.25, 12e-9);
+  s.fall_s = 15e-9;
+  const LineSpectrum v = switch_node_spectrum(s, 300e6);
+  for (std::size_t i = 0; i < v.harmonics.size(); ++i) {
+    CAPTURE(i);
+    CHECK(std::abs(v.harmonics[i]) <= trapezoid_envelope_rms(s, 48.0, v.frequency_hz(i)) * (1 + 1e-9));
+  }
+}
+
+TEST_CASE("Parseval on the exact series: Σ|H_k|² + dc² equals the mean square (derived)") {
+  // Mean square of a 0..A trapezoid: A²·(plateau + (rise + fall)/3)/T.
+  SwitchingSpec s = trapezoid(2.0, 1e6, 0.3, 40e-9);
+  s.fall_s = 60e-9;
+  const double plateau = s.duty * s.period_s() - (s.rise_s + s.fall_s) / 2.0;
+  const double mean_square = 4.0 * (plateau + (s.rise_s + s.fall_s) / 3.0) / s.period_s();
+  const LineSpectrum v = switch_node_spectrum(s, 20e9);  // 20000 harmonics: the tail is 1/k⁴
+  double power = v.dc * v.dc;
+  for (const auto& h : v.harmonics) power += std::norm(h);
+  CHECK(power == doctest::Approx(mean_square).epsilon(1e-6));
+}
+
+TEST_CASE("ringing: the closed-form tail matches a direct numerical Fourier integral (slow twin)") {
+  SwitchingSpec s = trapezoid(48.0, 500e3, 0.4, 10e-9);
+  s.ringing = RingingSpec{60e6, 25e-9, 0.3};
+  const LineSpectrum exact = switch_node_spectrum(s, 200e6);
+  // One period sampled densely; the tails decay within the period, so one period is the whole signal.
+  const double fs = 20e9;
+  const Waveform w = synthesize_switch_node(s, fs, s.period_s());
+  for (const int k : {1, 3, 51, 119, 121, 199}) {
+    CAPTURE(k);
+    std::complex<double> c = 0.0;
+    const double omega = 2.0 * std::numbers::pi * k * s.frequency_hz;
+    for (std::size_t i = 0; i < w.samples.size(); ++i) {
+      c += w.samples[i] * std::polar(1.0, -omega * static_cast<double>(i) / fs);
+    }
+    c /= static_cast<double>(w.samples.size());
+    const double numeric_db = volts_to_dbuv(std::sqrt(2.0) * std::abs(c));
+    CHECK(numeric_db == doctest::Approx(volts_to_dbuv(std::abs(exact.harmonics[k - 1]))).epsilon(0.02 / 100));
+  }
+  // Parseval on the ringing alone (the series is linear, so ringing = with − without): two tails of
+  // a·A·e^(−αt)·sin(ωt) per period carry 2·(aA)²·ω²/(4α(α² + ω²))/T of mean power (derived; the
+  // tails are 800 ns apart and have died out long before the next edge).
+  SwitchingSpec plain = s;
+  plain.ringing.reset();
+  const SwitchingSpec& r = s;
+  const LineSpectrum with_long = switch_node_spectrum(r, 20e9);
+  const LineSpectrum without = switch_node_spectrum(plain, 20e9);
+  double ringing_power = 0.0;
+  for (std::size_t i = 0; i < with_long.harmonics.size(); ++i) {
+    ringing_power += std::norm(with_long.harmonics[i] - without.harmonics[i]);
+  }
+  const double alpha = 1.0 / r.ringing->decay_s;
+  const double omega_r = 2.0 * std::numbers::pi * r.ringing->frequency_hz;
+  const double a = r.ringing->relative_amplitude * r.amplitude_v;
+  const double expected_power =
+      2.0 * a * a * omega_r * omega_r / (4.0 * alpha * (alpha * alpha + omega_r * omega_r)) / r.period_s();
+  CHECK(ringing_power == doctest::Approx(expected_power).epsilon(0.01));
+}
+
+TEST_CASE("input current uses the same timing with the current amplitude and no ringing") {
+  SwitchingSpec s = trapezoid(48.0, 220e3, 0.25, 12e-9);
+  s.current_a = 6.0;
+  s.ringing = RingingSpec{85e6, 20e-9, 0.35};
+  const LineSpectrum i = input_current_spectrum(s, 10e6);
+  CHECK(i.quantity == Quantity::current);
+  CHECK(one_sided_peak(i, 1) == doctest::Approx(paul_one_sided_peak(6.0, 0.25, 12e-9, 220e3, 1)));
+  CHECK(i.dc == doctest::Approx(6.0 * 0.25));
+}
+
+TEST_CASE("dither: periods follow f0·(1 ± deviation) and the mean frequency stays f0") {
+  SwitchingSpec s = trapezoid(10.0, 200e3, 0.5, 20e-9);
+  s.dither = DitherSpec{DitherProfile::triangle, 0.06, 5e3};
+  const double fs = 100e6;
+  const Waveform w = synthesize_switch_node(s, fs, 4e-3);  // 20 modulation periods
+  std::vector<double> rising_crossings;
+  for (std::size_t i = 1; i < w.samples.size(); ++i) {
+    if (w.samples[i - 1] < 5.0 && w.samples[i] >= 5.0) {
+      const double frac = (5.0 - w.samples[i - 1]) / (w.samples[i] - w.samples[i - 1]);
+      rising_crossings.push_back((static_cast<double>(i - 1) + frac) / fs);
+    }
+  }
+  REQUIRE(rising_crossings.size() > 700);
+  double min_period = 1.0, max_period = 0.0;
+  for (std::size_t i = 1; i < rising_crossings.size(); ++i) {
+    const double p = rising_crossings[i] - rising_crossings[i - 1];
+    min_period = std::min(min_period, p);
+    max_period = std::max(max_period, p);
+  }
+  // The oscillator takes the modulation at each cycle start, so the extremes are met within one
+  // cycle's share of the modulation period (40 cycles per period here: within 0.3 %).
+  CHECK(1.0 / max_period == doctest::Approx(200e3 * 0.94).epsilon(0.004));
+  CHECK(1.0 / min_period == doctest::Approx(200e3 * 1.06).epsilon(0.004));
+  const double mean_frequency =
+      static_cast<double>(rising_crossings.size() - 1) / (rising_crossings.back() - rising_crossings.front());
+  CHECK(mean_frequency == doctest::Approx(200e3).epsilon(0.002));
+}
+
+TEST_CASE("physical sanity checks give clear errors") {
+  SwitchingSpec s = trapezoid(48.0, 220e3, 1.2, 12e-9);
+  CHECK_THROWS_WITH_AS(validate_switching(s), "duty must be in (0, 1), found 1.2", Error);
+  s = trapezoid(48.0, 10e6, 0.5, 60e-9);
+  CHECK_THROWS_WITH_AS(validate_switching(s), "rise + fall (120 ns) is longer than the period (100 ns)", Error);
+  s = trapezoid(48.0, 1e6, 0.02, 30e-9);
+  CHECK_THROWS_WITH_AS(validate_switching(s),
+                       "the edges do not fit in the on time: (rise + fall)/2 = 30 ns exceeds duty x period = 20 ns",
+                       Error);
+  s = trapezoid(-1.0, 1e6, 0.5, 30e-9);
+  CHECK_THROWS_WITH_AS(validate_switching(s), "amplitude must not be negative, found -1 V", Error);
+}
+
+TEST_CASE("reading [switching] converts 10-90 % edges and rejects unknown keys") {
+  const auto table = parse_toml_text(
+      "frequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\n"
+      "rise_10_90 = \"8 ns\"\nfall = \"15 ns\"\n"
+      "ringing = { frequency = \"85 MHz\", decay = \"20 ns\", amplitude = 0.35 }\n"
+      "dither = { profile = \"triangle\", deviation = \"6 %\", rate = \"9 kHz\" }\n",
+      "s.toml");
+  TableReader reader(table, "s.toml", "switching");
+  const SwitchingSpec s = read_switching_section(reader);
+  CHECK(s.rise_s == doctest::Approx(10e-9));  // 8 ns / 0.8, Paul §3.2 convention
+  CHECK(s.fall_s == doctest::Approx(15e-9));
+  REQUIRE(s.ringing);
+  CHECK(s.ringing->frequency_hz == doctest::Approx(85e6));
+  REQUIRE(s.dither);
+  CHECK(s.dither->deviation_fraction == doctest::Approx(0.06));
+
+  const auto typo = parse_toml_text(
+      "frequncy = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\nrise = \"8 ns\"\nfall = \"15 ns\"\n",
+      "t.toml");
+  TableReader typo_reader(typo, "t.toml", "switching");
+  CHECK_THROWS_WITH_AS((void)read_switching_section(typo_reader),
+                       "t.toml:1:1: missing key 'frequency' in [switching] (expected a frequency)", Error);
+
+  const auto extra = parse_toml_text(
+      "frequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\nrise = \"8 ns\"\nfall = \"15 ns\"\nrse = 1\n",
+      "u.toml");
+  TableReader extra_reader(extra, "u.toml", "switching");
+  CHECK_THROWS_WITH_AS((void)read_switching_section(extra_reader),
+                       "u.toml:7:1: unknown key 'rse' in [switching]; did you mean 'rise'?", Error);
+
+  const auto wrong_unit = parse_toml_text("frequency = \"3 V\"\n", "w.toml");
+  TableReader wrong_reader(wrong_unit, "w.toml", "switching");
+  CHECK_THROWS_WITH_AS((void)read_switching_section(wrong_reader),
+                       "w.toml:1:13: expected a frequency (e.g. \"220 kHz\"), found \"3 V\"", Error);
+}
