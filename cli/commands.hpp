@@ -9,7 +9,7 @@
 
 namespace spurcast::cli {
 
-// Exit codes (DESIGN.md §4).
+// Exit codes (docs/design.md §4).
 inline constexpr int exit_ok = 0;            // done, every limit met
 inline constexpr int exit_limit_exceeded = 1;  // done, a limit exceeded or a margin under the guard band
 inline constexpr int exit_bad_input = 2;     // bad input or usage

@@ -84,7 +84,7 @@ int run_compare(const Options& options) {
   std::vector<ScanCsvRow> prediction;
   if (!options.prediction_file.empty()) prediction = read_scan_csv(options.prediction_file);
 
-  // Pre-scan rule: peak >= quasi-peak >= average (REFERENCES.md §10 item 30).
+  // Pre-scan rule: peak >= quasi-peak >= average (docs/references.md §10 item 30).
   const double separation_hz = 3.0 * prescan_rbw_hz(trace.frequency_hz.front());
   const MarginReport report = compare_with_limits(trace_readings(trace, trace_detector), sets,
                                                   {.guard_db = guard_db,

@@ -1,5 +1,5 @@
 #pragma once
-/// The whole chain of a prediction (DESIGN.md §2): source → spectrum → conducted path → LISN port →
+/// The whole chain of a prediction (docs/design.md §2): source → spectrum → conducted path → LISN port →
 /// receiver → limits / bands. One call, one value out; the report writers and the sweep consume it.
 ///
 /// Example:

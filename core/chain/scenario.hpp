@@ -1,5 +1,5 @@
 #pragma once
-/// The scenario file (TOML, DESIGN.md §5): every input of a prediction. Each section is read by the
+/// The scenario file (TOML, docs/design.md §5): every input of a prediction. Each section is read by the
 /// module that owns it (source, capture, conducted, filter, lisn, receiver, limits, bands); this
 /// loader checks the top level, dispatches, and keeps file positions for every error.
 ///

@@ -1,5 +1,5 @@
 #pragma once
-/// The sweep (DESIGN.md §2, §4): re-runs the chain for each value of one or more scenario keys, in
+/// The sweep (docs/design.md §2, §4): re-runs the chain for each value of one or more scenario keys, in
 /// parallel, and finds the windows of the swept parameter where a broadcast band stays clear, the
 /// fundamental stays out of a CISPR band, or every limit is met with the guard band — robust to a
 /// stated drift tolerance of the switching frequency.

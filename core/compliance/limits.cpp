@@ -212,7 +212,7 @@ std::string to_string(LimitQuantity quantity) {
 double LimitSegment::level_at(double frequency_hz) const {
   if (start_level == end_level) return start_level;
   const double f = std::clamp(frequency_hz, from_hz, to_hz);
-  // L(f) = L1 + (L2 − L1)·log10(f/f1)/log10(f2/f1)  (REFERENCES.md §3.2)
+  // L(f) = L1 + (L2 − L1)·log10(f/f1)/log10(f2/f1)  (docs/references.md §3.2)
   return start_level + (end_level - start_level) * std::log10(f / from_hz) / std::log10(to_hz / from_hz);
 }
 

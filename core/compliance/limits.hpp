@@ -6,7 +6,7 @@
 /// (FCC 15.107 note: "decreases with the logarithm of the frequency"; EN 55022 table "decreasing
 /// with Log (Freq.)"). At a boundary frequency shared by two segments the lower (stricter) value
 /// applies unless the line says `at_boundary = "higher"` (FCC 15.107: "The lower limit applies at the
-/// band edges"; REFERENCES.md §1.8, §3.2).
+/// band edges"; docs/references.md §1.8, §3.2).
 ///
 /// Example (a file; the format is documented at the top of every shipped file):
 ///   name = "CISPR 32 class B, mains port"
@@ -38,7 +38,7 @@ enum class LimitQuantity {
 };
 [[nodiscard]] std::string to_string(LimitQuantity quantity);
 
-/// How far the values of a limit set can be trusted (REFERENCES.md marks [F] and [M]).
+/// How far the values of a limit set can be trusted (docs/references.md marks [F] and [M]).
 enum class LimitConfidence {
   read_from_document,  ///< confidence text begins "read from" (values read from a copy of the document)
   from_memory,         ///< confidence text begins "from memory" (verify against your copy)
@@ -98,11 +98,11 @@ struct LimitSet {
 struct LimitsSpec {
   std::vector<LimitSet> sets;
   /// Pre-compliance margin [dB]: a margin in [0, guard) is "marginal". 6 dB is common practice
-  /// (REFERENCES.md §7: "A 6 dB pre-compliance margin is common practice").
+  /// (docs/references.md §7: "A 6 dB pre-compliance margin is common practice").
   double guard_db = 6.0;
 };
 
-/// The default guard band [dB], common practice (REFERENCES.md §7).
+/// The default guard band [dB], common practice (docs/references.md §7).
 inline constexpr double default_guard_db = 6.0;
 
 /// Reads a limit file. Errors carry file:line:column: frequencies out of order, overlapping

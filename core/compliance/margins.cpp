@@ -23,7 +23,7 @@ Verdict verdict_for(double margin_db, double guard_db) {
 }
 
 std::optional<double> cispr_uncertainty_db(LimitQuantity measures, double frequency_hz) {
-  // CISPR 16-4-2 U_cispr, REFERENCES.md §7 [M, medium-high] (from memory).
+  // CISPR 16-4-2 U_cispr, docs/references.md §7 [M, medium-high] (from memory).
   switch (measures) {
     case LimitQuantity::conducted_voltage:
       if (frequency_hz >= 9e3 && frequency_hz < 150e3) return 3.8;  // from memory
@@ -77,7 +77,7 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
         row.reading_detector = reading.detector;
         row.reading = reading.level;
         row.limit = *limit;
-        row.margin_db = *limit - reading.level;  // DESIGN.md §6: margin = limit − reading
+        row.margin_db = *limit - reading.level;  // docs/design.md §6: margin = limit − reading
         row.limit_detector = line.detector;
         row.set_index = s;
         row.limit_label = line_label(set, line);

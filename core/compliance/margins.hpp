@@ -1,6 +1,6 @@
 #pragma once
 /// Margins of detector readings to limit lines: margin = limit − reading at the reading's frequency
-/// (DESIGN.md §6), worst margin per detector and overall, the readings closest to (or above) the
+/// (docs/design.md §6), worst margin per detector and overall, the readings closest to (or above) the
 /// limit, the verdict with a guard band, and the CISPR 16-4-2 measurement uncertainty U_cispr shown
 /// beside the margin.
 ///
@@ -54,7 +54,7 @@ enum class Verdict { pass, marginal, fail };
 [[nodiscard]] Verdict verdict_for(double margin_db, double guard_db);
 
 /// CISPR 16-4-2 U_cispr (expanded uncertainty, k = 2) for a measurement of `measures` at
-/// frequency_hz, REFERENCES.md §7 (from memory): conducted (AMN) 3.8 dB at 9–150 kHz, 3.4 dB at
+/// frequency_hz, docs/references.md §7 (from memory): conducted (AMN) 3.8 dB at 9–150 kHz, 3.4 dB at
 /// 150 kHz–30 MHz; radiated 6.3 dB at 30–1000 MHz, 5.2 dB at 1–6 GHz, 5.5 dB at 6–18 GHz. nullopt
 /// elsewhere and for conducted current (no value listed). At 150 kHz the conducted value of band B
 /// applies (the band the limits start in).
@@ -63,7 +63,7 @@ enum class Verdict { pass, marginal, fail };
 struct MarginOptions {
   double guard_db = default_guard_db;  ///< [dB] >= 0
   /// Pre-scan rule: a peak reading is compared with the quasi-peak and average lines too, since
-  /// peak >= quasi-peak >= average for any signal (REFERENCES.md §10 item 30), so a peak reading under
+  /// peak >= quasi-peak >= average for any signal (docs/references.md §10 item 30), so a peak reading under
   /// a line proves that line is met. Without it each reading meets only its own detector's line.
   bool peak_against_every_line = false;
   std::size_t closest_count = 10;      ///< how many rows `closest` keeps
@@ -114,7 +114,7 @@ struct MarginReport {
                                                const std::vector<LimitSet>& sets,
                                                const MarginOptions& options = {});
 
-/// The margins CSV (DESIGN.md §4): header `frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit`
+/// The margins CSV (docs/design.md §4): header `frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit`
 /// then one line per row; levels with 2 decimals, the limit label quoted when it holds a comma.
 [[nodiscard]] std::string margins_csv(const MarginReport& report);
 

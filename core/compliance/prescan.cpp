@@ -8,7 +8,7 @@
 namespace spurcast {
 
 double prescan_rbw_hz(double frequency_hz) {
-  // CISPR 16-1-1 bands, REFERENCES.md §1.1 [F: de.zxc.wiki Quasispitzenwert; analyser manual].
+  // CISPR 16-1-1 bands, docs/references.md §1.1 [F: de.zxc.wiki Quasispitzenwert; analyser manual].
   if (frequency_hz < 150e3) return 200.0;
   if (frequency_hz <= 30e6) return 9e3;
   if (frequency_hz <= 1e9) return 120e3;

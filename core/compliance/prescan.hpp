@@ -3,7 +3,7 @@
 /// quasi-peak >= average, so a peak under a line proves that line is met), and the local maxima
 /// within the guard band of a quasi-peak or average line are listed for re-measurement with those
 /// detectors, merged within a few RBW. Labs work this way because quasi-peak scans are slow
-/// (REFERENCES.md §1.7: band B quasi-peak about 200 s/MHz, peak 100 ms/MHz, from memory).
+/// (docs/references.md §1.7: band B quasi-peak about 200 s/MHz, peak 100 ms/MHz, from memory).
 #include <optional>
 #include <string>
 #include <vector>
@@ -15,7 +15,7 @@
 namespace spurcast {
 
 /// The CISPR 16-1-1 6 dB bandwidth of the band holding frequency_hz: 200 Hz below 150 kHz, 9 kHz up
-/// to 30 MHz, 120 kHz up to 1 GHz, 1 MHz above (REFERENCES.md §1.1, band E §1.1 note).
+/// to 30 MHz, 120 kHz up to 1 GHz, 1 MHz above (docs/references.md §1.1, band E §1.1 note).
 [[nodiscard]] double prescan_rbw_hz(double frequency_hz);
 
 struct PrescanOptions {

@@ -8,7 +8,7 @@
 /// otherwise it is in Hz. Frequencies must increase strictly. Errors carry file:line:column.
 ///
 /// Sign convention of corrections: corrected level = reading + correction_db. A LISN voltage-division
-/// factor (REFERENCES.md §2.3: "The measured value is added to the receiver reading"), an attenuator
+/// factor (docs/references.md §2.3: "The measured value is added to the receiver reading"), an attenuator
 /// or limiter and a cable loss are all entered as positive dB.
 #include <optional>
 #include <string>
@@ -23,7 +23,7 @@ namespace spurcast {
 /// Level unit of a trace file.
 enum class TraceUnit {
   dbuv,  ///< dBµV
-  dbm,   ///< dBm in a 50 Ω system, converted with +106.99 dB (REFERENCES.md §9.2 [D])
+  dbm,   ///< dBm in a 50 Ω system, converted with +106.99 dB (docs/references.md §9.2 [D])
 };
 /// "dBuV" or "dBm".
 [[nodiscard]] std::string to_string(TraceUnit unit);
@@ -72,7 +72,7 @@ struct CorrectionTable {
 /// One reading per trace point, all with `detector` (a spectrum-analyser pre-scan is a peak trace).
 [[nodiscard]] std::vector<LevelReading> trace_readings(const MeasuredTrace& trace, Detector detector = Detector::peak);
 
-/// One row of a predicted scan CSV (DESIGN.md §4: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv).
+/// One row of a predicted scan CSV (docs/design.md §4: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv).
 struct ScanCsvRow {
   double frequency_hz = 0.0;
   double peak_dbuv = level_floor_db;

@@ -202,7 +202,7 @@ ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& i
     const cd i2 = h.line2_current_per_input_current[k] * i + h.line2_current_per_switch_node_s[k] * v;
     result.line1_v[k] = v1;
     result.line2_v[k] = v2;
-    // Mode decomposition, C. R. Paul, Introduction to EMC, 2nd ed., §6 (REFERENCES.md §2.3).
+    // Mode decomposition, C. R. Paul, Introduction to EMC, 2nd ed., §6 (docs/references.md §2.3).
     result.dm_v[k] = 0.5 * (v1 - v2);
     result.cm_v[k] = 0.5 * (v1 + v2);
     result.line1_current_a[k] = i1;

@@ -20,7 +20,7 @@
 /// Measurement set-up the numbers refer to (lisn.lines): with two networks (one per line) the DM
 /// current loops through both 50 Ω ports in series, so each port reads about 6 dB less than a
 /// single-network set-up with the return bonded at the equipment, where the whole DM voltage
-/// appears across the one port (REFERENCES.md §2.3 [D]).
+/// appears across the one port (docs/references.md §2.3 [D]).
 #include <complex>
 #include <string>
 #include <vector>

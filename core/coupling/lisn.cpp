@@ -27,8 +27,8 @@ LisnSpec read_lisn_section(TableReader& reader) {
 LisnParts lisn_parts(LisnModel model) {
   LisnParts parts;
   if (model == LisnModel::v_network_50uh) {
-    // CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) (REFERENCES.md §2.1). The capacitor values of the
-    // schematic are from memory (REFERENCES.md §2.1 [M]: supply side 1 µF..8 µF, coupling 0.1 µF or
+    // CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) (docs/references.md §2.1). The capacitor values of the
+    // schematic are from memory (docs/references.md §2.1 [M]: supply side 1 µF..8 µF, coupling 0.1 µF or
     // 0.25 µF, discharge 1 kΩ); we use 1 µF, 0.25 µF, 1 kΩ.
     parts.inductance_h = 50e-6;
     parts.damping_resistance_ohm = 5.0;
@@ -36,8 +36,8 @@ LisnParts lisn_parts(LisnModel model) {
     parts.coupling_capacitance_f = 0.25e-6; // from memory
     parts.discharge_resistance_ohm = 1e3;   // from memory
   } else {
-    // CISPR 25 artificial network (5 µH + 1 Ω) ∥ 50 Ω (REFERENCES.md §2.1 [F]); supply side 1 µF and
-    // coupling 0.1 µF from memory (REFERENCES.md §2.1 [M]); the 1 kΩ discharge resistor from memory.
+    // CISPR 25 artificial network (5 µH + 1 Ω) ∥ 50 Ω (docs/references.md §2.1 [F]); supply side 1 µF and
+    // coupling 0.1 µF from memory (docs/references.md §2.1 [M]); the 1 kΩ discharge resistor from memory.
     parts.inductance_h = 5e-6;
     parts.damping_resistance_ohm = 1.0;
     parts.supply_capacitance_f = 1e-6;     // from memory

@@ -6,8 +6,8 @@
 /// Two circuit levels:
 ///  - ideal: the impedance the standards define, seen from the EUT terminal; the receiver's 50 Ω is
 ///    connected straight to the terminal, so the port voltage is the terminal voltage. This is what a
-///    lab reports after its voltage-division-factor correction (REFERENCES.md §2.3).
-///  - practical: the schematic's parts, values from memory (REFERENCES.md §2.1 [M]): the supply-side
+///    lab reports after its voltage-division-factor correction (docs/references.md §2.3).
+///  - practical: the schematic's parts, values from memory (docs/references.md §2.1 [M]): the supply-side
 ///    capacitor in series with the damping resistor, the coupling capacitor into the 50 Ω receiver
 ///    and the 1 kΩ discharge resistor across the receiver port; the port then reads less than the
 ///    terminal at the low end (the voltage division factor).
@@ -71,7 +71,7 @@ LisnNodes add_lisn(Network& network, NodeId terminal, LisnModel model, LisnCircu
                    const std::string& prefix);
 
 /// The impedance the standard defines for `model`, closed form: Z = R_rx ∥ (R_d + jωL)
-/// (REFERENCES.md §2.2 [D]). For the tests' cross-check of the MNA sub-circuit.
+/// (docs/references.md §2.2 [D]). For the tests' cross-check of the MNA sub-circuit.
 [[nodiscard]] std::complex<double> lisn_nominal_impedance(LisnModel model, double frequency_hz);
 
 }  // namespace spurcast

@@ -47,7 +47,7 @@ inline constexpr int band_edge_digits = 7;
 [[nodiscard]] double dbuv_to_volts(double level_dbuv);
 [[nodiscard]] double amps_to_dbua(double amps);
 [[nodiscard]] double dbua_to_amps(double level_dbua);
-/// dBm in a 50 Ω system to dBµV: +106.99 dB (10·log10(50·1e-3) + 120). REFERENCES.md §9.2 [D].
+/// dBm in a 50 Ω system to dBµV: +106.99 dB (10·log10(50·1e-3) + 120). docs/references.md §9.2 [D].
 [[nodiscard]] double dbm_to_dbuv_50ohm(double level_dbm);
 [[nodiscard]] double dbuv_to_dbm_50ohm(double level_dbuv);
 /// Power sum of two uncorrelated levels in dB: 10·log10(10^(a/10) + 10^(b/10)).

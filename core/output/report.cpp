@@ -769,7 +769,7 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   out += "<h3>Measurement uncertainty</h3>\n<p>";
   if (const std::optional<double> u = uncertainty_for(p)) {
     out += "CISPR 16-4-2 U<sub>cispr</sub> for this measurement: " + html(fixed(*u, 1)) +
-           " dB (expanded, k = 2; from memory, REFERENCES.md \xC2\xA7" "7). When the lab's own uncertainty is at most "
+           " dB (expanded, k = 2; from memory, docs/references.md \xC2\xA7" "7). When the lab's own uncertainty is at most "
            "U<sub>cispr</sub>, the product complies when the measured value is at or under the limit; a predicted "
            "margin smaller than U<sub>cispr</sub> can fall either side at the lab.";
   } else {

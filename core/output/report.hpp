@@ -1,7 +1,7 @@
 #pragma once
 /// The prediction report (issue 8): the files of a report folder, made from one Prediction.
 ///   spectrum.csv         LISN-port harmonics: harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv
-///                        (level_dbuv is the higher of the two lines; DESIGN.md §4)
+///                        (level_dbuv is the higher of the two lines; docs/design.md §4)
 ///   source_spectrum.csv  source harmonics: harmonic,frequency_hz,level_dbuv[,envelope_dbuv]
 ///                        (the switch-node voltage; envelope for described sources)
 ///   source_current_spectrum.csv  the same for the pulsed input current (level_dbua[,envelope_dbua])
@@ -48,7 +48,7 @@ struct WorstFrequency {
 /// emission does not fill the list with its neighbouring scan points.
 [[nodiscard]] std::vector<WorstFrequency> worst_frequencies(const Prediction& prediction, std::size_t count);
 
-/// summary.json (DESIGN.md §4): keys verdict, worst_margin_db {detector: dB} (per limit-line
+/// summary.json (docs/design.md §4): keys verdict, worst_margin_db {detector: dB} (per limit-line
 /// detector), bands [{name, region, verdict, ...}], files, plus title, scenario, source, guard_db,
 /// worst, worst_frequencies, uncertainty_db, limits, scans, notes. dB values rounded to 0.01 exactly
 /// as the CSVs print them.

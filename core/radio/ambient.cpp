@@ -32,7 +32,7 @@ struct NoiseFit {
   double d_db;
 };
 
-// ITU-R P.372 §5, Table 2 (man-made noise), constants as listed in REFERENCES.md §5.3.
+// ITU-R P.372 §5, Table 2 (man-made noise), constants as listed in docs/references.md §5.3.
 NoiseFit man_made_fit(Environment environment) {
   switch (environment) {
     case Environment::city: return {76.8, 27.7};

@@ -9,7 +9,7 @@
 
 namespace spurcast {
 
-/// ITU-R P.372 man-made noise categories (REFERENCES.md §5.3). "business" is the older name of
+/// ITU-R P.372 man-made noise categories (docs/references.md §5.3). "business" is the older name of
 /// `city` and is accepted by environment_from_name().
 enum class Environment { city, residential, rural, quiet_rural };
 
@@ -24,10 +24,10 @@ inline constexpr double man_made_noise_min_hz = 0.3e6;
 inline constexpr double man_made_noise_max_hz = 250e6;
 
 /// Median man-made noise figure F_am = c − d·log10(f_MHz) [dB above kT0b], ITU-R P.372 (constants
-/// in REFERENCES.md §5.3). `frequency_hz` > 0; outside 0.3–250 MHz the fit is extrapolated (callers
+/// in docs/references.md §5.3). `frequency_hz` > 0; outside 0.3–250 MHz the fit is extrapolated (callers
 /// flag it with man_made_noise_in_range()).
 [[nodiscard]] double man_made_noise_figure_db(Environment environment, double frequency_hz);
-/// Galactic noise figure F_am = 52 − 23·log10(f_MHz) [dB], P.372-16 eq. (13) via REFERENCES.md
+/// Galactic noise figure F_am = 52 − 23·log10(f_MHz) [dB], P.372-16 eq. (13) via docs/references.md
 /// §5.3; only meaningful above the ionospheric cut-off (roughly above 10–20 MHz) up to ~100 MHz.
 [[nodiscard]] double galactic_noise_figure_db(double frequency_hz);
 /// True when `frequency_hz` lies in the fitted range of the man-made noise model.
@@ -35,7 +35,7 @@ inline constexpr double man_made_noise_max_hz = 250e6;
 
 /// Noise field strength in `bandwidth_hz` for a noise figure `noise_figure_db` [dB above kT0b]:
 /// E_n = F_a + 20·log10(f_MHz) + 10·log10(b_Hz) − 95.5 [dBµV/m] (short vertical monopole over
-/// perfect ground; REFERENCES.md §5.3, constant −95.5 from memory).
+/// perfect ground; docs/references.md §5.3, constant −95.5 from memory).
 [[nodiscard]] double noise_field_dbuvm(double noise_figure_db, double frequency_hz, double bandwidth_hz);
 
 /// The man-made noise field of `environment` in `bandwidth_hz` at `frequency_hz` [dBµV/m]. Only the

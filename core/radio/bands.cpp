@@ -15,7 +15,7 @@ std::string modulation_name(Modulation modulation) { return modulation == Modula
 
 namespace {
 
-// Typical service values used when a user band does not give its own (REFERENCES.md §5.1-5.2):
+// Typical service values used when a user band does not give its own (docs/references.md §5.1-5.2):
 // AM: minimum usable field "of the order of 1 mV/m" = 60 dBµV/m with the 40 dB co-channel
 // protection ratio (ITU-R BS.560); FM: 48 dBµV/m mono, rural, in the presence of interference
 // (ITU-R BS.412, from memory) with the 36 dB mono steady co-channel ratio (BS.412, from memory).

@@ -95,7 +95,7 @@ struct BandPlan {
 ///   ground_reflection = false    optional: +6 dB for a reflecting ground (see core/radio/radiated.hpp)
 ///   [[broadcast.band]]           user bands, keys as in a plan file; `wanted_field` and
 ///                                `protection_ratio` default to the service's usual values (am: 60
-///                                dBµV/m, 40 dB; fm: 48 dBµV/m, 36 dB; REFERENCES.md §5.1–5.2)
+///                                dBµV/m, 40 dB; fm: 48 dBµV/m, 36 dB; docs/references.md §5.1–5.2)
 struct BroadcastSpec {
   int region = 1;
   double distance_m = 3.0;

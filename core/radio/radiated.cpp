@@ -36,7 +36,7 @@ double cm_cable_field_v_per_m(double frequency_hz, double cable_length_m, double
 }
 
 double dm_loop_field_v_per_m(double frequency_hz, double loop_area_m2, double dm_current_a, double distance_m) {
-  // Paul eq. (7.9a): |E| = (π·µ0/c)·f²·A·I/r, the constant 1.3169e-14 (REFERENCES.md §6.1 [D]).
+  // Paul eq. (7.9a): |E| = (π·µ0/c)·f²·A·I/r, the constant 1.3169e-14 (docs/references.md §6.1 [D]).
   return std::numbers::pi * mu0_h_per_m / c_m_per_s * frequency_hz * frequency_hz * loop_area_m2 *
          std::abs(dm_current_a) / distance_m;
 }

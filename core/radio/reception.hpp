@@ -85,7 +85,7 @@ struct BandReception {
 /// The radiation setup of a [broadcast] section.
 [[nodiscard]] RadiationSetup radiation_setup(const BroadcastSpec& spec);
 
-/// Bands CSV (DESIGN.md §4): `band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit`,
+/// Bands CSV (docs/design.md §4): `band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit`,
 /// one row per band; worst_channel_hz and worst_level empty when no channel hears anything; region 0
 /// for a user band; unit "dBµV/m".
 [[nodiscard]] std::string bands_csv(const std::vector<BandReception>& results);

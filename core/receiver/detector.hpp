@@ -29,7 +29,7 @@ enum class Detector {
 /// `expected one of peak, quasi-peak or average, found "qp"`.
 [[nodiscard]] Detector detector_from_string(std::string_view name);
 
-/// The time constants of CISPR 16-1-1 for one band (REFERENCES.md §1.1, from memory).
+/// The time constants of CISPR 16-1-1 for one band (docs/references.md §1.1, from memory).
 struct DetectorTimeConstants {
   double charge_s = 1e-3;       ///< [s] QP electrical charge time constant (63 % definition)
   double discharge_s = 0.160;   ///< [s] QP electrical discharge time constant (37 % definition)
@@ -37,7 +37,7 @@ struct DetectorTimeConstants {
 };
 
 // ---------------------------------------------------------------------------------------------
-// Quasi-peak detector: a half-wave diode peak detector driven by the IF carrier (REFERENCES.md §1.4a).
+// Quasi-peak detector: a half-wave diode peak detector driven by the IF carrier (docs/references.md §1.4a).
 // The diode conducts while e·cos(ωt) > V; averaged over one IF cycle the charging current is
 // (e/(π·Rc))·(sin φ − φ·cos φ), cos φ = V/e (textbook half-wave peak-rectifier analysis), so
 //   dV/dt = e·g(V/e)/(Rc·C) − V/(Rd·C),   g(r) = (sin φ − φ·cos φ)/π,  cos φ = r  (g = 0 for r >= 1).
@@ -45,7 +45,7 @@ struct DetectorTimeConstants {
 // it is solved so that a suddenly applied sine makes V reach 63 % of its final value at the
 // nominal charge time (the standard's definition of the electrical charge time constant). An
 // envelope-domain RC with the nominal constant reads 0.5-2.3 dB low at low PRF in bands B and C/D
-// (REFERENCES.md §1.4); the diode model follows the definitions and needs no fitted factor.
+// (docs/references.md §1.4); the diode model follows the definitions and needs no fitted factor.
 
 /// g(r) = (sin φ − φ·cos φ)/π with cos φ = r, for 0 <= r < 1; 0 for r >= 1; 1/π for r <= 0.
 [[nodiscard]] double diode_charge_function(double ratio);
@@ -93,8 +93,8 @@ struct DetectorReadings {
 ///   peak       = max envelope / √2 (log-parabolic interpolation between samples: exact for the
 ///                Gaussian envelope of an impulse)
 ///   quasi-peak = max of the meter output driven by the diode-detector voltage / (cos φ_f·√2)
-///   average    = max of the meter output driven by the envelope / √2 (CISPR average, REFERENCES.md §1.6)
-/// The meter is 1/(1 + s·T_L)² (critically damped, REFERENCES.md §1.1).
+///   average    = max of the meter output driven by the envelope / √2 (CISPR average, docs/references.md §1.6)
+/// The meter is 1/(1 + s·T_L)² (critically damped, docs/references.md §1.1).
 [[nodiscard]] DetectorReadings read_periodic_envelope(std::span<const double> envelope, double sample_interval_s,
                                                       const DetectorModel& model);
 

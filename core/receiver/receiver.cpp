@@ -38,7 +38,7 @@ CisprBand band_from_string(std::string_view name) {
 }
 
 BandParameters band_parameters(CisprBand band) {
-  // CISPR 16-1-1 bands, 6 dB bandwidths and QP/meter time constants: REFERENCES.md §1.1 (from
+  // CISPR 16-1-1 bands, 6 dB bandwidths and QP/meter time constants: docs/references.md §1.1 (from
   // memory; a public encyclopedia mirror and an analyser manual agree).
   switch (band) {
     case CisprBand::A: return {CisprBand::A, 9e3, 150e3, 200.0, {45e-3, 500e-3, 160e-3}};

@@ -29,7 +29,7 @@ enum class CisprBand { A, B, C, D };
 /// Like find_band; throws Error (no position): `expected one of A, B, C or D, found "E"`.
 [[nodiscard]] CisprBand band_from_string(std::string_view name);
 
-/// The receiver parameters of a band: CISPR 16-1-1 values as listed in REFERENCES.md §1.1 (from
+/// The receiver parameters of a band: CISPR 16-1-1 values as listed in docs/references.md §1.1 (from
 /// memory, two public secondary sources agree).
 struct BandParameters {
   CisprBand band = CisprBand::B;
@@ -58,17 +58,17 @@ struct ReceiverSpec {
 // ---------------------------------------------------------------------------------------------
 // IF selectivity: Gaussian, |H(f)| = exp(-4·ln2·(f - f_tuned)²/B6²), so |H| = 1/2 (-6.02 dB) at
 // ±B6/2. A Gaussian meets the CISPR 16-1-1 selectivity mask only approximately; the mask itself is
-// not reproduced here (REFERENCES.md §1.2: mask values not confirmed). tests/receiver/receiver_test.cpp
+// not reproduced here (docs/references.md §1.2: mask values not confirmed). tests/receiver/receiver_test.cpp
 // checks the simulated shape in every band against this Gaussian down to -60 dB and the 6 dB
 // bandwidth against a ±10 % tolerance (from memory).
 
 /// Gain of the Gaussian IF filter (linear, <= 1) at `offset_hz` from the tuned frequency.
 [[nodiscard]] double if_gain(double offset_hz, double bandwidth_6db_hz);
-/// Impulse bandwidth of the Gaussian filter: 1.0645·B6 (= sqrt(pi/(4 ln2))·B6; REFERENCES.md §1.2).
+/// Impulse bandwidth of the Gaussian filter: 1.0645·B6 (= sqrt(pi/(4 ln2))·B6; docs/references.md §1.2).
 [[nodiscard]] double impulse_bandwidth_hz(double bandwidth_6db_hz);
-/// Equivalent noise bandwidth: 0.7527·B6 (= sqrt(pi/(8 ln2))·B6; REFERENCES.md §1.2).
+/// Equivalent noise bandwidth: 0.7527·B6 (= sqrt(pi/(8 ln2))·B6; docs/references.md §1.2).
 [[nodiscard]] double noise_bandwidth_hz(double bandwidth_6db_hz);
-/// The default scan step: B6/4 (worst-case Gaussian scalloping 0.38 dB, REFERENCES.md §1.2).
+/// The default scan step: B6/4 (worst-case Gaussian scalloping 0.38 dB, docs/references.md §1.2).
 [[nodiscard]] double default_step_hz(CisprBand band);
 /// Tuned frequencies start_hz + k·step_hz for k = 0, 1, ... while <= stop_hz (1e-9 relative slack).
 [[nodiscard]] std::vector<double> tuned_frequencies(CisprBand band, double step_hz);

@@ -15,7 +15,7 @@ enum class Quantity { voltage, current };
 [[nodiscard]] inline std::string level_unit(Quantity q) {
   return q == Quantity::voltage ? "dB\xC2\xB5V" : "dB\xC2\xB5" "A";
 }
-/// CSV column suffix: "dbuv" or "dbua" (DESIGN.md §4 column names).
+/// CSV column suffix: "dbuv" or "dbua" (docs/design.md §4 column names).
 [[nodiscard]] inline std::string level_suffix(Quantity q) {
   return q == Quantity::voltage ? "dbuv" : "dbua";
 }

@@ -1,10 +1,10 @@
 // The whole chain: source -> conducted path -> receiver -> limits -> bands.
 // External checks: the DM/CM decomposition of a two-LISN set-up (C. R. Paul, Introduction to EMC,
-// 2nd ed., §6.2; REFERENCES.md §2.3: a DM source sees the two 50 Ω ports in series, a CM source
+// 2nd ed., §6.2; docs/references.md §2.3: a DM source sees the two 50 Ω ports in series, a CM source
 // sees them in parallel) with the CISPR 16-1-2 V-network impedance 50 ‖ (5 + jω·50 µH); the
 // CISPR 16-1-1 calibration (an isolated line reads its RMS value on every detector); and the
 // direction of the spread-spectrum effect (Rahkala, Suntio & Kalliomäki: dithering lowers the
-// quasi-peak and average readings, typically by 5-10 dB; REFERENCES.md §8.1).
+// quasi-peak and average readings, typically by 5-10 dB; docs/references.md §8.1).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -105,7 +105,7 @@ TEST_CASE("an isolated harmonic reads its RMS on every detector, and the margin 
     }
   }
   CHECK(found);
-  // CISPR 32 class B QP at 220 kHz: 66 - 10·log10(220/150)/log10(500/150) (REFERENCES.md §3.2).
+  // CISPR 32 class B QP at 220 kHz: 66 - 10·log10(220/150)/log10(500/150) (docs/references.md §3.2).
   const double limit_qp = 66.0 - 10.0 * std::log10(220.0 / 150.0) / std::log10(500.0 / 150.0);
   bool margin_found = false;
   for (const MarginRow& row : p.margins.rows) {
@@ -149,7 +149,7 @@ TEST_CASE("dither lowers the average and quasi-peak readings at the fundamental"
   CAPTURE(av_dither);
   CAPTURE(qp_plain);
   CAPTURE(qp_dither);
-  // ±32 kHz of sweep across a 9 kHz RBW: the average falls by several dB (REFERENCES.md §8.2).
+  // ±32 kHz of sweep across a 9 kHz RBW: the average falls by several dB (docs/references.md §8.2).
   CHECK(av_dither < av_plain - 3.0);
   CHECK(qp_dither < qp_plain);
   CHECK(qp_dither > qp_plain - 25.0);

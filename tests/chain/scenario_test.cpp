@@ -1,6 +1,6 @@
 // The scenario loader: every example loads; errors name file:line:column and what was expected.
 // External check: the TOML 1.0 specification's position conventions (1-based lines and columns,
-// as toml++ reports them) and DESIGN.md §5's keys.
+// as toml++ reports them) and docs/design.md §5's keys.
 #include <doctest/doctest.h>
 
 #include <filesystem>

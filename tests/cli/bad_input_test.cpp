@@ -1,5 +1,5 @@
 // The bad-input corpus, end to end through the CLI (issue 9): every case under tests/data/bad/<loader>/
-// must make `spurcast` exit with code 2 (DESIGN.md §4: "2 = bad input or usage"), print exactly the
+// must make `spurcast` exit with code 2 (docs/design.md §4: "2 = bad input or usage"), print exactly the
 // expected message as the first line of stderr, and create nothing at the output path it was given.
 //
 // Layout of a loader folder:

@@ -1,8 +1,8 @@
 // End-to-end tests of `spurcast compare` and `spurcast limits` (run through SPURCAST_EXECUTABLE):
-// exit codes of DESIGN.md §4 (0 every limit met, 1 exceeded or under the guard band, 2 bad input),
+// exit codes of docs/design.md §4 (0 every limit met, 1 exceeded or under the guard band, 2 bad input),
 // output files written only on success, via a temporary file renamed into place.
 // The traces here are invented test inputs; the limit values they are checked against come from
-// the shipped CISPR 32 class B file (REFERENCES.md §3.1).
+// the shipped CISPR 32 class B file (docs/references.md §3.1).
 #include <doctest/doctest.h>
 
 #include "cli_support.hpp"
@@ -80,7 +80,7 @@ TEST_CASE("compare: every limit met -> exit 0, margins CSV written") {
 }
 
 TEST_CASE("compare: a margin under the guard band -> exit 1 (marginal)") {
-  // CISPR 32 class B average at 1 MHz is 46 dBµV (REFERENCES.md §3.1): a 42 dBµV peak leaves 4 dB < 6 dB.
+  // CISPR 32 class B average at 1 MHz is 46 dBµV (docs/references.md §3.1): a 42 dBµV peak leaves 4 dB < 6 dB.
   const fs::path dir = fresh_directory("marginal");
   write_text(dir / "trace.csv", trace_csv(30.0, 42.0));
   const RunResult r = run(dir, "compare trace.csv --limits cispr32-class-b-conducted");
@@ -114,7 +114,7 @@ TEST_CASE("compare: a limit exceeded -> exit 1, re-measure list and prediction s
 }
 
 TEST_CASE("compare: correction tables are added to the reading") {
-  // Sign convention: corrected = reading + correction (REFERENCES.md §2.3: the VDF "is added to the
+  // Sign convention: corrected = reading + correction (docs/references.md §2.3: the VDF "is added to the
   // receiver reading"). 40 dBµV flat leaves 6 dB to the 46 dBµV average line: pass; +1 dB: marginal.
   const fs::path dir = fresh_directory("correction");
   write_text(dir / "trace.csv", trace_csv(40.0, 40.0));
@@ -126,7 +126,7 @@ TEST_CASE("compare: correction tables are added to the reading") {
 }
 
 TEST_CASE("compare: dBm traces are converted for 50 ohm") {
-  // 0 dBm = 106.99 dBµV (REFERENCES.md §9.2 [D]); -67 dBm = 39.99 dBµV: 6.01 dB under 46 dBµV.
+  // 0 dBm = 106.99 dBµV (docs/references.md §9.2 [D]); -67 dBm = 39.99 dBµV: 6.01 dB under 46 dBµV.
   const fs::path dir = fresh_directory("dbm");
   write_text(dir / "trace.csv", trace_csv(-67.0, -67.0, "frequency_hz,level"));
   const RunResult r = run(dir, "compare trace.csv --limits cispr32-class-b-conducted --unit dBm");

@@ -117,7 +117,7 @@ nlohmann::json check_report_folder(const fs::path& folder) {
   const std::string verdict = summary.at("verdict");
   CHECK((verdict == "pass" || verdict == "marginal" || verdict == "fail"));
 
-  // Column headers are interface (DESIGN.md §4).
+  // Column headers are interface (docs/design.md §4).
   CHECK(lines_of(read_file(folder / "spectrum.csv"))[0] == "harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv");
   CHECK(lines_of(read_file(folder / "margins.csv"))[0] == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit");
   CHECK(lines_of(read_file(folder / "bands.csv"))[0] == "band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit");
@@ -200,7 +200,7 @@ TEST_CASE("predict on every example writes a whole report and exits with the doc
     const Run r = run(quote(executable) + " predict " + quote(example.string()) + " -o " + out, work);
     CHECK_MESSAGE(r.err.empty(), r.err);
     const nlohmann::json summary = check_report_folder(fs::path(work) / out);
-    // Exit codes (DESIGN.md §4): 0 every limit met; 1 a limit exceeded or a margin under the guard.
+    // Exit codes (docs/design.md §4): 0 every limit met; 1 a limit exceeded or a margin under the guard.
     CHECK(r.status == (summary.at("verdict") == "pass" ? 0 : 1));
     CHECK(r.out.find("verdict: " + summary.at("verdict").get<std::string>()) != std::string::npos);
     CHECK(r.out.find("report written to " + out + "/") != std::string::npos);

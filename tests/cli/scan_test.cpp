@@ -79,7 +79,7 @@ TEST_CASE("scan: band B grid into CSV with the documented columns") {
   std::ifstream in(dir / "scan.csv");
   std::string header;
   std::getline(in, header);
-  CHECK(header == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");  // DESIGN.md §4
+  CHECK(header == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");  // docs/design.md §4
   std::size_t rows = 0;
   for (std::string line; std::getline(in, line);) ++rows;
   CHECK(rows == 6634);  // 150 kHz + k·4.5 kHz up to 30 MHz

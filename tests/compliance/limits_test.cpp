@@ -1,5 +1,5 @@
 // Limit lines: the format, the loader's errors, and every shipped file against the values of the
-// table it cites (REFERENCES.md §3, §10).
+// table it cites (docs/references.md §3, §10).
 #include <doctest/doctest.h>
 
 #include <algorithm>
@@ -24,7 +24,7 @@ double level(const LimitSet& set, Detector detector, double frequency_hz) {
   return *value;
 }
 
-// Slow twin of the sloped segment: REFERENCES.md §3.2, L(f) = L1 + (L2 − L1)·log10(f/f1)/log10(f2/f1).
+// Slow twin of the sloped segment: docs/references.md §3.2, L(f) = L1 + (L2 − L1)·log10(f/f1)/log10(f2/f1).
 double log_interpolated(double f, double f1, double f2, double l1, double l2) {
   return l1 + (l2 - l1) * std::log10(f / f1) / std::log10(f2 / f1);
 }
@@ -34,7 +34,7 @@ std::string bad(const std::string& name) { return source_dir + "/tests/data/limi
 }  // namespace
 
 TEST_CASE("sloped segment of CISPR 32 class B conducted is linear in log-frequency") {
-  // REFERENCES.md §3.2 [D from F: FCC 15.107 note "decreases with the logarithm of the frequency";
+  // docs/references.md §3.2 [D from F: FCC 15.107 note "decreases with the logarithm of the frequency";
   // EN 55022 table "decreasing with Log (Freq.)"], table values given to 2 decimals.
   const double tol_db = 0.006;
   for (const char* name : {"cispr32-class-b-conducted", "fcc15-107-class-b-conducted"}) {
@@ -60,7 +60,7 @@ TEST_CASE("sloped segment of CISPR 32 class B conducted is linear in log-frequen
 }
 
 TEST_CASE("the lower limit applies at a boundary frequency") {
-  // REFERENCES.md §10 item 16 [F: FCC 15.107 "The lower limit applies at the band edges"]:
+  // docs/references.md §10 item 16 [F: FCC 15.107 "The lower limit applies at the band edges"]:
   // class B QP at 0.5 MHz is 56, at 5 MHz 56 (not 60).
   const double tol_db = 1e-9;
   for (const char* name : {"cispr32-class-b-conducted", "fcc15-107-class-b-conducted", "cispr11-group1-class-b-conducted"}) {
@@ -75,7 +75,7 @@ TEST_CASE("the lower limit applies at a boundary frequency") {
     CHECK_FALSE(set.line_for(Detector::quasi_peak)->level_at(149e3).has_value());
     CHECK_FALSE(set.line_for(Detector::quasi_peak)->level_at(30.1e6).has_value());
   }
-  // 230 MHz in the CISPR 32 radiated tables: the lower (30–230 MHz) value, REFERENCES.md §3.4.
+  // 230 MHz in the CISPR 32 radiated tables: the lower (30–230 MHz) value, docs/references.md §3.4.
   CHECK(std::abs(level(shipped("cispr32-class-b-radiated-10m"), Detector::quasi_peak, 230e6) - 30.0) < tol_db);
 }
 
@@ -98,9 +98,9 @@ segment = [ { from = "150 kHz", to = "5 MHz", level = "56 dBuV" },
 }
 
 TEST_CASE("class A conducted files hold the values of their tables") {
-  // REFERENCES.md §10 item 17 [F: FCC 15.107(b)]: 0.15–0.5 MHz 79/66; 0.5–30 MHz 73/60. The same
+  // docs/references.md §10 item 17 [F: FCC 15.107(b)]: 0.15–0.5 MHz 79/66; 0.5–30 MHz 73/60. The same
   // values for CISPR 32 class A [F: EN 55022 table] and CISPR 11 group 1 class A up to 20 kVA [F: EN 55011
-  // figures in a public declaration], REFERENCES.md §3.1.
+  // figures in a public declaration], docs/references.md §3.1.
   const double tol_db = 1e-9;
   for (const char* name : {"fcc15-107-class-a-conducted", "cispr32-class-a-conducted", "cispr11-group1-class-a-conducted"}) {
     CAPTURE(name);
@@ -119,7 +119,7 @@ TEST_CASE("class A conducted files hold the values of their tables") {
 }
 
 TEST_CASE("class B conducted files hold the values of their tables") {
-  // REFERENCES.md §3.1: FCC 15.107(a) [F: hallikainen.org], CISPR 32 class B [F: EN 55022 table],
+  // docs/references.md §3.1: FCC 15.107(a) [F: hallikainen.org], CISPR 32 class B [F: EN 55022 table],
   // CISPR 11 group 1 class B [M, high] (from memory): 66→56 / 56→46, 56 / 46, 60 / 50.
   const double tol_db = 1e-9;
   for (const char* name : {"fcc15-107-class-b-conducted", "cispr32-class-b-conducted", "cispr11-group1-class-b-conducted"}) {
@@ -136,7 +136,7 @@ TEST_CASE("class B conducted files hold the values of their tables") {
 }
 
 TEST_CASE("CISPR 32 radiated files hold the values of their tables") {
-  // REFERENCES.md §10 item 18 [F: emc-pstc msg64453 quoting CISPR 32:2012 Table A.4]: class B 3 m
+  // docs/references.md §10 item 18 [F: emc-pstc msg64453 quoting CISPR 32:2012 Table A.4]: class B 3 m
   // 100 MHz → 40, 300 MHz → 47; 10 m → 30 / 37. Class A [F: test-report page, §3.4]: 10 m 40/47, 3 m 50/57.
   const double tol_db = 1e-9;
   struct Row {
@@ -278,7 +278,7 @@ segment = [ { from = "150 kHz", to = "30 MHz", level = "40 dBuV" } ]
 
   const toml::table defaults = parse_toml_text("files = []\n", "s.toml");
   TableReader default_reader(defaults, "s.toml", "limits");
-  // A 6 dB pre-compliance margin is common practice (REFERENCES.md §7).
+  // A 6 dB pre-compliance margin is common practice (docs/references.md §7).
   CHECK(std::abs(read_limits_section(default_reader, ".").guard_db - 6.0) < tol_db);
 
   const toml::table missing = parse_toml_text("files = [\"a.toml\", \"no-such-line\"]\n", "m.toml");

@@ -1,5 +1,5 @@
-// Margins, verdict and U_cispr. Margin = limit − reading (DESIGN.md §6); verdict with the guard band;
-// CISPR 16-4-2 U_cispr values of REFERENCES.md §7 (from memory).
+// Margins, verdict and U_cispr. Margin = limit − reading (docs/design.md §6); verdict with the guard band;
+// CISPR 16-4-2 U_cispr values of docs/references.md §7 (from memory).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -37,7 +37,7 @@ TEST_CASE("verdict with the guard band") {
   CHECK(to_string(Verdict::marginal) == "marginal");
 }
 
-TEST_CASE("U_cispr per CISPR 16-4-2 (REFERENCES.md §7, from memory)") {
+TEST_CASE("U_cispr per CISPR 16-4-2 (docs/references.md §7, from memory)") {
   const double tol_db = 1e-12;
   CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::conducted_voltage, 100e3) - 3.8) < tol_db);
   CHECK(std::abs(*cispr_uncertainty_db(LimitQuantity::conducted_voltage, 150e3) - 3.4) < tol_db);
@@ -50,7 +50,7 @@ TEST_CASE("U_cispr per CISPR 16-4-2 (REFERENCES.md §7, from memory)") {
 
 TEST_CASE("margins of receiver readings against CISPR 32 class B") {
   const double tol_db = 1e-9;
-  // Limits: REFERENCES.md §3.1/§3.2: QP 56 at 1 MHz, AV 46 at 1 MHz, QP 60 / AV 50 at 10 MHz.
+  // Limits: docs/references.md §3.1/§3.2: QP 56 at 1 MHz, AV 46 at 1 MHz, QP 60 / AV 50 at 10 MHz.
   const std::vector<FakeScanRow> scan{
       {1e6, 58.0, 52.0, 43.0},   // QP margin 4 (marginal), AV margin 3 (marginal)
       {10e6, 55.0, 50.0, 51.0},  // QP margin 10, AV margin -1 (fail)
@@ -87,7 +87,7 @@ TEST_CASE("margins of receiver readings against CISPR 32 class B") {
   CHECK(peak_only.not_compared == 3);
   CHECK_FALSE(peak_only.worst.has_value());
 
-  // Pre-scan rule: peak >= QP >= AV (REFERENCES.md §10 item 30), a peak reading meets every line.
+  // Pre-scan rule: peak >= QP >= AV (docs/references.md §10 item 30), a peak reading meets every line.
   const MarginReport prescan = compare_with_limits(readings_from_scan(scan, {Detector::peak}), {class_b()},
                                                    {.guard_db = 6.0, .peak_against_every_line = true});
   CHECK(prescan.rows.size() == 4);
@@ -117,9 +117,9 @@ TEST_CASE("closest rows keep one row per frequency and respect the separation") 
   CHECK(report.closest[0].limit_detector == Detector::average);
 }
 
-TEST_CASE("margins CSV columns (DESIGN.md §4)") {
+TEST_CASE("margins CSV columns (docs/design.md §4)") {
   const MarginReport report = compare_with_limits({{250e3, Detector::quasi_peak, 60.0}}, {class_b()});
-  // 61.76 dBµV at 250 kHz, REFERENCES.md §3.2.
+  // 61.76 dBµV at 250 kHz, docs/references.md §3.2.
   CHECK(margins_csv(report) ==
         "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n"
         "250000,quasi-peak,60.00,61.76,1.76,\"CISPR 32 class B, AC mains port / quasi-peak\"\n");

@@ -23,7 +23,7 @@ LimitSet class_b() { return read_limit_file(source_dir + "/limits/cispr32-class-
 }  // namespace
 
 TEST_CASE("dBm traces are converted for 50 ohm: 0 dBm = 106.99 dBuV") {
-  // REFERENCES.md §9.2 and §10 item 27 [D]: 10·log10(50 Ω · 1 mW) + 120 = 106.99 dB.
+  // docs/references.md §9.2 and §10 item 27 [D]: 10·log10(50 Ω · 1 mW) + 120 = 106.99 dB.
   const double tol_db = 0.005;
   const MeasuredTrace trace = parse_trace_csv("frequency_hz,level_dbm\n1e6,0\n2e6,-50\n", "t.csv");
   CHECK(trace.unit == TraceUnit::dbm);
@@ -65,7 +65,7 @@ TEST_CASE("trace CSV errors carry file:line:column") {
 
 TEST_CASE("correction tables: linear in log-frequency, added to the reading") {
   // Sign convention: corrected = reading + correction (LISN voltage-division factor is added to the
-  // receiver reading, REFERENCES.md §2.3 [F: emc-pstc msg57218]).
+  // receiver reading, docs/references.md §2.3 [F: emc-pstc msg57218]).
   const CorrectionTable vdf = parse_correction_csv("frequency_hz,correction_db\n150e3,2\n1.5e6,0\n", "vdf.csv");
   const double tol_db = 1e-9;
   // Halfway in log10(f) between 150 kHz and 1.5 MHz is 474.34 kHz: 1 dB.
@@ -123,7 +123,7 @@ TEST_CASE("scan CSV of a prediction") {
 }
 
 TEST_CASE("pre-scan re-measure list: local maxima within the guard band, merged within a few RBW") {
-  // Class B limits at 1 MHz: QP 56, AV 46 (REFERENCES.md §3.1). Guard 6 dB.
+  // Class B limits at 1 MHz: QP 56, AV 46 (docs/references.md §3.1). Guard 6 dB.
   // Emission A at 1 MHz, peak 48: AV margin -2 (re-measure AV), QP margin 8 (proven by the peak).
   // Emission B at 1.010 MHz (2 points of a 5 kHz grid above A, within 3 x 9 kHz): merged into A.
   // Emission C at 3 MHz, peak 52: QP margin 4 and AV margin -6: both detectors.
@@ -176,7 +176,7 @@ TEST_CASE("pre-scan re-measure list: local maxima within the guard band, merged 
 }
 
 TEST_CASE("prescan RBW follows the CISPR 16-1-1 bands") {
-  // REFERENCES.md §1.1 [F]: 200 Hz, 9 kHz, 120 kHz; band E 1 MHz.
+  // docs/references.md §1.1 [F]: 200 Hz, 9 kHz, 120 kHz; band E 1 MHz.
   const double tol_hz = 1e-9;
   CHECK(std::abs(prescan_rbw_hz(100e3) - 200.0) < tol_hz);
   CHECK(std::abs(prescan_rbw_hz(1e6) - 9e3) < tol_hz);

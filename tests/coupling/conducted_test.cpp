@@ -3,12 +3,12 @@
 //  - the trapezoidal pulse train's Fourier coefficients, C. R. Paul, Introduction to Electromagnetic
 //    Compatibility, 2nd ed., Wiley 2006, §3.2 (spectrum of a trapezoidal pulse train, two sinc
 //    factors; equation number from memory not given);
-//  - the LISN closed form 50 Ω ∥ (R_d + jωL) (REFERENCES.md §2.2 [D]) and the nodal closed forms of
+//  - the LISN closed form 50 Ω ∥ (R_d + jωL) (docs/references.md §2.2 [D]) and the nodal closed forms of
 //    the set-up written out here by hand: a DM current source across the input capacitor sees the
 //    two LISNs in series (100 Ω at high frequency), a CM source sees them in parallel (25 Ω), each
-//    port reads 50 Ω × its line current (REFERENCES.md §2.3 [D]);
+//    port reads 50 Ω × its line current (docs/references.md §2.3 [D]);
 //  - the 6 dB between one network per line and a single network with the return bonded at the EUT
-//    (REFERENCES.md §2.3 [D]; common practice).
+//    (docs/references.md §2.3 [D]; common practice).
 // The FFT waveform path is checked against the harmonic path (its slow twin).
 #include <doctest/doctest.h>
 
@@ -53,7 +53,7 @@ cd capacitor_z(double c, double esr, double esl, double f) {
 }
 
 CouplingSpec example_coupling() {
-  CouplingSpec c;  // the DESIGN.md §5 example values
+  CouplingSpec c;  // the docs/design.md §5 example values
   c.input_capacitance_f = 4.7e-6;
   c.input_esr_ohm = 8e-3;
   c.input_esl_h = 1.5e-9;

@@ -1,10 +1,10 @@
 // LISN sub-circuits, computed through the MNA engine. External checks:
-//  - REFERENCES.md §2.2 [D]: |Z| and phase of 50 Ω ∥ (50 µH + 5 Ω) (CISPR 16-1-2 V-network) and of
+//  - docs/references.md §2.2 [D]: |Z| and phase of 50 Ω ∥ (50 µH + 5 Ω) (CISPR 16-1-2 V-network) and of
 //    50 Ω ∥ (5 µH + 1 Ω) (CISPR 25 artificial network), tabulated to 3 decimals / 2 decimals;
 //  - C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed., Wiley 2006, Problem 6.1.1
-//    (via REFERENCES.md §2.1): his LISN (50 µH, 0.1 µF coupling, 50 Ω ∥ 1 kΩ port) has an input
+//    (via docs/references.md §2.1): his LISN (50 µH, 0.1 µF coupling, 50 Ω ∥ 1 kΩ port) has an input
 //    impedance of 38.31 Ω at 150 kHz and 47.62 Ω at 30 MHz;
-//  - the CISPR 16-1-2 impedance tolerance ±20 % / ±11.5°, from memory (REFERENCES.md §2.2 [M]).
+//  - the CISPR 16-1-2 impedance tolerance ±20 % / ±11.5°, from memory (docs/references.md §2.2 [M]).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -52,7 +52,7 @@ void check_table(LisnModel model, const std::vector<Row>& rows) {
 
 }  // namespace
 
-TEST_CASE("CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) through MNA: REFERENCES.md §2.2 table") {
+TEST_CASE("CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) through MNA: docs/references.md §2.2 table") {
   check_table(LisnModel::v_network_50uh, {{9e3, 5.215, 26.54},
                                           {150e3, 32.715, 43.35},
                                           {500e3, 47.215, 17.47},
@@ -62,7 +62,7 @@ TEST_CASE("CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) through MNA: REFEREN
                                           {30e6, 49.999, 0.30}});
 }
 
-TEST_CASE("CISPR 25 artificial network 50 Ω ∥ (5 µH + 1 Ω) through MNA: REFERENCES.md §2.2 table") {
+TEST_CASE("CISPR 25 artificial network 50 Ω ∥ (5 µH + 1 Ω) through MNA: docs/references.md §2.2 table") {
   check_table(LisnModel::v_network_5uh, {{100e3, 3.226, 68.82},
                                          {150e3, 4.703, 72.74},
                                          {500e3, 14.747, 69.24},
@@ -74,7 +74,7 @@ TEST_CASE("CISPR 25 artificial network 50 Ω ∥ (5 µH + 1 Ω) through MNA: REF
 
 TEST_CASE("Paul's LISN (Introduction to EMC, 2nd ed., Problem 6.1.1): 38.31 Ω at 150 kHz, 47.62 Ω at 30 MHz") {
   // 50 µH from the EUT terminal to the (RF-shorted) mains; 0.1 µF into the 50 Ω receiver with the
-  // 1 kΩ resistor across it (Paul, Fig. 6.3, values from Table 6.1 via REFERENCES.md §2.1).
+  // 1 kΩ resistor across it (Paul, Fig. 6.3, values from Table 6.1 via docs/references.md §2.1).
   const double tol_paul_ohm = 0.006;  // Paul quotes two decimals
   Network net;
   const NodeId eut = net.node("eut"), port = net.node("port");
@@ -89,7 +89,7 @@ TEST_CASE("Paul's LISN (Introduction to EMC, 2nd ed., Problem 6.1.1): 38.31 Ω a
 
 TEST_CASE("practical networks: voltage division factor of the coupling capacitor, closed form") {
   // Port / terminal = (R_rx ∥ R_discharge) / (R_rx ∥ R_discharge + 1/(jωC_coupling)): the divider
-  // the lab's voltage-division-factor calibration measures (REFERENCES.md §2.3).
+  // the lab's voltage-division-factor calibration measures (docs/references.md §2.3).
   for (const LisnModel model : {LisnModel::v_network_50uh, LisnModel::v_network_5uh}) {
     CAPTURE(lisn_model_name(model));
     const LisnParts parts = lisn_parts(model);

@@ -1,5 +1,5 @@
 // Units and decibel conversions. External checks: SI prefixes (BIPM SI Brochure, 9th ed., Table 7)
-// and the 50 Ω dBm/dBµV relation (REFERENCES.md §9.2, derived: 10·log10(50e-3) + 120 = 106.99 dB).
+// and the 50 Ω dBm/dBµV relation (docs/references.md §9.2, derived: 10·log10(50e-3) + 120 = 106.99 dB).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -55,7 +55,7 @@ TEST_CASE("a wrong unit for the key is an error that says what was expected") {
   CHECK_THROWS_AS((void)parse_quantity("nan", Dimension::frequency), spurcast::Error);
 }
 
-TEST_CASE("decibel conversions (REFERENCES.md §9.2, derived)") {
+TEST_CASE("decibel conversions (docs/references.md §9.2, derived)") {
   CHECK(std::fabs(spurcast::dbm_to_dbuv_50ohm(0.0) - 106.99) < tol_db);
   CHECK(spurcast::volts_to_dbuv(1e-3) == doctest::Approx(60.0));
   CHECK(spurcast::volts_to_dbuv(0.0) == doctest::Approx(spurcast::level_floor_db));

@@ -150,7 +150,7 @@ std::string check_html(const std::string& page) {
 
 }  // namespace
 
-TEST_CASE("spectrum.csv: the LISN columns of DESIGN.md section 4, level = the higher line, fixed decimals") {
+TEST_CASE("spectrum.csv: the LISN columns of docs/design.md section 4, level = the higher line, fixed decimals") {
   // dBµV = 20·log10(V / 1 µV) (definition of the unit): 1 mV = 60 dBµV, 10 µV = 20 dBµV.
   const std::vector<std::string> lines = lines_of(lisn_spectrum_csv(hand_prediction()));
   REQUIRE(lines.size() == 3);
@@ -194,7 +194,7 @@ TEST_CASE("scan.csv: one ascending list over the bands; 30 MHz once, from band B
   CHECK(lines[4] == "31000000.0,20.00,19.00,18.00");
 }
 
-TEST_CASE("summary.json: the keys of DESIGN.md section 4 and values as the CSVs print them") {
+TEST_CASE("summary.json: the keys of docs/design.md section 4 and values as the CSVs print them") {
   const Prediction p = hand_prediction();
   const std::vector<std::string> files{"scan.csv", "summary.json"};
   const nlohmann::json j = nlohmann::json::parse(summary_json(p, files));
@@ -211,7 +211,7 @@ TEST_CASE("summary.json: the keys of DESIGN.md section 4 and values as the CSVs 
   CHECK(j.at("files") == files);
   CHECK(j.at("title") == "R&D buck <bench>");
   CHECK(j.at("guard_db").get<double>() == doctest::Approx(6.0));
-  CHECK(j.at("uncertainty_db").get<double>() == doctest::Approx(3.4));  // CISPR 16-4-2, REFERENCES.md §7 (from memory)
+  CHECK(j.at("uncertainty_db").get<double>() == doctest::Approx(3.4));  // CISPR 16-4-2, docs/references.md §7 (from memory)
   // Worst frequencies are distinct emissions, smallest margin first.
   const auto& worst = j.at("worst_frequencies");
   REQUIRE(worst.size() == 3);
@@ -247,7 +247,7 @@ TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up
   CHECK(page.find("0.8 m above the reference ground plane, 0.4 m from a vertical reference plane") != std::string::npos);
   CHECK(page.find("0.3\xE2\x80\x93" "0.4 m") != std::string::npos);
   CHECK(page.find("common practice (from memory; CISPR 16-2-1 / CISPR 32 describe the arrangement)") != std::string::npos);
-  // DESIGN.md §9.
+  // docs/design.md §9.
   CHECK(page.find("hundreds of volts") != std::string::npos);
   CHECK(page.find("bond it to protective earth before mains is applied") != std::string::npos);
   CHECK(page.find("only an accredited test decides") != std::string::npos);

@@ -1,5 +1,5 @@
 // Ambient man-made noise. External checks: ITU-R P.372 man-made noise constants and the derived values
-// of REFERENCES.md §5.3 and §10 item 26 (F_am = c − d·log10 f_MHz; E_n = F_a + 20·log10 f_MHz +
+// of docs/references.md §5.3 and §10 item 26 (F_am = c − d·log10 f_MHz; E_n = F_a + 20·log10 f_MHz +
 // 10·log10 b − 95.5, the −95.5 constant from memory).
 #include <doctest/doctest.h>
 
@@ -15,7 +15,7 @@ const double tol_db = 0.01;
 bool near(double a, double b) { return std::abs(a - b) <= tol_db; }
 }  // namespace
 
-TEST_CASE("P.372 man-made noise figure (REFERENCES.md §10 item 26)") {
+TEST_CASE("P.372 man-made noise figure (docs/references.md §10 item 26)") {
   CHECK(near(man_made_noise_figure_db(Environment::residential, 1e6), 72.50));
   CHECK(near(man_made_noise_figure_db(Environment::city, 10e6), 49.10));
   CHECK(near(man_made_noise_figure_db(Environment::quiet_rural, 100e6), -3.60));
@@ -23,7 +23,7 @@ TEST_CASE("P.372 man-made noise figure (REFERENCES.md §10 item 26)") {
   CHECK(near(man_made_noise_figure_db(Environment::residential, 100e6), 17.10));  // §5.3
 }
 
-TEST_CASE("P.372 noise field in 9 kHz (REFERENCES.md §5.3 derived table)") {
+TEST_CASE("P.372 noise field in 9 kHz (docs/references.md §5.3 derived table)") {
   struct Row {
     Environment environment;
     double fam_1mhz, en_1mhz, fam_10mhz, en_10mhz;

@@ -1,6 +1,6 @@
 // Band plans and the line-to-channel mapping. External checks: band edges and channel rasters of
-// ITU Radio Regulations Article 5 as collected in REFERENCES.md §4 (marked `from memory` where that
-// section marks them [M]), the membership checks of REFERENCES.md §10 item 28, and hand-computed
+// ITU Radio Regulations Article 5 as collected in docs/references.md §4 (marked `from memory` where that
+// section marks them [M]), the membership checks of docs/references.md §10 item 28, and hand-computed
 // harmonic-to-channel cases. The fast mapping (sorted lines, binary search) has a brute-force twin.
 #include <doctest/doctest.h>
 
@@ -92,7 +92,7 @@ TEST_CASE("shipped band plans load and carry their sources") {
   }
 }
 
-TEST_CASE("LW and MW edges and rasters (ITU RR Article 5, REFERENCES.md §4.1)") {
+TEST_CASE("LW and MW edges and rasters (ITU RR Article 5, docs/references.md §4.1)") {
   const BandPlan r1 = load_region_band_plan(1);
   const BandPlan r2 = load_region_band_plan(2);
   const BandPlan r3 = load_region_band_plan(3);
@@ -132,7 +132,7 @@ TEST_CASE("LW and MW edges and rasters (ITU RR Article 5, REFERENCES.md §4.1)")
   CHECK(us_carriers == 117);
 }
 
-TEST_CASE("HF broadcasting bands (ITU RR Article 5 after WRC-97/03/07/12, REFERENCES.md §4.2)") {
+TEST_CASE("HF broadcasting bands (ITU RR Article 5 after WRC-97/03/07/12, docs/references.md §4.2)") {
   struct Edge {
     const char* name;
     double low_khz;
@@ -152,7 +152,7 @@ TEST_CASE("HF broadcasting bands (ITU RR Article 5 after WRC-97/03/07/12, REFERE
       const Band& band = band_named(plan, edge.name);
       CHECK(band.low_hz == doctest::Approx(edge.low_khz * 1e3));
       CHECK(band.high_hz == doctest::Approx(edge.high_khz * 1e3));
-      // 5 kHz raster on HF [F: REFERENCES.md §4.1].
+      // 5 kHz raster on HF [F: docs/references.md §4.1].
       CHECK(band.raster_hz == doctest::Approx(5e3));
       CHECK(band.modulation == Modulation::am);
     }
@@ -168,7 +168,7 @@ TEST_CASE("HF broadcasting bands (ITU RR Article 5 after WRC-97/03/07/12, REFERE
   CHECK_FALSE(plan_has(load_region_band_plan(2), "75 m"));
 }
 
-TEST_CASE("VHF FM edges and rasters (REFERENCES.md §4.3)") {
+TEST_CASE("VHF FM edges and rasters (docs/references.md §4.3)") {
   const BandPlan r1 = load_region_band_plan(1);
   const BandPlan r2 = load_region_band_plan(2);
   const BandPlan r3 = load_region_band_plan(3);
@@ -195,7 +195,7 @@ TEST_CASE("VHF FM edges and rasters (REFERENCES.md §4.3)") {
   CHECK(japan.high_hz == doctest::Approx(95e6));
 }
 
-TEST_CASE("band-plan membership (REFERENCES.md §10 item 28)") {
+TEST_CASE("band-plan membership (docs/references.md §10 item 28)") {
   const BandPlan r1 = load_region_band_plan(1);
   const BandPlan r2 = load_region_band_plan(2);
   const BandPlan r3 = load_region_band_plan(3);
@@ -435,7 +435,7 @@ TEST_CASE("spurcast bands --region 2 --json lists the Region 2 plan (end to end)
   while (std::fgets(buffer, sizeof buffer, pipe) != nullptr) output += buffer;
   const int status = pclose(pipe);
   CHECK(status == 0);
-  // MW of Region 2 on its 10 kHz raster, 530-1700 kHz (REFERENCES.md §4.1).
+  // MW of Region 2 on its 10 kHz raster, 530-1700 kHz (docs/references.md §4.1).
   CHECK(output.find("\"name\": \"ITU Region 2\"") != std::string::npos);
   CHECK(output.find("\"low_hz\": 525000.0") != std::string::npos);
   CHECK(output.find("\"first_channel_hz\": 530000.0") != std::string::npos);

@@ -1,5 +1,5 @@
 // Radiated estimates. External checks: C. R. Paul, Introduction to Electromagnetic Compatibility,
-// 2nd ed., Ex. 7.2 (loop) and the CM cable value of REFERENCES.md §6.2 / §10 items 20, 21 (derived
+// 2nd ed., Ex. 7.2 (loop) and the CM cable value of docs/references.md §6.2 / §10 items 20, 21 (derived
 // there from Paul's formula), the inverse-distance law of a far field (§10 item 27), and the
 // published constants 1.316e-14 (Paul eq. 7.9a) and 1.257e-6 (Paul §8.1.3).
 #include <doctest/doctest.h>
@@ -28,7 +28,7 @@ TEST_CASE("Paul Ex. 7.2: 1 cm² loop, 100 mA, 50 MHz, 3 m -> 109.7 uV/m = 40.80 
   CHECK(dm_loop_field_v_per_m(1.0, 1.0, 1.0, 1.0) == doctest::Approx(1.316e-14).epsilon(rel_tol));
 }
 
-TEST_CASE("Paul CM cable: 30 MHz, 1 m, 3 m, 100 uV/m <-> I_C = 7.96 uA per conductor (REFERENCES.md §10 item 21)") {
+TEST_CASE("Paul CM cable: 30 MHz, 1 m, 3 m, 100 uV/m <-> I_C = 7.96 uA per conductor (docs/references.md §10 item 21)") {
   const double tol_ua = 0.01;
   // Invert |E| = 1.257e-6·f·L·I_C/r for I_C.
   const double per_amp = cm_cable_field_v_per_m(30e6, 1.0, 1.0, 3.0);
@@ -37,11 +37,11 @@ TEST_CASE("Paul CM cable: 30 MHz, 1 m, 3 m, 100 uV/m <-> I_C = 7.96 uA per condu
   CHECK(cm_cable_field_v_per_m(30e6, 1.0, 7.96e-6, 3.0) == doctest::Approx(100e-6).epsilon(rel_tol));
   // Published constant of Paul §8.1.3: 1.257e-6.
   CHECK(cm_cable_field_v_per_m(1.0, 1.0, 1.0, 1.0) == doctest::Approx(1.257e-6).epsilon(rel_tol));
-  // REFERENCES.md §6.2 [D]: 100 MHz, 1 m, 3 m, 1 uA -> 32.44 dBuV/m (the uncapped formula).
+  // docs/references.md §6.2 [D]: 100 MHz, 1 m, 3 m, 1 uA -> 32.44 dBuV/m (the uncapped formula).
   CHECK(std::abs(field_to_dbuvm(cm_cable_field_v_per_m(100e6, 1.0, 1e-6, 3.0)) - 32.44) <= tol_db);
 }
 
-TEST_CASE("far field falls as 1/d: 3 m -> 10 m is -10.46 dB (REFERENCES.md §10 item 27)") {
+TEST_CASE("far field falls as 1/d: 3 m -> 10 m is -10.46 dB (docs/references.md §10 item 27)") {
   RadiationSetup near_setup;
   near_setup.distance_m = 3.0;
   near_setup.cable_length_m = 1.0;

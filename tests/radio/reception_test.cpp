@@ -1,7 +1,7 @@
-// Reception estimate. External checks: the thresholds of REFERENCES.md §5 (ITU-R BS.560 AM 60 dBµV/m
+// Reception estimate. External checks: the thresholds of docs/references.md §5 (ITU-R BS.560 AM 60 dBµV/m
 // and 40 dB; BS.412 FM values from memory; P.372 ambient), the FM threshold C/N of 12 dB (common
-// practice), the bands CSV columns of DESIGN.md §4, and an observation of the trade (marked below),
-// driven by Paul's trapezoid Fourier series (REFERENCES.md §6.3) and his CM cable formula.
+// practice), the bands CSV columns of docs/design.md §4, and an observation of the trade (marked below),
+// driven by Paul's trapezoid Fourier series (docs/references.md §6.3) and his CM cable formula.
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -38,7 +38,7 @@ double sinc(double x) { return x == 0.0 ? 1.0 : std::sin(std::numbers::pi * x) /
 
 }  // namespace
 
-TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (REFERENCES.md §5.2, §5.4)") {
+TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (docs/references.md §5.2, §5.4)") {
   const std::vector<Band> bands = load_region_band_plan(1).bands;
   const Band& mw = band_named(bands, "MW");
   // At 999 kHz, residential, 9 kHz: ambient 72.5 − 27.7·log10(0.999) + 20·log10(0.999) + 39.54 − 95.5.
@@ -71,7 +71,7 @@ TEST_CASE("FM tolerates what AM does not: limiter, capture effect, FM threshold"
   CHECK(judge_channel(mw, 999e3, 25.0, Environment::quiet_rural).verdict == ReceptionVerdict::noisy);
 }
 
-TEST_CASE("bands CSV columns (DESIGN.md §4)") {
+TEST_CASE("bands CSV columns (docs/design.md §4)") {
   BroadcastSpec spec;
   const std::vector<Band> bands = load_region_band_plan(1).bands;
   // One 30 dBµV/m line at 999 kHz.
@@ -131,7 +131,7 @@ double piecewise_linear_rms(const std::vector<double>& corner_time_s, const std:
   return std::sqrt(2.0) * std::hypot(re, im) / (period_s * omega * omega);
 }
 
-TEST_CASE("piecewise-linear series by differentiation matches Paul's trapezoid formula (REFERENCES.md §6.3)") {
+TEST_CASE("piecewise-linear series by differentiation matches Paul's trapezoid formula (docs/references.md §6.3)") {
   // Paul Ex. 3.5: 1 V, 10 MHz, D = 0.5, t_r = t_f = 20 ns, n = 11 -> 73.84 dBµV one-sided peak
   // (70.83 dBµV RMS). τ is the 50 % width: corners at 0, t_r, τ, τ + t_r.
   const double period = 100e-9;

@@ -1,8 +1,8 @@
 // Detectors of the CISPR 16-1-1 measuring receiver, run on analytically computed IF envelopes.
 // External checks: the CISPR 16-1-1 quasi-peak pulse-response table and reference impulse areas
-// (REFERENCES.md §1.3, §1.4, from memory, with the tolerances listed there), the definitions of the
-// charge/discharge time constants (REFERENCES.md §1.1, from memory), and the CW calibration rule
-// (a sine reads its RMS value on every detector, REFERENCES.md §1.6, common practice).
+// (docs/references.md §1.3, §1.4, from memory, with the tolerances listed there), the definitions of the
+// charge/discharge time constants (docs/references.md §1.1, from memory), and the CW calibration rule
+// (a sine reads its RMS value on every detector, docs/references.md §1.6, common practice).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -25,7 +25,7 @@ double db(double ratio) { return 20.0 * std::log10(ratio); }
 // Envelope (peak volts) of the Gaussian-IF response to impulses of `area_vs` [V·s] repeating at
 // `prf_hz`, receiver tuned on a spectral line (all pulses add in phase), over one period. The IF
 // output of one impulse is 2·area·h(t), h(t) = ∫ exp(−a f²) e^{j2πft} df = sqrt(π/a)·exp(−π² t²/a),
-// a = 4 ln2 / B6² (REFERENCES.md §1.5: envelope peak 2·area·B_imp).
+// a = 4 ln2 / B6² (docs/references.md §1.5: envelope peak 2·area·B_imp).
 std::vector<double> impulse_train_envelope(double area_vs, double prf_hz, double bandwidth_6db_hz,
                                            double sample_interval_s, double offset_samples = 0.0) {
   const double a = 4.0 * std::numbers::ln2 / (bandwidth_6db_hz * bandwidth_6db_hz);
@@ -67,7 +67,7 @@ TEST_CASE("detector names") {
                        "expected one of peak, quasi-peak or average, found \"qp\"", Error);
 }
 
-TEST_CASE("diode QP model follows the definitions of the time constants (CISPR 16-1-1, REFERENCES.md §1.1)") {
+TEST_CASE("diode QP model follows the definitions of the time constants (CISPR 16-1-1, docs/references.md §1.1)") {
   for (CisprBand band : {CisprBand::A, CisprBand::B, CisprBand::C}) {
     CAPTURE(to_string(band));
     const DetectorTimeConstants tc = band_parameters(band).detector;
@@ -91,7 +91,7 @@ TEST_CASE("diode QP model follows the definitions of the time constants (CISPR 1
     const double phi = std::acos(model.final_ratio);
     CHECK(std::tan(phi) - phi == doctest::Approx(std::numbers::pi * model.charge_rc_s / model.discharge_rc_s).epsilon(1e-9));
   }
-  // The values derived in REFERENCES.md §1.4a [D] from the same definitions.
+  // The values derived in docs/references.md §1.4a [D] from the same definitions.
   const double tol_rc = 2e-3;  // the reference lists 4 significant digits
   CHECK(quasi_peak_model(band_parameters(CisprBand::B).detector).charge_rc_s == doctest::Approx(0.2540e-3).epsilon(tol_rc));
   CHECK(quasi_peak_model(band_parameters(CisprBand::C).detector).charge_rc_s == doctest::Approx(0.2457e-3).epsilon(tol_rc));
@@ -113,7 +113,7 @@ TEST_CASE("a sine reads its RMS value on every detector (CISPR 16-1-1 calibratio
   }
 }
 
-TEST_CASE("reference impulses read like the 66 dBuV sine (CISPR 16-1-1, REFERENCES.md §1.3, from memory)") {
+TEST_CASE("reference impulses read like the 66 dBuV sine (CISPR 16-1-1, docs/references.md §1.3, from memory)") {
   // Emf convention: the impulse area and the 2 mV sine are both open-circuit (emf) values, so a
   // matched load halves both and the comparison is the same.
   struct Row {
@@ -121,12 +121,12 @@ TEST_CASE("reference impulses read like the 66 dBuV sine (CISPR 16-1-1, REFERENC
     double area_vs;
     double prf_hz;
   };
-  const double tol_db = 1.5;  // REFERENCES.md §1.3 [M]
+  const double tol_db = 1.5;  // docs/references.md §1.3 [M]
   for (const Row& row : {Row{CisprBand::A, 13.5e-6, 25.0}, Row{CisprBand::B, 0.316e-6, 100.0}, Row{CisprBand::C, 0.044e-6, 100.0}}) {
     CAPTURE(to_string(row.band));
     const DetectorReadings r = read_pulses(row.band, row.area_vs, row.prf_hz);
     CHECK(std::abs(volts_to_dbuv(r.quasi_peak) - 66.0) < tol_db);
-    // Peak and average of the same pulses, derived in REFERENCES.md §1.5/§1.6 [D]:
+    // Peak and average of the same pulses, derived in docs/references.md §1.5/§1.6 [D]:
     // peak = 2·area·B_imp/√2, average = √2·area·PRF.
     const double b_imp = impulse_bandwidth_hz(band_parameters(row.band).bandwidth_6db_hz);
     const double tol_derived_db = 0.05;
@@ -135,7 +135,7 @@ TEST_CASE("reference impulses read like the 66 dBuV sine (CISPR 16-1-1, REFERENC
   }
 }
 
-TEST_CASE("quasi-peak pulse response versus repetition frequency (CISPR 16-1-1 table, REFERENCES.md §1.4, from memory)") {
+TEST_CASE("quasi-peak pulse response versus repetition frequency (CISPR 16-1-1 table, docs/references.md §1.4, from memory)") {
   struct Row {
     double prf_hz;  // isolated_prf_hz for "isolated pulse"
     double relative_db;

@@ -1,8 +1,8 @@
 // The measuring-receiver emulation: bands, Gaussian IF selectivity, the FFT receiver on samples and
 // the exact line-spectrum path. External checks: Gaussian-filter relations and scalloping
-// (REFERENCES.md §1.2, derived), CISPR 16-1-1 bandwidths (REFERENCES.md §1.1, from memory), the CW
+// (docs/references.md §1.2, derived), CISPR 16-1-1 bandwidths (docs/references.md §1.1, from memory), the CW
 // calibration (a sine reads its RMS on every detector, common practice), the reference impulse of
-// band B through the full sampled receiver (REFERENCES.md §1.3, from memory), and a direct
+// band B through the full sampled receiver (docs/references.md §1.3, from memory), and a direct
 // mix-and-filter envelope computed by Debian's python3-numpy/scipy on the same samples.
 #include <doctest/doctest.h>
 
@@ -91,7 +91,7 @@ ReceiverSpec read_spec(const std::string& text) {
 
 }  // namespace
 
-TEST_CASE("CISPR 16-1-1 bands (REFERENCES.md §1.1, from memory)") {
+TEST_CASE("CISPR 16-1-1 bands (docs/references.md §1.1, from memory)") {
   CHECK(band_parameters(CisprBand::A).bandwidth_6db_hz == doctest::Approx(200.0));
   CHECK(band_parameters(CisprBand::B).bandwidth_6db_hz == doctest::Approx(9e3));
   CHECK(band_parameters(CisprBand::C).bandwidth_6db_hz == doctest::Approx(120e3));
@@ -130,7 +130,7 @@ TEST_CASE("[receiver] section") {
                        "scenario.toml:2:1: unknown key 'stpe' in [receiver]; did you mean 'step'?", Error);
 }
 
-TEST_CASE("Gaussian IF relations (REFERENCES.md §1.2, derived)") {
+TEST_CASE("Gaussian IF relations (docs/references.md §1.2, derived)") {
   const double b6 = 9e3;
   const double tol_ratio = 1e-4;
   // The published ratios, and a slow twin: numerical integration of |H| and |H|².
@@ -156,12 +156,12 @@ TEST_CASE("sampled receiver: the simulated IF shape in every band, against its G
   // the reading shows the IF shape alone, without the leakage of a cut-off record. Checks:
   //  - the 6 dB bandwidth: the response crosses -6.02 dB between 0.45·B6 and 0.55·B6 from the
   //    line, i.e. B6 within ±10 % (CISPR 16-1-1 bandwidth tolerance, from memory, low confidence:
-  //    REFERENCES.md §1.2);
+  //    docs/references.md §1.2);
   //  - the skirts: the simulated response is the Gaussian of core/receiver/receiver.hpp, whose attenuation
   //    is 20·log10(e)·4·ln2·(Δf/B6)² = 24.08·(Δf/B6)² dB, within 0.2 dB down to -40 dB and 1 dB down
   //    to -60 dB, with the same value on either side, so no window truncation or leakage floor
   //    widens the filter where a selectivity mask asks for attenuation. The outer points of the
-  //    standard's mask itself are not checked: their values are not confirmed (REFERENCES.md §1.2).
+  //    standard's mask itself are not checked: their values are not confirmed (docs/references.md §1.2).
   struct Case {
     CisprBand band;
     double b6_hz, line_hz, sample_rate_hz, duration_s;
@@ -218,13 +218,13 @@ TEST_CASE("sampled receiver: a sine reads its RMS, and the IF response is -6 dB 
   const double tol_selectivity_db = 0.05;
   CHECK(std::abs(result.readings[0].quasi_peak_db - on.quasi_peak_db + 6.02) < tol_selectivity_db);
   CHECK(std::abs(result.readings[3].peak_db - on.peak_db + 6.02) < tol_selectivity_db);
-  // 2.25 kHz offset = the midpoint of a 0.5·B6 step: scalloping 6.02·0.5² = 1.51 dB (REFERENCES.md §1.2 [D]).
+  // 2.25 kHz offset = the midpoint of a 0.5·B6 step: scalloping 6.02·0.5² = 1.51 dB (docs/references.md §1.2 [D]).
   CHECK(std::abs(result.readings[2].average_db - on.average_db + 1.505) < tol_selectivity_db);
   check_detector_order(result);
   CHECK_FALSE(result.notes.empty());
 }
 
-TEST_CASE("scalloping over a scan grid: 1.51 dB at step 0.5·B6, 0.38 dB at 0.25·B6 (REFERENCES.md §1.2)") {
+TEST_CASE("scalloping over a scan grid: 1.51 dB at step 0.5·B6, 0.38 dB at 0.25·B6 (docs/references.md §1.2)") {
   // A line halfway between two tuned frequencies of band B, through the exact line path.
   const double tol_db = 0.01;
   for (double step_fraction : {0.5, 0.25}) {
@@ -300,7 +300,7 @@ TEST_CASE("line path and sampled path agree within 0.5 dB on the same periodic s
   }
 }
 
-TEST_CASE("band B reference impulses through the full sampled receiver read 66 dBuV (CISPR 16-1-1, REFERENCES.md §1.3)") {
+TEST_CASE("band B reference impulses through the full sampled receiver read 66 dBuV (CISPR 16-1-1, docs/references.md §1.3)") {
   // 0.316 µVs impulses at 100 Hz (emf convention: area and the 2 mV reference sine both as emf),
   // one sample of height area·fs per period; 20 ms record at 4 MS/s holds 2 periods. Tuned at 1 MHz.
   const double fs = 4e6;
@@ -313,9 +313,9 @@ TEST_CASE("band B reference impulses through the full sampled receiver read 66 d
   plan.band = CisprBand::B;
   plan.frequencies_hz = {1e6};
   const ScanResult result = scan_waveform(w, plan);
-  const double tol_db = 1.5;  // REFERENCES.md §1.3 [M]
+  const double tol_db = 1.5;  // docs/references.md §1.3 [M]
   CHECK(std::abs(result.readings[0].quasi_peak_db - 66.0) < tol_db);
-  // Peak: 2·area·B_imp/√2 (REFERENCES.md §1.5 [D]).
+  // Peak: 2·area·B_imp/√2 (docs/references.md §1.5 [D]).
   const double tol_peak_db = 0.05;
   CHECK(std::abs(result.readings[0].peak_db - volts_to_dbuv(2.0 * area_vs * impulse_bandwidth_hz(9e3) / std::numbers::sqrt2)) <
         tol_peak_db);

@@ -1,7 +1,7 @@
 // The described source: exact Fourier series of the trapezoid, ringing, dither, sampled synthesis.
 // External checks: C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed. (Wiley 2006),
 // §3.2 (trapezoidal pulse train, two-sinc formula and its −20/−40 dB/decade bound), Example 3.5
-// and the review exercise on a 5 V, 100 MHz clock (values recomputed in REFERENCES.md §6.3).
+// and the review exercise on a 5 V, 100 MHz clock (values recomputed in docs/references.md §6.3).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -45,7 +45,7 @@ TEST_CASE("Paul Example 3.5: 1 V, 10 MHz, 50 %, 20 ns edges, harmonic 11") {
   const SwitchingSpec s = trapezoid(1.0, 10e6, 0.5, 20e-9);
   const LineSpectrum v = switch_node_spectrum(s, 200e6);
   REQUIRE(v.harmonics.size() == 20);
-  // REFERENCES.md §6.3 / §10 item 22: exact 73.84 dBµV (one-sided peak), bound 78.46 dBµV.
+  // docs/references.md §6.3 / §10 item 22: exact 73.84 dBµV (one-sided peak), bound 78.46 dBµV.
   CHECK(volts_to_dbuv(one_sided_peak(v, 11)) == doctest::Approx(73.84).epsilon(tol_db / 73.84));
   const double bound_peak = trapezoid_envelope_rms(s, 1.0, 110e6) * std::sqrt(2.0);
   CHECK(volts_to_dbuv(bound_peak) == doctest::Approx(78.46).epsilon(tol_db / 78.46));
@@ -58,7 +58,7 @@ TEST_CASE("Paul Example 3.5: 1 V, 10 MHz, 50 %, 20 ns edges, harmonic 11") {
 TEST_CASE("Paul review exercise: 5 V, 100 MHz, 50 %, 1 ns edges") {
   const SwitchingSpec s = trapezoid(5.0, 100e6, 0.5, 1e-9);
   const LineSpectrum v = switch_node_spectrum(s, 1e9);
-  // REFERENCES.md §10 item 23: c1+ = 3.131 V, c3+ = 0.9108 V, c5+ = 0.4053, c7+ = 0.1673, c9+ = 0.0387.
+  // docs/references.md §10 item 23: c1+ = 3.131 V, c3+ = 0.9108 V, c5+ = 0.4053, c7+ = 0.1673, c9+ = 0.0387.
   CHECK(one_sided_peak(v, 1) == doctest::Approx(3.131).epsilon(tol_v / 3.131));
   CHECK(one_sided_peak(v, 3) == doctest::Approx(0.9108).epsilon(tol_v / 0.9108));
   CHECK(std::fabs(one_sided_peak(v, 5) - 0.4053) < tol_v);

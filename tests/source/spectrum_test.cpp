@@ -1,7 +1,7 @@
 // Spectrum of sampled records. External checks:
 // - C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed. (Wiley 2006), §3.2: the
 //   one-sided amplitude of a trapezoidal pulse train, |c_n+| = 2·A·D·|sinc(nD)|·|sinc(n·tr·f0)|
-//   (REFERENCES.md §6.3), computed here in the test;
+//   (docs/references.md §6.3), computed here in the test;
 // - Parseval's theorem (the DFT preserves energy: Σ|x|² = (1/N)·Σ|X|²);
 // - Debian's python3-numpy, numpy.fft.rfft on the same samples;
 // - a naive O(N²) DFT twin of the FFT;
@@ -56,7 +56,7 @@ Waveform trapezoid_record(double amplitude, double f0, double duty, double tr, d
   return w;
 }
 
-/// Paul eq. (3.x) as transcribed in REFERENCES.md §6.3: one-sided peak amplitude, then RMS.
+/// Paul eq. (3.x) as transcribed in docs/references.md §6.3: one-sided peak amplitude, then RMS.
 double paul_trapezoid_rms(double amplitude, double duty, double tr, double f0, int n) {
   return 2.0 * amplitude * duty * std::abs(sinc(n * duty)) * std::abs(sinc(n * tr * f0)) / std::numbers::sqrt2;
 }
@@ -384,7 +384,7 @@ TEST_CASE("measured wisdom is written to the cache file and reused") {
   std::filesystem::remove_all(dir);
 }
 
-TEST_CASE("spurcast spectrum --capture: CSV columns are the interface (DESIGN.md §4), bad input exits 2") {
+TEST_CASE("spurcast spectrum --capture: CSV columns are the interface (docs/design.md §4), bad input exits 2") {
   const std::filesystem::path dir = std::filesystem::temp_directory_path() / ("spurcast_spectrum_cli_" + std::to_string(::getpid()));
   std::filesystem::create_directories(dir);
   // 20 periods of a 100 kHz square wave at 10 MS/s, amplitude 1 V: its fundamental is
