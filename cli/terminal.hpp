@@ -1,12 +1,12 @@
 #pragma once
-// Terminal output of the CLI: aligned text columns, colour only when stdout is a terminal and
-// NO_COLOR is unset, a progress line on stderr only when stderr is a terminal, and the summary
-// that `predict` and `demo` print after writing a report folder.
+// The terminal side of the CLI: colour only when stdout is a terminal and NO_COLOR is unset, a
+// progress line on stderr only when stderr is a terminal, and writing a report folder followed by
+// its summary (the text itself is core/output/prediction_text.hpp).
 #include <cstddef>
 #include <string>
-#include <vector>
 
 #include "core/chain/prediction.hpp"
+#include "core/output/text_table.hpp"
 
 namespace spurcast::cli {
 
@@ -14,19 +14,6 @@ namespace spurcast::cli {
 [[nodiscard]] bool stdout_wants_colour();
 /// True when stderr is a terminal.
 [[nodiscard]] bool stderr_is_terminal();
-
-enum class Colour { none, green, yellow, red, bold, dim };
-/// `text` wrapped in the ANSI sequence of `colour` when `enabled`, else `text` unchanged.
-[[nodiscard]] std::string paint(const std::string& text, Colour colour, bool enabled);
-
-/// Display width: UTF-8 code points, ANSI escape sequences not counted.
-[[nodiscard]] std::size_t display_width(const std::string& text);
-
-/// Rows of cells as aligned columns (two spaces between columns, each line indented by `indent`).
-/// Columns listed in `right_aligned` (0-based) are right-aligned; trailing spaces are not written.
-[[nodiscard]] std::string format_columns(const std::vector<std::vector<std::string>>& rows,
-                                         const std::vector<std::size_t>& right_aligned = {},
-                                         const std::string& indent = "  ");
 
 /// A progress line on stderr ("spurcast: scanning band B ... 40 %"), redrawn in place; silent unless
 /// stderr is a terminal. The line is cleared on destruction.
@@ -44,10 +31,6 @@ class Progress {
   bool enabled_ = false;
   std::size_t shown_width_ = 0;
 };
-
-/// The human summary of a written report: verdict, worst margin per detector, the five worst
-/// frequencies, the band verdicts, and where the report is.
-[[nodiscard]] std::string prediction_summary(const Prediction& prediction, const std::string& directory, bool colour);
 
 /// What `predict` and `demo` share after the prediction: write the report folder, print the summary
 /// (or summary.json with `json`), and return the exit code (0 pass, 1 marginal or fail). The test

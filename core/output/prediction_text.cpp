@@ -1,0 +1,102 @@
+#include "core/output/prediction_text.hpp"
+
+#include <cstdio>
+#include <vector>
+
+#include "core/input/units.hpp"
+#include "core/output/report.hpp"
+#include "core/output/text_table.hpp"
+
+namespace spurcast {
+
+namespace {
+
+Colour verdict_colour(Verdict verdict) {
+  switch (verdict) {
+    case Verdict::pass: return Colour::green;
+    case Verdict::marginal: return Colour::yellow;
+    case Verdict::fail: return Colour::red;
+  }
+  return Colour::none;
+}
+
+std::string db_text(double value_db) {
+  char buffer[32];
+  std::snprintf(buffer, sizeof buffer, "%.2f dB", value_db);
+  return buffer;
+}
+
+std::string level_text(double level, const std::string& unit) {
+  char buffer[48];
+  std::snprintf(buffer, sizeof buffer, "%.2f %s", level, unit.c_str());
+  return buffer;
+}
+
+Colour reception_colour(const std::string& verdict) {
+  if (verdict == "clear") return Colour::green;
+  if (verdict == "watch") return Colour::yellow;
+  return Colour::red;
+}
+
+}  // namespace
+
+std::string prediction_summary(const Prediction& p, const std::string& directory, bool colour) {
+  const MarginReport& m = p.margins;
+  const std::string uv = "dB\xC2\xB5V";
+  std::string out;
+  out += paint(p.scenario.title.empty() ? p.scenario.file : p.scenario.title, Colour::bold, colour) + "\n";
+  std::string verdict = "verdict: " + paint(to_string(p.verdict), verdict_colour(p.verdict), colour);
+  if (m.worst) {
+    verdict += " (worst margin " + db_text(m.worst->margin_db) + ", guard " + format_quantity(m.guard_db, Dimension::decibel) + ")";
+  } else {
+    verdict += p.scenario.limits.sets.empty() ? " (no limit lines given)" : " (nothing compared)";
+  }
+  out += verdict + "\n";
+
+  if (!m.worst_per_detector.empty()) {
+    out += "\nworst margin per detector of the limit line:\n";
+    std::vector<std::vector<std::string>> rows;
+    for (const DetectorMargin& d : m.worst_per_detector) {
+      const Verdict v = verdict_for(d.worst.margin_db, m.guard_db);
+      rows.push_back({to_string(d.detector), paint(db_text(d.worst.margin_db), verdict_colour(v), colour),
+                      "at " + format_quantity(d.worst.frequency_hz, Dimension::frequency, 5), d.worst.limit_label});
+    }
+    out += format_columns(rows, {1});
+  }
+
+  const std::vector<WorstFrequency> worst = worst_frequencies(p, 5);
+  if (!worst.empty()) {
+    out += "\nfive worst frequencies:\n";
+    std::vector<std::vector<std::string>> rows{{"frequency", "detector", "reading", "limit", "margin", "line"}};
+    for (const WorstFrequency& w : worst) {
+      const Verdict v = verdict_for(w.row.margin_db, m.guard_db);
+      rows.push_back({format_quantity(w.row.frequency_hz, Dimension::frequency, 5), to_string(w.row.reading_detector),
+                      level_text(w.row.reading, uv), level_text(w.row.limit, uv),
+                      paint(db_text(w.row.margin_db), verdict_colour(v), colour), w.row.limit_label});
+    }
+    out += format_columns(rows, {0, 2, 3, 4});
+  }
+
+  if (!p.reception.empty()) {
+    out += "\nbroadcast bands:\n";
+    std::vector<std::vector<std::string>> rows;
+    for (const BandReception& b : p.reception) {
+      const std::string verdict_name = reception_verdict_name(b.verdict);
+      std::vector<std::string> row{b.band.name,
+                                   format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " - " +
+                                       format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits),
+                                   paint(verdict_name, reception_colour(verdict_name), colour)};
+      if (b.worst_channel) {
+        const ChannelReception& c = b.channels[*b.worst_channel];
+        row.push_back("worst channel " + format_quantity(c.centre_hz, Dimension::frequency, 5));
+        row.push_back(level_text(c.level_dbuvm, "dB\xC2\xB5V/m"));
+      }
+      rows.push_back(std::move(row));
+    }
+    out += format_columns(rows, {});
+  }
+  out += "\nreport written to " + directory + "/ (open " + directory + "/report.html)\n";
+  return out;
+}
+
+}  // namespace spurcast
