@@ -571,4 +571,25 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
   return result;
 }
 
+std::optional<Reading> highest_reading(const ScanResult& result, Detector detector) {
+  const auto best = std::max_element(result.readings.begin(), result.readings.end(), [&](const Reading& x, const Reading& y) {
+    return x.level_db(detector) < y.level_db(detector);
+  });
+  if (best == result.readings.end()) return std::nullopt;
+  return *best;
+}
+
+std::vector<Reading> peak_maxima(const ScanResult& result, std::size_t count) {
+  std::vector<Reading> maxima;
+  const auto& r = result.readings;
+  for (std::size_t i = 0; i < r.size(); ++i) {
+    const bool above_before = i == 0 || r[i].peak_db >= r[i - 1].peak_db;
+    const bool above_after = i + 1 == r.size() || r[i].peak_db > r[i + 1].peak_db;
+    if (above_before && above_after && r[i].peak_db > level_floor_db) maxima.push_back(r[i]);
+  }
+  std::sort(maxima.begin(), maxima.end(), [](const Reading& a, const Reading& b) { return a.peak_db > b.peak_db; });
+  if (maxima.size() > count) maxima.resize(count);
+  return maxima;
+}
+
 }  // namespace spurcast

@@ -132,6 +132,14 @@ struct ScanResult {
 /// One line in the passband reads |H|·RMS on every detector.
 [[nodiscard]] ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan);
 
+/// The reading with the highest level on `detector` (the first, lowest frequency, of equal ones);
+/// none when there are no readings.
+[[nodiscard]] std::optional<Reading> highest_reading(const ScanResult& result, Detector detector);
+
+/// The local maxima of the peak trace above level_floor_db, highest first, at most `count`: a line
+/// seen at several neighbouring tuned frequencies is listed once (a plateau at its last point).
+[[nodiscard]] std::vector<Reading> peak_maxima(const ScanResult& result, std::size_t count);
+
 /// The IF envelope (magnitude of the complex IF output, peak volts) at one tuned frequency of a
 /// sampled record, over one record length, treated as periodic: `samples.size()` points spaced
 /// `sample_interval_s`. Exposed for tests (cross-check against a direct mix-and-filter).

@@ -433,3 +433,30 @@ TEST_CASE("a record shorter than 1/RBW is refused unless it holds whole periods"
   plan.frequencies_hz = {300e3};  // a harmonic-free spot: nothing there
   CHECK(scan_waveform(w, plan).readings.front().peak_db < 0.0);
 }
+
+TEST_CASE("highest_reading and peak_maxima pick the highest reading and each line of the peak trace once") {
+  ScanResult result;
+  // A peak trace with two lines: one seen on a plateau of two tuned frequencies (2 and 3 MHz), one at 6 MHz.
+  const std::vector<double> peaks{40.0, 50.0, 55.0, 55.0, 45.0, 41.0, 52.0, 30.0, level_floor_db};
+  for (std::size_t i = 0; i < peaks.size(); ++i) {
+    Reading r;
+    r.frequency_hz = 1e6 * static_cast<double>(i);
+    r.peak_db = peaks[i];
+    r.quasi_peak_db = peaks[i] - (i == 6 ? 1.0 : 10.0);  // the 6 MHz line is the steadier one
+    r.average_db = peaks[i] - 20.0;
+    result.readings.push_back(r);
+  }
+  const std::optional<Reading> peak = highest_reading(result, Detector::peak);
+  REQUIRE(peak.has_value());
+  CHECK(peak->frequency_hz == doctest::Approx(2e6));  // the first of two equal maxima
+  const std::optional<Reading> qp = highest_reading(result, Detector::quasi_peak);
+  REQUIRE(qp.has_value());
+  CHECK(qp->frequency_hz == doctest::Approx(6e6));
+  CHECK_FALSE(highest_reading(ScanResult{}, Detector::average).has_value());
+
+  const std::vector<Reading> maxima = peak_maxima(result, 10);
+  REQUIRE(maxima.size() == 2);
+  CHECK(maxima[0].frequency_hz == doctest::Approx(3e6));  // the plateau counts at its last point
+  CHECK(maxima[1].frequency_hz == doctest::Approx(6e6));
+  CHECK(peak_maxima(result, 1).size() == 1);
+}

@@ -1,0 +1,125 @@
+#include "core/chain/scan_at.hpp"
+
+#include <algorithm>
+
+#include "core/chain/prediction.hpp"
+#include "core/coupling/conducted.hpp"
+#include "core/input/error.hpp"
+#include "core/source/capture.hpp"
+#include "core/source/source.hpp"
+
+namespace spurcast {
+
+std::vector<ScanPlan> scan_plans(const Scenario& scenario, const ScanRequest& request) {
+  // One plan per band; spot frequencies go to the given band or to the band that holds each.
+  std::vector<ScanPlan> plans;
+  if (!request.frequencies_hz.empty()) {
+    for (const double f : request.frequencies_hz) {
+      const CisprBand band = request.band ? *request.band : band_for_frequency(f);
+      auto plan = std::find_if(plans.begin(), plans.end(), [&](const ScanPlan& p) { return p.band == band; });
+      if (plan == plans.end()) {
+        ScanPlan spot_plan;
+        spot_plan.band = band;
+        spot_plan.threads = request.threads;
+        plans.push_back(spot_plan);
+        plan = plans.end() - 1;
+      }
+      plan->frequencies_hz.push_back(f);
+    }
+  } else {
+    const std::vector<CisprBand> bands = request.band ? std::vector<CisprBand>{*request.band} : scenario.receiver.bands;
+    for (const CisprBand band : bands) {
+      ScanPlan band_plan;
+      band_plan.band = band;
+      band_plan.threads = request.threads;
+      band_plan.step_hz = request.step_hz ? request.step_hz : scenario.receiver.step_hz;
+      plans.push_back(band_plan);
+    }
+  }
+  std::sort(plans.begin(), plans.end(), [](const ScanPlan& a, const ScanPlan& b) { return a.band < b.band; });
+  for (const ScanPlan& plan : plans) (void)plan_frequencies(plan);  // check steps and ranges before any work
+  return plans;
+}
+
+/// Scans one band (or spot frequencies within it) at the requested point of the chain.
+ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPlan& plan) {
+  const BandParameters band = band_parameters(plan.band);
+  const double top_hz = band.stop_hz + 2.0 * band.bandwidth_6db_hz;
+  std::vector<std::string> notes;
+  std::optional<ConductedModel> model;
+  if (at == "lisn") model.emplace(scenario.coupling, scenario.filters, scenario.lisn);
+
+  auto scan_two_lines = [&](auto&& scan_line) {
+    std::optional<ScanResult> line2;
+    if (model->line_count() == 2) line2 = scan_line(2);
+    return worst_of_lines(scan_line(1), line2);
+  };
+
+  ScanResult result;
+  if (scenario.switching && !scenario.switching->dither) {
+    // Periodic, undithered: exact line spectra, no sampling.
+    const SwitchingSpec& spec = *scenario.switching;
+    if (at == "source") {
+      result = scan_lines(switch_node_spectrum(spec, top_hz), plan);
+    } else if (at == "current") {
+      result = scan_lines(input_current_spectrum(spec, top_hz), plan);
+    } else {
+      const ConductedResult conducted =
+          conduct(switch_node_spectrum(spec, top_hz), input_current_spectrum(spec, top_hz), *model);
+      result = scan_two_lines([&](int line) { return scan_lines(conducted.line_spectrum(line), plan); });
+    }
+  } else {
+    Waveform source_v;
+    Waveform source_i;
+    ScanPlan sampled_plan = plan;
+    if (scenario.switching) {
+      // Dithered: a synthesized record through the FFT receiver, as the prediction makes it.
+      const SwitchingSpec& spec = *scenario.switching;
+      const double fs = receiver_sample_rate_hz(plan.band);
+      const double duration_s = dithered_record_duration_s(spec, fs, 0.0, notes);
+      if (at != "current") source_v = synthesize_switch_node(spec, fs, duration_s);
+      if (at != "source") source_i = synthesize_input_current(spec, fs, duration_s);
+      sampled_plan.slowest_modulation_hz = spec.dither->rate_hz;
+    } else {
+      const Capture capture = load_capture(*scenario.capture);
+      const bool is_current = capture.waveform.quantity == Quantity::current;
+      if (at == "current" && !is_current) {
+        throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
+      }
+      (is_current ? source_i : source_v) = capture.waveform;
+      sampled_plan.periodic_record = holds_whole_periods(capture);
+    }
+    if (at == "source") {
+      result = scan_waveform(source_v.samples.empty() ? source_i : source_v, sampled_plan);
+    } else if (at == "current") {
+      result = scan_waveform(source_i, sampled_plan);
+    } else {
+      result = scan_two_lines([&](int line) {
+        return scan_waveform(lisn_port_waveform(source_v, source_i, *model, line), sampled_plan);
+      });
+    }
+  }
+  result.notes.insert(result.notes.begin(), notes.begin(), notes.end());
+  return result;
+}
+
+ScanReport scan_scenario(const Scenario& scenario, const ScanRequest& request, const std::function<void(CisprBand)>& on_band) {
+  if (request.at != "source" && request.at != "current" && request.at != "lisn") {
+    throw Error("expected --at source, current or lisn, found \"" + request.at + "\"");
+  }
+  if (!scenario.switching && !scenario.capture) {
+    throw Error(SourcePosition{scenario.file, 0, 0}, "expected a [switching] or [capture] section");
+  }
+  ScanReport report;
+  report.scenario_file = scenario.file;
+  report.at = request.at;
+  report.spot = !request.frequencies_hz.empty();
+  report.detectors = scenario.receiver.detectors;
+  for (const ScanPlan& plan : scan_plans(scenario, request)) {
+    if (on_band) on_band(plan.band);
+    report.bands.push_back(scan_at(scenario, request.at, plan));
+  }
+  return report;
+}
+
+}  // namespace spurcast

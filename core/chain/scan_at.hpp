@@ -1,0 +1,54 @@
+#pragma once
+/// The measuring receiver on its own, as `spurcast scan` runs it: CISPR 16-1-1 peak, quasi-peak and
+/// average readings over whole bands (tuned at the band start plus whole steps) or at spot
+/// frequencies, at the source, the pulsed input current or the LISN receiver port. Undithered
+/// described sources go through the exact line receiver; dithered ones and captures through the
+/// FFT receiver on a sampled record, as the prediction does.
+///
+/// Example:
+///   ScanRequest request;
+///   request.band = CisprBand::B;
+///   const ScanReport report = scan_scenario(load_scenario("buck.toml"), request);
+///   scan_csv(report);  // core/output/scan_output.hpp
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "core/chain/scenario.hpp"
+#include "core/receiver/receiver.hpp"
+
+namespace spurcast {
+
+/// What to scan.
+struct ScanRequest {
+  std::string at = "lisn";            ///< source | current | lisn
+  std::optional<CisprBand> band;      ///< none: the scenario's [receiver] bands, or the band of each spot frequency
+  std::optional<double> step_hz;      ///< [Hz] none: the scenario's step, else the band's default
+  std::vector<double> frequencies_hz; ///< [Hz] spot readings at these tuned frequencies; empty = scan the bands
+  unsigned threads = 0;               ///< FFT receiver threads; 0 = every core
+};
+
+/// The readings of one scan command: one ScanResult per band, ascending band.
+struct ScanReport {
+  std::string scenario_file;        ///< as named by the scenario
+  std::string at;                   ///< source | current | lisn
+  bool spot = false;                ///< spot readings rather than band scans
+  std::vector<Detector> detectors;  ///< the scenario's receiver detectors, in its order
+  std::vector<ScanResult> bands;
+};
+
+/// The plans of a request: one per band (spot frequencies grouped by their band), ascending band,
+/// each checked (step at most B6/2, spot frequencies inside the band) before any work.
+[[nodiscard]] std::vector<ScanPlan> scan_plans(const Scenario& scenario, const ScanRequest& request);
+
+/// Reads one plan at `at` (source | current | lisn; at the LISN the worse of the two lines). Error
+/// for a voltage capture at "current".
+[[nodiscard]] ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPlan& plan);
+
+/// Every plan of the request, read in turn; `on_band` (if set) is called before each band is read,
+/// for a progress display. Error for an unknown point or a scenario without a source.
+[[nodiscard]] ScanReport scan_scenario(const Scenario& scenario, const ScanRequest& request,
+                                       const std::function<void(CisprBand)>& on_band = {});
+
+}  // namespace spurcast
