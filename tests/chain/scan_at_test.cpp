@@ -1,7 +1,7 @@
 // Tests of core/chain/scan_at: a spot reading on an isolated harmonic of a described trapezoid reads
 // its RMS value on every detector (CISPR 16-1-1 calibration, common practice; the line's RMS from
 // the trapezoid Fourier series, C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed.,
-// §3.2, docs/references.md §1.1), spot frequencies go to the CISPR band that holds them (CISPR
+// chapter 3, docs/references.md §6.3), spot frequencies go to the CISPR band that holds them (CISPR
 // 16-1-1 band edges, docs/references.md §1.1), and the errors of a request are exact.
 #include <doctest/doctest.h>
 

@@ -1,6 +1,6 @@
 // Tests of core/chain/spectrum_at: the spectrum at the source of a described trapezoid against its
-// Fourier series (C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed., §3.2: one-sided
-// amplitude c_n = 2·A·d·|sinc(nπd)|·|sinc(nπ·t_r/T)| for equal edges, docs/references.md §1.1),
+// Fourier series (C. R. Paul, Introduction to Electromagnetic Compatibility, chapter 3: one-sided
+// amplitude c_n = 2·A·d·|sinc(nπd)|·|sinc(nπ·t_r/T)| for equal edges, docs/references.md §6.3),
 // at the LISN (the level is the higher line), and a coherent capture of two sines read back at their
 // RMS values (common practice: an integer number of periods under a rectangular window puts each line
 // on one bin). The point names and their errors are interface and checked exactly.
@@ -34,7 +34,7 @@ const std::string trapezoid_scenario =
 
 double sinc(double x) { return x == 0.0 ? 1.0 : std::sin(x) / x; }
 
-/// dBµV of the RMS value of the n-th harmonic of a trapezoid (Paul §3.2).
+/// dBµV of the RMS value of the n-th harmonic of a trapezoid (docs/references.md §6.3).
 double trapezoid_dbuv(int n, double amplitude, double duty, double rise_over_period) {
   const double c_n = 2.0 * amplitude * duty * std::abs(sinc(std::numbers::pi * n * duty)) *
                      std::abs(sinc(std::numbers::pi * n * rise_over_period));
