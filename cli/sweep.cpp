@@ -1,23 +1,17 @@
 // spurcast sweep: re-runs the chain across one or more scenario keys (in parallel) and prints the
 // windows of the first key where a broadcast band stays clear, the fundamental stays out of a CISPR
 // band, and/or every limit is met with the guard band, robust to a drift tolerance.
-#include <fmt/format.h>
-
-#include <cmath>
 #include <cstdlib>
 #include <filesystem>
-#include <fstream>
 #include <iostream>
 #include <memory>
 #include <string>
 #include <vector>
 
-#include <unistd.h>
-
 #include "cli/commands.hpp"
 #include "core/input/error.hpp"
 #include "core/output/output_dir.hpp"
-#include "core/output/plot.hpp"
+#include "core/output/sweep_output.hpp"
 #include "core/chain/sweep.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"
@@ -39,41 +33,6 @@ struct Options {
   bool scan = false;
   unsigned threads = 0;
 };
-
-/// The sweep plot of the report module: worst margin and band verdicts along the first axis (the
-/// first group of a grid), the windows of the last criterion highlighted.
-std::string plot_svg(const SweepResult& result, const std::string& title) {
-  const SweepAxis& axis = result.axes.front();
-  const std::size_t n = axis.values.size();
-  std::vector<std::size_t> order(n);
-  for (std::size_t i = 0; i < n; ++i) order[i] = i;
-  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return axis.values[a] < axis.values[b]; });
-  SweepPlot plot;
-  plot.title = title;
-  plot.parameter_label = axis.key;
-  plot.parameter_dimension = axis.dimension;
-  plot.guard_db = result.guard_db;
-  const bool positive = axis.values.front() > 0.0 && axis.values.back() > 0.0;
-  plot.log_parameter = positive && std::max(axis.values.front(), axis.values.back()) >
-                                       20.0 * std::min(axis.values.front(), axis.values.back());
-  for (const std::string& band : result.bands) plot.bands.push_back(SweepBandRow{band, {}});
-  for (const std::size_t i : order) {
-    const SweepPoint& p = result.points[i];
-    plot.parameter.push_back(axis.values[i]);
-    plot.worst_margin_db.push_back(p.worst_margin_db ? *p.worst_margin_db : std::nan(""));
-    for (std::size_t b = 0; b < plot.bands.size(); ++b) {
-      plot.bands[b].verdicts.push_back(b < p.bands.size() && !p.error ? reception_verdict_name(p.bands[b].verdict)
-                                                                      : "noisy");
-    }
-  }
-  if (!result.criteria.empty()) {
-    const std::size_t last = result.criteria.size() - 1;
-    for (const RobustWindow& w : result.windows) {
-      if (w.criterion == last && w.last_point < n) plot.clear_windows.push_back({w.from_value, w.to_value});
-    }
-  }
-  return sweep_plot_svg(plot);
-}
 
 int run_sweep_command(const Options& options) {
   // Inputs first: nothing is written unless every input is good.
@@ -105,35 +64,12 @@ int run_sweep_command(const Options& options) {
     written.push_back(options.csv_file);
   }
   if (!options.plot_file.empty()) {
-    write_file_atomically(options.plot_file, plot_svg(result, "sweep of " + result.axes.front().key));
+    write_file_atomically(options.plot_file, sweep_svg(result, "sweep of " + result.axes.front().key));
     written.push_back(options.plot_file);
   }
 
-  if (options.json) {
-    std::string json = sweep_json(result);
-    // The files written go in as the last member of the object.
-    std::string files = "[";
-    for (std::size_t i = 0; i < written.size(); ++i) files += (i ? ", \"" : "\"") + written[i] + "\"";
-    files += "]";
-    const auto end = json.rfind('}');
-    json = json.substr(0, end) + ",\n  \"files\": " + files + "\n}\n";
-    std::cout << json;
-  } else {
-    std::cout << sweep_windows_text(result);
-    for (const std::string& file : written) std::cout << "wrote " << file << "\n";
-    std::cout << "a prediction is not a compliance result: only an accredited test decides\n";
-  }
-
-  if (!result.criteria.empty()) {
-    const std::size_t last = result.criteria.size() - 1;  // `all criteria` when there are several
-    const bool found = std::any_of(result.windows.begin(), result.windows.end(),
-                                   [&](const RobustWindow& w) { return w.criterion == last; });
-    return found ? exit_ok : exit_limit_exceeded;
-  }
-  const bool every_point_passes = std::all_of(result.points.begin(), result.points.end(), [](const SweepPoint& p) {
-    return !p.error && p.limits_verdict == Verdict::pass;
-  });
-  return every_point_passes ? exit_ok : exit_limit_exceeded;
+  std::cout << (options.json ? sweep_json(result, written) : sweep_text(result, written));
+  return sweep_goal_met(result) ? exit_ok : exit_limit_exceeded;
 }
 
 }  // namespace

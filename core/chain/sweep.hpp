@@ -207,16 +207,11 @@ struct SweepResult {
 [[nodiscard]] SweepResult run_sweep(const toml::table& table, const std::string& file, const std::string& directory,
                                     const SweepOptions& options);
 
-/// CSV, one row per point: the axis keys (SI values), method, limits_verdict, worst_margin_db,
-/// `<detector>_margin_db` per detector (peak_margin_db, quasi-peak_margin_db, average_margin_db),
-/// `margin_db:<limit line>` per limit line, `verdict:<band>` per band, `robust:<criterion>` (1/0)
-/// per criterion, error. Margins with 2 decimals; empty cells where nothing was compared.
-[[nodiscard]] std::string sweep_csv(const SweepResult& result);
+/// A value of an axis for people: 6 significant digits with the axis unit (a fraction in %).
+[[nodiscard]] std::string sweep_value_text(double value, Dimension dimension);
 
-/// JSON of the whole result (axes, columns, points with band details, windows, notes).
-[[nodiscard]] std::string sweep_json(const SweepResult& result);
-
-/// The table of windows for the terminal.
-[[nodiscard]] std::string sweep_windows_text(const SweepResult& result);
+/// What the sweep was asked to find: a window of the last criterion (`all criteria` when there are
+/// several); without criteria, every point valid and meeting the limits. The CLI's exit code.
+[[nodiscard]] bool sweep_goal_met(const SweepResult& result);
 
 }  // namespace spurcast

@@ -22,6 +22,7 @@
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/chain/sweep.hpp"
+#include "core/output/sweep_output.hpp"
 #include "core/input/toml_reader.hpp"
 
 using namespace spurcast;
@@ -228,7 +229,7 @@ TEST_CASE("output order does not depend on the thread count") {
   CHECK(sweep_csv(one) == sweep_csv(three));
   SweepResult three_as_one = three;
   three_as_one.threads = one.threads;  // the only field that may differ
-  CHECK(sweep_json(one) == sweep_json(three_as_one));
+  CHECK(sweep_json(one, {}) == sweep_json(three_as_one, {}));
 }
 
 TEST_CASE("a grid over two keys equals individual predict() runs at the same points") {
