@@ -51,9 +51,7 @@ std::vector<double> parse_frequency_list(const std::string& text) {
 }
 
 int run_scan(const Options& options) {
-  if (options.at != "source" && options.at != "current" && options.at != "lisn") {
-    throw Error("expected --at source, current or lisn, found \"" + options.at + "\"");
-  }
+  // --at is checked by its option (and again, with the same message, by scan_scenario).
   const Scenario scenario = load_scenario(options.scenario_file);
   ScanRequest request;
   request.at = options.at;
