@@ -20,7 +20,7 @@ namespace {
 struct Options {
   std::string trace_file;
   std::vector<std::string> limit_files;
-  std::string unit;  // "" = from the header, else dBuV | dBm
+  std::string unit;  // "" = from the header, else dBuV | dBmV | dBm | dBuA | dBuV/m
   std::string level_column;
   std::vector<std::string> correction_files;
   std::string guard = "6 dB";
@@ -65,8 +65,9 @@ void setup_compare(CLI::App& app, CommandList& commands) {
   sub->add_option("--limits", options->limit_files, "limit-line file (TOML) or shipped name; repeatable")
       ->required()
       ->allow_extra_args(false);
-  sub->add_option("--unit", options->unit, "level unit of the trace: dBuV or dBm (50 ohm); default from the header, else dBuV")
-      ->check(CLI::IsMember({"dBuV", "dBm", "dbuv", "dbm"}));
+  sub->add_option("--unit", options->unit,
+                  "level unit of the trace: dBuV, dBmV, dBm (50 ohm), dBuA or dBuV/m; default from "
+                  "the header, else dBuV");
   sub->add_option("--column", options->level_column, "name of the level column (default: the first non-frequency column)");
   sub->add_option("--correction", options->correction_files,
                   "correction CSV (frequency, dB) added to the reading: LISN VDF, attenuator, cable loss; repeatable")

@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "core/compliance/margins.hpp"
+#include "core/input/error.hpp"
 
 namespace spurcast {
 
@@ -13,6 +14,18 @@ double prescan_rbw_hz(double frequency_hz) {
   if (frequency_hz <= 30e6) return 9e3;
   if (frequency_hz <= 1e9) return 120e3;
   return 1e6;  // band E, above 1 GHz
+}
+
+void check_trace_quantity(const MeasuredTrace& trace, const std::vector<LimitSet>& sets) {
+  for (const LimitSet& set : sets) {
+    if (set.measures == trace.quantity) continue;
+    const TraceUnit wanted = set.measures == LimitQuantity::radiated_field      ? TraceUnit::dbuvm
+                             : set.measures == LimitQuantity::conducted_current ? TraceUnit::dbua
+                                                                                : TraceUnit::dbuv;
+    throw Error(trace.unit_where, "expected a " + to_string(set.measures) + " trace (" + to_string(wanted) +
+                                      ") for the limits \"" + set.name + "\", found a " + to_string(trace.quantity) +
+                                      " trace (" + to_string(trace.unit) + ")");
+  }
 }
 
 std::vector<RemeasurePoint> remeasure_list(const MeasuredTrace& trace, const std::vector<LimitSet>& sets,

@@ -18,6 +18,12 @@ namespace spurcast {
 /// to 30 MHz, 120 kHz up to 1 GHz, 1 MHz above (docs/references.md §1.1, band E §1.1 note).
 [[nodiscard]] double prescan_rbw_hz(double frequency_hz);
 
+/// Error unless the trace measures what every set limits: a voltage trace against a field-strength
+/// line, or a dBµA trace against a dBµV line, compares nothing. The error is at the trace's level
+/// header and names both quantities:
+/// `t.csv:1:21: expected a radiated-field trace (dBuV/m) for the limits "...", found a conducted-voltage trace (dBuV)`.
+void check_trace_quantity(const MeasuredTrace& trace, const std::vector<LimitSet>& sets);
+
 struct PrescanOptions {
   double guard_db = default_guard_db;  ///< [dB] re-measure where the peak is within this of a QP/AV line
   double merge_rbw = 3.0;              ///< candidates closer than merge_rbw × RBW are one emission

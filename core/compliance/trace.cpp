@@ -162,12 +162,73 @@ std::size_t find_frequency_column(const NumericTable& table) {
   return 0;
 }
 
-std::optional<TraceUnit> unit_named_in(const std::string& header) {
-  const std::string name = lower(header);
-  if (name.find("dbm") != std::string::npos) return TraceUnit::dbm;
-  if (name.find("dbuv") != std::string::npos || name.find("db\xC2\xB5v") != std::string::npos ||
-      name.find("db\xCE\xBCv") != std::string::npos) {
-    return TraceUnit::dbuv;
+// Lower case with every spelling of the micro sign as 'u': U+00B5 and U+03BC in UTF-8, and the
+// Windows-1252 / Latin-1 byte 0xB5.
+std::string normalise_unit_text(std::string_view text) {
+  std::string out;
+  out.reserve(text.size());
+  for (std::size_t i = 0; i < text.size(); ++i) {
+    const unsigned char c = static_cast<unsigned char>(text[i]);
+    if ((c == 0xC2 || c == 0xCE) && i + 1 < text.size() &&
+        static_cast<unsigned char>(text[i + 1]) == (c == 0xC2 ? 0xB5 : 0xBC)) {
+      out += 'u';
+      ++i;
+    } else if (c == 0xB5) {
+      out += 'u';
+    } else {
+      out += static_cast<char>(std::tolower(c));
+    }
+  }
+  return out;
+}
+
+// The unit a header names. `bracketed`: the text inside the last (...) or [...] (a unit for certain);
+// otherwise the header's last word after '_', ' ' or '/' (a unit only if it looks like one).
+struct HeaderUnit {
+  std::string text;  // as written
+  bool bracketed = false;
+};
+
+HeaderUnit header_unit(std::string_view header) {
+  const auto trim = [](std::string_view s) {
+    while (!s.empty() && (s.front() == ' ' || s.front() == '\t')) s.remove_prefix(1);
+    while (!s.empty() && (s.back() == ' ' || s.back() == '\t')) s.remove_suffix(1);
+    return s;
+  };
+  header = trim(header);
+  for (const auto& [open, close] : {std::pair{'(', ')'}, std::pair{'[', ']'}}) {
+    const std::size_t c = header.rfind(close);
+    if (c == std::string_view::npos) continue;
+    const std::size_t o = header.rfind(open, c);
+    if (o != std::string_view::npos) return HeaderUnit{std::string(trim(header.substr(o + 1, c - o - 1))), true};
+  }
+  // "Level/dBuV/m" and "level dBuV/m": the field unit's own '/' is not a separator.
+  const std::string low = normalise_unit_text(header);
+  std::size_t end = header.size();
+  if (low.size() >= 6 && low.compare(low.size() - 6, 6, "dbuv/m") == 0) end = header.rfind('/');
+  const std::size_t cut = header.substr(0, end).find_last_of("_ /");
+  return HeaderUnit{std::string(cut == std::string_view::npos ? header : trim(header.substr(cut + 1))), false};
+}
+
+std::optional<TraceUnit> level_unit_token(const std::string& text) {
+  const std::string low = normalise_unit_text(text);
+  if (low == "dbuv") return TraceUnit::dbuv;
+  if (low == "dbmv") return TraceUnit::dbmv;
+  if (low == "dbm") return TraceUnit::dbm;
+  if (low == "dbua") return TraceUnit::dbua;
+  if (low == "dbuv/m" || low == "dbuvm" || low == "dbuv_m") return TraceUnit::dbuvm;
+  return std::nullopt;
+}
+
+const char* const level_units_text = "dBuV, dBmV, dBm, dBuA or dBuV/m";
+
+// The level unit a header names; nullopt when it names none. A unit in brackets, or a last word
+// starting with "dB", that is not a level unit is refused at the header cell.
+std::optional<TraceUnit> unit_named_in(const CsvField& header, const SourcePosition& where) {
+  const HeaderUnit unit = header_unit(header.text);
+  if (const auto known = level_unit_token(unit.text)) return known;
+  if (unit.bracketed || normalise_unit_text(unit.text).rfind("db", 0) == 0) {
+    throw Error(where, std::string("expected a level unit (") + level_units_text + "), found \"" + unit.text + "\"");
   }
   return std::nullopt;
 }
@@ -184,13 +245,53 @@ double interpolate_log_f(const std::vector<double>& x_hz, const std::vector<doub
 
 }  // namespace
 
-std::string to_string(TraceUnit unit) { return unit == TraceUnit::dbm ? "dBm" : "dBuV"; }
+std::string to_string(TraceUnit unit) {
+  switch (unit) {
+    case TraceUnit::dbuv: return "dBuV";
+    case TraceUnit::dbmv: return "dBmV";
+    case TraceUnit::dbm: return "dBm";
+    case TraceUnit::dbua: return "dBuA";
+    case TraceUnit::dbuvm: return "dBuV/m";
+  }
+  return "dBuV";
+}
 
 TraceUnit trace_unit_from_string(std::string_view text) {
-  if (text == "dBm" || text == "dbm") return TraceUnit::dbm;
-  if (text == "dBuV" || text == "dbuv" || text == "dB\xC2\xB5V" || text == "dB\xCE\xBCV") return TraceUnit::dbuv;
-  throw Error("expected dBuV or dBm, found \"" + std::string(text) + "\"");
+  if (const auto unit = level_unit_token(std::string(text))) return *unit;
+  throw Error(std::string("expected ") + level_units_text + ", found \"" + std::string(text) + "\"");
 }
+
+LimitQuantity trace_quantity(TraceUnit unit) {
+  switch (unit) {
+    case TraceUnit::dbuv:
+    case TraceUnit::dbmv:
+    case TraceUnit::dbm: return LimitQuantity::conducted_voltage;
+    case TraceUnit::dbua: return LimitQuantity::conducted_current;
+    case TraceUnit::dbuvm: return LimitQuantity::radiated_field;
+  }
+  return LimitQuantity::conducted_voltage;
+}
+
+std::string describe_conversion(TraceUnit unit) {
+  switch (unit) {
+    case TraceUnit::dbmv: return "dBmV converted to dBuV (+60 dB)";
+    case TraceUnit::dbm: return "dBm converted for 50 ohm (+106.99 dB)";
+    default: return to_string(unit);
+  }
+}
+
+namespace {
+
+// A level in `unit` in the trace's base unit: dBµV for voltages, else unchanged.
+double to_base_unit(double level, TraceUnit unit) {
+  switch (unit) {
+    case TraceUnit::dbmv: return level + 60.0;             // 20·log10(1 mV / 1 µV), common practice
+    case TraceUnit::dbm: return dbm_to_dbuv_50ohm(level);  // docs/references.md §9.2 [D]
+    default: return level;
+  }
+}
+
+}  // namespace
 
 MeasuredTrace parse_trace_csv(std::string_view text, const std::string& name, std::optional<TraceUnit> unit,
                               const std::string& level_column) {
@@ -208,20 +309,22 @@ MeasuredTrace parse_trace_csv(std::string_view text, const std::string& name, st
   }
   MeasuredTrace trace;
   trace.file = name;
-  if (level_index < table.header.size()) trace.level_column = table.header[level_index].text;
-  const auto named = unit_named_in(trace.level_column);
+  trace.unit_where = SourcePosition{name, 0, 0};
+  std::optional<TraceUnit> named;
+  if (level_index < table.header.size()) {
+    trace.level_column = table.header[level_index].text;
+    trace.unit_where = SourcePosition{name, table.header_line, table.header[level_index].column};
+    named = unit_named_in(table.header[level_index], trace.unit_where);
+  }
   if (unit && named && *unit != *named) {
-    throw Error(SourcePosition{name, table.header_line, table.header[level_index].column},
-                "the level column \"" + trace.level_column + "\" is in " + to_string(*named) + ", but the unit given is " +
-                    to_string(*unit));
+    throw Error(trace.unit_where, "the level column \"" + trace.level_column + "\" is in " + to_string(*named) +
+                                      ", but the unit given is " + to_string(*unit));
   }
   trace.unit = unit ? *unit : named.value_or(TraceUnit::dbuv);
+  trace.quantity = trace_quantity(trace.unit);
   trace.frequency_hz = frequency_column(table, frequency_index);
   trace.level_dbuv.reserve(table.rows.size());
-  for (const CsvRow& row : table.rows) {
-    const double level = field_number(table, row, level_index);
-    trace.level_dbuv.push_back(trace.unit == TraceUnit::dbm ? dbm_to_dbuv_50ohm(level) : level);
-  }
+  for (const CsvRow& row : table.rows) trace.level_dbuv.push_back(to_base_unit(field_number(table, row, level_index), trace.unit));
   if (trace.frequency_hz.size() < 2) {
     throw Error(SourcePosition{name, 0, 0}, "expected at least 2 trace points, found " +
                                                 std::to_string(trace.frequency_hz.size()));

@@ -17,32 +17,47 @@
 
 #include "core/receiver/detector.hpp"
 #include "core/compliance/margins.hpp"
+#include "core/input/error.hpp"
 
 namespace spurcast {
 
-/// Level unit of a trace file.
+/// Level unit of a trace file, named in the level column's header ("Level (dBmV)", "level_dbm") or
+/// given with --unit.
 enum class TraceUnit {
-  dbuv,  ///< dBµV
-  dbm,   ///< dBm in a 50 Ω system, converted with +106.99 dB (docs/references.md §9.2 [D])
+  dbuv,   ///< dBµV (also written dBuV, dBμV with a Greek mu)
+  dbmv,   ///< dBmV: +60 dB to dBµV (20·log10(1 mV / 1 µV), common practice)
+  dbm,    ///< dBm in a 50 Ω system: +106.99 dB to dBµV (docs/references.md §9.2 [D])
+  dbua,   ///< dBµA, a current-probe reading
+  dbuvm,  ///< dBµV/m, a field strength
 };
-/// "dBuV" or "dBm".
+/// "dBuV", "dBmV", "dBm", "dBuA" or "dBuV/m".
 [[nodiscard]] std::string to_string(TraceUnit unit);
-/// "dBuV" (also "dBµV"), "dBm"; Error `expected dBuV or dBm, found "dBW"` otherwise.
+/// Any spelling of a trace unit, case-insensitive, µ as u, µ (U+00B5) or μ (U+03BC);
+/// Error `expected dBuV, dBmV, dBm, dBuA or dBuV/m, found "dBW"` otherwise.
 [[nodiscard]] TraceUnit trace_unit_from_string(std::string_view text);
+/// What a trace in `unit` measures: dBµV, dBmV and dBm a voltage, dBµA a current, dBµV/m a field.
+[[nodiscard]] LimitQuantity trace_quantity(TraceUnit unit);
+/// How the levels were converted, for reports: "dBuV", "dBmV converted to dBuV (+60 dB)", ...
+[[nodiscard]] std::string describe_conversion(TraceUnit unit);
 
-/// A measured trace in dBµV after unit conversion (and corrections, once applied).
+/// A measured trace after unit conversion (and corrections, once applied): dBmV and dBm are
+/// converted to dBµV; dBµA and dBµV/m traces keep their unit (see `quantity`).
 struct MeasuredTrace {
   std::string file;
   std::vector<double> frequency_hz;  ///< [Hz] strictly increasing
-  std::vector<double> level_dbuv;    ///< [dBµV]
+  std::vector<double> level_dbuv;    ///< [dBµV; dBµA for a current trace, dBµV/m for a field trace]
   TraceUnit unit = TraceUnit::dbuv;  ///< unit of the file's level column
+  LimitQuantity quantity = LimitQuantity::conducted_voltage;  ///< what the levels measure (from `unit`)
   std::string level_column;          ///< header name of the level column ("" without header)
+  SourcePosition unit_where;         ///< the level column's header cell (the file alone without header)
 };
 
 /// Reads a trace CSV. Columns: the frequency column (header starting with "freq", else the first
 /// column) and the level column (the first other column, or the one named `level_column`).
-/// `unit`: the level unit; when nullopt, a header holding "dbm" means dBm, anything else dBµV.
-/// Error when the header names one unit and `unit` says the other. At least 2 rows.
+/// `unit`: the level unit; when nullopt, the unit named in the level header ("Level (dBmV)",
+/// "level_dbm", "Level [dBµV/m]"), else dBµV. A unit in (...) or [...], or a last word starting with
+/// "dB", that is not one of TraceUnit is an error at its header cell. Error when the header names
+/// one unit and `unit` says another. At least 2 rows.
 [[nodiscard]] MeasuredTrace read_trace_csv(const std::string& path, std::optional<TraceUnit> unit = std::nullopt,
                                            const std::string& level_column = "");
 [[nodiscard]] MeasuredTrace parse_trace_csv(std::string_view text, const std::string& name,

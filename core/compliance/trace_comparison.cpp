@@ -26,6 +26,7 @@ CompareResult compare_trace(const CompareRequest& request) {
   }
   for (const std::string& file : request.correction_files) result.corrections.push_back(read_correction_csv(file));
   const MeasuredTrace raw = read_trace_csv(request.trace_file, request.unit, request.level_column);
+  check_trace_quantity(raw, result.sets);
   result.trace = apply_corrections(raw, result.corrections);
   if (!request.prediction_file.empty()) result.prediction = read_scan_csv(request.prediction_file);
 

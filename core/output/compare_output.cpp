@@ -110,7 +110,7 @@ std::string compare_text(const CompareResult& result, const std::vector<std::str
   std::ostringstream out;
   out << fmt::format("trace: {} ({} points, {} detector, levels in {}", result.trace_file,
                            trace.frequency_hz.size(), to_string(trace_detector),
-                           trace.unit == TraceUnit::dbm ? "dBm converted for 50 ohm (+106.99 dB)" : "dBuV");
+                           describe_conversion(trace.unit));
   out << (corrections.empty() ? ")\n" : "; corrections added:");
   for (const CorrectionTable& c : corrections) {
     out << fmt::format(" {}{}", c.file,

@@ -138,6 +138,20 @@ TEST_CASE("compare: dBm traces are converted for 50 ohm") {
   CHECK(run(dir, "compare trace2.csv --limits cispr32-class-b-conducted").exit_code == 1);
 }
 
+TEST_CASE("compare: a dBmV trace is +60 dB, not read as dBm") {
+  // -10 dBmV = 50 dBµV (1 mV = 60 dBµV, common practice): 4 dB over the 46 dBµV average line at 1 MHz
+  // (docs/references.md §3.1). Read as dBm it would be 96.99 dBµV.
+  const fs::path dir = fresh_directory("dbmv");
+  write_text(dir / "trace.csv", trace_csv(-10.0, -10.0, "frequency_hz,Level (dBmV)"));
+  const RunResult r = run(dir, "compare trace.csv --limits cispr32-class-b-conducted --json");
+  CAPTURE(r.err);
+  CHECK(r.exit_code == 1);
+  const auto j = nlohmann::json::parse(r.out);
+  CHECK(j["trace"]["unit"] == "dBmV");
+  const double tol_db = 1e-6;
+  CHECK(std::abs(j["worst_margin_db"]["average"].get<double>() - (46.0 - 50.0)) < tol_db);
+}
+
 TEST_CASE("compare: bad input -> exit 2, message on stderr, nothing written") {
   const fs::path dir = fresh_directory("bad");
   write_text(dir / "trace.csv", "frequency_hz,level_dbuv\n1e6,40\n0.9e6,41\n");
@@ -164,11 +178,18 @@ TEST_CASE("compare: bad input -> exit 2, message on stderr, nothing written") {
                      "/tests/data/limits/unknown-detector.toml:9:12: expected one of peak, quasi-peak or average, "
                      "found \"qp\"\n");
 
-  write_text(dir / "short.csv", "frequency_hz,level_dbuv\n1e6,30\n2e6,30\n");
+  // A field-strength trace (a voltage trace is refused against a radiated line before this check).
+  write_text(dir / "short.csv", "frequency_hz,level (dBuV/m)\n1e6,30\n2e6,30\n");
   r = run(dir, "compare short.csv --limits cispr32-class-b-radiated-3m");
   CHECK(r.exit_code == 2);
   CHECK(r.err == "spurcast: error: short.csv: no trace point lies on a limit line for the peak detector (trace "
                  "1 MHz to 2 MHz, lines 30 MHz to 1 GHz)\n");
+
+  write_text(dir / "field.csv", "frequency_hz,level_dbuv\n1e6,30\n2e6,30\n");
+  r = run(dir, "compare field.csv --limits cispr32-class-b-radiated-3m");
+  CHECK(r.exit_code == 2);
+  CHECK(r.err == "spurcast: error: field.csv:1:14: expected a radiated-field trace (dBuV/m) for the limits \"CISPR 32 "
+                 "class B, radiated, 3 m\", found a conducted-voltage trace (dBuV)\n");
 
   r = run(dir, "compare good.csv --limits cispr32-class-b-conducted --limits cispr32-class-b-radiated-3m");
   CHECK(r.exit_code == 2);

@@ -119,10 +119,17 @@ TEST_CASE("compare_trace errors") {
   request.limit_files = {"cispr32-class-b-conducted", "cispr32-class-b-radiated-3m"};
   CHECK_THROWS_WITH_AS(compare_trace(request), "expected limit files of one unit, found dB\xC2\xB5V and dB\xC2\xB5V/m", Error);
   request.limit_files = {"cispr32-class-b-radiated-3m"};
-  request.trace_file = write_text("short.csv", "frequency_hz,level_dbuv\n150000,40\n1000000,41\n");
+  // A field-strength trace: a voltage trace is refused against a radiated line before the range check.
+  request.trace_file = write_text("short.csv", "frequency_hz,level (dBuV/m)\n150000,40\n1000000,41\n");
   CHECK_THROWS_WITH_AS(compare_trace(request),
                        (request.trace_file + ": no trace point lies on a limit line for the peak detector (trace 150 kHz to "
                                              "1 MHz, lines 30 MHz to 1 GHz)")
+                           .c_str(),
+                       Error);
+  request.trace_file = write_text("voltage.csv", "frequency_hz,level_dbuv\n50e6,40\n60e6,41\n");
+  CHECK_THROWS_WITH_AS(compare_trace(request),
+                       (request.trace_file + ":1:14: expected a radiated-field trace (dBuV/m) for the limits \"CISPR 32 "
+                                             "class B, radiated, 3 m\", found a conducted-voltage trace (dBuV)")
                            .c_str(),
                        Error);
 }

@@ -39,6 +39,65 @@ TEST_CASE("dBm traces are converted for 50 ohm: 0 dBm = 106.99 dBuV") {
   CHECK(std::abs(plain.level_dbuv[0] - 40.0) < tol_exact_db);
 }
 
+TEST_CASE("level units come from the header: dBmV is +60 dB, dBm +106.99 dB, never read as each other") {
+  const double tol_db = 1e-9;
+  // Closed forms (common practice): 1 mV = 1000 µV, so dBµV = dBmV + 20·log10(1e3); 1 mW into 50 Ω is
+  // √(50 Ω · 1 mW) = 0.2236 V, so dBµV = dBm + 20·log10(√(50·1e-3) / 1e-6) = dBm + 106.9897.
+  const double dbmv_offset_db = 20.0 * std::log10(1e-3 / 1e-6);
+  const double dbm_offset_db = 20.0 * std::log10(std::sqrt(50.0 * 1e-3) / 1e-6);
+  const MeasuredTrace dbmv = parse_trace_csv("Frequency (MHz),Level (dBmV)\n0.15,-10\n1,-12.5\n", "mv.csv");
+  CHECK(dbmv.unit == TraceUnit::dbmv);
+  CHECK(dbmv.quantity == LimitQuantity::conducted_voltage);
+  CHECK(std::abs(dbmv.level_dbuv[0] - (-10.0 + dbmv_offset_db)) < tol_db);
+  CHECK(std::abs(dbmv.level_dbuv[1] - (-12.5 + dbmv_offset_db)) < tol_db);
+  const MeasuredTrace dbm = parse_trace_csv("Frequency [MHz];Level [DBM]\n0.15;-10\n1;-12.5\n", "m.csv");
+  CHECK(dbm.unit == TraceUnit::dbm);
+  CHECK(std::abs(dbm.level_dbuv[0] - (-10.0 + dbm_offset_db)) < tol_db);
+  // Every spelling of the micro sign: ASCII u, U+00B5, U+03BC, and the Windows-1252 byte 0xB5.
+  for (const char* header : {"Level (dBuV)", "Level (dB\xC2\xB5V)", "Level (dB\xCE\xBCV)", "Level (dB\xB5V)", "level_dbuv",
+                             "Level dBuV"}) {
+    CAPTURE(header);
+    const MeasuredTrace t = parse_trace_csv(std::string("Frequency (Hz),") + header + "\n150e3,40\n160e3,41\n", "u.csv");
+    CHECK(t.unit == TraceUnit::dbuv);
+    CHECK(std::abs(t.level_dbuv[0] - 40.0) < tol_db);
+  }
+  const MeasuredTrace current = parse_trace_csv("frequency_hz,Current [dB\xC2\xB5" "A]\n150e3,20\n160e3,21\n", "a.csv");
+  CHECK(current.unit == TraceUnit::dbua);
+  CHECK(current.quantity == LimitQuantity::conducted_current);
+  CHECK(std::abs(current.level_dbuv[0] - 20.0) < tol_db);
+  const MeasuredTrace field = parse_trace_csv("Frequency (MHz),E-field dB\xCE\xBCV/m\n50,30\n60,31\n", "e.csv");
+  CHECK(field.unit == TraceUnit::dbuvm);
+  CHECK(field.quantity == LimitQuantity::radiated_field);
+  CHECK(trace_unit_from_string("DBUV/M") == TraceUnit::dbuvm);
+  CHECK(trace_unit_from_string("dB\xC2\xB5" "A") == TraceUnit::dbua);
+
+  // A unit the loader does not know is refused at its header cell.
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (MHz),Level (dBW)\n0.15,-70\n1,-70\n", "w.csv"),
+                       "w.csv:1:17: expected a level unit (dBuV, dBmV, dBm, dBuA or dBuV/m), found \"dBW\"", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz;level_dB\n150e3;1\n160e3;2\n", "d.csv"),
+                       "d.csv:1:14: expected a level unit (dBuV, dBmV, dBm, dBuA or dBuV/m), found \"dB\"", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (MHz),Level (dBmV)\n0.15,-10\n1,-10\n", "c.csv", TraceUnit::dbm),
+                       "c.csv:1:17: the level column \"Level (dBmV)\" is in dBmV, but the unit given is dBm", Error);
+}
+
+TEST_CASE("a trace is compared only with limits of its own quantity") {
+  const LimitSet conducted = class_b();
+  const LimitSet radiated = read_limit_file(source_dir + "/limits/cispr32-class-b-radiated-3m.toml");
+  const MeasuredTrace voltage = parse_trace_csv("Frequency (MHz),Level (dBuV)\n50,30\n100,30\n", "v.csv");
+  CHECK_NOTHROW(check_trace_quantity(voltage, {conducted}));
+  CHECK_THROWS_WITH_AS(check_trace_quantity(voltage, {radiated}),
+                       "v.csv:1:17: expected a radiated-field trace (dBuV/m) for the limits \"CISPR 32 class B, radiated, "
+                       "3 m\", found a conducted-voltage trace (dBuV)",
+                       Error);
+  const MeasuredTrace field = parse_trace_csv("Frequency (MHz),Level (dBuV/m)\n50,30\n100,30\n", "f.csv");
+  CHECK_NOTHROW(check_trace_quantity(field, {radiated}));
+  const MeasuredTrace current = parse_trace_csv("0.15e6,30\n1e7,30\n", "i.csv", TraceUnit::dbua);
+  CHECK_THROWS_WITH_AS(check_trace_quantity(current, {conducted}),
+                       "i.csv: expected a conducted-voltage trace (dBuV) for the limits \"CISPR 32 class B, AC mains "
+                       "port\", found a conducted-current trace (dBuA)",
+                       Error);
+}
+
 TEST_CASE("trace CSV: header names, MHz column, separators, comments") {
   const double tol = 1e-9;
   const MeasuredTrace trace =
@@ -60,7 +119,9 @@ TEST_CASE("trace CSV errors carry file:line:column") {
                        "d.csv:1:14: the level column \"level_dbm\" is in dBm, but the unit given is dBuV", Error);
   CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n", "e.csv"),
                        "e.csv: expected rows of numbers, found none", Error);
-  CHECK_THROWS_WITH_AS((void)trace_unit_from_string("dBW"), "expected dBuV or dBm, found \"dBW\"", Error);
+  // Behaviour change (issue 14): dBmV, dBuA and dBuV/m are trace units too.
+  CHECK_THROWS_WITH_AS((void)trace_unit_from_string("dBW"), "expected dBuV, dBmV, dBm, dBuA or dBuV/m, found \"dBW\"",
+                       Error);
 }
 
 TEST_CASE("correction tables: linear in log-frequency, added to the reading") {

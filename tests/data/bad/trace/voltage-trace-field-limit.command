@@ -1,0 +1,1 @@
+compare {input} --limits cispr32-class-b-radiated-3m --csv {out}
