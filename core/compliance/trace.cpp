@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <cctype>
 #include <cmath>
+#include <cstring>
 #include <fstream>
 #include <sstream>
 
@@ -33,8 +34,14 @@ std::string read_file(const std::string& path) {
   return buffer.str();
 }
 
-std::vector<CsvRow> split_csv(std::string_view text) {
-  std::vector<CsvRow> rows;
+// The lines of a CSV text that carry data: not blank, not a '#' comment; CR and a UTF-8 BOM removed.
+struct TextLine {
+  int number = 0;
+  std::string_view text;
+};
+
+std::vector<TextLine> data_lines(std::string_view text) {
+  std::vector<TextLine> lines;
   int line_number = 0;
   std::size_t start = 0;
   while (start <= text.size()) {
@@ -46,38 +53,62 @@ std::vector<CsvRow> split_csv(std::string_view text) {
     if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
     if (line_number == 1 && line.substr(0, 3) == "\xEF\xBB\xBF") line.remove_prefix(3);  // UTF-8 BOM
     const std::size_t first = line.find_first_not_of(" \t");
-    if (first == std::string_view::npos || line[first] == '#') {
-      if (end == text.size()) break;
-      continue;
-    }
+    if (first != std::string_view::npos && line[first] != '#') lines.push_back(TextLine{line_number, line});
+    if (end == text.size()) break;
+  }
+  return lines;
+}
+
+// One delimiter per file: ';' if any line has one, else a tab if any line has one, else ','. A
+// semicolon or tab file may then use the decimal comma (the European export setting), which a
+// comma file cannot.
+char file_delimiter(const std::vector<TextLine>& lines) {
+  bool tab = false;
+  for (const TextLine& line : lines) {
+    if (line.text.find(';') != std::string_view::npos) return ';';
+    if (line.text.find('\t') != std::string_view::npos) tab = true;
+  }
+  return tab ? '\t' : ',';
+}
+
+// Splits at `delimiter`; a field in double quotes may hold the delimiter ("60,45" in a comma file).
+std::vector<CsvRow> split_csv(const std::vector<TextLine>& lines, char delimiter) {
+  std::vector<CsvRow> rows;
+  rows.reserve(lines.size());
+  for (const TextLine& text_line : lines) {
+    const std::string_view line = text_line.text;
     CsvRow row;
-    row.line = line_number;
+    row.line = text_line.number;
     std::size_t field_start = 0;
     while (true) {
-      const std::size_t field_end = line.find_first_of(",;\t", field_start);
-      std::string_view field = line.substr(field_start, field_end == std::string_view::npos ? std::string_view::npos
-                                                                                           : field_end - field_start);
+      const char* const blanks = delimiter == '\t' ? " " : " \t";
       std::size_t offset = field_start;
-      while (!field.empty() && field.front() == ' ') {
-        field.remove_prefix(1);
-        ++offset;
+      while (offset < line.size() && std::strchr(blanks, line[offset]) != nullptr) ++offset;
+      std::size_t field_end = line.find(delimiter, offset);
+      std::string_view field;
+      if (offset < line.size() && line[offset] == '"') {
+        const std::size_t close = line.find('"', offset + 1);
+        const std::size_t after = close == std::string_view::npos ? close : line.find_first_not_of(blanks, close + 1);
+        if (close != std::string_view::npos && (after == std::string_view::npos || line[after] == delimiter)) {
+          field = line.substr(offset + 1, close - offset - 1);
+          ++offset;
+          field_end = after;
+        }
       }
-      while (!field.empty() && field.back() == ' ') field.remove_suffix(1);
-      if (field.size() >= 2 && field.front() == '"' && field.back() == '"') {
-        field = field.substr(1, field.size() - 2);
-        ++offset;
+      if (field.data() == nullptr) {
+        field = line.substr(offset, field_end == std::string_view::npos ? std::string_view::npos : field_end - offset);
+        while (!field.empty() && std::strchr(blanks, field.back()) != nullptr) field.remove_suffix(1);
       }
       row.fields.push_back(CsvField{std::string(field), static_cast<int>(offset) + 1});
       if (field_end == std::string_view::npos) break;
       field_start = field_end + 1;
     }
     rows.push_back(std::move(row));
-    if (end == text.size()) break;
   }
   return rows;
 }
 
-std::optional<double> to_number(const std::string& text) {
+std::optional<double> to_number(std::string_view text) {
   double value = 0.0;
   const char* first = text.data();
   const char* last = first + text.size();
@@ -85,6 +116,23 @@ std::optional<double> to_number(const std::string& text) {
   const auto result = fast_float::from_chars(first, last, value);
   if (result.ec != std::errc() || result.ptr != last || !std::isfinite(value)) return std::nullopt;
   return value;
+}
+
+// A cell as a number. With ';' or tab between the fields, one ',' and no '.' is a decimal comma
+// ("60,45" = 60.45). With ',' between the fields a cell can hold a comma only in quotes, and
+// "1,234" could be 1.234 or 1234: refused rather than guessed.
+std::optional<double> cell_number(const std::string& text, char delimiter, const SourcePosition& where) {
+  const std::size_t comma = text.find(',');
+  if (comma == std::string::npos) return to_number(text);
+  if (delimiter == ',') {
+    throw Error(where, "expected a number with a decimal point, found \"" + text +
+                           "\" (a decimal comma is ambiguous in a comma-separated file: use '.', or ';' or tab "
+                           "between the fields)");
+  }
+  if (text.find(',', comma + 1) != std::string::npos || text.find('.') != std::string::npos) return std::nullopt;
+  std::string decimal = text;
+  decimal[comma] = '.';
+  return to_number(decimal);
 }
 
 std::string lower(std::string text) {
@@ -103,23 +151,48 @@ double frequency_scale(const std::string& header) {
 // A table of numeric columns: header (maybe empty) and rows.
 struct NumericTable {
   std::string file;
+  char delimiter = ',';
   std::vector<CsvField> header;
   int header_line = 0;
   std::vector<CsvRow> rows;
 };
 
+// A comma file whose row has more filled fields than the header (or than the first row without a
+// header) most likely carries decimal commas ("150000,60,45"): refused at the first extra field.
+void check_comma_row_widths(const NumericTable& table) {
+  if (table.delimiter != ',' || table.rows.empty()) return;
+  const std::size_t width = table.header.empty() ? table.rows.front().fields.size() : table.header.size();
+  for (const CsvRow& row : table.rows) {
+    for (std::size_t i = width; i < row.fields.size(); ++i) {
+      if (row.fields[i].text.empty()) continue;
+      throw Error(SourcePosition{table.file, row.line, row.fields[i].column},
+                  "expected " + std::to_string(width) + " fields as in " +
+                      (table.header.empty() ? std::string("the first row") : std::string("the header")) + ", found " +
+                      std::to_string(row.fields.size()) +
+                      " (a decimal comma is ambiguous in a comma-separated file: use '.', or ';' or tab between "
+                      "the fields)");
+    }
+  }
+}
+
 NumericTable split_table(std::string_view text, const std::string& name) {
   NumericTable table;
   table.file = name;
-  std::vector<CsvRow> rows = split_csv(text);
+  const std::vector<TextLine> lines = data_lines(text);
+  table.delimiter = file_delimiter(lines);
+  std::vector<CsvRow> rows = split_csv(lines, table.delimiter);
   std::size_t first_data = 0;
-  if (!rows.empty() && !to_number(rows.front().fields.front().text)) {
-    table.header = rows.front().fields;
-    table.header_line = rows.front().line;
-    first_data = 1;
+  if (!rows.empty()) {
+    const CsvField& first = rows.front().fields.front();
+    if (!cell_number(first.text, table.delimiter, SourcePosition{name, rows.front().line, first.column})) {
+      table.header = rows.front().fields;
+      table.header_line = rows.front().line;
+      first_data = 1;
+    }
   }
   table.rows.assign(rows.begin() + static_cast<std::ptrdiff_t>(first_data), rows.end());
   if (table.rows.empty()) throw Error(SourcePosition{name, 0, 0}, "expected rows of numbers, found none");
+  check_comma_row_widths(table);
   return table;
 }
 
@@ -129,10 +202,9 @@ double field_number(const NumericTable& table, const CsvRow& row, std::size_t in
                 "expected at least " + std::to_string(index + 1) + " columns, found " + std::to_string(row.fields.size()));
   }
   const CsvField& field = row.fields[index];
-  const auto value = to_number(field.text);
-  if (!value) {
-    throw Error(SourcePosition{table.file, row.line, field.column}, "expected a number, found \"" + field.text + "\"");
-  }
+  const SourcePosition where{table.file, row.line, field.column};
+  const auto value = cell_number(field.text, table.delimiter, where);
+  if (!value) throw Error(where, "expected a number, found \"" + field.text + "\"");
   return *value;
 }
 

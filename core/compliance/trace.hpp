@@ -2,9 +2,12 @@
 /// Measured traces (spectrum-analyser or receiver exports) and correction tables (LISN voltage-
 /// division factor, limiter or attenuator, cable loss) as CSV, for the pre-scan comparison.
 ///
-/// CSV rules (all files here): one row per line; fields separated by ',', ';' or a tab; lines that
-/// are empty or start with '#' are skipped; an optional header row (its first field is not a number)
-/// names the columns. A frequency column named "...mhz", "...khz" or "...ghz" is scaled to Hz,
+/// CSV rules (all files here): one row per line; one delimiter per file: ';' if any line holds one,
+/// else a tab if any line holds one, else ','; a field in double quotes may hold the delimiter.
+/// With ';' or tab between the fields a number may use a decimal comma ("60,45" = 60.45); in a
+/// comma file a comma inside a number, or a row with more filled fields than the header, is refused
+/// as ambiguous. Lines that are empty or start with '#' are skipped; an optional header row (its
+/// first field is not a number) names the columns. A frequency column named "...mhz", "...khz" or "...ghz" is scaled to Hz,
 /// otherwise it is in Hz. Frequencies must increase strictly. Errors carry file:line:column.
 ///
 /// Sign convention of corrections: corrected level = reading + correction_db. A LISN voltage-division

@@ -108,6 +108,40 @@ TEST_CASE("trace CSV: header names, MHz column, separators, comments") {
   CHECK(trace.level_column == "Level (dBuV)");
 }
 
+TEST_CASE("decimal commas: read where ';' or tab separates the fields, refused where ',' does") {
+  const double tol = 1e-9;
+  // A European export: ';' between the fields, ',' as the decimal mark ("60,45" was read as 60).
+  const MeasuredTrace semi =
+      parse_trace_csv("Frequency (MHz);Level (dBuV)\n0,15;60,45\n1;-3,5\n2,5;7\n", "semi.csv");
+  REQUIRE(semi.frequency_hz.size() == 3);
+  CHECK(std::abs(semi.frequency_hz[0] - 150e3) < tol);
+  CHECK(std::abs(semi.level_dbuv[0] - 60.45) < tol);
+  CHECK(std::abs(semi.level_dbuv[1] + 3.5) < tol);
+  CHECK(std::abs(semi.frequency_hz[2] - 2.5e6) < tol);
+  const MeasuredTrace tab = parse_trace_csv("Frequency (Hz)\tLevel (dBuV)\n150000\t40,25\n160000\t41\n", "tab.csv");
+  CHECK(std::abs(tab.level_dbuv[0] - 40.25) < tol);
+  const CorrectionTable vdf = parse_correction_csv("Frequency (MHz);Correction (dB)\n0,15;1,5\n30;0,25\n", "vdf.csv");
+  CHECK(std::abs(vdf.correction_db[0] - 1.5) < tol);
+  CHECK(std::abs(vdf.frequency_hz[1] - 30e6) < tol);
+  // Quoted cells in a comma file: a '.' decimal is fine; a comma in the cell is ambiguous (1,234).
+  const MeasuredTrace quoted = parse_trace_csv("\"Frequency (Hz)\",\"Level (dBuV)\"\n\"150000\",\"40.5\"\n160000,41\n", "q.csv");
+  CHECK(std::abs(quoted.level_dbuv[0] - 40.5) < tol);
+  CHECK(quoted.level_column == "Level (dBuV)");
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (Hz),Level (dBuV)\n150000,\"40,5\"\n160000,41\n", "c.csv"),
+                       "c.csv:2:9: expected a number with a decimal point, found \"40,5\" (a decimal comma is ambiguous "
+                       "in a comma-separated file: use '.', or ';' or tab between the fields)",
+                       Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (Hz),Level (dBuV)\n150000,40,5\n160000,41\n", "d.csv"),
+                       "d.csv:2:11: expected 2 fields as in the header, found 3 (a decimal comma is ambiguous in a "
+                       "comma-separated file: use '.', or ';' or tab between the fields)",
+                       Error);
+  // A trailing empty field is no extra value.
+  CHECK(parse_trace_csv("Frequency (Hz),Level (dBuV)\n150000,40,\n160000,41,\n", "e.csv").level_dbuv.size() == 2);
+  // Thousands separators are not guessed at.
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (Hz);Level (dBuV)\n150000;1.040,5\n", "g.csv"),
+                       "g.csv:2:8: expected a number, found \"1.040,5\"", Error);
+}
+
 TEST_CASE("trace CSV errors carry file:line:column") {
   CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n1e6,40\n0.9e6,41\n", "a.csv"),
                        "a.csv:3:1: frequencies out of order: expected above 1 MHz, found 900 kHz", Error);
