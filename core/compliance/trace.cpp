@@ -63,8 +63,17 @@ std::vector<TextLine> data_lines(std::string_view text) {
 // semicolon or tab file may then use the decimal comma (the European export setting), which a
 // comma file cannot.
 char file_delimiter(const std::vector<TextLine>& lines) {
-  bool tab = false;
+  // Judged on the lines that start like a number, so that metadata lines before the header
+  // ("Date;2024-05-01" in a comma file) do not decide; on every line when none does.
+  std::vector<TextLine> numeric;
   for (const TextLine& line : lines) {
+    const std::size_t first = line.text.find_first_not_of(" \t\"");
+    if (first != std::string_view::npos && std::strchr("0123456789+-.", line.text[first]) != nullptr) {
+      numeric.push_back(line);
+    }
+  }
+  bool tab = false;
+  for (const TextLine& line : numeric.empty() ? lines : numeric) {
     if (line.text.find(';') != std::string_view::npos) return ';';
     if (line.text.find('\t') != std::string_view::npos) tab = true;
   }
@@ -149,91 +158,6 @@ double frequency_scale(const std::string& header) {
 }
 
 // A table of numeric columns: header (maybe empty) and rows.
-struct NumericTable {
-  std::string file;
-  char delimiter = ',';
-  std::vector<CsvField> header;
-  int header_line = 0;
-  std::vector<CsvRow> rows;
-};
-
-// A comma file whose row has more filled fields than the header (or than the first row without a
-// header) most likely carries decimal commas ("150000,60,45"): refused at the first extra field.
-void check_comma_row_widths(const NumericTable& table) {
-  if (table.delimiter != ',' || table.rows.empty()) return;
-  const std::size_t width = table.header.empty() ? table.rows.front().fields.size() : table.header.size();
-  for (const CsvRow& row : table.rows) {
-    for (std::size_t i = width; i < row.fields.size(); ++i) {
-      if (row.fields[i].text.empty()) continue;
-      throw Error(SourcePosition{table.file, row.line, row.fields[i].column},
-                  "expected " + std::to_string(width) + " fields as in " +
-                      (table.header.empty() ? std::string("the first row") : std::string("the header")) + ", found " +
-                      std::to_string(row.fields.size()) +
-                      " (a decimal comma is ambiguous in a comma-separated file: use '.', or ';' or tab between "
-                      "the fields)");
-    }
-  }
-}
-
-NumericTable split_table(std::string_view text, const std::string& name) {
-  NumericTable table;
-  table.file = name;
-  const std::vector<TextLine> lines = data_lines(text);
-  table.delimiter = file_delimiter(lines);
-  std::vector<CsvRow> rows = split_csv(lines, table.delimiter);
-  std::size_t first_data = 0;
-  if (!rows.empty()) {
-    const CsvField& first = rows.front().fields.front();
-    if (!cell_number(first.text, table.delimiter, SourcePosition{name, rows.front().line, first.column})) {
-      table.header = rows.front().fields;
-      table.header_line = rows.front().line;
-      first_data = 1;
-    }
-  }
-  table.rows.assign(rows.begin() + static_cast<std::ptrdiff_t>(first_data), rows.end());
-  if (table.rows.empty()) throw Error(SourcePosition{name, 0, 0}, "expected rows of numbers, found none");
-  check_comma_row_widths(table);
-  return table;
-}
-
-double field_number(const NumericTable& table, const CsvRow& row, std::size_t index) {
-  if (index >= row.fields.size()) {
-    throw Error(SourcePosition{table.file, row.line, 0},
-                "expected at least " + std::to_string(index + 1) + " columns, found " + std::to_string(row.fields.size()));
-  }
-  const CsvField& field = row.fields[index];
-  const SourcePosition where{table.file, row.line, field.column};
-  const auto value = cell_number(field.text, table.delimiter, where);
-  if (!value) throw Error(where, "expected a number, found \"" + field.text + "\"");
-  return *value;
-}
-
-// Reads the frequency column with its scale and checks it increases strictly and is positive.
-std::vector<double> frequency_column(const NumericTable& table, std::size_t index) {
-  const double scale = table.header.empty() ? 1.0 : frequency_scale(table.header[index].text);
-  std::vector<double> frequencies;
-  frequencies.reserve(table.rows.size());
-  for (const CsvRow& row : table.rows) {
-    const double f = field_number(table, row, index) * scale;
-    const SourcePosition where{table.file, row.line, row.fields[index].column};
-    if (!(f > 0.0)) throw Error(where, "expected a positive frequency, found " + row.fields[index].text);
-    if (!frequencies.empty() && !(f > frequencies.back())) {
-      throw Error(where, "frequencies out of order: expected above " +
-                             format_quantity(frequencies.back(), Dimension::frequency, 6) + ", found " +
-                             format_quantity(f, Dimension::frequency, 6));
-    }
-    frequencies.push_back(f);
-  }
-  return frequencies;
-}
-
-std::size_t find_frequency_column(const NumericTable& table) {
-  for (std::size_t i = 0; i < table.header.size(); ++i) {
-    if (lower(table.header[i].text).rfind("freq", 0) == 0) return i;
-  }
-  return 0;
-}
-
 // Lower case with every spelling of the micro sign as 'u': U+00B5 and U+03BC in UTF-8, and the
 // Windows-1252 / Latin-1 byte 0xB5.
 std::string normalise_unit_text(std::string_view text) {
@@ -280,6 +204,149 @@ HeaderUnit header_unit(std::string_view header) {
   if (low.size() >= 6 && low.compare(low.size() - 6, 6, "dbuv/m") == 0) end = header.rfind('/');
   const std::size_t cut = header.substr(0, end).find_last_of("_ /");
   return HeaderUnit{std::string(cut == std::string_view::npos ? header : trim(header.substr(cut + 1))), false};
+}
+
+struct NumericTable {
+  std::string file;
+  char delimiter = ',';
+  std::optional<double> rbw_hz;  // [Hz] from the metadata lines, when given
+  SourcePosition rbw_where;
+  std::vector<CsvField> header;
+  int header_line = 0;
+  std::vector<CsvRow> rows;
+};
+
+// A comma file whose row has more filled fields than the header (or than the first row without a
+// header) most likely carries decimal commas ("150000,60,45"): refused at the first extra field.
+void check_comma_row_widths(const NumericTable& table) {
+  if (table.delimiter != ',' || table.rows.empty()) return;
+  const std::size_t width = table.header.empty() ? table.rows.front().fields.size() : table.header.size();
+  for (const CsvRow& row : table.rows) {
+    for (std::size_t i = width; i < row.fields.size(); ++i) {
+      if (row.fields[i].text.empty()) continue;
+      throw Error(SourcePosition{table.file, row.line, row.fields[i].column},
+                  "expected " + std::to_string(width) + " fields as in " +
+                      (table.header.empty() ? std::string("the first row") : std::string("the header")) + ", found " +
+                      std::to_string(row.fields.size()) +
+                      " (a decimal comma is ambiguous in a comma-separated file: use '.', or ';' or tab between "
+                      "the fields)");
+    }
+  }
+}
+
+// The scale of a frequency unit ("Hz", "kHz", "MHz", "GHz", any case) to Hz.
+std::optional<double> frequency_unit_scale(const std::string& unit) {
+  const std::string low = normalise_unit_text(unit);
+  if (low == "hz") return 1.0;
+  if (low == "khz") return 1e3;
+  if (low == "mhz") return 1e6;
+  if (low == "ghz") return 1e9;
+  return std::nullopt;
+}
+
+bool is_rbw_label(const std::string& label) {
+  const std::string low = normalise_unit_text(label);
+  for (const char* name : {"rbw", "res bw", "res. bw", "resbw", "resolution bandwidth", "resolution bw"}) {
+    if (low.rfind(name, 0) == 0) return true;
+  }
+  return false;
+}
+
+// The resolution bandwidth of a metadata row "RBW;9000;Hz", "RBW [kHz];9", "RBW;9 kHz" (no unit: Hz).
+void read_rbw(const CsvRow& row, NumericTable& table) {
+  if (row.fields.size() < 2 || !is_rbw_label(row.fields[0].text)) return;
+  const CsvField& cell = row.fields[1];
+  const SourcePosition where{table.file, row.line, cell.column};
+  std::string number_text = cell.text;
+  std::string unit_text;
+  SourcePosition unit_where = where;
+  const std::size_t letter = cell.text.find_first_of("abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ");
+  if (letter != std::string::npos && letter > 0 && !cell_number(cell.text, table.delimiter, where)) {
+    number_text = cell.text.substr(0, cell.text.find_last_not_of(' ', letter - 1) + 1);
+    unit_text = cell.text.substr(letter);
+  } else if (row.fields.size() >= 3 && !row.fields[2].text.empty()) {
+    unit_text = row.fields[2].text;
+    unit_where = SourcePosition{table.file, row.line, row.fields[2].column};
+  } else if (const HeaderUnit label = header_unit(row.fields[0].text); label.bracketed) {
+    unit_text = label.text;
+    unit_where = SourcePosition{table.file, row.line, row.fields[0].column};
+  }
+  const auto value = cell_number(number_text, table.delimiter, where);
+  if (!value || !(*value > 0.0)) throw Error(where, "expected a positive resolution bandwidth, found \"" + cell.text + "\"");
+  const auto scale = unit_text.empty() ? std::optional<double>(1.0) : frequency_unit_scale(unit_text);
+  if (!scale) throw Error(unit_where, "expected a bandwidth unit (Hz, kHz or MHz), found \"" + unit_text + "\"");
+  table.rbw_hz = *value * *scale;
+  table.rbw_where = where;
+}
+
+// Instrument exports put metadata lines before the table ("Type;Analyzer", "RBW;9000;Hz", blank
+// lines, then "Frequency [Hz];Level [dBuV]"). The rule: the data are the rows from the first row
+// whose first field is a number; the row just before it, if any, is the header; every row before
+// the header is metadata, read only for the resolution bandwidth. A file without metadata is the
+// same rule with nothing before the header.
+NumericTable split_table(std::string_view text, const std::string& name) {
+  NumericTable table;
+  table.file = name;
+  const std::vector<TextLine> lines = data_lines(text);
+  table.delimiter = file_delimiter(lines);
+  std::vector<CsvRow> rows = split_csv(lines, table.delimiter);
+  std::size_t first_data = 0;
+  while (first_data < rows.size()) {
+    const CsvField& first = rows[first_data].fields.front();
+    // A quoted label with a comma ("Date, time") is metadata, not an ambiguous number.
+    const bool comma_label = table.delimiter == ',' && first.text.find(',') != std::string::npos;
+    if (!comma_label && cell_number(first.text, table.delimiter, SourcePosition{name, rows[first_data].line, first.column})) {
+      break;
+    }
+    ++first_data;
+  }
+  if (first_data == rows.size()) throw Error(SourcePosition{name, 0, 0}, "expected rows of numbers, found none");
+  if (first_data > 0) {
+    table.header = rows[first_data - 1].fields;
+    table.header_line = rows[first_data - 1].line;
+    for (std::size_t i = 0; i + 1 < first_data; ++i) read_rbw(rows[i], table);
+  }
+  table.rows.assign(rows.begin() + static_cast<std::ptrdiff_t>(first_data), rows.end());
+  check_comma_row_widths(table);
+  return table;
+}
+
+double field_number(const NumericTable& table, const CsvRow& row, std::size_t index) {
+  if (index >= row.fields.size()) {
+    throw Error(SourcePosition{table.file, row.line, 0},
+                "expected at least " + std::to_string(index + 1) + " columns, found " + std::to_string(row.fields.size()));
+  }
+  const CsvField& field = row.fields[index];
+  const SourcePosition where{table.file, row.line, field.column};
+  const auto value = cell_number(field.text, table.delimiter, where);
+  if (!value) throw Error(where, "expected a number, found \"" + field.text + "\"");
+  return *value;
+}
+
+// Reads the frequency column with its scale and checks it increases strictly and is positive.
+std::vector<double> frequency_column(const NumericTable& table, std::size_t index) {
+  const double scale = table.header.empty() ? 1.0 : frequency_scale(table.header[index].text);
+  std::vector<double> frequencies;
+  frequencies.reserve(table.rows.size());
+  for (const CsvRow& row : table.rows) {
+    const double f = field_number(table, row, index) * scale;
+    const SourcePosition where{table.file, row.line, row.fields[index].column};
+    if (!(f > 0.0)) throw Error(where, "expected a positive frequency, found " + row.fields[index].text);
+    if (!frequencies.empty() && !(f > frequencies.back())) {
+      throw Error(where, "frequencies out of order: expected above " +
+                             format_quantity(frequencies.back(), Dimension::frequency, 6) + ", found " +
+                             format_quantity(f, Dimension::frequency, 6));
+    }
+    frequencies.push_back(f);
+  }
+  return frequencies;
+}
+
+std::size_t find_frequency_column(const NumericTable& table) {
+  for (std::size_t i = 0; i < table.header.size(); ++i) {
+    if (lower(table.header[i].text).rfind("freq", 0) == 0) return i;
+  }
+  return 0;
 }
 
 std::optional<TraceUnit> level_unit_token(const std::string& text) {
@@ -394,6 +461,8 @@ MeasuredTrace parse_trace_csv(std::string_view text, const std::string& name, st
   }
   trace.unit = unit ? *unit : named.value_or(TraceUnit::dbuv);
   trace.quantity = trace_quantity(trace.unit);
+  trace.rbw_hz = table.rbw_hz;
+  trace.rbw_where = table.rbw_where;
   trace.frequency_hz = frequency_column(table, frequency_index);
   trace.level_dbuv.reserve(table.rows.size());
   for (const CsvRow& row : table.rows) trace.level_dbuv.push_back(to_base_unit(field_number(table, row, level_index), trace.unit));

@@ -7,7 +7,11 @@
 /// With ';' or tab between the fields a number may use a decimal comma ("60,45" = 60.45); in a
 /// comma file a comma inside a number, or a row with more filled fields than the header, is refused
 /// as ambiguous. Lines that are empty or start with '#' are skipped; an optional header row (its
-/// first field is not a number) names the columns. A frequency column named "...mhz", "...khz" or "...ghz" is scaled to Hz,
+/// first field is not a number) names the columns. Instrument exports may put metadata lines before
+/// the header ("Type;Analyzer", "RBW;9000;Hz"): the data start at the first row whose first field
+/// is a number, the row before it is the header, and rows before that are metadata, read only for
+/// the resolution bandwidth (a row "RBW", "Res BW" or "Resolution Bandwidth"; Hz unless a unit is
+/// given in the row). A frequency column named "...mhz", "...khz" or "...ghz" is scaled to Hz,
 /// otherwise it is in Hz. Frequencies must increase strictly. Errors carry file:line:column.
 ///
 /// Sign convention of corrections: corrected level = reading + correction_db. A LISN voltage-division
@@ -53,6 +57,8 @@ struct MeasuredTrace {
   LimitQuantity quantity = LimitQuantity::conducted_voltage;  ///< what the levels measure (from `unit`)
   std::string level_column;          ///< header name of the level column ("" without header)
   SourcePosition unit_where;         ///< the level column's header cell (the file alone without header)
+  std::optional<double> rbw_hz;      ///< [Hz] resolution bandwidth named in the metadata lines, if any
+  SourcePosition rbw_where;          ///< where that was read
 };
 
 /// Reads a trace CSV. Columns: the frequency column (header starting with "freq", else the first

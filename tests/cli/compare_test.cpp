@@ -152,6 +152,20 @@ TEST_CASE("compare: a dBmV trace is +60 dB, not read as dBm") {
   CHECK(std::abs(j["worst_margin_db"]["average"].get<double>() - (46.0 - 50.0)) < tol_db);
 }
 
+TEST_CASE("compare: an instrument export with metadata lines before the header") {
+  // 30 dBµV flat leaves 16 dB to the 46 dBµV average line (docs/references.md §3.1): pass.
+  const fs::path dir = fresh_directory("metadata");
+  std::string text = "Type;Analyzer\nRBW;9000;Hz\n\nFrequency [Hz];Level [dBuV]\n";
+  for (int i = 0; i < 1001; ++i) text += std::to_string(150000 + 29850 * i) + ";30,0\n";
+  write_text(dir / "export.csv", text);
+  const RunResult r = run(dir, "compare export.csv --limits cispr32-class-b-conducted --json");
+  CAPTURE(r.err);
+  CHECK(r.exit_code == 0);
+  const auto j = nlohmann::json::parse(r.out);
+  CHECK(j["trace"]["points"] == 1001);
+  CHECK(std::abs(j["worst_margin_db"]["average"].get<double>() - 16.0) < 1e-9);
+}
+
 TEST_CASE("compare: bad input -> exit 2, message on stderr, nothing written") {
   const fs::path dir = fresh_directory("bad");
   write_text(dir / "trace.csv", "frequency_hz,level_dbuv\n1e6,40\n0.9e6,41\n");

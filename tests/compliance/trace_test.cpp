@@ -142,6 +142,35 @@ TEST_CASE("decimal commas: read where ';' or tab separates the fields, refused w
                        "g.csv:2:8: expected a number, found \"1.040,5\"", Error);
 }
 
+TEST_CASE("instrument exports: metadata lines before the header are skipped, the RBW is read from them") {
+  const double tol = 1e-9;
+  const std::string export_text =
+      "Type;Analyzer\nVersion;1.2\nDate;01.02.2026\nRBW;9000;Hz\nVBW;30000;Hz\n\nTrace Mode;Max Hold\n\n"
+      "Frequency [Hz];Level [dBmV]\n150000;-10,5\n179850;-11\n";
+  const MeasuredTrace trace = parse_trace_csv(export_text, "export.csv");
+  REQUIRE(trace.frequency_hz.size() == 2);
+  CHECK(std::abs(trace.frequency_hz[1] - 179850.0) < tol);
+  CHECK(trace.unit == TraceUnit::dbmv);
+  CHECK(std::abs(trace.level_dbuv[0] - 49.5) < tol);
+  CHECK(trace.level_column == "Level [dBmV]");
+  REQUIRE(trace.rbw_hz.has_value());
+  CHECK(std::abs(*trace.rbw_hz - 9000.0) < tol);
+  CHECK(trace.rbw_where.to_string() == "export.csv:4:5");
+  // Other spellings of the RBW row; a file without metadata has none.
+  CHECK(std::abs(*parse_trace_csv("RBW [kHz],9\nf_hz,level_dbuv\n1e6,1\n2e6,2\n", "a.csv").rbw_hz - 9e3) < tol);
+  CHECK(std::abs(*parse_trace_csv("Res BW;120 kHz\nf_hz;level_dbuv\n1e8;1\n2e8;2\n", "b.csv").rbw_hz - 120e3) < tol);
+  CHECK(std::abs(*parse_trace_csv("\"Date, time\",x\nRBW,1,MHz\nf_hz,level_dbuv\n1e9,1\n2e9,2\n", "c.csv").rbw_hz - 1e6) <
+        tol);
+  CHECK_FALSE(parse_trace_csv("f_hz,level_dbuv\n1e6,1\n2e6,2\n", "d.csv").rbw_hz.has_value());
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("RBW;9;THz\nf_hz;level_dbuv\n1e6;1\n2e6;2\n", "e.csv"),
+                       "e.csv:1:7: expected a bandwidth unit (Hz, kHz or MHz), found \"THz\"", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("RBW;auto\nf_hz;level_dbuv\n1e6;1\n2e6;2\n", "g.csv"),
+                       "g.csv:1:5: expected a positive resolution bandwidth, found \"auto\"", Error);
+  // Only metadata: no rows of numbers.
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Type;Analyzer\nRBW;9000;Hz\n", "h.csv"),
+                       "h.csv: expected rows of numbers, found none", Error);
+}
+
 TEST_CASE("trace CSV errors carry file:line:column") {
   CHECK_THROWS_WITH_AS((void)parse_trace_csv("frequency_hz,level_dbuv\n1e6,40\n0.9e6,41\n", "a.csv"),
                        "a.csv:3:1: frequencies out of order: expected above 1 MHz, found 900 kHz", Error);
