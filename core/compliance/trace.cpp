@@ -149,15 +149,6 @@ std::string lower(std::string text) {
   return text;
 }
 
-double frequency_scale(const std::string& header) {
-  const std::string name = lower(header);
-  if (name.find("ghz") != std::string::npos) return 1e9;
-  if (name.find("mhz") != std::string::npos) return 1e6;
-  if (name.find("khz") != std::string::npos) return 1e3;
-  return 1.0;
-}
-
-// A table of numeric columns: header (maybe empty) and rows.
 // Lower case with every spelling of the micro sign as 'u': U+00B5 and U+03BC in UTF-8, and the
 // Windows-1252 / Latin-1 byte 0xB5.
 std::string normalise_unit_text(std::string_view text) {
@@ -323,15 +314,68 @@ double field_number(const NumericTable& table, const CsvRow& row, std::size_t in
   return *value;
 }
 
-// Reads the frequency column with its scale and checks it increases strictly and is positive.
+// Frequencies an EMC measurement can hold: 9 kHz, the bottom of CISPR band A (docs/references.md
+// §1.1), to 18 GHz, the top of CISPR 16-1-1 band E (from memory). Used only to tell whether a
+// frequency column without a unit can be anything but Hz.
+constexpr double plausible_low_hz = 9e3;
+constexpr double plausible_high_hz = 18e9;
+
+std::string plain_number(double value) {
+  std::ostringstream out;
+  out << value;
+  return out.str();
+}
+
+// A frequency column without a unit is read as Hz only when no other unit could be meant: Hz puts
+// every value within the plausible span and kHz, MHz and GHz do not. "0.15 ... 30" (MHz) and
+// "1e6 ... 2e6" (Hz or kHz) are refused, so a MHz table is never read as Hz.
+void check_unitless_frequencies(const std::vector<double>& values, const SourcePosition& where,
+                                const std::string& header) {
+  const std::pair<const char*, double> units[] = {{"Hz", 1.0}, {"kHz", 1e3}, {"MHz", 1e6}, {"GHz", 1e9}};
+  std::vector<std::string> fits;
+  for (const auto& [unit, scale] : units) {
+    if (values.front() * scale >= plausible_low_hz && values.back() * scale <= plausible_high_hz) fits.push_back(unit);
+  }
+  if (fits.size() == 1 && fits.front() == "Hz") return;
+  const std::string example = "\"Frequency (" + (fits.size() == 1 ? fits.front() : std::string("Hz")) + ")\"";
+  std::string message = header.empty() ? "expected a header naming the frequency unit, e.g. " + example
+                                        : "expected a unit in the frequency header, e.g. " + example + ", found \"" +
+                                              header + "\"";
+  message += ": the values " + plain_number(values.front()) + " to " + plain_number(values.back());
+  if (fits.empty()) {
+    message += " lie outside 9 kHz to 18 GHz as Hz, kHz, MHz and GHz";
+  } else {
+    message += " could be ";
+    for (std::size_t i = 0; i < fits.size(); ++i) message += (i == 0 ? "" : i + 1 == fits.size() ? " or " : ", ") + fits[i];
+  }
+  throw Error(where, message);
+}
+
+// Reads the frequency column, scaled by the unit its header names ("Frequency (MHz)", "Freq [kHz]",
+// "frequency_hz"), and checks it increases strictly and is positive. An unknown unit in brackets is
+// refused at the header cell; a column without a unit must be unambiguous as Hz.
 std::vector<double> frequency_column(const NumericTable& table, std::size_t index) {
-  const double scale = table.header.empty() ? 1.0 : frequency_scale(table.header[index].text);
+  std::optional<double> scale;
+  std::string header;
+  SourcePosition unit_where{table.file, table.rows.front().line, 1};
+  if (index < table.header.size()) {
+    header = table.header[index].text;
+    unit_where = SourcePosition{table.file, table.header_line, table.header[index].column};
+    const HeaderUnit unit = header_unit(header);
+    scale = frequency_unit_scale(unit.text);
+    if (!scale && unit.bracketed) {
+      throw Error(unit_where, "expected a frequency unit (Hz, kHz, MHz or GHz), found \"" + unit.text + "\"");
+    }
+  } else if (index < table.rows.front().fields.size()) {
+    unit_where.column = table.rows.front().fields[index].column;
+  }
   std::vector<double> frequencies;
   frequencies.reserve(table.rows.size());
   for (const CsvRow& row : table.rows) {
-    const double f = field_number(table, row, index) * scale;
+    const double f = field_number(table, row, index) * scale.value_or(1.0);
     const SourcePosition where{table.file, row.line, row.fields[index].column};
     if (!(f > 0.0)) throw Error(where, "expected a positive frequency, found " + row.fields[index].text);
+    if (!std::isfinite(f)) throw Error(where, "expected a finite frequency in Hz, found " + row.fields[index].text);
     if (!frequencies.empty() && !(f > frequencies.back())) {
       throw Error(where, "frequencies out of order: expected above " +
                              format_quantity(frequencies.back(), Dimension::frequency, 6) + ", found " +
@@ -339,6 +383,7 @@ std::vector<double> frequency_column(const NumericTable& table, std::size_t inde
     }
     frequencies.push_back(f);
   }
+  if (!scale) check_unitless_frequencies(frequencies, unit_where, header);
   return frequencies;
 }
 

@@ -11,8 +11,11 @@
 /// the header ("Type;Analyzer", "RBW;9000;Hz"): the data start at the first row whose first field
 /// is a number, the row before it is the header, and rows before that are metadata, read only for
 /// the resolution bandwidth (a row "RBW", "Res BW" or "Resolution Bandwidth"; Hz unless a unit is
-/// given in the row). A frequency column named "...mhz", "...khz" or "...ghz" is scaled to Hz,
-/// otherwise it is in Hz. Frequencies must increase strictly. Errors carry file:line:column.
+/// given in the row). The frequency column's unit comes from its header ("Frequency (MHz)",
+/// "Freq [kHz]", "frequency_hz", "Hz"); an unknown unit in brackets is refused at the header cell.
+/// Without a unit the column is read as Hz only when no other unit could be meant (Hz puts every
+/// value within 9 kHz..18 GHz and kHz, MHz and GHz do not); otherwise it is refused, so a MHz
+/// table is never read as Hz. Frequencies must increase strictly. Errors carry file:line:column.
 ///
 /// Sign convention of corrections: corrected level = reading + correction_db. A LISN voltage-division
 /// factor (docs/references.md §2.3: "The measured value is added to the receiver reading"), an attenuator

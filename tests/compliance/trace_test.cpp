@@ -32,9 +32,10 @@ TEST_CASE("dBm traces are converted for 50 ohm: 0 dBm = 106.99 dBuV") {
   // Round trip with the slow formula: dBµV = dBm + 10·log10(50e-3) + 120.
   const double tol_exact_db = 1e-9;
   CHECK(std::abs(trace.level_dbuv[1] - (-50.0 + 10.0 * std::log10(50e-3) + 120.0)) < tol_exact_db);
-  const MeasuredTrace forced = parse_trace_csv("1e6,0\n2e6,-50\n", "u.csv", TraceUnit::dbm);
+  // Header added (issue 14): "1e6 ... 2e6" without a frequency unit could be Hz or kHz and is refused.
+  const MeasuredTrace forced = parse_trace_csv("frequency_hz,level\n1e6,0\n2e6,-50\n", "u.csv", TraceUnit::dbm);
   CHECK(std::abs(forced.level_dbuv[0] - 106.99) < tol_db);
-  const MeasuredTrace plain = parse_trace_csv("1e6,40\n2e6,41\n", "v.csv");
+  const MeasuredTrace plain = parse_trace_csv("frequency_hz,level\n1e6,40\n2e6,41\n", "v.csv");
   CHECK(plain.unit == TraceUnit::dbuv);
   CHECK(std::abs(plain.level_dbuv[0] - 40.0) < tol_exact_db);
 }
@@ -91,7 +92,7 @@ TEST_CASE("a trace is compared only with limits of its own quantity") {
                        Error);
   const MeasuredTrace field = parse_trace_csv("Frequency (MHz),Level (dBuV/m)\n50,30\n100,30\n", "f.csv");
   CHECK_NOTHROW(check_trace_quantity(field, {radiated}));
-  const MeasuredTrace current = parse_trace_csv("0.15e6,30\n1e7,30\n", "i.csv", TraceUnit::dbua);
+  const MeasuredTrace current = parse_trace_csv("0.15e6,30\n3e7,30\n", "i.csv", TraceUnit::dbua);
   CHECK_THROWS_WITH_AS(check_trace_quantity(current, {conducted}),
                        "i.csv: expected a conducted-voltage trace (dBuV) for the limits \"CISPR 32 class B, AC mains "
                        "port\", found a conducted-current trace (dBuA)",
@@ -169,6 +170,40 @@ TEST_CASE("instrument exports: metadata lines before the header are skipped, the
   // Only metadata: no rows of numbers.
   CHECK_THROWS_WITH_AS((void)parse_trace_csv("Type;Analyzer\nRBW;9000;Hz\n", "h.csv"),
                        "h.csv: expected rows of numbers, found none", Error);
+}
+
+TEST_CASE("frequency units: from the header, and a column without one only when Hz is the one reading") {
+  const double tol_hz = 1e-6;
+  // Header units scale the column.
+  CHECK(std::abs(parse_correction_csv("Frequency (MHz),dB\n0.15,1\n30,2\n", "a.csv").frequency_hz[0] - 150e3) < tol_hz);
+  CHECK(std::abs(parse_correction_csv("Freq [kHz];dB\n150;1\n30000;2\n", "b.csv").frequency_hz[1] - 30e6) < tol_hz);
+  CHECK(std::abs(parse_correction_csv("Frequency/GHz,dB\n1,1\n6,2\n", "c.csv").frequency_hz[1] - 6e9) < tol_hz);
+  CHECK(std::abs(parse_correction_csv("Hz,dB\n150e3,1\n1e6,2\n", "d.csv").frequency_hz[0] - 150e3) < tol_hz);
+  CHECK(std::abs(parse_trace_csv("freq_MHz,level_dbuv\n0.15,1\n0.2,2\n", "e.csv").frequency_hz[1] - 200e3) < tol_hz);
+  // No unit: Hz when only Hz puts the values within 9 kHz .. 18 GHz (a band B trace in Hz).
+  CHECK(std::abs(parse_correction_csv("150000,1\n30000000,2\n", "f.csv").frequency_hz[1] - 30e6) < tol_hz);
+  CHECK(std::abs(parse_trace_csv("Frequency,Level\n150e3,1\n30e6,2\n", "g.csv").frequency_hz[0] - 150e3) < tol_hz);
+  // A correction table in MHz without a unit was read as Hz (0.15 Hz .. 30 Hz, end values held).
+  CHECK_THROWS_WITH_AS((void)parse_correction_csv("0.15,10\n30,10\n", "h.csv"),
+                       "h.csv:1:1: expected a header naming the frequency unit, e.g. \"Frequency (MHz)\": the values 0.15 "
+                       "to 30 could be MHz",
+                       Error);
+  CHECK_THROWS_WITH_AS((void)parse_correction_csv("Frequency;Correction\n0,15;10\n30;10\n", "i.csv"),
+                       "i.csv:1:1: expected a unit in the frequency header, e.g. \"Frequency (MHz)\", found \"Frequency\": "
+                       "the values 0.15 to 30 could be MHz",
+                       Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency,Level (dBuV)\n1e6,1\n2e6,2\n", "j.csv"),
+                       "j.csv:1:1: expected a unit in the frequency header, e.g. \"Frequency (Hz)\", found \"Frequency\": "
+                       "the values 1e+06 to 2e+06 could be Hz or kHz",
+                       Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Level (dBuV),Frequency\n1,1e-6\n2,2e-6\n", "k.csv"),
+                       "k.csv:1:14: expected a unit in the frequency header, e.g. \"Frequency (Hz)\", found \"Frequency\": "
+                       "the values 1e-06 to 2e-06 lie outside 9 kHz to 18 GHz as Hz, kHz, MHz and GHz",
+                       Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (THz),Level (dBuV)\n1,1\n2,2\n", "l.csv"),
+                       "l.csv:1:1: expected a frequency unit (Hz, kHz, MHz or GHz), found \"THz\"", Error);
+  CHECK_THROWS_WITH_AS((void)parse_trace_csv("Frequency (GHz),Level (dBuV)\n1,1\n1e300,2\n", "m.csv"),
+                       "m.csv:3:1: expected a finite frequency in Hz, found 1e300", Error);
 }
 
 TEST_CASE("trace CSV errors carry file:line:column") {
