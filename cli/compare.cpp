@@ -45,6 +45,7 @@ int run_compare(const Options& options) {
   request.prediction_file = options.prediction_file;
   request.closest_count = options.top;
   const CompareResult result = compare_trace(request);
+  for (const std::string& note : result.notes) std::cerr << "spurcast: note: " << note << "\n";
 
   std::vector<std::string> written;
   if (!options.csv_file.empty()) {

@@ -5,6 +5,7 @@
 
 #include "core/compliance/margins.hpp"
 #include "core/input/error.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast {
 
@@ -39,6 +40,15 @@ std::vector<RemeasurePoint> remeasure_list(const MeasuredTrace& trace, const std
     if (!left_ok || !right_ok) continue;
     RemeasurePoint point;
     point.frequency_hz = trace.frequency_hz[i];
+    point.trace_frequency_hz = point.frequency_hz;
+    // The point's bin: half-way to each neighbour (±step/2 on a uniform sweep); an end point's
+    // bin mirrors its one neighbour.
+    const double below_hz = i > 0 ? trace.frequency_hz[i] - trace.frequency_hz[i - 1]
+                                  : (n > 1 ? trace.frequency_hz[1] - trace.frequency_hz[0] : 0.0);
+    const double above_hz =
+        i + 1 < n ? trace.frequency_hz[i + 1] - trace.frequency_hz[i] : below_hz;
+    point.bin_low_hz = point.frequency_hz - 0.5 * (i > 0 ? below_hz : above_hz);
+    point.bin_high_hz = point.frequency_hz + 0.5 * above_hz;
     point.peak_dbuv = level;
     bool wanted = false;
     for (const LimitSet& set : sets) {
@@ -91,15 +101,23 @@ std::vector<PredictionCheck> compare_with_prediction(const std::vector<Remeasure
   std::vector<PredictionCheck> checks;
   for (const RemeasurePoint& point : points) {
     PredictionCheck check;
-    check.frequency_hz = point.frequency_hz;
+    check.frequency_hz = point.trace_frequency_hz;
     check.measured_peak_dbuv = point.peak_dbuv;
-    const double window_hz = window_rbw * prescan_rbw_hz(point.frequency_hz);
-    double best_distance_hz = window_hz;
+    // What the analyser showed at this point: the maximum over its bin.
     for (const ScanCsvRow& row : prediction) {
-      const double distance_hz = std::abs(row.frequency_hz - point.frequency_hz);
-      if (distance_hz <= best_distance_hz) {
-        best_distance_hz = distance_hz;
-        check.predicted = row;
+      if (row.frequency_hz < point.bin_low_hz || row.frequency_hz > point.bin_high_hz) continue;
+      if (!check.predicted || row.peak_dbuv > check.predicted->peak_dbuv) check.predicted = row;
+    }
+    check.bin_maximum = check.predicted.has_value();
+    if (!check.predicted) {
+      const double window_hz = window_rbw * prescan_rbw_hz(point.trace_frequency_hz);
+      double best_distance_hz = window_hz;
+      for (const ScanCsvRow& row : prediction) {
+        const double distance_hz = std::abs(row.frequency_hz - point.trace_frequency_hz);
+        if (distance_hz <= best_distance_hz) {
+          best_distance_hz = distance_hz;
+          check.predicted = row;
+        }
       }
     }
     if (check.predicted && check.predicted->peak_dbuv > level_floor_db) {
@@ -108,6 +126,59 @@ std::vector<PredictionCheck> compare_with_prediction(const std::vector<Remeasure
     checks.push_back(check);
   }
   return checks;
+}
+
+SweepStepCheck check_sweep_step(const MeasuredTrace& trace) {
+  SweepStepCheck check;
+  for (std::size_t i = 0; i + 1 < trace.frequency_hz.size(); ++i) {
+    ++check.steps;
+    const double step_hz = trace.frequency_hz[i + 1] - trace.frequency_hz[i];
+    const double rbw_hz = trace.rbw_hz.value_or(prescan_rbw_hz(trace.frequency_hz[i]));
+    if (!(step_hz > rbw_hz)) continue;
+    if (check.wider_than_rbw == 0) check.low_hz = trace.frequency_hz[i];
+    check.high_hz = trace.frequency_hz[i + 1];
+    ++check.wider_than_rbw;
+    if (step_hz > check.widest_step_hz) {
+      check.widest_step_hz = step_hz;
+      check.rbw_hz = rbw_hz;
+    }
+  }
+  return check;
+}
+
+PrescanResult run_prescan(const MeasuredTrace& trace, const std::vector<LimitSet>& sets,
+                          const std::vector<ScanCsvRow>& prediction, Detector trace_detector,
+                          const PrescanOptions& options) {
+  check_trace_quantity(trace, sets);
+  PrescanResult result;
+  result.quantity = trace.quantity;
+  result.sweep = check_sweep_step(trace);
+  if (result.sweep.wider_than_rbw > 0) {
+    const SweepStepCheck& s = result.sweep;
+    result.notes.push_back(
+        "the trace step (up to " + format_quantity(s.widest_step_hz, Dimension::frequency) +
+        ") is wider than the " + format_quantity(s.rbw_hz, Dimension::frequency) + " RBW" +
+        (trace.rbw_hz ? " of the file" : "") + " at " + std::to_string(s.wider_than_rbw) + " of " +
+        std::to_string(s.steps) + " steps (" + format_quantity(s.low_hz, Dimension::frequency) +
+        " to " + format_quantity(s.high_hz, Dimension::frequency) +
+        "): a line between two points shows only through the analyser's maximum over each bin; the "
+        "prediction is "
+        "compared as its maximum over each bin");
+  }
+  if (trace_detector == Detector::peak) result.remeasure = remeasure_list(trace, sets, options);
+  if (!prediction.empty()) {
+    result.prediction = compare_with_prediction(result.remeasure, prediction);
+    result.remeasure_from_prediction = true;
+    for (std::size_t i = 0; i < result.remeasure.size(); ++i) {
+      const PredictionCheck& check = result.prediction[i];
+      // The prediction's line inside the bin: where the lab should tune, not the bin centre.
+      if (check.bin_maximum && check.predicted->peak_dbuv > level_floor_db) {
+        result.remeasure[i].frequency_hz = check.predicted->frequency_hz;
+        result.remeasure[i].from_prediction = true;
+      }
+    }
+  }
+  return result;
 }
 
 }  // namespace spurcast

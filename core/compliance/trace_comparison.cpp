@@ -1,6 +1,7 @@
 #include "core/compliance/trace_comparison.hpp"
 
 #include <algorithm>
+#include <utility>
 
 #include "core/input/error.hpp"
 #include "core/input/units.hpp"
@@ -55,8 +56,13 @@ CompareResult compare_trace(const CompareRequest& request) {
                     format_quantity(low_hz, Dimension::frequency) + " to " +
                     format_quantity(high_hz, Dimension::frequency) + ")");
   }
-  if (request.detector == Detector::peak) result.remeasure = remeasure_list(trace, result.sets, {.guard_db = request.guard_db});
-  if (!result.prediction.empty()) result.checks = compare_with_prediction(result.remeasure, result.prediction);
+  PrescanResult prescan =
+      run_prescan(trace, result.sets, result.prediction, request.detector, {.guard_db = request.guard_db});
+  result.remeasure = std::move(prescan.remeasure);
+  result.checks = std::move(prescan.prediction);
+  result.remeasure_from_prediction = prescan.remeasure_from_prediction;
+  result.sweep = prescan.sweep;
+  result.notes = std::move(prescan.notes);
   return result;
 }
 

@@ -52,6 +52,9 @@ struct CompareResult {
   std::string prediction_file;
   std::vector<ScanCsvRow> prediction;       ///< empty without a prediction file
   std::vector<PredictionCheck> checks;      ///< one per re-measure point when a prediction is given
+  bool remeasure_from_prediction = false;   ///< re-measure frequencies are the predicted lines in their bins
+  SweepStepCheck sweep;                     ///< the trace step against the RBW
+  std::vector<std::string> notes;           ///< warnings for the user, each once (run_prescan)
 };
 
 /// Reads every input (limit files, corrections, the trace, the prediction) before comparing, so

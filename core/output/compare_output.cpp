@@ -68,16 +68,22 @@ std::string compare_json(const CompareResult& result, const std::vector<std::str
     nlohmann::json detectors = nlohmann::json::array();
     for (Detector d : p.detectors) detectors.push_back(to_string(d));
     points.push_back({{"frequency_hz", p.frequency_hz},
+                      {"frequency_from", p.from_prediction ? "prediction" : "trace"},
+                      {"trace_frequency_hz", p.trace_frequency_hz},
                       {"peak", p.peak_dbuv},
                       {"detectors", detectors},
                       {"margin_db", p.margin_db},
                       {"line", p.limit_label}});
   }
   j["remeasure"] = points;
+  j["remeasure_from_prediction"] = result.remeasure_from_prediction;
+  j["notes"] = result.notes;
   if (!prediction.empty()) {
     nlohmann::json side = nlohmann::json::array();
     for (const PredictionCheck& c : checks) {
-      nlohmann::json item{{"frequency_hz", c.frequency_hz}, {"measured_peak", c.measured_peak_dbuv}};
+      nlohmann::json item{{"frequency_hz", c.frequency_hz},
+                          {"measured_peak", c.measured_peak_dbuv},
+                          {"predicted_is_bin_maximum", c.bin_maximum}};
       if (c.predicted) {
         item["predicted"] = {{"frequency_hz", c.predicted->frequency_hz},
                              {"peak", c.predicted->peak_dbuv},
@@ -156,8 +162,10 @@ std::string compare_text(const CompareResult& result, const std::vector<std::str
                                "of a line, merged within 3 RBW):\n",
                                remeasure.size(), guard_db);
       for (const RemeasurePoint& p : remeasure) {
-        out << fmt::format("  {:>13}  peak {:7.2f}  {:<22} margin {:+7.2f} dB to {}\n", mhz(p.frequency_hz),
-                                 p.peak_dbuv, detectors_text(p.detectors), p.margin_db, p.limit_label);
+        out << fmt::format("  {:>13}  peak {:7.2f}  {:<22} margin {:+7.2f} dB to {}{}\n", mhz(p.frequency_hz),
+                           p.peak_dbuv, detectors_text(p.detectors), p.margin_db, p.limit_label,
+                           p.from_prediction ? fmt::format(" (predicted line; trace point {})", mhz(p.trace_frequency_hz))
+                                             : "");
       }
       out << "  (if the quasi-peak reading already meets the average limit, no average measurement is "
                    "needed: 47 CFR 18.307(d))\n";
@@ -166,17 +174,20 @@ std::string compare_text(const CompareResult& result, const std::vector<std::str
   if (!prediction.empty()) {
     out << fmt::format("\nprediction ({}) beside the measurement at the re-measure frequencies:\n",
                              result.prediction_file);
-    out << fmt::format("  {:>13}  {:>9}  {:>9} {:>9} {:>9}  {:>10}\n", "frequency", "measured", "pred. PK",
-                             "pred. QP", "pred. AV", "meas.-pred.");
+    out << "  (the predicted row is the prediction's highest peak inside the trace point's bin, as the analyser "
+           "saw it; * the nearest row within 3 RBW)\n";
+    out << fmt::format("  {:>13}  {:>9}  {:>14} {:>9} {:>9} {:>9}  {:>10}\n", "frequency", "measured", "predicted at",
+                       "pred. PK", "pred. QP", "pred. AV", "meas.-pred.");
     for (const PredictionCheck& c : checks) {
       if (!c.predicted) {
         out << fmt::format("  {:>13}  {:>9.2f}  (no predicted reading within 3 RBW)\n", mhz(c.frequency_hz),
                                  c.measured_peak_dbuv);
         continue;
       }
-      out << fmt::format("  {:>13}  {:>9.2f}  {:>9.2f} {:>9.2f} {:>9.2f}  {:>+10.2f}\n", mhz(c.frequency_hz),
-                               c.measured_peak_dbuv, c.predicted->peak_dbuv, c.predicted->quasi_peak_dbuv,
-                               c.predicted->average_dbuv, c.difference_db.value_or(0.0));
+      out << fmt::format("  {:>13}  {:>9.2f}  {:>13}{} {:>9.2f} {:>9.2f} {:>9.2f}  {:>10}\n", mhz(c.frequency_hz),
+                         c.measured_peak_dbuv, mhz(c.predicted->frequency_hz), c.bin_maximum ? " " : "*",
+                         c.predicted->peak_dbuv, c.predicted->quasi_peak_dbuv, c.predicted->average_dbuv,
+                         c.difference_db ? fmt::format("{:+.2f}", *c.difference_db) : "-");
     }
   }
   if (report.not_compared > 0) {

@@ -4,19 +4,20 @@
 // The traces here are invented test inputs; the limit values they are checked against come from
 // the shipped CISPR 32 class B file (docs/references.md §3.1).
 #include <doctest/doctest.h>
-
-#include "cli_support.hpp"
-#include <nlohmann/json.hpp>
-
 #include <sys/wait.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
 #include <functional>
+#include <nlohmann/json.hpp>
 #include <sstream>
 #include <string>
+#include <vector>
+
+#include "cli_support.hpp"
 
 namespace fs = std::filesystem;
 
@@ -164,6 +165,59 @@ TEST_CASE("compare: an instrument export with metadata lines before the header")
   const auto j = nlohmann::json::parse(r.out);
   CHECK(j["trace"]["points"] == 1001);
   CHECK(std::abs(j["worst_margin_db"]["average"].get<double>() - 16.0) < 1e-9);
+}
+
+TEST_CASE(
+    "compare: a 1001-point sweep beside a prediction is compared bin by bin, with a note on the "
+    "step") {
+  // An invented prediction: a 220 kHz line at 60 dBµV seen through a Gaussian 9 kHz IF on a 2.25
+  // kHz grid, and the analyser trace that kept the maximum of each 29.85 kHz bin, 2 dB higher.
+  // Before the fix the comparison took the predicted row nearest the bin centre (209.7 kHz): +27.4
+  // dB.
+  const fs::path dir = fresh_directory("sweep");
+  std::ostringstream scan;
+  scan.precision(12);
+  scan << "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n";
+  std::vector<std::pair<double, double>> rows;
+  for (double f = 150e3; f <= 30e6 + 1.0; f += 2250.0) {
+    const double level = std::max(20.0, 60.0 - 6.0 * std::pow((f - 220e3) / 4.5e3, 2.0));
+    rows.emplace_back(f, level);
+    scan << f << "," << level << "," << level << "," << level << "\n";
+  }
+  write_text(dir / "scan.csv", scan.str());
+  std::ostringstream trace;
+  trace.precision(12);
+  trace << "Type;Analyzer\nRBW;9000;Hz\n\nFrequency [Hz];Level [dBuV]\n";
+  for (int i = 0; i < 1001; ++i) {
+    const double f = 150e3 + 29850.0 * i;
+    double best = 0.0;
+    for (const auto& [g, level] : rows) {
+      if (std::abs(g - f) <= 29850.0 / 2) best = std::max(best, level);
+    }
+    trace << f << ";" << best + 2.0 << "\n";
+  }
+  write_text(dir / "sweep.csv", trace.str());
+  const RunResult r =
+      run(dir, "compare sweep.csv --limits cispr32-class-b-conducted --prediction scan.csv --json");
+  CAPTURE(r.err);
+  CHECK(r.exit_code == 1);
+  const std::string note =
+      "spurcast: note: the trace step (up to 29.85 kHz) is wider than the 9 kHz RBW of the file at "
+      "1000 of 1000 steps "
+      "(150 kHz to 30 MHz): a line between two points shows only through the analyser's maximum "
+      "over each bin; the "
+      "prediction is compared as its maximum over each bin\n";
+  CHECK(r.err == note);  // once
+  const auto j = nlohmann::json::parse(r.out);
+  REQUIRE(j["notes"].size() == 1);
+  CHECK(j["remeasure_from_prediction"] == true);
+  REQUIRE(j["remeasure"].size() == 1);
+  const double tol_hz = 1e-3;
+  CHECK(std::abs(j["remeasure"][0]["frequency_hz"].get<double>() - 219750.0) < tol_hz);
+  CHECK(std::abs(j["remeasure"][0]["trace_frequency_hz"].get<double>() - 209700.0) < tol_hz);
+  CHECK(j["remeasure"][0]["frequency_from"] == "prediction");
+  CHECK(std::abs(j["prediction"][0]["difference_db"].get<double>() - 2.0) < 1e-6);
+  CHECK(j["prediction"][0]["predicted_is_bin_maximum"] == true);
 }
 
 TEST_CASE("compare: bad input -> exit 2, message on stderr, nothing written") {
