@@ -480,12 +480,75 @@ std::string ColumnChoice::describe() const {
   return index > 0 ? std::to_string(index) : "'" + name + "'";
 }
 
+namespace {
+
+// Seconds per time unit, any case; the micro sign as 'u', U+00B5, U+03BC or the Windows-1252 /
+// Latin-1 byte 0xB5 (a "Time (µs)" header saved by a Windows scope application).
+std::optional<double> seconds_per_time_unit(std::string_view unit) {
+  std::string low;
+  for (std::size_t i = 0; i < unit.size(); ++i) {
+    const unsigned char c = static_cast<unsigned char>(unit[i]);
+    if ((c == 0xC2 || c == 0xCE) && i + 1 < unit.size() &&
+        static_cast<unsigned char>(unit[i + 1]) == (c == 0xC2 ? 0xB5 : 0xBC)) {
+      low += 'u';
+      ++i;
+    } else {
+      low += c == 0xB5 ? 'u' : static_cast<char>(std::tolower(c));
+    }
+  }
+  struct Spelling {
+    const char* text;
+    double seconds;
+  };
+  static constexpr Spelling spellings[] = {
+      {"s", 1.0},
+      {"sec", 1.0},
+      {"secs", 1.0},
+      {"second", 1.0},
+      {"seconds", 1.0},
+      {"ms", 1e-3},
+      {"msec", 1e-3},
+      {"msecs", 1e-3},
+      {"millisecond", 1e-3},
+      {"milliseconds", 1e-3},
+      {"us", 1e-6},
+      {"usec", 1e-6},
+      {"usecs", 1e-6},
+      {"microsecond", 1e-6},
+      {"microseconds", 1e-6},
+      {"ns", 1e-9},
+      {"nsec", 1e-9},
+      {"nsecs", 1e-9},
+      {"nanosecond", 1e-9},
+      {"nanoseconds", 1e-9},
+      {"ps", 1e-12},
+      {"psec", 1e-12},
+      {"psecs", 1e-12},
+      {"picosecond", 1e-12},
+      {"picoseconds", 1e-12},
+      {"min", 60.0},
+      {"mins", 60.0},
+      {"minute", 60.0},
+      {"minutes", 60.0},
+  };
+  for (const Spelling& spelling : spellings) {
+    if (low == spelling.text) return spelling.seconds;
+  }
+  return std::nullopt;
+}
+
+}  // namespace
+
 std::optional<double> time_unit_from_header(std::string_view header) {
   const std::string unit = unit_token(header);
-  const std::string low = lower(unit);
-  if (low == "s" || low == "sec" || low == "second" || low == "seconds") return 1.0;
-  if (unit == "ks") return std::nullopt;  // not a scope's unit; leave it unrecognised
-  if (const auto factor = prefix_factor(unit, "s")) return *factor;
+  if (const auto seconds = seconds_per_time_unit(unit)) return *seconds;
+  // A unit written as one ("Time (furlong)", "t[ks]", "time/div") that is not a time unit is
+  // refused rather than read as seconds; a bare name ("Time") names no unit.
+  const std::string_view trimmed = trim(header);
+  if (unit.size() != trimmed.size()) {
+    throw Error("expected a time unit (s, ms, us, ns, ps or min, any case), found \"" + unit +
+                "\"");
+  }
   return std::nullopt;
 }
 
@@ -515,6 +578,7 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
 
   // Header lines: everything before the first line whose first cell is a number.
   std::vector<std::string_view> header_lines;
+  std::vector<std::size_t> header_line_numbers;
   std::size_t first_header_line = 0;
   std::size_t pos = start;
   std::size_t line_number = 1;
@@ -543,6 +607,7 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
     if (!trimmed.empty() && trimmed.front() != '#') {
       if (header_lines.empty()) first_header_line = line_number;
       header_lines.push_back(line);
+      header_line_numbers.push_back(line_number);
       if (header_lines.size() > max_header_lines) {
         throw Error(SourcePosition{name, static_cast<int>(line_number), 1},
                     "expected numeric data within the first " + std::to_string(max_header_lines) +
@@ -582,15 +647,32 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
   // Units from the header lines (the last line with enough cells names the columns).
   std::optional<double> time_unit;
   std::optional<double> value_unit;
+  auto first_naming_line = headers.rend();
   for (auto it = headers.rbegin(); it != headers.rend(); ++it) {
     if (static_cast<int>(it->size()) < plan.last_index) continue;
+    if (first_naming_line == headers.rend()) first_naming_line = it;
     const std::string& time_header = (*it)[static_cast<std::size_t>(plan.time_index - 1)];
     const std::string& value_header = (*it)[static_cast<std::size_t>(plan.value_index - 1)];
     if (capture.time_header.empty()) {
       capture.time_header = time_header;
       capture.value_header = value_header;
     }
-    if (!time_unit) time_unit = time_unit_from_header(time_header);
+    if (!time_unit) {
+      try {
+        time_unit = time_unit_from_header(time_header);
+      } catch (const Error& error) {
+        // Only the line that names the columns must name a known unit; a metadata line above it
+        // ("Record Length (points)") may hold anything.
+        if (it == first_naming_line) {
+          const std::size_t line_index = static_cast<std::size_t>(headers.rend() - it - 1);
+          const std::string_view line = header_lines[line_index];
+          const std::size_t at = line.find(time_header);
+          throw Error(SourcePosition{name, static_cast<int>(header_line_numbers[line_index]),
+                                     at == std::string_view::npos ? 1 : static_cast<int>(at) + 1},
+                      error.message());
+        }
+      }
+    }
     if (!value_unit) value_unit = value_unit_from_header(value_header, spec.quantity);
   }
   capture.time_unit_s = time_unit.value_or(1.0);

@@ -100,7 +100,12 @@ struct CaptureLoadOptions {
                                          const CaptureSpec& spec, const CaptureLoadOptions& options = CaptureLoadOptions());
 
 /// Seconds per unit named in a time-column header: "Time (us)" → 1e-6, "t[ns]" → 1e-9,
-/// "time/ms" → 1e-3, "second" → 1; nullopt when the header names no time unit.
+/// "time/ms" → 1e-3, "second" → 1, "Time (min)" → 60. Any case ("uS", "mS", "NSEC"); s, sec,
+/// second(s), ms, msec, us, usec, ns, nsec, ps, psec, min, minute(s) and their long forms; the
+/// micro sign as u, µ (U+00B5), μ (U+03BC) or the Windows-1252 byte 0xB5. nullopt when the header
+/// names no unit (a bare "Time"); Error `expected a time unit (s, ms, us, ns, ps or min, any case),
+/// found "ks"` when it names one in (...), [...] or after '/' that is not a time unit (the loader
+/// adds the cell's file:line:column).
 [[nodiscard]] std::optional<double> time_unit_from_header(std::string_view header);
 
 /// Checks a record is usable for a spectrum at `fundamental_hz`: at least one full period.

@@ -157,6 +157,49 @@ TEST_CASE("time units named in headers") {
   CHECK(time_unit_from_header("second").value() == doctest::Approx(1.0));
   CHECK(time_unit_from_header("Time [ps]").value() == doctest::Approx(1e-12));
   CHECK_FALSE(time_unit_from_header("time").has_value());
+  // Every common spelling, any case (issue 14: "uS", "mS", "usec", "nsec", "min" and a Windows-1252
+  // "µs" were read as seconds). Factors: the SI prefixes and 1 min = 60 s (common practice).
+  const struct {
+    const char* header;
+    double seconds;
+  } spellings[] = {{"Time (uS)", 1e-6},        {"Time (mS)", 1e-3},  {"Time (usec)", 1e-6},
+                   {"Time (nsec)", 1e-9},      {"Time (min)", 60.0}, {"Time (\xB5s)", 1e-6},
+                   {"Time (\xCE\xBCs)", 1e-6}, {"Time (S)", 1.0},    {"Time (SEC)", 1.0},
+                   {"Time (msec)", 1e-3},      {"Time (NS)", 1e-9},  {"Time (ps)", 1e-12},
+                   {"Time [Seconds]", 1.0},    {"t/Minutes", 60.0},  {"time (microseconds)", 1e-6}};
+  for (const auto& spelling : spellings) {
+    CAPTURE(spelling.header);
+    const auto seconds = time_unit_from_header(spelling.header);
+    REQUIRE(seconds.has_value());
+    CHECK(std::abs(*seconds / spelling.seconds - 1.0) < rel_tol);
+  }
+  CHECK_THROWS_WITH_AS((void)time_unit_from_header("Time (ks)"),
+                       "expected a time unit (s, ms, us, ns, ps or min, any case), found \"ks\"",
+                       Error);
+  CHECK_THROWS_WITH_AS((void)time_unit_from_header("t/div"),
+                       "expected a time unit (s, ms, us, ns, ps or min, any case), found \"div\"",
+                       Error);
+}
+
+TEST_CASE("a capture's time unit scales the record; an unknown one is refused at its cell") {
+  // 150 kHz sampled every 0.1 µs: with "Time (uS)" the record is 10 MS/s, not 10 S/s.
+  std::string text = "Time (uS);CH1 (V)\n";
+  for (int i = 0; i < 200; ++i)
+    text += std::to_string(0.1 * i) + ";" + std::to_string(std::sin(0.3 * i)) + "\n";
+  const Capture c = parse(text);
+  CHECK(c.time_unit_s == doctest::Approx(1e-6));
+  CHECK(c.waveform.sample_rate_hz == doctest::Approx(1e7).epsilon(1e-9));
+  // Windows-1252: the micro sign is the byte 0xB5.
+  std::string cp1252 = text;
+  cp1252.replace(0, 9, "Time (\xB5s)");
+  CHECK(parse(cp1252).waveform.sample_rate_hz == doctest::Approx(1e7).epsilon(1e-9));
+  CHECK_THROWS_WITH_AS(
+      (void)parse("# scope\nModel,X\nt (furlong),CH1 (V)\n0,1\n1,2\n2,3\n"),
+      "mem.csv:3:1: expected a time unit (s, ms, us, ns, ps or min, any case), found \"furlong\"",
+      Error);
+  // A metadata line above the column names may hold any bracket.
+  CHECK(parse("Record Length (points),3\nTime (ms),CH1 (V)\n0,1\n1,2\n2,3\n").time_unit_s ==
+        doctest::Approx(1e-3));
 }
 
 TEST_CASE("column errors") {
