@@ -34,6 +34,9 @@ std::string read_file(const std::string& path) {
   return buffer.str();
 }
 
+// Whether c is one of the characters of `set` (never the NUL that ends it).
+bool is_one_of(char c, const char* set) { return c != '\0' && std::strchr(set, c) != nullptr; }
+
 // The lines of a CSV text that carry data: not blank, not a '#' comment; CR and a UTF-8 BOM removed.
 struct TextLine {
   int number = 0;
@@ -68,7 +71,7 @@ char file_delimiter(const std::vector<TextLine>& lines) {
   std::vector<TextLine> numeric;
   for (const TextLine& line : lines) {
     const std::size_t first = line.text.find_first_not_of(" \t\"");
-    if (first != std::string_view::npos && std::strchr("0123456789+-.", line.text[first]) != nullptr) {
+    if (first != std::string_view::npos && is_one_of(line.text[first], "0123456789+-.")) {
       numeric.push_back(line);
     }
   }
@@ -92,7 +95,7 @@ std::vector<CsvRow> split_csv(const std::vector<TextLine>& lines, char delimiter
     while (true) {
       const char* const blanks = delimiter == '\t' ? " " : " \t";
       std::size_t offset = field_start;
-      while (offset < line.size() && std::strchr(blanks, line[offset]) != nullptr) ++offset;
+      while (offset < line.size() && is_one_of(line[offset], blanks)) ++offset;
       std::size_t field_end = line.find(delimiter, offset);
       std::string_view field;
       if (offset < line.size() && line[offset] == '"') {
@@ -106,7 +109,7 @@ std::vector<CsvRow> split_csv(const std::vector<TextLine>& lines, char delimiter
       }
       if (field.data() == nullptr) {
         field = line.substr(offset, field_end == std::string_view::npos ? std::string_view::npos : field_end - offset);
-        while (!field.empty() && std::strchr(blanks, field.back()) != nullptr) field.remove_suffix(1);
+        while (!field.empty() && is_one_of(field.back(), blanks)) field.remove_suffix(1);
       }
       row.fields.push_back(CsvField{std::string(field), static_cast<int>(offset) + 1});
       if (field_end == std::string_view::npos) break;

@@ -1,7 +1,10 @@
-// libFuzzer target: the measured-trace CSV loaders (core/compliance/trace.hpp) over text in memory. The first
-// byte picks the parser (trace with unit from the header / forced dBuV / forced dBm / a named level
-// column, correction table, scan CSV); the rest is the file. Only spurcast::Error may leave a loader;
-// a loaded trace must have strictly increasing finite frequencies and finite levels.
+// libFuzzer target: the measured-trace CSV loaders (core/compliance/trace.hpp) over text in memory.
+// The first byte picks the parser (trace with unit from the header / forced dBuV / forced dBm / a
+// named level column, correction table, scan CSV); the rest is the file, so the loaders' delimiter
+// choice, decimal commas, metadata lines before the header (with their RBW) and header units are
+// all reached from the text. Only spurcast::Error may leave a loader; a loaded trace must have
+// strictly increasing finite frequencies, finite levels and a finite positive RBW when one was
+// read, and the sweep-step check over it must stay within its step count.
 #include <cmath>
 #include <cstddef>
 #include <cstdint>
@@ -9,8 +12,9 @@
 #include <string_view>
 #include <vector>
 
-#include "core/input/error.hpp"
+#include "core/compliance/prescan.hpp"
 #include "core/compliance/trace.hpp"
+#include "core/input/error.hpp"
 
 namespace {
 
@@ -32,6 +36,10 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
       case 0: {
         const spurcast::MeasuredTrace trace = spurcast::parse_trace_csv(text, "fuzz.csv");
         check_axis(trace.frequency_hz, trace.level_dbuv);
+        if (trace.rbw_hz && !(std::isfinite(*trace.rbw_hz) && *trace.rbw_hz > 0.0)) std::abort();
+        const spurcast::SweepStepCheck sweep = spurcast::check_sweep_step(trace);
+        if (sweep.wider_than_rbw > sweep.steps || sweep.steps + 1 != trace.frequency_hz.size())
+          std::abort();
         break;
       }
       case 1: {
