@@ -150,6 +150,13 @@ PrescanResult run_prescan(const MeasuredTrace& trace, const std::vector<LimitSet
                           const std::vector<ScanCsvRow>& prediction, Detector trace_detector,
                           const PrescanOptions& options) {
   check_trace_quantity(trace, sets);
+  // A predicted scan CSV holds LISN-port voltages (its columns are *_dbuv): beside a current or
+  // field trace its difference would compare two quantities.
+  if (!prediction.empty() && trace.quantity != LimitQuantity::conducted_voltage) {
+    throw Error(trace.unit_where,
+                "expected a conducted-voltage trace (dBuV) beside the prediction (dBuV), found a " +
+                    to_string(trace.quantity) + " trace (" + to_string(trace.unit) + ")");
+  }
   PrescanResult result;
   result.quantity = trace.quantity;
   result.sweep = check_sweep_step(trace);

@@ -95,7 +95,8 @@ struct PrescanResult {
   std::vector<std::string> notes;  ///< warnings, each once (e.g. a step wider than the RBW)
 };
 
-/// The pre-scan: check_trace_quantity, remeasure_list (for a peak trace), compare_with_prediction
+/// The pre-scan: check_trace_quantity (and, with a prediction, a voltage trace: a predicted scan
+/// CSV is in dBµV), remeasure_list (for a peak trace), compare_with_prediction
 /// (when `prediction` is not empty) with the re-measure frequencies moved to the predicted lines,
 /// and a note when the trace step is wider than the RBW.
 [[nodiscard]] PrescanResult run_prescan(const MeasuredTrace& trace,

@@ -194,3 +194,21 @@ TEST_CASE(
   CHECK(std::abs(*beside.prediction[0].difference_db - 4.0) < 1e-9);
   CHECK_FALSE(beside.remeasure[0].from_prediction);  // the nearest row is not a line inside the bin
 }
+
+TEST_CASE("a prediction in dBuV is compared only with a voltage trace") {
+  const LimitSet current_limits = parse_limit_text(
+      "name = \"probe\"\nmeasures = \"conducted-current\"\nunit = \"dBuA\"\nsource = \"invented "
+      "for the test\"\n"
+      "confidence = \"read from nowhere: invented\"\n[[line]]\ndetector = \"average\"\n"
+      "segment = [ { from = \"150 kHz\", to = \"30 MHz\", level = \"20 dBuA\" } ]\n",
+      "probe.toml");
+  const MeasuredTrace current =
+      parse_trace_csv("frequency_hz,Current (dBuA)\n150e3,18\n30e6,10\n", "i.csv");
+  CHECK_NOTHROW((void)run_prescan(current, {current_limits}, {}, Detector::peak));
+  const std::vector<ScanCsvRow> prediction{{150e3, 60.0, 55.0, 50.0}};
+  CHECK_THROWS_WITH_AS(
+      (void)run_prescan(current, {current_limits}, prediction, Detector::peak),
+      "i.csv:1:14: expected a conducted-voltage trace (dBuV) beside the prediction (dBuV), found a "
+      "conducted-current trace (dBuA)",
+      Error);
+}
