@@ -168,9 +168,9 @@ PrescanResult run_prescan(const MeasuredTrace& trace, const std::vector<LimitSet
         (trace.rbw_hz ? " of the file" : "") + " at " + std::to_string(s.wider_than_rbw) + " of " +
         std::to_string(s.steps) + " steps (" + format_quantity(s.low_hz, Dimension::frequency) +
         " to " + format_quantity(s.high_hz, Dimension::frequency) +
-        "): a line between two points shows only through the analyser's maximum over each bin; the "
-        "prediction is "
-        "compared as its maximum over each bin");
+        "): a line between two points shows only through the analyser's maximum over each bin" +
+        (prediction.empty() ? std::string()
+                            : "; the prediction is compared as its maximum over each bin"));
   }
   if (trace_detector == Detector::peak) result.remeasure = remeasure_list(trace, sets, options);
   if (!prediction.empty()) {

@@ -179,6 +179,15 @@ TEST_CASE(
   const PrescanResult result = run_prescan(trace, {class_b()}, {}, Detector::peak);
   CHECK(result.notes.empty());
   CHECK(result.sweep.wider_than_rbw == 0);
+  // Without a prediction the note says only what the step means for the trace.
+  const MeasuredTrace coarse_trace =
+      parse_trace_csv("frequency_hz,level_dbuv\n150e3,30\n200e3,31\n", "coarse.csv");
+  const PrescanResult coarse_result = run_prescan(coarse_trace, {class_b()}, {}, Detector::peak);
+  REQUIRE(coarse_result.notes.size() == 1);
+  CHECK(coarse_result.notes[0] ==
+        "the trace step (up to 50 kHz) is wider than the 9 kHz RBW at 1 of 1 steps (150 kHz to 200 "
+        "kHz): a line "
+        "between two points shows only through the analyser's maximum over each bin");
   REQUIRE(result.remeasure.size() == 1);
   CHECK_FALSE(result.remeasure[0].from_prediction);
   CHECK_FALSE(result.remeasure_from_prediction);
