@@ -168,6 +168,12 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn);
   p.setup_description = model.setup_description();
   const bool two_lines = model.line_count() == 2;
+  for (const CisprBand band : bands) {
+    const BandParameters range = band_parameters(band);
+    for (const Resonance& r : find_resonances(model, range.start_hz, range.stop_hz, resonance_note_min_q)) {
+      p.notes.push_back(resonance_note(r));
+    }
+  }
 
   std::optional<Waveform> captured_v;
   std::optional<Waveform> captured_i;

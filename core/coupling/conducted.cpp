@@ -2,9 +2,12 @@
 
 #include <fftw3.h>
 
+#include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <memory>
 #include <mutex>
+#include <numeric>
 
 #include "core/input/error.hpp"
 #include "core/source/fftw_lock.hpp"
@@ -211,6 +214,177 @@ ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& i
     result.cm_current_a[k] = 0.5 * (i1 + i2);
   }
   return result;
+}
+
+namespace {
+
+/// Stored magnetic and electric energy of each element at one frequency (phasor amplitudes; only
+/// the ratios matter).
+struct StoredEnergy {
+  std::vector<double> magnetic, electric;
+};
+
+StoredEnergy stored_energy(const Network& network, const std::vector<cd>& v, double frequency_hz) {
+  const double w = 2.0 * 3.14159265358979323846 * frequency_hz;
+  const auto& elements = network.elements();
+  StoredEnergy e{std::vector<double>(elements.size(), 0.0), std::vector<double>(elements.size(), 0.0)};
+  auto across = [&](NodeId a, NodeId b) { return v[static_cast<std::size_t>(a)] - v[static_cast<std::size_t>(b)]; };
+  for (std::size_t i = 0; i < elements.size(); ++i) {
+    const Element& el = elements[i];
+    switch (el.kind) {
+      case ElementKind::inductor: {
+        const cd current = across(el.nodes[0], el.nodes[1]) / cd(el.value_b, w * el.value_a);
+        e.magnetic[i] = 0.5 * el.value_a * std::norm(current);
+        break;
+      }
+      case ElementKind::capacitor: {
+        const cd z(el.value_b, w * el.value_c - 1.0 / (w * el.value_a));
+        const cd current = across(el.nodes[0], el.nodes[1]) / z;
+        e.magnetic[i] = 0.5 * el.value_c * std::norm(current);
+        e.electric[i] = std::norm(current) / (2.0 * w * w * el.value_a);
+        break;
+      }
+      case ElementKind::coupled_inductors: {
+        // [V1; V2] = [R1 + jωL1, jωM; jωM, R2 + jωL2]·[I1; I2]
+        const double m = el.value_c * std::sqrt(el.value_a * el.value_b);
+        const cd z11(el.value_d, w * el.value_a), z22(el.value_e, w * el.value_b), z12(0.0, w * m);
+        const cd v1 = across(el.nodes[0], el.nodes[1]), v2 = across(el.nodes[2], el.nodes[3]);
+        const cd det = z11 * z22 - z12 * z12;
+        const cd i1 = (z22 * v1 - z12 * v2) / det, i2 = (z11 * v2 - z12 * v1) / det;
+        e.magnetic[i] = 0.5 * (el.value_a * std::norm(i1) + el.value_b * std::norm(i2) +
+                               2.0 * m * (i1 * std::conj(i2)).real());
+        break;
+      }
+      default: break;
+    }
+  }
+  return e;
+}
+
+/// The elements that together hold at least 80 % of `energy` (at most three), largest first.
+std::vector<std::size_t> main_holders(const std::vector<double>& energy) {
+  std::vector<std::size_t> order(energy.size());
+  std::iota(order.begin(), order.end(), std::size_t{0});
+  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return energy[a] > energy[b]; });
+  const double total = std::accumulate(energy.begin(), energy.end(), 0.0);
+  std::vector<std::size_t> out;
+  double held = 0.0;
+  for (const std::size_t i : order) {
+    if (!(total > 0.0) || held >= 0.8 * total || out.size() == 3 || !(energy[i] > 0.0)) break;
+    out.push_back(i);
+    held += energy[i];
+  }
+  return out;
+}
+
+/// "filter1.choke winding 1 core loss" → "filter 1 choke winding 1 core loss"; "lisn2.L" → "LISN 2 L".
+std::string part_label(const std::string& name) {
+  for (const char* prefix : {"filter", "lisn"}) {
+    const std::string p(prefix);
+    if (name.rfind(p, 0) != 0) continue;
+    const std::size_t dot = name.find('.');
+    if (dot == std::string::npos || dot == p.size()) continue;
+    return (p == "lisn" ? std::string("LISN") : p) + " " + name.substr(p.size(), dot - p.size()) + " " +
+           name.substr(dot + 1);
+  }
+  return name;
+}
+
+}  // namespace
+
+std::vector<Resonance> find_resonances(const ConductedModel& model, double low_hz, double high_hz, double min_q) {
+  std::vector<Resonance> found;
+  if (!(low_hz > 0.0 && high_hz > low_hz)) return found;
+  const NetworkSolver& solver = model.solver();
+  const int ports = model.line_count();
+  constexpr double points_per_decade = 200.0;
+  // A measured part has no value outside its file's range: the scan stays inside it.
+  const std::array<double, 2> measured = solver.network().tabulated_range();
+  const double start = std::max(low_hz / 2.0, measured[0]), stop = std::min(high_hz * 2.0, measured[1]);
+  if (!(start > 0.0 && stop > start * 1.01)) return found;
+  const auto count = static_cast<std::size_t>(std::ceil(std::log10(stop / start) * points_per_decade)) + 1;
+  std::vector<double> grid(count);
+  for (std::size_t i = 0; i < count; ++i) grid[i] = start * std::pow(10.0, static_cast<double>(i) / points_per_decade);
+  std::vector<Probe> probes(model.probes().begin(), model.probes().begin() + ports);
+  const Transfer t = solver.transfer(grid, probes);
+  for (int port = 0; port < ports; ++port) {
+    for (const int source : {ConductedModel::source_input_current, ConductedModel::source_switch_node}) {
+      const auto p = static_cast<std::size_t>(port), s = static_cast<std::size_t>(source);
+      auto magnitude = [&](double f) { return std::abs(solver.transfer({f}, {probes[p]}).at(0, 0, s)); };
+      for (std::size_t i = 1; i + 1 < count; ++i) {
+        const double m = std::abs(t.at(i, p, s));
+        if (!(m > std::abs(t.at(i - 1, p, s)) && m >= std::abs(t.at(i + 1, p, s)))) continue;
+        // Golden-section search for the peak in log frequency between the neighbours.
+        double a = std::log(grid[i - 1]), b = std::log(grid[i + 1]);
+        const double g = 0.5 * (std::sqrt(5.0) - 1.0);
+        double c = b - g * (b - a), d = a + g * (b - a);
+        double mc = magnitude(std::exp(c)), md = magnitude(std::exp(d));
+        for (int it = 0; it < 60; ++it) {
+          if (mc > md) {
+            b = d, d = c, md = mc, c = b - g * (b - a), mc = magnitude(std::exp(c));
+          } else {
+            a = c, c = d, mc = md, d = a + g * (b - a), md = magnitude(std::exp(d));
+          }
+        }
+        const double f0 = std::exp(0.5 * (a + b));
+        const double peak = std::max({magnitude(f0), mc, md, m});
+        if (f0 < low_hz || f0 > high_hz) continue;
+        const double half_power = peak / std::sqrt(2.0);
+        // Half-power frequencies by bisection in [f0/2, f0] and [f0, 2·f0].
+        auto crossing = [&](double inside, double outside) -> double {
+          outside = std::clamp(outside, start, stop);
+          if (!(magnitude(outside) < half_power)) return std::nan("");
+          for (int it = 0; it < 60; ++it) {
+            const double mid = std::sqrt(inside * outside);
+            (magnitude(mid) >= half_power ? inside : outside) = mid;
+          }
+          return std::sqrt(inside * outside);
+        };
+        const double f1 = crossing(f0, f0 / 2.0), f2 = crossing(f0, 2.0 * f0);
+        if (!(std::isfinite(f1) && std::isfinite(f2) && f2 > f1)) continue;
+        const double q = f0 / (f2 - f1);
+        if (!(q >= min_q)) continue;
+        const auto same = std::find_if(found.begin(), found.end(), [&](const Resonance& r) {
+          return std::abs(r.frequency_hz - f0) <= 0.01 * f0;
+        });
+        if (same != found.end() && same->q >= q) continue;
+        Resonance r;
+        r.frequency_hz = f0;
+        r.q = q;
+        r.source = source;
+        std::vector<cd> drive(solver.network().source_count(), cd(0.0, 0.0));
+        drive[s] = cd(1.0, 0.0);
+        const StoredEnergy energy = stored_energy(solver.network(), solver.node_voltages(f0, drive), f0);
+        for (const auto* kind : {&energy.magnetic, &energy.electric}) {
+          for (const std::size_t e : main_holders(*kind)) {
+            const std::string label = part_label(solver.network().elements()[e].name);
+            if (std::find(r.parts.begin(), r.parts.end(), label) == r.parts.end()) r.parts.push_back(label);
+          }
+        }
+        if (same != found.end()) {
+          *same = r;
+        } else {
+          found.push_back(r);
+        }
+      }
+    }
+  }
+  std::sort(found.begin(), found.end(), [](const Resonance& a, const Resonance& b) { return a.frequency_hz < b.frequency_hz; });
+  return found;
+}
+
+std::string resonance_note(const Resonance& resonance) {
+  char q[32];
+  std::snprintf(q, sizeof q, "%.3g", resonance.q);
+  std::string parts;
+  for (std::size_t i = 0; i < resonance.parts.size(); ++i) parts += (i == 0 ? "" : ", ") + resonance.parts[i];
+  return "resonance at " + format_quantity(resonance.frequency_hz, Dimension::frequency) + " with Q â " +
+         q + " in the " +
+         (resonance.source == ConductedModel::source_switch_node ? "common-mode path (switch-node drive)"
+                                                                  : "differential-mode path (input-current drive)") +
+         ", made by " + parts +
+         " (peak of the transfer to the LISN port; Q from its half-power bandwidth): the level there depends on "
+         "the damping of these parts";
 }
 
 namespace {

@@ -116,6 +116,34 @@ struct ConductedResult {
 [[nodiscard]] ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& input_current_a,
                                       const ConductedModel& model);
 
+/// A resonance of the conducted model: a peak of the transfer from one source to a LISN port.
+struct Resonance {
+  double frequency_hz = 0.0;
+  double q = 0.0;    ///< f0 / half-power bandwidth of the peak of |H(f)|
+  int source = 0;    ///< ConductedModel::source_input_current or source_switch_node
+  std::vector<std::string> parts;  ///< elements holding most of the stored energy at the peak
+};
+
+/// The resonances with quality factor ≥ `min_q` whose peak lies in [low_hz, high_hz].
+/// Method: |H(f)| from each source to each LISN port is scanned on a logarithmic grid (200 points
+/// per decade, extended a factor 2 beyond the range); each local maximum is refined by a
+/// golden-section search and its half-power frequencies f1 < f0 < f2 by bisection, Q = f0/(f2 − f1)
+/// (the half-power definition of Q of a resonance, common practice). The parts that make it are the
+/// inductive and capacitive elements that, at f0 with that source driving, together hold at least
+/// 80 % of the stored magnetic and of the stored electric energy (at most three of each): at a
+/// resonance the two energies are exchanged between exactly those parts. Peaks closer than 1 % in
+/// frequency are one resonance (the highest Q is kept).
+[[nodiscard]] std::vector<Resonance> find_resonances(const ConductedModel& model, double low_hz, double high_hz,
+                                                     double min_q);
+
+/// One line for the report, e.g. "resonance at 252 kHz, Q ≈ 630, in the common-mode path (switch-node
+/// drive): filter 1 choke, parasitic capacitance ...".
+[[nodiscard]] std::string resonance_note(const Resonance& resonance);
+
+/// The Q above which a resonance inside a computed band gets a note (judgement: a peak of more than
+/// 20 dB over a damped response; an undamped input filter is typically far above it).
+inline constexpr double resonance_note_min_q = 10.0;
+
 /// The receiver-port voltage waveform of `line` (1 or 2) for sampled sources (dithered or captured):
 /// both records are transformed (FFTW r2c), multiplied by the transfer functions at each bin and
 /// transformed back (c2r). The record is treated as ONE PERIOD of a periodic signal (circular

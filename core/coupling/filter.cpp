@@ -1,6 +1,10 @@
 #include "core/coupling/filter.hpp"
 
+#include "core/coupling/spice.hpp"
+
+#include <algorithm>
 #include <cmath>
+#include <filesystem>
 
 namespace spurcast {
 
@@ -11,6 +15,8 @@ std::string filter_kind_name(FilterKind kind) {
     case FilterKind::common_mode_choke: return "common-mode-choke";
     case FilterKind::y_capacitors: return "y-capacitors";
     case FilterKind::netlist: return "netlist";
+    case FilterKind::touchstone: return "touchstone";
+    case FilterKind::spice: return "spice";
   }
   return "lc";
 }
@@ -38,6 +44,52 @@ double optional_positive(TableReader& reader, std::string_view key, Dimension di
   return positive(reader, key, dimension);
 }
 
+/// The Touchstone file named by `key`, relative to the scenario file's folder, with `ports` ports.
+std::shared_ptr<const TouchstoneData> read_touchstone(TableReader& reader, std::string_view key, int ports,
+                                                     std::string& file) {
+  file = reader.required_string(key);
+  std::filesystem::path path(file);
+  if (path.is_relative()) path = std::filesystem::path(reader.file()).parent_path() / path;
+  int found = 0;
+  try {
+    found = touchstone_ports(path.string());
+  } catch (const Error& error) {
+    reader.fail(key, error.message());
+  }
+  if (found != ports) {
+    reader.fail(key, std::string("expected a ") + (ports == 1 ? ".s1p (one-port)" : ".s2p (two-port)") +
+                         " file, found '" + file + "'");
+  }
+  return load_touchstone(path.string());
+}
+
+/// A parasitic ≥ 0 with a default (recorded in `defaulted` when used).
+double parasitic(TableReader& reader, std::string_view key, Dimension dimension, double fallback,
+                 std::vector<std::string>& defaulted) {
+  if (!reader.has(key)) {
+    defaulted.emplace_back(key);
+    return fallback;
+  }
+  return non_negative(reader, key, dimension);
+}
+
+/// core_loss_resistance: a resistance > 0, or "none" for an ideal core; default recorded.
+double core_loss(TableReader& reader, std::string_view key, std::vector<std::string>& defaulted) {
+  if (!reader.has(key)) {
+    defaulted.emplace_back(key);
+    return default_core_loss_resistance_ohm;
+  }
+  const toml::node* node = reader.node(key);
+  if (node != nullptr && node->is_string() && node->value<std::string>() == std::string("none")) return no_core_loss;
+  return positive(reader, key, Dimension::resistance);
+}
+
+void read_capacitor_parasitics(TableReader& reader, std::string_view esr_key, std::string_view esl_key,
+                               double& esr_ohm, double& esl_h, std::vector<std::string>& defaulted) {
+  esr_ohm = parasitic(reader, esr_key, Dimension::resistance, default_capacitor_esr_ohm, defaulted);
+  esl_h = parasitic(reader, esl_key, Dimension::inductance, default_capacitor_esl_h, defaulted);
+}
+
 FilterLines read_lines(TableReader& reader, FilterLines fallback) {
   const auto text = reader.optional_choice("lines", {"positive", "negative", "both"});
   if (!text) return fallback;
@@ -58,15 +110,18 @@ NetlistElement read_netlist_element(const toml::table& table, const std::string&
   TableReader reader(table, file, where);
   NetlistElement element;
   element.where = reader.table_position();
-  const std::string type = reader.required_choice("type", {"R", "L", "C", "K"});
-  element.type = type[0];
+  const std::string type = reader.required_choice("type", {"R", "L", "C", "K", "touchstone"});
+  element.type = type == "touchstone" ? 'T' : type[0];
   switch (element.type) {
     case 'R': reader.finish({"type", "from", "to", "value"}); break;
-    case 'L': reader.finish({"type", "from", "to", "value", "resistance"}); break;
+    case 'L':
+      reader.finish({"type", "from", "to", "value", "resistance", "winding_capacitance", "core_loss_resistance"});
+      break;
     case 'C': reader.finish({"type", "from", "to", "value", "esr", "esl"}); break;
+    case 'T': reader.finish({"type", "from", "to", "file"}); break;
     default:
       reader.finish({"type", "from", "to", "from_2", "to_2", "value", "value_2", "coupling", "resistance",
-                     "resistance_2"});
+                     "resistance_2", "winding_capacitance", "core_loss_resistance", "interwinding_capacitance"});
       break;
   }
   auto node_name = [&](std::string_view key) {
@@ -81,12 +136,15 @@ NetlistElement read_netlist_element(const toml::table& table, const std::string&
     case 'L':
       element.value = positive(reader, "value", Dimension::inductance);
       element.resistance_ohm = non_negative(reader, "resistance", Dimension::resistance);
+      element.winding_capacitance_f = parasitic(reader, "winding_capacitance", Dimension::capacitance,
+                                                default_inductor_winding_capacitance_f, element.defaulted);
+      element.core_loss_resistance_ohm = core_loss(reader, "core_loss_resistance", element.defaulted);
       break;
     case 'C':
       element.value = positive(reader, "value", Dimension::capacitance);
-      element.esr_ohm = non_negative(reader, "esr", Dimension::resistance);
-      element.esl_h = non_negative(reader, "esl", Dimension::inductance);
+      read_capacitor_parasitics(reader, "esr", "esl", element.esr_ohm, element.esl_h, element.defaulted);
       break;
+    case 'T': element.touchstone = read_touchstone(reader, "file", 1, element.file); break;
     default:
       element.from_2 = node_name("from_2");
       element.to_2 = node_name("to_2");
@@ -95,33 +153,51 @@ NetlistElement read_netlist_element(const toml::table& table, const std::string&
       element.coupling = read_coupling(reader, "coupling");
       element.resistance_ohm = non_negative(reader, "resistance", Dimension::resistance);
       element.resistance_2_ohm = non_negative(reader, "resistance_2", Dimension::resistance);
+      element.winding_capacitance_f = parasitic(reader, "winding_capacitance", Dimension::capacitance,
+                                                default_choke_winding_capacitance_f, element.defaulted);
+      element.core_loss_resistance_ohm = core_loss(reader, "core_loss_resistance", element.defaulted);
+      element.interwinding_capacitance_f = parasitic(reader, "interwinding_capacitance", Dimension::capacitance,
+                                                     default_choke_interwinding_capacitance_f, element.defaulted);
       break;
   }
   return element;
 }
 
+void read_inductor_parasitics(TableReader& reader, FilterStage& stage) {
+  stage.winding_capacitance_f = parasitic(reader, "winding_capacitance", Dimension::capacitance,
+                                          default_inductor_winding_capacitance_f, stage.defaulted);
+  stage.core_loss_resistance_ohm = core_loss(reader, "core_loss_resistance", stage.defaulted);
+}
+
 }  // namespace
+
+bool is_defaulted(const std::vector<std::string>& defaulted, std::string_view key) {
+  return std::find(defaulted.begin(), defaulted.end(), key) != defaulted.end();
+}
 
 FilterStage read_filter_stage(TableReader& reader) {
   FilterStage stage;
   stage.where = reader.table_position();
   const std::string kind =
-      reader.required_choice("kind", {"lc", "pi", "common-mode-choke", "y-capacitors", "netlist"});
+      reader.required_choice("kind", {"lc", "pi", "common-mode-choke", "y-capacitors", "netlist", "touchstone", "spice"});
   // Unknown keys first, so a misspelt required key reads "unknown key ...; did you mean" rather
   // than "missing key".
   if (kind == "lc") {
     stage.kind = FilterKind::lc;
-    reader.finish({"kind", "inductance", "inductor_resistance", "capacitance", "capacitor_esr", "capacitor_esl", "lines"});
+    reader.finish({"kind", "inductance", "inductor_resistance", "capacitance", "capacitor_esr", "capacitor_esl",
+                   "winding_capacitance", "core_loss_resistance", "lines"});
     stage.inductance_h = positive(reader, "inductance", Dimension::inductance);
     stage.inductor_resistance_ohm = non_negative(reader, "inductor_resistance", Dimension::resistance);
     stage.converter_side_capacitance_f = positive(reader, "capacitance", Dimension::capacitance);
-    stage.capacitor_esr_ohm = non_negative(reader, "capacitor_esr", Dimension::resistance);
-    stage.capacitor_esl_h = non_negative(reader, "capacitor_esl", Dimension::inductance);
+    read_capacitor_parasitics(reader, "capacitor_esr", "capacitor_esl", stage.capacitor_esr_ohm, stage.capacitor_esl_h,
+                              stage.defaulted);
+    read_inductor_parasitics(reader, stage);
     stage.lines = read_lines(reader, FilterLines::positive);
   } else if (kind == "pi") {
     stage.kind = FilterKind::pi;
     reader.finish({"kind", "inductance", "inductor_resistance", "capacitance", "lisn_side_capacitance",
-                   "converter_side_capacitance", "capacitor_esr", "capacitor_esl", "lines"});
+                   "converter_side_capacitance", "capacitor_esr", "capacitor_esl", "winding_capacitance",
+                   "core_loss_resistance", "lines"});
     stage.inductance_h = positive(reader, "inductance", Dimension::inductance);
     stage.inductor_resistance_ohm = non_negative(reader, "inductor_resistance", Dimension::resistance);
     if (reader.has("capacitance")) {
@@ -140,15 +216,22 @@ FilterStage read_filter_stage(TableReader& reader) {
       stage.lisn_side_capacitance_f = positive(reader, "lisn_side_capacitance", Dimension::capacitance);
       stage.converter_side_capacitance_f = positive(reader, "converter_side_capacitance", Dimension::capacitance);
     }
-    stage.capacitor_esr_ohm = non_negative(reader, "capacitor_esr", Dimension::resistance);
-    stage.capacitor_esl_h = non_negative(reader, "capacitor_esl", Dimension::inductance);
+    read_capacitor_parasitics(reader, "capacitor_esr", "capacitor_esl", stage.capacitor_esr_ohm, stage.capacitor_esl_h,
+                              stage.defaulted);
+    read_inductor_parasitics(reader, stage);
     stage.lines = read_lines(reader, FilterLines::positive);
   } else if (kind == "common-mode-choke") {
     stage.kind = FilterKind::common_mode_choke;
     stage.lines = FilterLines::both;
-    reader.finish({"kind", "inductance", "coupling", "leakage_inductance", "winding_resistance"});
+    reader.finish({"kind", "inductance", "coupling", "leakage_inductance", "winding_resistance", "winding_capacitance",
+                   "core_loss_resistance", "interwinding_capacitance"});
     stage.inductance_h = positive(reader, "inductance", Dimension::inductance);
     stage.inductor_resistance_ohm = non_negative(reader, "winding_resistance", Dimension::resistance);
+    stage.winding_capacitance_f = parasitic(reader, "winding_capacitance", Dimension::capacitance,
+                                            default_choke_winding_capacitance_f, stage.defaulted);
+    stage.core_loss_resistance_ohm = core_loss(reader, "core_loss_resistance", stage.defaulted);
+    stage.interwinding_capacitance_f = parasitic(reader, "interwinding_capacitance", Dimension::capacitance,
+                                                 default_choke_interwinding_capacitance_f, stage.defaulted);
     if (reader.has("coupling") && reader.has("leakage_inductance")) {
       reader.fail("leakage_inductance", "give either 'coupling' or 'leakage_inductance', not both");
     }
@@ -169,9 +252,21 @@ FilterStage read_filter_stage(TableReader& reader) {
     stage.kind = FilterKind::y_capacitors;
     reader.finish({"kind", "capacitance", "capacitor_esr", "capacitor_esl", "lines"});
     stage.converter_side_capacitance_f = positive(reader, "capacitance", Dimension::capacitance);
-    stage.capacitor_esr_ohm = non_negative(reader, "capacitor_esr", Dimension::resistance);
-    stage.capacitor_esl_h = non_negative(reader, "capacitor_esl", Dimension::inductance);
+    read_capacitor_parasitics(reader, "capacitor_esr", "capacitor_esl", stage.capacitor_esr_ohm, stage.capacitor_esl_h,
+                              stage.defaulted);
     stage.lines = read_lines(reader, FilterLines::both);
+  } else if (kind == "touchstone") {
+    stage.kind = FilterKind::touchstone;
+    reader.finish({"kind", "file"});
+    stage.touchstone = read_touchstone(reader, "file", 2, stage.file);
+  } else if (kind == "spice") {
+    stage.kind = FilterKind::spice;
+    reader.finish({"kind", "file", "subckt"});
+    stage.file = reader.required_string("file");
+    stage.subckt = reader.required_string("subckt");
+    std::filesystem::path path(stage.file);
+    if (path.is_relative()) path = std::filesystem::path(reader.file()).parent_path() / path;
+    stage.elements = load_spice_subcircuit(path.string(), stage.subckt);
   } else {
     stage.kind = FilterKind::netlist;
     reader.finish({"kind", "elements"});
@@ -190,16 +285,42 @@ namespace {
 bool on_positive(FilterLines lines) { return lines != FilterLines::negative; }
 bool on_negative(FilterLines lines) { return lines != FilterLines::positive; }
 
-/// Series inductors on the chosen lines; returns the far-side pair.
+/// A winding's parallel parasitics: its winding capacitance and core-loss resistance across a→b.
+void winding_parasitics(Network& network, NodeId a, NodeId b, double capacitance_f, double core_loss_ohm,
+                        const std::string& name) {
+  if (capacitance_f > 0.0) network.add_capacitor(a, b, capacitance_f, 0.0, 0.0, name + " winding capacitance");
+  if (std::isfinite(core_loss_ohm)) network.add_resistor(a, b, core_loss_ohm, name + " core loss");
+}
+
+/// A coupled pair with its parasitics: each winding's parallel C and R, and the capacitance between
+/// the windings lumped half at each end (the symmetric lumped approximation of a distributed
+/// capacitance, common practice).
+void coupled_pair(Network& network, NodeId a1, NodeId b1, NodeId a2, NodeId b2, double l1_h, double l2_h,
+                  double k, double r1_ohm, double r2_ohm, double winding_capacitance_f, double core_loss_ohm,
+                  double interwinding_capacitance_f, const std::string& name) {
+  network.add_coupled_inductors(a1, b1, a2, b2, l1_h, l2_h, k, r1_ohm, r2_ohm, name);
+  winding_parasitics(network, a1, b1, winding_capacitance_f, core_loss_ohm, name + " winding 1");
+  winding_parasitics(network, a2, b2, winding_capacitance_f, core_loss_ohm, name + " winding 2");
+  if (interwinding_capacitance_f > 0.0) {
+    network.add_capacitor(a1, a2, 0.5 * interwinding_capacitance_f, 0.0, 0.0, name + " interwinding capacitance");
+    network.add_capacitor(b1, b2, 0.5 * interwinding_capacitance_f, 0.0, 0.0, name + " interwinding capacitance");
+  }
+}
+
+/// Series inductors on the chosen lines, with their parasitics; returns the far-side pair.
 LinePair series_inductors(Network& network, const FilterStage& stage, LinePair in, const std::string& prefix) {
   LinePair out = in;
   if (on_positive(stage.lines)) {
     out.positive = network.node(prefix + ".out+");
     network.add_inductor(in.positive, out.positive, stage.inductance_h, stage.inductor_resistance_ohm, prefix + ".L+");
+    winding_parasitics(network, in.positive, out.positive, stage.winding_capacitance_f,
+                       stage.core_loss_resistance_ohm, prefix + ".L+");
   }
   if (on_negative(stage.lines)) {
     out.negative = network.node(prefix + ".out-");
     network.add_inductor(in.negative, out.negative, stage.inductance_h, stage.inductor_resistance_ohm, prefix + ".L-");
+    winding_parasitics(network, in.negative, out.negative, stage.winding_capacitance_f,
+                       stage.core_loss_resistance_ohm, prefix + ".L-");
   }
   return out;
 }
@@ -227,9 +348,10 @@ LinePair add_filter_stage(Network& network, const FilterStage& stage, LinePair l
       }
       case FilterKind::common_mode_choke: {
         const LinePair out{network.node(prefix + ".out+"), network.node(prefix + ".out-")};
-        network.add_coupled_inductors(lisn_side.positive, out.positive, lisn_side.negative, out.negative,
-                                      stage.inductance_h, stage.inductance_h, stage.coupling,
-                                      stage.inductor_resistance_ohm, stage.inductor_resistance_ohm, prefix + ".choke");
+        coupled_pair(network, lisn_side.positive, out.positive, lisn_side.negative, out.negative, stage.inductance_h,
+                     stage.inductance_h, stage.coupling, stage.inductor_resistance_ohm, stage.inductor_resistance_ohm,
+                     stage.winding_capacitance_f, stage.core_loss_resistance_ohm, stage.interwinding_capacitance_f,
+                     prefix + ".choke");
         return out;
       }
       case FilterKind::y_capacitors: {
@@ -243,6 +365,15 @@ LinePair add_filter_stage(Network& network, const FilterStage& stage, LinePair l
         }
         return lisn_side;
       }
+      case FilterKind::touchstone: {
+        // Port 1 across the LISN-side lines, port 2 across the converter-side lines; the negative
+        // line is the common terminal and passes through.
+        const LinePair out{network.node(prefix + ".out+"), lisn_side.negative};
+        network.add_tabulated_two_port(lisn_side.positive, lisn_side.negative, out.positive, out.negative,
+                                       stage.touchstone, prefix + ".two-port");
+        return out;
+      }
+      case FilterKind::spice:
       case FilterKind::netlist: {
         auto named = [&](const std::string& port) {
           for (const NetlistElement& e : stage.elements) {
@@ -267,11 +398,17 @@ LinePair add_filter_stage(Network& network, const FilterStage& stage, LinePair l
           try {
             switch (e.type) {
               case 'R': network.add_resistor(node(e.from), node(e.to), e.value, name); break;
-              case 'L': network.add_inductor(node(e.from), node(e.to), e.value, e.resistance_ohm, name); break;
+              case 'L':
+                network.add_inductor(node(e.from), node(e.to), e.value, e.resistance_ohm, name);
+                winding_parasitics(network, node(e.from), node(e.to), e.winding_capacitance_f,
+                                   e.core_loss_resistance_ohm, name);
+                break;
               case 'C': network.add_capacitor(node(e.from), node(e.to), e.value, e.esr_ohm, e.esl_h, name); break;
+              case 'T': network.add_tabulated(node(e.from), node(e.to), e.touchstone, name); break;
               default:
-                network.add_coupled_inductors(node(e.from), node(e.to), node(e.from_2), node(e.to_2), e.value,
-                                              e.value_2, e.coupling, e.resistance_ohm, e.resistance_2_ohm, name);
+                coupled_pair(network, node(e.from), node(e.to), node(e.from_2), node(e.to_2), e.value, e.value_2,
+                             e.coupling, e.resistance_ohm, e.resistance_2_ohm, e.winding_capacitance_f,
+                             e.core_loss_resistance_ohm, e.interwinding_capacitance_f, name);
                 break;
             }
           } catch (const Error& error) {

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <numeric>
 #include <utility>
 
@@ -38,6 +39,7 @@ std::string kind_word(ElementKind kind) {
     case ElementKind::coupled_inductors: return "coupled inductors";
     case ElementKind::voltage_source: return "voltage source";
     case ElementKind::current_source: return "current source";
+    case ElementKind::tabulated: return "measured part";
   }
   return "element";
 }
@@ -126,7 +128,7 @@ ElementId Network::push(Element element) {
 }
 
 ElementId Network::add_resistor(NodeId a, NodeId b, double resistance_ohm, std::string name) {
-  Element e{ElementKind::resistor, {a, b, 0, 0}, resistance_ohm, 0, 0, 0, 0, std::move(name), -1};
+  Element e{ElementKind::resistor, {a, b, 0, 0}, resistance_ohm, 0, 0, 0, 0, std::move(name), -1, nullptr};
   const std::string who = label(e, elements_.size());
   check_positive(resistance_ohm, Dimension::resistance, "a resistance", who);
   return push(std::move(e));
@@ -134,7 +136,7 @@ ElementId Network::add_resistor(NodeId a, NodeId b, double resistance_ohm, std::
 
 ElementId Network::add_inductor(NodeId a, NodeId b, double inductance_h, double series_resistance_ohm,
                                 std::string name) {
-  Element e{ElementKind::inductor, {a, b, 0, 0}, inductance_h, series_resistance_ohm, 0, 0, 0, std::move(name), -1};
+  Element e{ElementKind::inductor, {a, b, 0, 0}, inductance_h, series_resistance_ohm, 0, 0, 0, std::move(name), -1, nullptr};
   const std::string who = label(e, elements_.size());
   check_positive(inductance_h, Dimension::inductance, "an inductance", who);
   check_non_negative(series_resistance_ohm, Dimension::resistance, "a series resistance", who);
@@ -143,7 +145,7 @@ ElementId Network::add_inductor(NodeId a, NodeId b, double inductance_h, double 
 
 ElementId Network::add_capacitor(NodeId a, NodeId b, double capacitance_f, double esr_ohm, double esl_h,
                                  std::string name) {
-  Element e{ElementKind::capacitor, {a, b, 0, 0}, capacitance_f, esr_ohm, esl_h, 0, 0, std::move(name), -1};
+  Element e{ElementKind::capacitor, {a, b, 0, 0}, capacitance_f, esr_ohm, esl_h, 0, 0, std::move(name), -1, nullptr};
   const std::string who = label(e, elements_.size());
   check_positive(capacitance_f, Dimension::capacitance, "a capacitance", who);
   check_non_negative(esr_ohm, Dimension::resistance, "an ESR", who);
@@ -154,7 +156,7 @@ ElementId Network::add_capacitor(NodeId a, NodeId b, double capacitance_f, doubl
 ElementId Network::add_coupled_inductors(NodeId a1, NodeId b1, NodeId a2, NodeId b2, double l1_h, double l2_h,
                                          double coupling_factor, double r1_ohm, double r2_ohm, std::string name) {
   Element e{ElementKind::coupled_inductors, {a1, b1, a2, b2}, l1_h, l2_h, coupling_factor, r1_ohm, r2_ohm,
-            std::move(name), -1};
+            std::move(name), -1, nullptr};
   const std::string who = label(e, elements_.size());
   check_positive(l1_h, Dimension::inductance, "an inductance", who);
   check_positive(l2_h, Dimension::inductance, "an inductance", who);
@@ -167,12 +169,49 @@ ElementId Network::add_coupled_inductors(NodeId a1, NodeId b1, NodeId a2, NodeId
   return push(std::move(e));
 }
 
+ElementId Network::add_tabulated(NodeId a, NodeId b, std::shared_ptr<const TabulatedAdmittance> table,
+                                 std::string name) {
+  if (!table || table->port_count() != 1) throw Error("expected a one-port measured part");
+  Element e{ElementKind::tabulated, {a, b, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, std::move(table)};
+  return push(std::move(e));
+}
+
+ElementId Network::add_tabulated_two_port(NodeId a1, NodeId b1, NodeId a2, NodeId b2,
+                                          std::shared_ptr<const TabulatedAdmittance> table, std::string name) {
+  if (!table || table->port_count() != 2) throw Error("expected a two-port measured part");
+  Element e{ElementKind::tabulated, {a1, b1, a2, b2}, 0, 0, 0, 0, 0, std::move(name), -1, std::move(table)};
+  return push(std::move(e));
+}
+
+std::array<double, 2> Network::tabulated_range() const {
+  std::array<double, 2> range{0.0, std::numeric_limits<double>::infinity()};
+  for (const Element& e : elements_) {
+    if (e.kind != ElementKind::tabulated) continue;
+    range[0] = std::max(range[0], e.table->lowest_hz());
+    range[1] = std::min(range[1], e.table->highest_hz());
+  }
+  return range;
+}
+
+void Network::check_tabulated_range(double frequency_hz) const {
+  for (const Element& e : elements_) {
+    if (e.kind != ElementKind::tabulated) continue;
+    const double lo = e.table->lowest_hz(), hi = e.table->highest_hz();
+    // A relative 1e-12 of slack: a frequency printed from the file and read back is still inside.
+    if (frequency_hz < lo * (1.0 - 1e-12) || frequency_hz > hi * (1.0 + 1e-12)) {
+      throw Error(e.table->describe() + ": frequency " + format_quantity(frequency_hz, Dimension::frequency) +
+                  " is outside the file's range, " + format_quantity(lo, Dimension::frequency) + " to " +
+                  format_quantity(hi, Dimension::frequency) + " (no extrapolation)");
+    }
+  }
+}
+
 ElementId Network::add_voltage_source(NodeId plus, NodeId minus, std::string name) {
-  return push(Element{ElementKind::voltage_source, {plus, minus, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1});
+  return push(Element{ElementKind::voltage_source, {plus, minus, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, nullptr});
 }
 
 ElementId Network::add_current_source(NodeId from, NodeId to, std::string name) {
-  return push(Element{ElementKind::current_source, {from, to, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1});
+  return push(Element{ElementKind::current_source, {from, to, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, nullptr});
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -191,7 +230,8 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
   DisjointSets sources(node_count);
   for (std::size_t i = 0; i < elements.size(); ++i) {
     const Element& e = elements[i];
-    const int terminals = e.kind == ElementKind::coupled_inductors ? 4 : 2;
+    const bool four = e.kind == ElementKind::coupled_inductors || (e.kind == ElementKind::tabulated && e.table->port_count() == 2);
+    const int terminals = four ? 4 : 2;
     for (int t = 0; t < terminals; ++t) touched[static_cast<std::size_t>(e.nodes[static_cast<std::size_t>(t)])] = true;
     switch (e.kind) {
       case ElementKind::resistor:
@@ -199,6 +239,13 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
       case ElementKind::coupled_inductors:
         dc.join(e.nodes[0], e.nodes[1]);
         dc.join(e.nodes[2], e.nodes[3]);
+        break;
+      case ElementKind::tabulated:
+        dc.join(e.nodes[0], e.nodes[1]);
+        if (e.table->port_count() == 2) {
+          dc.join(e.nodes[2], e.nodes[3]);
+          dc.join(e.nodes[0], e.nodes[2]);  // a two-port's ports share a reference through the part
+        }
         break;
       case ElementKind::voltage_source:
         dc.join(e.nodes[0], e.nodes[1]);
@@ -232,6 +279,26 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
     const Element& e = elements[i];
     const int id = static_cast<int>(i);
     switch (e.kind) {
+      case ElementKind::tabulated:
+        if (e.table->port_count() == 2) {
+          // The same 2×2 admittance stamp as a coupled pair (below).
+          const int first = static_cast<int>(admittance_slots_);
+          admittance_slots_ += 4;
+          slot_of_element_[i] = first;
+          for (int w = 0; w < 2; ++w) {
+            for (int v = 0; v < 2; ++v) {
+              const int slot = first + 2 * w + v;
+              const NodeId aw = e.nodes[static_cast<std::size_t>(2 * w)], bw = e.nodes[static_cast<std::size_t>(2 * w + 1)];
+              const NodeId av = e.nodes[static_cast<std::size_t>(2 * v)], bv = e.nodes[static_cast<std::size_t>(2 * v + 1)];
+              add(aw, av, id, slot, +1.0);
+              add(aw, bv, id, slot, -1.0);
+              add(bw, av, id, slot, -1.0);
+              add(bw, bv, id, slot, +1.0);
+            }
+          }
+          break;
+        }
+        [[fallthrough]];
       case ElementKind::resistor:
       case ElementKind::inductor:
       case ElementKind::capacitor: {
@@ -447,6 +514,12 @@ void NetworkSolver::element_admittances(double omega, std::vector<cd>& admittanc
         admittance[s + 3] = mul(z11, inverse_det);
         break;
       }
+      case ElementKind::tabulated: {
+        const auto y = e.table->admittance(omega / (2.0 * M_PI));
+        const int ports = e.table->port_count();
+        for (int k = 0; k < ports * ports; ++k) admittance[s + static_cast<std::size_t>(k)] = y[static_cast<std::size_t>(k)];
+        break;
+      }
       default: break;
     }
   }
@@ -471,6 +544,7 @@ void check_frequency(double frequency_hz) {
 
 Eigen::MatrixXcd NetworkSolver::system_matrix(double frequency_hz) const {
   check_frequency(frequency_hz);
+  network_.check_tabulated_range(frequency_hz);
   Eigen::MatrixXcd matrix(static_cast<Eigen::Index>(size_), static_cast<Eigen::Index>(size_));
   std::vector<cd> admittance;
   fill(2.0 * M_PI * frequency_hz, matrix, admittance);
@@ -485,12 +559,19 @@ Transfer NetworkSolver::transfer(const std::vector<double>& frequency_hz, const 
       (void)network_.node_name(p.plus);
       (void)network_.node_name(p.minus);
     } else if (p.element < 0 || static_cast<std::size_t>(p.element) >= elements.size() || p.winding < 0 ||
-               p.winding > (elements[static_cast<std::size_t>(p.element)].kind == ElementKind::coupled_inductors ? 1 : 0)) {
+               p.winding > (elements[static_cast<std::size_t>(p.element)].kind == ElementKind::coupled_inductors ||
+                                    (elements[static_cast<std::size_t>(p.element)].kind == ElementKind::tabulated &&
+                                     elements[static_cast<std::size_t>(p.element)].table->port_count() == 2)
+                                ? 1
+                                : 0)) {
       throw Error("no element " + std::to_string(p.element) + " (winding " + std::to_string(p.winding) +
                   ") to probe in the network");
     }
   }
-  for (const double f : frequency_hz) check_frequency(f);
+  for (const double f : frequency_hz) {
+    check_frequency(f);
+    network_.check_tabulated_range(f);
+  }
 
   const std::size_t sources = network_.source_count();
   Transfer out;
@@ -581,6 +662,12 @@ Transfer NetworkSolver::transfer(const std::vector<double>& frequency_hz, const 
             case ElementKind::capacitor:
               value = admittance[static_cast<std::size_t>(slot)] * (voltage(e.nodes[0], s) - voltage(e.nodes[1], s));
               break;
+            case ElementKind::tabulated:
+              if (e.table->port_count() == 1) {
+                value = admittance[static_cast<std::size_t>(slot)] * (voltage(e.nodes[0], s) - voltage(e.nodes[1], s));
+                break;
+              }
+              [[fallthrough]];
             case ElementKind::coupled_inductors: {
               const cd v1 = voltage(e.nodes[0], s) - voltage(e.nodes[1], s);
               const cd v2 = voltage(e.nodes[2], s) - voltage(e.nodes[3], s);

@@ -23,6 +23,7 @@
 #include <array>
 #include <complex>
 #include <cstddef>
+#include <memory>
 #include <string>
 #include <vector>
 
@@ -30,6 +31,20 @@ namespace spurcast {
 
 using NodeId = int;     ///< 0 is the reference ground
 using ElementId = int;  ///< index into Network::elements()
+
+/// A measured part given by its admittance at any frequency inside a range (a Touchstone file's
+/// S-parameters converted to Y). One-port: admittance()[0]; two-port: Y11, Y12, Y21, Y22.
+class TabulatedAdmittance {
+ public:
+  virtual ~TabulatedAdmittance() = default;
+  [[nodiscard]] virtual int port_count() const = 0;
+  [[nodiscard]] virtual double lowest_hz() const = 0;
+  [[nodiscard]] virtual double highest_hz() const = 0;
+  /// For messages, e.g. the file name.
+  [[nodiscard]] virtual const std::string& describe() const = 0;
+  /// The admittance [S] at `frequency_hz` (inside the range; the caller checks).
+  [[nodiscard]] virtual std::array<std::complex<double>, 4> admittance(double frequency_hz) const = 0;
+};
 
 enum class ElementKind {
   resistor,           ///< value_a = R [Ω]
@@ -39,6 +54,8 @@ enum class ElementKind {
                       ///< value_a = L1, value_b = L2 [H], value_c = k, value_d = R1, value_e = R2 [Ω]
   voltage_source,     ///< V(nodes[0]) − V(nodes[1]) = value given at solve time
   current_source,     ///< drives its value from nodes[0] through itself into nodes[1]
+  tabulated,          ///< a measured one-port nodes[0]→nodes[1], or two-port (nodes[0]→nodes[1] port 1,
+                      ///< nodes[2]→nodes[3] port 2); Element::table gives the admittance
 };
 
 struct Element {
@@ -47,6 +64,7 @@ struct Element {
   double value_a = 0.0, value_b = 0.0, value_c = 0.0, value_d = 0.0, value_e = 0.0;
   std::string name;  ///< for messages ("" allowed)
   int source_index = -1;  ///< for sources: position among the sources (order of addition)
+  std::shared_ptr<const TabulatedAdmittance> table;  ///< tabulated only
 };
 
 /// A netlist with named nodes. Node 0 is the reference ground, named "0"; the names "gnd" and
@@ -77,6 +95,20 @@ class Network {
   ElementId add_coupled_inductors(NodeId a1, NodeId b1, NodeId a2, NodeId b2, double l1_h, double l2_h,
                                   double coupling_factor, double r1_ohm = 0.0, double r2_ohm = 0.0,
                                   std::string name = "");
+  /// A measured one-port between a and b (table->port_count() == 1), or a two-port with port 1
+  /// a1→b1 and port 2 a2→b2 (port_count() == 2); the current of each port enters at a, leaves at b.
+  /// A tabulated part counts as a DC path (its admittance is finite and non-zero in its range, and
+  /// the network is never solved outside it). Solving at a frequency outside the table's range
+  /// throws Error.
+  ElementId add_tabulated(NodeId a, NodeId b, std::shared_ptr<const TabulatedAdmittance> table, std::string name = "");
+  ElementId add_tabulated_two_port(NodeId a1, NodeId b1, NodeId a2, NodeId b2,
+                                   std::shared_ptr<const TabulatedAdmittance> table, std::string name = "");
+  /// The frequency range every tabulated part covers ([0, ∞] when there is none).
+  [[nodiscard]] std::array<double, 2> tabulated_range() const;
+  /// Throws Error if a tabulated part does not cover `frequency_hz`, e.g.
+  /// "part.s1p: frequency 110 MHz is outside the file's range, 100 kHz to 30 MHz (no extrapolation)".
+  void check_tabulated_range(double frequency_hz) const;
+
   /// V(plus) − V(minus) = the source's phasor (given at solve time).
   ElementId add_voltage_source(NodeId plus, NodeId minus, std::string name = "");
   /// Drives the source's phasor from `from` through the source into `to`.

@@ -368,6 +368,16 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   for (std::size_t i = 0; i < s.filters.size(); ++i) {
     const FilterStage& f = s.filters[i];
     const std::string section = "filter " + std::to_string(i + 1) + " (" + filter_kind_name(f.kind) + ")";
+    // A parasitic the scenario left out is a stated default, never a silent ideal part.
+    auto part = [&](double value, Dimension dimension, std::string_view key) {
+      const std::string text = std::isfinite(value) ? (value > 0.0 ? q(value, dimension) : "none") : "none";
+      return text + (is_defaulted(f.defaulted, key) ? " (default)" : "");
+    };
+    auto winding_rows = [&](const std::string& per) {
+      add(section, "winding capacitance" + per, part(f.winding_capacitance_f, Dimension::capacitance, "winding_capacitance"));
+      add(section, "core-loss resistance" + per,
+          part(f.core_loss_resistance_ohm, Dimension::resistance, "core_loss_resistance"));
+    };
     switch (f.kind) {
       case FilterKind::lc:
       case FilterKind::pi:
@@ -378,42 +388,71 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
         }
         add(section, f.kind == FilterKind::pi ? "converter-side capacitance" : "capacitance",
             q(f.converter_side_capacitance_f, Dimension::capacitance));
-        add(section, "capacitor ESR", q(f.capacitor_esr_ohm, Dimension::resistance));
-        add(section, "capacitor ESL", q(f.capacitor_esl_h, Dimension::inductance));
+        add(section, "capacitor ESR", part(f.capacitor_esr_ohm, Dimension::resistance, "capacitor_esr"));
+        add(section, "capacitor ESL", part(f.capacitor_esl_h, Dimension::inductance, "capacitor_esl"));
+        winding_rows("");
         add(section, "lines", filter_lines_name(f.lines));
         break;
       case FilterKind::common_mode_choke:
         add(section, "inductance (per winding)", q(f.inductance_h, Dimension::inductance));
         add(section, "coupling factor", q(f.coupling, Dimension::number));
         add(section, "winding resistance", q(f.inductor_resistance_ohm, Dimension::resistance));
+        winding_rows(" (per winding)");
+        add(section, "interwinding capacitance",
+            part(f.interwinding_capacitance_f, Dimension::capacitance, "interwinding_capacitance"));
         break;
       case FilterKind::y_capacitors:
         add(section, "capacitance (each)", q(f.converter_side_capacitance_f, Dimension::capacitance));
-        add(section, "capacitor ESR", q(f.capacitor_esr_ohm, Dimension::resistance));
-        add(section, "capacitor ESL", q(f.capacitor_esl_h, Dimension::inductance));
+        add(section, "capacitor ESR", part(f.capacitor_esr_ohm, Dimension::resistance, "capacitor_esr"));
+        add(section, "capacitor ESL", part(f.capacitor_esl_h, Dimension::inductance, "capacitor_esl"));
         add(section, "lines", filter_lines_name(f.lines));
         break;
+      case FilterKind::touchstone:
+        add(section, "file (two-port, measured)", f.file);
+        add(section, "frequency range", q(f.touchstone->lowest_hz(), Dimension::frequency) + " to " +
+                                            q(f.touchstone->highest_hz(), Dimension::frequency) +
+                                            " (interpolated linearly on S; no extrapolation)");
+        break;
+      case FilterKind::spice:
+        add(section, "file", f.file + ", subcircuit " + f.subckt + " (SPICE parts are ideal: parasitics are elements)");
+        [[fallthrough]];
       case FilterKind::netlist:
         for (const NetlistElement& e : f.elements) {
+          auto element_part = [&](const NetlistElement& el, double value, Dimension dimension, std::string_view key) {
+            const std::string text = std::isfinite(value) ? (value > 0.0 ? q(value, dimension) : "none") : "none";
+            return text + (is_defaulted(el.defaulted, key) ? " (default)" : "");
+          };
+          auto winding_text = [&](const NetlistElement& el) {
+            return ", winding capacitance " +
+                   element_part(el, el.winding_capacitance_f, Dimension::capacitance, "winding_capacitance") +
+                   ", core loss " +
+                   element_part(el, el.core_loss_resistance_ohm, Dimension::resistance, "core_loss_resistance");
+          };
           std::string value;
           switch (e.type) {
             case 'R': value = q(e.value, Dimension::resistance); break;
             case 'L':
               value = q(e.value, Dimension::inductance);
               if (e.resistance_ohm > 0) value += ", " + q(e.resistance_ohm, Dimension::resistance);
+              value += winding_text(e);
               break;
             case 'C':
-              value = q(e.value, Dimension::capacitance);
-              if (e.esr_ohm > 0) value += ", ESR " + q(e.esr_ohm, Dimension::resistance);
-              if (e.esl_h > 0) value += ", ESL " + q(e.esl_h, Dimension::inductance);
+              value = q(e.value, Dimension::capacitance) + ", ESR " + element_part(e, e.esr_ohm, Dimension::resistance, "esr") +
+                      ", ESL " + element_part(e, e.esl_h, Dimension::inductance, "esl");
+              break;
+            case 'T':
+              value = "measured one-port " + e.file + ", " + q(e.touchstone->lowest_hz(), Dimension::frequency) + " to " +
+                      q(e.touchstone->highest_hz(), Dimension::frequency);
               break;
             case 'K':
               value = q(e.value, Dimension::inductance) + " / " + q(e.value_2, Dimension::inductance) + ", k = " +
-                      q(e.coupling, Dimension::number) + " (" + e.from_2 + " \xE2\x86\x92 " + e.to_2 + ")";
+                      q(e.coupling, Dimension::number) + " (" + e.from_2 + " \xE2\x86\x92 " + e.to_2 + ")" +
+                      winding_text(e) + ", interwinding " +
+                      element_part(e, e.interwinding_capacitance_f, Dimension::capacitance, "interwinding_capacitance");
               break;
             default: value = q(e.value, Dimension::number);
           }
-          add(section, std::string(1, e.type) + " " + e.from + " \xE2\x86\x92 " + e.to, value);
+          add(section, (e.type == 'T' ? std::string("touchstone") : std::string(1, e.type)) + " " + e.from + " \xE2\x86\x92 " + e.to, value);
         }
         break;
     }

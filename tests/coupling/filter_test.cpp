@@ -95,7 +95,9 @@ TEST_CASE("pi stage and y-capacitors equal their netlist twins (pass-through por
 
 TEST_CASE("common-mode choke: CM jω(L + M), DM 2jω(L − M); leakage L·(1 − k²) (common practice)") {
   const FilterStage choke = read_stage(
-      "kind = \"common-mode-choke\"\ninductance = \"1 mH\"\nleakage_inductance = \"10 uH\"\n");
+      "kind = \"common-mode-choke\"\ninductance = \"1 mH\"\nleakage_inductance = \"10 uH\"\n"
+      // The ideal windings: these relations hold for the inductances alone (parasitics default on).
+      "winding_capacitance = 0\ncore_loss_resistance = \"none\"\ninterwinding_capacitance = 0\n");
   const double k = std::sqrt(1.0 - 10e-6 / 1e-3);
   CHECK(choke.coupling == doctest::Approx(k).epsilon(1e-12));
   const double l = 1e-3, m = k * l, r_load = 1e-3;
@@ -129,10 +131,11 @@ TEST_CASE("[[filter]] reader: exact error text") {
   CHECK_THROWS_WITH_AS((void)read_stage("kind = \"lc\"\ninductance = \"-1 uH\"\ncapacitance = \"1 uF\"\n"),
                        "s.toml:2:14: expected an inductance > 0, found -1 \xC2\xB5H", Error);
   CHECK_THROWS_WITH_AS((void)read_stage("kind = \"ladder\"\n"),
-                       "s.toml:1:8: expected one of lc, pi, common-mode-choke, y-capacitors or netlist, found \"ladder\"",
+                       "s.toml:1:8: expected one of lc, pi, common-mode-choke, y-capacitors, netlist, touchstone or spice, found "
+                       "\"ladder\"",
                        Error);
   CHECK_THROWS_WITH_AS((void)read_stage("kind = \"netlist\"\nelements = [ { type = \"X\", from = \"in+\", to = \"out+\" } ]\n"),
-                       "s.toml:2:23: expected one of R, L, C or K, found \"X\"; did you mean 'R'?", Error);
+                       "s.toml:2:23: expected one of R, L, C, K or touchstone, found \"X\"; did you mean 'R'?", Error);
   CHECK_THROWS_WITH_AS(
       (void)read_stage("kind = \"netlist\"\nelements = [ { type = \"R\", from = \"in+\", to = \"out+\", valeu = 1 } ]\n"),
       "s.toml:2:55: unknown key 'valeu' in [filter 1 element 1]; did you mean 'value'?", Error);
