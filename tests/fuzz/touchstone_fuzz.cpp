@@ -30,7 +30,7 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
       if (!std::isfinite(v.real()) || !std::isfinite(v.imag())) std::abort();
     }
   }
-  for (const double at : {f.front(), f.back(), 0.5 * (f.front() + f.back())}) {
+  for (const double at : {f.front(), f.back(), f.front() + 0.5 * (f.back() - f.front())}) {
     const auto s = parsed->s_at(at);
     for (const auto& v : s) {
       if (!std::isfinite(v.real()) || !std::isfinite(v.imag())) std::abort();
