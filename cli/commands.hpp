@@ -13,6 +13,10 @@ namespace spurcast::cli {
 inline constexpr int exit_ok = 0;            // done, every limit met
 inline constexpr int exit_limit_exceeded = 1;  // done, a limit exceeded or a margin under the guard band
 inline constexpr int exit_bad_input = 2;     // bad input or usage
+// An output could not be written: the target is not spurcast's to replace, a write failed, or
+// another run writes the same target. Apart from 2 so that a script can tell "fix the input" from
+// "fix where the output goes"; nothing is half-written in either case.
+inline constexpr int exit_output_failed = 3;
 
 struct Command {
   CLI::App* app = nullptr;

@@ -41,10 +41,10 @@ void setup_demo(CLI::App& app, CommandList& commands) {
   auto options = std::make_shared<Options>();
   CLI::App* sub = app.add_subcommand(
       "demo", "predict on the built-in example (a 48 V to 12 V buck, examples/greenhouse-buck.toml) and write a report");
-  sub->add_option("-o,--output", options->output, "report folder (replaced if it holds an earlier report)")
+  sub->add_option("-o,--output", options->output, "report folder (replaced only if spurcast wrote it)")
       ->capture_default_str();
   sub->add_flag("--json", options->json, "print summary.json instead of the text summary");
-  sub->footer("exit codes: 0 the demo ran (its verdict is in the summary; predict maps verdicts to 0 and 1), 2 bad input");
+  sub->footer("exit codes: 0 the demo ran (its verdict is in the summary; predict maps verdicts to 0 and 1), 2 bad input, 3 the report could not be written");
   commands.push_back(Command{sub, [options] { return run_demo(*options); }});
 }
 

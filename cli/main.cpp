@@ -1,5 +1,5 @@
 // spurcast: the command-line front end. Parses arguments, calls the core, prints and writes;
-// every core Error is caught here once and mapped to exit code 2.
+// every core Error is caught here once and mapped to exit code 2, or 3 when it is an OutputError.
 #include <CLI/CLI.hpp>
 
 #include <cstdio>
@@ -7,6 +7,7 @@
 
 #include "cli/commands.hpp"
 #include "core/input/error.hpp"
+#include "core/output/output_dir.hpp"
 
 int main(int argc, char** argv) {
   CLI::App app{"spurcast: conducted and broadcast-band EMI estimates for switching converters"};
@@ -24,6 +25,9 @@ int main(int argc, char** argv) {
     for (auto& command : commands) {
       if (command.app->parsed()) return command.run();
     }
+  } catch (const spurcast::OutputError& e) {
+    std::cerr << "spurcast: error: " << e.what() << "\n";
+    return spurcast::cli::exit_output_failed;
   } catch (const spurcast::Error& e) {
     std::cerr << "spurcast: error: " << e.what() << "\n";
     return spurcast::cli::exit_bad_input;

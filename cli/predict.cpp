@@ -36,10 +36,10 @@ void setup_predict(CLI::App& app, CommandList& commands) {
   CLI::App* sub = app.add_subcommand(
       "predict", "run the whole chain on a scenario and write a report folder (report.html, CSV, summary.json)");
   sub->add_option("scenario", options->scenario, "scenario file (TOML)")->required();
-  sub->add_option("-o,--output", options->output, "report folder (replaced if it holds an earlier report)")
+  sub->add_option("-o,--output", options->output, "report folder (replaced only if spurcast wrote it)")
       ->capture_default_str();
   sub->add_flag("--json", options->json, "print summary.json instead of the text summary");
-  sub->footer("exit codes: 0 every limit met, 1 a limit exceeded or a margin under the guard band, 2 bad input");
+  sub->footer("exit codes: 0 every limit met, 1 a limit exceeded or a margin under the guard band, 2 bad input, 3 the report could not be written");
   commands.push_back(Command{sub, [options] { return run_predict(*options); }});
 }
 

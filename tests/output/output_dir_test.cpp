@@ -55,9 +55,13 @@ TEST_CASE("a new folder holds exactly the files written, and no temporary folder
   const std::string base = make_temp_dir();
   const std::string target = base + "/report";
   write_output_directory(target, report_a);
-  CHECK(names_in(target) == std::vector<std::string>{"scan.csv", "summary.json"});
+  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   CHECK(read_file(target + "/scan.csv") == "frequency_hz\n1.0\n");
   CHECK(names_in(base) == std::vector<std::string>{"report"});
+  // The marker names the tool, its version and every file written.
+  CHECK(read_file(target + "/.spurcast-output") ==
+        "# written by spurcast, which replaces this folder only while it holds nothing but the files below\n"
+        "tool: spurcast " SPURCAST_VERSION "\nfile: scan.csv\nfile: summary.json\n");
   fs::remove_all(base);
 }
 
@@ -66,7 +70,7 @@ TEST_CASE("an earlier report is replaced as a whole; a trailing slash names the 
   const std::string target = base + "/report";
   write_output_directory(target, report_b);
   write_output_directory(target + "/", report_a);  // report.html of run b must not survive
-  CHECK(names_in(target) == std::vector<std::string>{"scan.csv", "summary.json"});
+  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   CHECK(read_file(target + "/summary.json") == "{\"run\": \"a\"}\n");
   CHECK(names_in(base) == std::vector<std::string>{"report"});  // no .old- or .tmp- folder left
   fs::remove_all(base);
@@ -76,18 +80,19 @@ TEST_CASE("an empty existing folder is taken; a folder that is not a report is n
   const std::string base = make_temp_dir();
   fs::create_directory(base + "/empty");
   write_output_directory(base + "/empty", report_a);
-  CHECK(names_in(base + "/empty").size() == 2);
+  CHECK(names_in(base + "/empty").size() == 3);
 
+  // The marker is .spurcast-output now (it was summary.json, which any folder may hold).
   fs::create_directory(base + "/mine");
   std::ofstream(base + "/mine/thesis.tex") << "precious";
   CHECK_THROWS_WITH_AS(write_output_directory(base + "/mine", report_a),
-                       (base + "/mine exists and is not a spurcast output folder (no summary.json); choose another folder").c_str(),
-                       spurcast::Error);
+                       (base + "/mine is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       spurcast::OutputError);
   CHECK(names_in(base + "/mine") == std::vector<std::string>{"thesis.tex"});
 
   std::ofstream(base + "/plain-file") << "x";
   CHECK_THROWS_WITH_AS(write_output_directory(base + "/plain-file", report_a),
-                       (base + "/plain-file exists and is not a folder").c_str(), spurcast::Error);
+                       (base + "/plain-file exists and is not a folder").c_str(), spurcast::OutputError);
   CHECK(names_in(base) == std::vector<std::string>{"empty", "mine", "plain-file"});
   fs::remove_all(base);
 }
@@ -129,7 +134,7 @@ TEST_CASE("a process killed while writing leaves no partial folder and keeps the
   CHECK(WEXITSTATUS(status) == 137);
 
   // The earlier report is whole; the only other thing is the abandoned temporary sibling.
-  CHECK(names_in(target) == std::vector<std::string>{"scan.csv", "summary.json"});
+  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   CHECK(read_file(target + "/summary.json") == "{\"run\": \"a\"}\n");
   const std::vector<std::string> left = names_in(base);
   REQUIRE(left.size() == 2);
@@ -153,5 +158,68 @@ TEST_CASE("a process killed while writing leaves no partial folder and keeps the
   REQUIRE(::waitpid(second, &status, 0) == second);
   CHECK(WEXITSTATUS(status) == 137);
   CHECK_FALSE(fs::exists(target));
+  fs::remove_all(base);
+}
+
+TEST_CASE("issue 14: a folder holding a user's file and a summary.json is refused; the user's files survive") {
+  const std::string base = make_temp_dir();
+  const std::string scenario_folder = base + "/project";
+  fs::create_directory(scenario_folder);
+  std::ofstream(scenario_folder + "/buck.toml") << "title = \"mine\"\n";
+  std::ofstream(scenario_folder + "/summary.json") << "{\"mine\": true}\n";
+  CHECK_THROWS_WITH_AS(write_output_directory(scenario_folder, report_b),
+                       (scenario_folder + " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       spurcast::OutputError);
+  CHECK(names_in(scenario_folder) == std::vector<std::string>{"buck.toml", "summary.json"});
+  CHECK(read_file(scenario_folder + "/buck.toml") == "title = \"mine\"\n");
+  CHECK(names_in(base) == std::vector<std::string>{"project"});  // no temporary left
+  fs::remove_all(base);
+}
+
+TEST_CASE("a report folder that the user added a file to is refused; a subfolder or a listed name that is a folder too") {
+  const std::string base = make_temp_dir();
+  const std::string target = base + "/report";
+  write_output_directory(target, report_b);
+  std::ofstream(target + "/notes.txt") << "my notes";
+  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
+                       (target + " holds files spurcast did not write (notes.txt); move them or choose another folder").c_str(),
+                       spurcast::OutputError);
+  fs::create_directory(target + "/more");
+  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
+                       (target + " holds files spurcast did not write (more and 1 more); move them or choose another folder").c_str(),
+                       spurcast::OutputError);
+  CHECK(read_file(target + "/notes.txt") == "my notes");
+  CHECK(read_file(target + "/summary.json") == "{\"run\": \"b\"}\n");
+  fs::remove(target + "/notes.txt");
+  fs::remove(target + "/more");
+  // A listed name replaced by a folder is not what spurcast wrote either.
+  fs::remove(target + "/scan.csv");
+  fs::create_directory(target + "/scan.csv");
+  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
+                       (target + " holds files spurcast did not write (scan.csv); move them or choose another folder").c_str(),
+                       spurcast::OutputError);
+  fs::remove(target + "/scan.csv");
+  // With the user's additions gone the folder is ours again and is replaced.
+  write_output_directory(target, report_a);
+  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
+  fs::remove_all(base);
+}
+
+TEST_CASE("a marker that does not name spurcast, or names a path, makes the folder foreign") {
+  const std::string base = make_temp_dir();
+  const std::string target = base + "/report";
+  fs::create_directory(target);
+  std::ofstream(target + "/.spurcast-output") << "file: data.csv\n";  // no tool line
+  std::ofstream(target + "/data.csv") << "1,2\n";
+  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
+                       (target + " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       spurcast::OutputError);
+  std::ofstream(target + "/.spurcast-output") << "tool: spurcast 0.1.0\nfile: ../data.csv\n";
+  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
+                       (target + " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       spurcast::OutputError);
+  CHECK(read_file(target + "/data.csv") == "1,2\n");
+  CHECK_THROWS_WITH_AS(write_output_directory(base + "/r2", {{".spurcast-output", "x"}}),
+                       "invalid output file name \".spurcast-output\"", spurcast::OutputError);
   fs::remove_all(base);
 }
