@@ -49,11 +49,7 @@ int write_report_and_summarise(const Prediction& prediction, const std::string& 
   Progress progress;
   progress.show("writing the report");
   const std::vector<OutputFile> files = report_files(prediction);
-  OutputDirectoryOptions options;
-  if (const char* hook = std::getenv("SPURCAST_TEST_ABORT_AFTER_FILES"); hook != nullptr && hook[0] != '\0') {
-    options.abort_after_files = static_cast<std::size_t>(std::strtoul(hook, nullptr, 10));
-  }
-  write_output_directory(directory, files, options);
+  write_output_directory(directory, files);
   progress.clear();
   if (json) {
     for (const OutputFile& f : files) {

@@ -257,26 +257,6 @@ TEST_CASE("bad input exits 2 with a message and writes nothing") {
   fs::remove_all(work);
 }
 
-TEST_CASE("a run killed while writing leaves no partial folder; an earlier report stays whole") {
-  const std::string work = make_temp_dir();
-  const std::string command = quote(executable) + " predict " + quote(source_dir + "/examples/greenhouse-buck.toml") + " -o out";
-  // No earlier report: the killed run leaves no `out`.
-  const Run killed = run("SPURCAST_TEST_ABORT_AFTER_FILES=3 " + command, work);
-  CHECK(killed.status == 137);
-  CHECK_FALSE(fs::exists(work + "/out"));
-  // An earlier report survives a killed rerun byte for byte.
-  REQUIRE(run(command, work).status <= 1);
-  const std::string before = read_file(work + "/out/summary.json");
-  const std::size_t files_before = nlohmann::json::parse(before).at("files").size();
-  const Run killed_again = run("SPURCAST_TEST_ABORT_AFTER_FILES=5 " + command, work);
-  CHECK(killed_again.status == 137);
-  CHECK(read_file(work + "/out/summary.json") == before);
-  std::size_t files_after = 0;
-  for ([[maybe_unused]] const auto& entry : fs::directory_iterator(work + "/out")) ++files_after;
-  CHECK(files_after == files_before + 1);  // the files and the .spurcast-output marker
-  fs::remove_all(work);
-}
-
 TEST_CASE("colour only on a terminal, never with NO_COLOR") {
   // util-linux `script` gives the command a pseudo-terminal as stdout.
   if (::access("/usr/bin/script", X_OK) != 0) {

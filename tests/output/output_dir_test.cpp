@@ -2,21 +2,25 @@
 // External reference: POSIX.1-2017 rename(): the rename is atomic, and a directory can replace only
 // an empty directory (from memory of the specification), so a non-empty earlier report must be
 // moved away first; these tests check the folder is whole at every moment a reader could see it.
-#include <doctest/doctest.h>
+#include "core/output/output_dir.hpp"
 
+#include <doctest/doctest.h>
+#include <sys/stat.h>
+#include <sys/sysmacros.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
 #include <algorithm>
+#include <csignal>
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <sstream>
 #include <string>
 #include <vector>
 
 #include "core/input/error.hpp"
-#include "core/output/output_dir.hpp"
 
 namespace fs = std::filesystem;
 using spurcast::OutputFile;
@@ -40,14 +44,17 @@ std::string read_file(const fs::path& path) {
 /// Names in `folder`, sorted.
 std::vector<std::string> names_in(const fs::path& folder) {
   std::vector<std::string> names;
-  for (const auto& entry : fs::directory_iterator(folder)) names.push_back(entry.path().filename().string());
+  for (const auto& entry : fs::directory_iterator(folder))
+    names.push_back(entry.path().filename().string());
   std::sort(names.begin(), names.end());
   return names;
 }
 
-const std::vector<OutputFile> report_a{{"scan.csv", "frequency_hz\n1.0\n"}, {"summary.json", "{\"run\": \"a\"}\n"}};
-const std::vector<OutputFile> report_b{
-    {"report.html", "<!DOCTYPE html>\n"}, {"scan.csv", "frequency_hz\n2.0\n"}, {"summary.json", "{\"run\": \"b\"}\n"}};
+const std::vector<OutputFile> report_a{{"scan.csv", "frequency_hz\n1.0\n"},
+                                       {"summary.json", "{\"run\": \"a\"}\n"}};
+const std::vector<OutputFile> report_b{{"report.html", "<!DOCTYPE html>\n"},
+                                       {"scan.csv", "frequency_hz\n2.0\n"},
+                                       {"summary.json", "{\"run\": \"b\"}\n"}};
 
 }  // namespace
 
@@ -55,12 +62,14 @@ TEST_CASE("a new folder holds exactly the files written, and no temporary folder
   const std::string base = make_temp_dir();
   const std::string target = base + "/report";
   write_output_directory(target, report_a);
-  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
+  CHECK(names_in(target) ==
+        std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   CHECK(read_file(target + "/scan.csv") == "frequency_hz\n1.0\n");
   CHECK(names_in(base) == std::vector<std::string>{"report"});
   // The marker names the tool, its version and every file written.
   CHECK(read_file(target + "/.spurcast-output") ==
-        "# written by spurcast, which replaces this folder only while it holds nothing but the files below\n"
+        "# written by spurcast, which replaces this folder only while it holds nothing but the "
+        "files below\n"
         "tool: spurcast " SPURCAST_VERSION "\nfile: scan.csv\nfile: summary.json\n");
   fs::remove_all(base);
 }
@@ -70,7 +79,8 @@ TEST_CASE("an earlier report is replaced as a whole; a trailing slash names the 
   const std::string target = base + "/report";
   write_output_directory(target, report_b);
   write_output_directory(target + "/", report_a);  // report.html of run b must not survive
-  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
+  CHECK(names_in(target) ==
+        std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   CHECK(read_file(target + "/summary.json") == "{\"run\": \"a\"}\n");
   CHECK(names_in(base) == std::vector<std::string>{"report"});  // no .old- or .tmp- folder left
   fs::remove_all(base);
@@ -86,13 +96,16 @@ TEST_CASE("an empty existing folder is taken; a folder that is not a report is n
   fs::create_directory(base + "/mine");
   std::ofstream(base + "/mine/thesis.tex") << "precious";
   CHECK_THROWS_WITH_AS(write_output_directory(base + "/mine", report_a),
-                       (base + "/mine is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       (base + "/mine is not empty and was not written by spurcast (no "
+                               ".spurcast-output marker); choose another folder")
+                           .c_str(),
                        spurcast::OutputError);
   CHECK(names_in(base + "/mine") == std::vector<std::string>{"thesis.tex"});
 
   std::ofstream(base + "/plain-file") << "x";
   CHECK_THROWS_WITH_AS(write_output_directory(base + "/plain-file", report_a),
-                       (base + "/plain-file exists and is not a folder").c_str(), spurcast::OutputError);
+                       (base + "/plain-file exists and is not a folder").c_str(),
+                       spurcast::OutputError);
   CHECK(names_in(base) == std::vector<std::string>{"empty", "mine", "plain-file"});
   fs::remove_all(base);
 }
@@ -103,10 +116,12 @@ TEST_CASE("bad names and a missing parent are refused before anything is written
                        "invalid output file name \"../escape.csv\"", spurcast::Error);
   CHECK_THROWS_WITH_AS(write_output_directory(base + "/r", {{"a.csv", "x"}, {"a.csv", "y"}}),
                        "output file \"a.csv\" listed twice", spurcast::Error);
-  CHECK_THROWS_WITH_AS(write_output_directory(base + "/no/such/r", report_a),
-                       ("the folder " + base + "/no/such (parent of the output folder) does not exist").c_str(),
+  CHECK_THROWS_WITH_AS(
+      write_output_directory(base + "/no/such/r", report_a),
+      ("the folder " + base + "/no/such (parent of the output folder) does not exist").c_str(),
+      spurcast::Error);
+  CHECK_THROWS_WITH_AS(write_output_directory(".", report_a), "invalid output folder \".\"",
                        spurcast::Error);
-  CHECK_THROWS_WITH_AS(write_output_directory(".", report_a), "invalid output folder \".\"", spurcast::Error);
   CHECK(names_in(base).empty());
   fs::remove_all(base);
 }
@@ -116,14 +131,22 @@ TEST_CASE("a process killed while writing leaves no partial folder and keeps the
   const std::string target = base + "/report";
   write_output_directory(target, report_a);
 
-  // The child dies (std::_Exit, like SIGKILL: no unwinding, no clean-up) after 2 of 3 files.
+  // The child dies (std::_Exit, like SIGKILL: no unwinding, no clean-up) after 2 of 3 files (the
+  // test hook replaces the former abort_after_files option, which the CLI read from the
+  // environment).
+  const auto kill_after_files = [](std::size_t files) {
+    spurcast::OutputDirectoryOptions options;
+    options.after_step = [files, written = std::size_t{0}](std::size_t,
+                                                           const std::string& what) mutable {
+      if (what.rfind("wrote ", 0) == 0 && ++written >= files) std::_Exit(137);
+    };
+    return options;
+  };
   const pid_t child = ::fork();
   REQUIRE(child >= 0);
   if (child == 0) {
-    spurcast::OutputDirectoryOptions options;
-    options.abort_after_files = 2;
     try {
-      write_output_directory(target, report_b, options);
+      write_output_directory(target, report_b, kill_after_files(2));
     } catch (...) {
     }
     std::_Exit(0);  // not reached when the hook works
@@ -133,13 +156,16 @@ TEST_CASE("a process killed while writing leaves no partial folder and keeps the
   REQUIRE(WIFEXITED(status));
   CHECK(WEXITSTATUS(status) == 137);
 
-  // The earlier report is whole; the only other thing is the abandoned temporary sibling.
-  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
+  // The earlier report is whole; the only other things are the abandoned temporary sibling and
+  // the lock file (a SIGKILL cannot be cleaned up after; a later run reuses the lock file).
+  CHECK(names_in(target) ==
+        std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   CHECK(read_file(target + "/summary.json") == "{\"run\": \"a\"}\n");
   const std::vector<std::string> left = names_in(base);
-  REQUIRE(left.size() == 2);
+  REQUIRE(left.size() == 3);
   CHECK(left[0] == "report");
-  CHECK(left[1].rfind("report.tmp-", 0) == 0);
+  CHECK(left[1] == "report.spurcast-lock");
+  CHECK(left[2].rfind("report.tmp-", 0) == 0);
 
   // With no earlier report, the killed run leaves no `report` at all.
   fs::remove_all(base);
@@ -147,10 +173,8 @@ TEST_CASE("a process killed while writing leaves no partial folder and keeps the
   const pid_t second = ::fork();
   REQUIRE(second >= 0);
   if (second == 0) {
-    spurcast::OutputDirectoryOptions options;
-    options.abort_after_files = 1;
     try {
-      write_output_directory(target, report_b, options);
+      write_output_directory(target, report_b, kill_after_files(1));
     } catch (...) {
     }
     std::_Exit(0);
@@ -161,14 +185,18 @@ TEST_CASE("a process killed while writing leaves no partial folder and keeps the
   fs::remove_all(base);
 }
 
-TEST_CASE("issue 14: a folder holding a user's file and a summary.json is refused; the user's files survive") {
+TEST_CASE(
+    "issue 14: a folder holding a user's file and a summary.json is refused; the user's files "
+    "survive") {
   const std::string base = make_temp_dir();
   const std::string scenario_folder = base + "/project";
   fs::create_directory(scenario_folder);
   std::ofstream(scenario_folder + "/buck.toml") << "title = \"mine\"\n";
   std::ofstream(scenario_folder + "/summary.json") << "{\"mine\": true}\n";
   CHECK_THROWS_WITH_AS(write_output_directory(scenario_folder, report_b),
-                       (scenario_folder + " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       (scenario_folder + " is not empty and was not written by spurcast (no "
+                                          ".spurcast-output marker); choose another folder")
+                           .c_str(),
                        spurcast::OutputError);
   CHECK(names_in(scenario_folder) == std::vector<std::string>{"buck.toml", "summary.json"});
   CHECK(read_file(scenario_folder + "/buck.toml") == "title = \"mine\"\n");
@@ -176,18 +204,26 @@ TEST_CASE("issue 14: a folder holding a user's file and a summary.json is refuse
   fs::remove_all(base);
 }
 
-TEST_CASE("a report folder that the user added a file to is refused; a subfolder or a listed name that is a folder too") {
+TEST_CASE(
+    "a report folder that the user added a file to is refused; a subfolder or a listed name that "
+    "is a folder too") {
   const std::string base = make_temp_dir();
   const std::string target = base + "/report";
   write_output_directory(target, report_b);
   std::ofstream(target + "/notes.txt") << "my notes";
-  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
-                       (target + " holds files spurcast did not write (notes.txt); move them or choose another folder").c_str(),
-                       spurcast::OutputError);
+  CHECK_THROWS_WITH_AS(
+      write_output_directory(target, report_a),
+      (target +
+       " holds files spurcast did not write (notes.txt); move them or choose another folder")
+          .c_str(),
+      spurcast::OutputError);
   fs::create_directory(target + "/more");
-  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
-                       (target + " holds files spurcast did not write (more and 1 more); move them or choose another folder").c_str(),
-                       spurcast::OutputError);
+  CHECK_THROWS_WITH_AS(
+      write_output_directory(target, report_a),
+      (target +
+       " holds files spurcast did not write (more and 1 more); move them or choose another folder")
+          .c_str(),
+      spurcast::OutputError);
   CHECK(read_file(target + "/notes.txt") == "my notes");
   CHECK(read_file(target + "/summary.json") == "{\"run\": \"b\"}\n");
   fs::remove(target + "/notes.txt");
@@ -195,13 +231,17 @@ TEST_CASE("a report folder that the user added a file to is refused; a subfolder
   // A listed name replaced by a folder is not what spurcast wrote either.
   fs::remove(target + "/scan.csv");
   fs::create_directory(target + "/scan.csv");
-  CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
-                       (target + " holds files spurcast did not write (scan.csv); move them or choose another folder").c_str(),
-                       spurcast::OutputError);
+  CHECK_THROWS_WITH_AS(
+      write_output_directory(target, report_a),
+      (target +
+       " holds files spurcast did not write (scan.csv); move them or choose another folder")
+          .c_str(),
+      spurcast::OutputError);
   fs::remove(target + "/scan.csv");
   // With the user's additions gone the folder is ours again and is replaced.
   write_output_directory(target, report_a);
-  CHECK(names_in(target) == std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
+  CHECK(names_in(target) ==
+        std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
   fs::remove_all(base);
 }
 
@@ -212,14 +252,129 @@ TEST_CASE("a marker that does not name spurcast, or names a path, makes the fold
   std::ofstream(target + "/.spurcast-output") << "file: data.csv\n";  // no tool line
   std::ofstream(target + "/data.csv") << "1,2\n";
   CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
-                       (target + " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       (target + " is not empty and was not written by spurcast (no "
+                                 ".spurcast-output marker); choose another folder")
+                           .c_str(),
                        spurcast::OutputError);
   std::ofstream(target + "/.spurcast-output") << "tool: spurcast 0.1.0\nfile: ../data.csv\n";
   CHECK_THROWS_WITH_AS(write_output_directory(target, report_a),
-                       (target + " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder").c_str(),
+                       (target + " is not empty and was not written by spurcast (no "
+                                 ".spurcast-output marker); choose another folder")
+                           .c_str(),
                        spurcast::OutputError);
   CHECK(read_file(target + "/data.csv") == "1,2\n");
   CHECK_THROWS_WITH_AS(write_output_directory(base + "/r2", {{".spurcast-output", "x"}}),
                        "invalid output file name \".spurcast-output\"", spurcast::OutputError);
+  fs::remove_all(base);
+}
+
+// --- Single files (issue 14): temporaries that cannot be planted, targets that are not files
+// -------
+
+namespace {
+
+/// A fixed sequence of temporary-name suffixes (the test hook), so a test can plant a name first.
+std::function<std::string()> suffixes(std::vector<std::string> list) {
+  return [list = std::move(list), next = std::size_t{0}]() mutable {
+    return list[std::min(next++, list.size() - 1)];
+  };
+}
+
+/// The message for a file target of `kind`.
+std::string not_regular(const std::string& path, const std::string& kind) {
+  return "cannot write " + path + ": it is " + kind +
+         ", not a regular file; spurcast replaces only regular files";
+}
+
+}  // namespace
+
+TEST_CASE(
+    "a single file is written, replaces a regular file, and leaves no temporary or lock behind") {
+  const std::string base = make_temp_dir();
+  spurcast::write_file_atomically(base + "/a.csv", "one\n");
+  CHECK(read_file(base + "/a.csv") == "one\n");
+  spurcast::write_file_atomically(base + "/a.csv", "two\n");
+  CHECK(read_file(base + "/a.csv") == "two\n");
+  CHECK(names_in(base) == std::vector<std::string>{"a.csv"});
+  CHECK_THROWS_WITH_AS(
+      spurcast::write_file_atomically(base + "/no/a.csv", "x"),
+      ("cannot write " + base + "/no/a.csv: the folder " + base + "/no does not exist").c_str(),
+      spurcast::OutputError);
+  fs::remove_all(base);
+}
+
+TEST_CASE(
+    "a target that is a symbolic link, FIFO, device or folder is refused and left untouched") {
+  const std::string base = make_temp_dir();
+  std::ofstream(base + "/victim") << "keep";
+  fs::create_symlink(base + "/victim", base + "/link.csv");
+  CHECK_THROWS_WITH_AS(spurcast::write_file_atomically(base + "/link.csv", "x"),
+                       not_regular(base + "/link.csv", "a symbolic link").c_str(),
+                       spurcast::OutputError);
+  CHECK(read_file(base + "/victim") == "keep");
+  CHECK(fs::is_symlink(base + "/link.csv"));
+
+  REQUIRE(::mkfifo((base + "/fifo.csv").c_str(), 0644) == 0);
+  CHECK_THROWS_WITH_AS(spurcast::write_file_atomically(base + "/fifo.csv", "x"),
+                       not_regular(base + "/fifo.csv", "a FIFO").c_str(), spurcast::OutputError);
+  CHECK(fs::is_fifo(base + "/fifo.csv"));
+
+  fs::create_directory(base + "/dir.csv");
+  CHECK_THROWS_WITH_AS(spurcast::write_file_atomically(base + "/dir.csv", "x"),
+                       not_regular(base + "/dir.csv", "a folder").c_str(), spurcast::OutputError);
+
+  // A character device (1, 3: the null device on Linux, Documentation/admin-guide/devices.txt) can
+  // be made only by root; elsewhere the case is skipped with a message.
+  if (::mknod((base + "/null.csv").c_str(), S_IFCHR | 0666, makedev(1, 3)) == 0) {
+    CHECK_THROWS_WITH_AS(spurcast::write_file_atomically(base + "/null.csv", "x"),
+                         not_regular(base + "/null.csv", "a device").c_str(),
+                         spurcast::OutputError);
+    CHECK(fs::is_character_file(base + "/null.csv"));
+  } else {
+    MESSAGE("device case skipped: mknod needs root");
+  }
+  // Nothing else appeared: no temporary, no lock file.
+  std::vector<std::string> names = names_in(base);
+  names.erase(std::remove(names.begin(), names.end(), "null.csv"), names.end());
+  CHECK(names == std::vector<std::string>{"dir.csv", "fifo.csv", "link.csv", "victim"});
+  fs::remove_all(base);
+}
+
+TEST_CASE("a symbolic link planted at a temporary name is never followed: another name is drawn") {
+  const std::string base = make_temp_dir();
+  std::ofstream(base + "/victim") << "keep";
+  fs::create_directory(base + "/victim-dir");
+  // The name the writer will try first is taken by a link to the victim.
+  fs::create_symlink(base + "/victim", base + "/out.csv.tmp-planted");
+  spurcast::OutputDirectoryOptions options;
+  options.next_temporary_suffix = suffixes({"planted", "fresh1"});
+  spurcast::write_file_atomically(base + "/out.csv", "new\n", options);
+  CHECK(read_file(base + "/out.csv") == "new\n");
+  CHECK(read_file(base + "/victim") == "keep");
+  CHECK(fs::is_symlink(base + "/out.csv.tmp-planted"));  // not ours: left alone
+
+  // The same for a report folder's temporary, with a link to a folder.
+  fs::create_directory_symlink(base + "/victim-dir", base + "/report.tmp-planted");
+  options.next_temporary_suffix = suffixes({"planted", "fresh2"});
+  write_output_directory(base + "/report", report_a, options);
+  CHECK(names_in(base + "/victim-dir").empty());
+  CHECK(names_in(base + "/report") ==
+        std::vector<std::string>{".spurcast-output", "scan.csv", "summary.json"});
+
+  // The old predictable name FILE.tmp-PID (as before issue 14) is just another foreign name.
+  fs::create_symlink(base + "/victim", base + "/pid.csv.tmp-" + std::to_string(::getpid()));
+  spurcast::write_file_atomically(base + "/pid.csv", "new\n");
+  CHECK(read_file(base + "/victim") == "keep");
+  CHECK(read_file(base + "/pid.csv") == "new\n");
+
+  // A link planted at the lock file's name is refused, not followed.
+  fs::create_symlink(base + "/victim", base + "/locked.csv.spurcast-lock");
+  CHECK_THROWS_WITH_AS(spurcast::write_file_atomically(base + "/locked.csv", "x"),
+                       ("cannot write " + base + "/locked.csv: " + base +
+                        "/locked.csv.spurcast-lock exists and is not spurcast's lock file")
+                           .c_str(),
+                       spurcast::OutputError);
+  CHECK(read_file(base + "/victim") == "keep");
+  CHECK_FALSE(fs::exists(base + "/locked.csv"));
   fs::remove_all(base);
 }
