@@ -1,18 +1,23 @@
 // End-to-end tests of the user's files (issue 14): what spurcast may replace, what it refuses, and
-// the exit code of an output that could not be written (docs/design.md §4: 3, apart from bad input's 2).
-// External reference: the Linux file semantics the checks rely on (lstat file types, rename(2),
-// flock(2)) as documented in the Linux man-pages project (from memory).
+// the exit code of an output that could not be written (docs/design.md §4: 3, apart from bad
+// input's 2). External reference: the Linux file semantics the checks rely on (lstat file types,
+// rename(2), flock(2)) as documented in the Linux man-pages project (from memory).
 #include <doctest/doctest.h>
-
-#include "cli_support.hpp"
-
+#include <fcntl.h>
+#include <sys/file.h>
 #include <sys/stat.h>
+#include <sys/wait.h>
 #include <unistd.h>
 
 #include <algorithm>
+#include <csignal>
+#include <cstdlib>
 #include <filesystem>
+#include <map>
 #include <string>
 #include <vector>
+
+#include "cli_support.hpp"
 
 namespace fs = std::filesystem;
 
@@ -29,7 +34,8 @@ const fs::path example = source_dir / "examples" / "greenhouse-buck.toml";
 
 std::vector<std::string> names_in(const fs::path& folder) {
   std::vector<std::string> names;
-  for (const auto& entry : fs::directory_iterator(folder)) names.push_back(entry.path().filename().string());
+  for (const auto& entry : fs::directory_iterator(folder))
+    names.push_back(entry.path().filename().string());
   std::sort(names.begin(), names.end());
   return names;
 }
@@ -44,7 +50,9 @@ struct Scratch {
 
 }  // namespace
 
-TEST_CASE("predict -o the scenario's own folder (it holds a summary.json) is refused, exit 3, nothing deleted") {
+TEST_CASE(
+    "predict -o the scenario's own folder (it holds a summary.json) is refused, exit 3, nothing "
+    "deleted") {
   Scratch s;
   const fs::path project = s.root / "project";
   fs::create_directories(project);
@@ -53,11 +61,13 @@ TEST_CASE("predict -o the scenario's own folder (it holds a summary.json) is ref
   const RunResult r = run_cli(s.root, {"predict", "project/buck.toml", "-o", "project"}, s.io);
   CHECK(r.exit_code == 3);
   CHECK(r.err ==
-        "spurcast: error: project is not empty and was not written by spurcast (no .spurcast-output marker); "
+        "spurcast: error: project is not empty and was not written by spurcast (no "
+        ".spurcast-output marker); "
         "choose another folder\n");
   CHECK(names_in(project) == std::vector<std::string>{"buck.toml", "summary.json"});
   CHECK(read_text(project / "summary.json") == "{\"mine\": true}\n");
-  CHECK(names_in(s.root) == std::vector<std::string>{"io", "project"});  // no temporary left beside it
+  CHECK(names_in(s.root) ==
+        std::vector<std::string>{"io", "project"});  // no temporary left beside it
 }
 
 TEST_CASE("predict -o \"$PWD\" with the scenario in it is refused, exit 3, the scenario survives") {
@@ -68,12 +78,14 @@ TEST_CASE("predict -o \"$PWD\" with the scenario in it is refused, exit 3, the s
   const RunResult r = run_cli(here, {"predict", "buck.toml", "-o", here.string()}, s.io);
   CHECK(r.exit_code == 3);
   CHECK(r.err == "spurcast: error: " + here.string() +
-                     " is not empty and was not written by spurcast (no .spurcast-output marker); choose another folder\n");
+                     " is not empty and was not written by spurcast (no .spurcast-output marker); "
+                     "choose another folder\n");
   CHECK(names_in(here) == std::vector<std::string>{"buck.toml"});
   CHECK(read_text(here / "buck.toml") == read_text(example));
 }
 
-TEST_CASE("a report folder is replaced by a rerun; once the user adds a file to it, it is refused") {
+TEST_CASE(
+    "a report folder is replaced by a rerun; once the user adds a file to it, it is refused") {
   Scratch s;
   REQUIRE(run_cli(s.root, {"predict", example.string(), "-o", "out"}, s.io).exit_code <= 1);
   REQUIRE(run_cli(s.root, {"predict", example.string(), "-o", "out"}, s.io).exit_code <= 1);
@@ -81,7 +93,163 @@ TEST_CASE("a report folder is replaced by a rerun; once the user adds a file to 
   const RunResult r = run_cli(s.root, {"predict", example.string(), "-o", "out"}, s.io);
   CHECK(r.exit_code == 3);
   CHECK(r.err ==
-        "spurcast: error: out holds files spurcast did not write (notes.txt); move them or choose another folder\n");
+        "spurcast: error: out holds files spurcast did not write (notes.txt); move them or choose "
+        "another folder\n");
   CHECK(read_text(s.root / "out" / "notes.txt") == "measured on the bench\n");
   CHECK(fs::exists(s.root / "out" / "report.html"));
+}
+
+namespace {
+
+/// Everything in `folder` with its bytes (a report, compared whole).
+std::map<std::string, std::string> contents_of(const fs::path& folder) {
+  std::map<std::string, std::string> files;
+  for (const auto& entry : fs::directory_iterator(folder))
+    files[entry.path().filename().string()] = read_text(entry.path());
+  return files;
+}
+
+/// Starts `spurcast ARGS...` in `directory` with no output; returns its process id.
+pid_t spawn(const fs::path& directory, const std::vector<std::string>& arguments) {
+  const pid_t child = ::fork();
+  if (child != 0) return child;
+  if (::chdir(directory.c_str()) != 0) std::_Exit(126);
+  const int null = ::open("/dev/null", O_RDWR);
+  ::dup2(null, 0);
+  ::dup2(null, 1);
+  ::dup2(null, 2);
+  std::vector<char*> argv;
+  std::string program = SPURCAST_EXECUTABLE;
+  argv.push_back(program.data());
+  std::vector<std::string> copies = arguments;
+  for (std::string& a : copies) argv.push_back(a.data());
+  argv.push_back(nullptr);
+  ::execv(program.c_str(), argv.data());
+  std::_Exit(127);
+}
+
+/// True once `folder` holds an entry whose name starts with `prefix` and (for a folder) holds at
+/// least `files` entries.
+bool appeared(const fs::path& folder, const std::string& prefix, std::size_t files) {
+  std::error_code code;
+  for (fs::directory_iterator it(folder, code), end; !code && it != end; it.increment(code)) {
+    const std::string name = it->path().filename().string();
+    if (name.rfind(prefix, 0) != 0) continue;
+    if (files == 0) return true;
+    std::size_t count = 0;
+    std::error_code inner;
+    for (fs::directory_iterator f(it->path(), inner), e; !inner && f != e; f.increment(inner))
+      ++count;
+    if (!inner && count >= files) return true;
+  }
+  return false;
+}
+
+}  // namespace
+
+TEST_CASE(
+    "SIGTERM to a running predict at several points of its write leaves no temporary and the old "
+    "report whole") {
+  Scratch s;
+  const fs::path other = source_dir / "examples" / "boat-cabin-led.toml";
+  REQUIRE(run_cli(s.root, {"predict", other.string(), "-o", "out"}, s.io).exit_code <= 1);
+  const std::map<std::string, std::string> old_report = contents_of(s.root / "out");
+  REQUIRE(run_cli(s.io, {"predict", example.string(), "-o", "new"}, s.io).exit_code <= 1);
+  const std::map<std::string, std::string> new_report = contents_of(s.io / "new");
+  REQUIRE(old_report != new_report);
+
+  // The moments to stop it: its lock file appears, its temporary folder appears, the temporary
+  // holds 1, 4, 8 files (the report has 11 and the marker). The parent watches the folder and
+  // sends SIGTERM when it sees the moment; a run that ends first has finished its report.
+  struct Point {
+    std::string prefix;
+    std::size_t files;
+  };
+  const std::vector<Point> points{
+      {"out.spurcast-lock", 0}, {"out.tmp-", 0}, {"out.tmp-", 1}, {"out.tmp-", 4}, {"out.tmp-", 8}};
+  int stopped_while_writing = 0;
+  for (const Point& point : points) {
+    CAPTURE(point.prefix);
+    CAPTURE(point.files);
+    const pid_t child = spawn(s.root, {"predict", example.string(), "-o", "out"});
+    REQUIRE(child > 0);
+    int status = 0;
+    bool ended = false;
+    while (!ended) {
+      if (appeared(s.root, point.prefix, point.files)) {
+        ::kill(child, SIGTERM);
+        break;
+      }
+      ended = ::waitpid(child, &status, WNOHANG) == child;
+    }
+    if (!ended) REQUIRE(::waitpid(child, &status, 0) == child);
+    if (WIFSIGNALED(status)) {
+      CHECK(WTERMSIG(status) == SIGTERM);
+      ++stopped_while_writing;
+    }
+    // Only `out` and the scratch folder: no temporary folder, no lock file.
+    CHECK(names_in(s.root) == std::vector<std::string>{"io", "out"});
+    const std::map<std::string, std::string> now = contents_of(s.root / "out");
+    CHECK((now == old_report || now == new_report));
+    // Put the old report back for the next point (a finished run replaced it).
+    if (now != old_report)
+      REQUIRE(run_cli(s.root, {"predict", other.string(), "-o", "out"}, s.io).exit_code <= 1);
+  }
+  MESSAGE(stopped_while_writing << " of " << points.size()
+                                << " runs were stopped by SIGTERM while writing");
+}
+
+TEST_CASE("a second run writing the same folder is refused with exit 3 while the first holds it") {
+  Scratch s;
+  // The first run is played by this test: it holds the lock beside `out` (flock(2), as a run does).
+  const fs::path lock = s.root / "out.spurcast-lock";
+  const int fd = ::open(lock.c_str(), O_RDWR | O_CREAT, 0644);
+  REQUIRE(fd >= 0);
+  REQUIRE(::flock(fd, LOCK_EX | LOCK_NB) == 0);
+  const RunResult r = run_cli(s.root, {"predict", example.string(), "-o", "out"}, s.io);
+  CHECK(r.exit_code == 3);
+  CHECK(r.err ==
+        "spurcast: error: another spurcast run is writing out at the same time; nothing was "
+        "written\n");
+  CHECK_FALSE(fs::exists(s.root / "out"));
+  ::close(fd);  // the first run ends; its lock file is left as a SIGKILL would leave it
+  CHECK(run_cli(s.root, {"predict", example.string(), "-o", "out"}, s.io).exit_code <= 1);
+  CHECK(names_in(s.root) ==
+        std::vector<std::string>{"io", "out"});  // the stale lock file was reused and removed
+}
+
+TEST_CASE(
+    "two concurrent runs writing one folder: each either wins or exits 3 with the conflict "
+    "message") {
+  Scratch s;
+  const fs::path a = s.root / "a";
+  const fs::path b = s.root / "b";
+  fs::create_directories(a);
+  fs::create_directories(b);
+  int conflicts = 0;
+  for (int round = 0; round < 6; ++round) {
+    const std::string command = "cd " + spurcast::test::shell_quote(s.root.string()) + " && ";
+    const std::string run = spurcast::test::shell_quote(SPURCAST_EXECUTABLE) + " predict " +
+                            spurcast::test::shell_quote(example.string()) + " -o out";
+    const std::string both = command + "{ (" + run +
+                             " >a/out.txt 2>a/err.txt; echo $? >a/code.txt) & (" + run +
+                             " >b/out.txt 2>b/err.txt; echo $? >b/code.txt) & wait; }";
+    REQUIRE(std::system(both.c_str()) == 0);
+    for (const fs::path& side : {a, b}) {
+      const int code = std::stoi(read_text(side / "code.txt"));
+      CAPTURE(code);
+      CHECK((code <= 1 || code == 3));
+      if (code == 3) {
+        ++conflicts;
+        CHECK(read_text(side / "err.txt") ==
+              "spurcast: error: another spurcast run is writing out at the same time; nothing was "
+              "written\n");
+      }
+    }
+    CHECK(std::stoi(read_text(a / "code.txt")) + std::stoi(read_text(b / "code.txt")) <
+          6);  // at least one wins
+    CHECK(names_in(s.root) == std::vector<std::string>{"a", "b", "io", "out"});
+    CHECK(fs::exists(s.root / "out" / "report.html"));
+  }
+  MESSAGE(conflicts << " of 6 rounds had a conflict");
 }

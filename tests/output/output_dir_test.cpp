@@ -16,6 +16,7 @@
 #include <filesystem>
 #include <fstream>
 #include <functional>
+#include <map>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -376,5 +377,196 @@ TEST_CASE("a symbolic link planted at a temporary name is never followed: anothe
                        spurcast::OutputError);
   CHECK(read_file(base + "/victim") == "keep");
   CHECK_FALSE(fs::exists(base + "/locked.csv"));
+  fs::remove_all(base);
+}
+
+// --- Replacing a report: a stop at every step (issue 14)
+// -------------------------------------------
+
+namespace {
+
+/// Every file in `folder` with its bytes.
+std::map<std::string, std::string> contents_of(const fs::path& folder) {
+  std::map<std::string, std::string> files;
+  for (const auto& entry : fs::directory_iterator(folder))
+    files[entry.path().filename().string()] = read_file(entry.path());
+  return files;
+}
+
+/// The number of steps of one write of report_b over report_a with `options` (the test hook
+/// counts).
+std::size_t steps_of_replacement(spurcast::OutputDirectoryOptions options) {
+  const std::string base = make_temp_dir();
+  write_output_directory(base + "/report", report_a);
+  std::size_t steps = 0;
+  options.after_step = [&steps](std::size_t step, const std::string&) { steps = step; };
+  write_output_directory(base + "/report", report_b, options);
+  fs::remove_all(base);
+  return steps;
+}
+
+/// Runs write_output_directory(target, report_b, options) in a child process whose test hook calls
+/// `at_step` at step `k`; returns the child's wait status.
+int write_in_child(const std::string& target, spurcast::OutputDirectoryOptions options,
+                   std::size_t k, void (*at_step)()) {
+  const pid_t child = ::fork();
+  REQUIRE(child >= 0);
+  if (child == 0) {
+    std::signal(SIGTERM,
+                SIG_DFL);  // doctest handles SIGTERM in the test process; a CLI run does not
+    options.after_step = [k, at_step](std::size_t step, const std::string&) {
+      if (step == k) at_step();
+    };
+    try {
+      write_output_directory(target, report_b, options);
+    } catch (...) {
+      std::_Exit(3);
+    }
+    std::_Exit(0);
+  }
+  int status = 0;
+  REQUIRE(::waitpid(child, &status, 0) == child);
+  return status;
+}
+
+void die_like_sigkill() { std::_Exit(137); }
+void send_sigterm() { ::kill(::getpid(), SIGTERM); }
+
+}  // namespace
+
+TEST_CASE(
+    "a writer stopped after any step leaves the complete old report or the complete new one") {
+  for (const bool exchange : {true, false}) {
+    CAPTURE(exchange);
+    spurcast::OutputDirectoryOptions options;
+    options.without_rename_exchange = !exchange;  // the fallback of two renames (header, step 4)
+    const std::size_t steps = steps_of_replacement(options);
+    REQUIRE(steps >= 9);  // lock, check, create, 3 files + marker, flush, place, remove, done
+    const std::string base = make_temp_dir();
+    const std::string target = base + "/report";
+    write_output_directory(target, report_a);
+    const std::map<std::string, std::string> old_report = contents_of(target);
+    bool missing_seen = false;
+    for (std::size_t k = 1; k <= steps; ++k) {
+      CAPTURE(k);
+      const int status = write_in_child(target, options, k, die_like_sigkill);
+      REQUIRE(WIFEXITED(status));
+      CHECK(WEXITSTATUS(status) == 137);
+      std::vector<std::string> aside;
+      for (const std::string& name : names_in(base)) {
+        if (name.rfind("report.old-", 0) == 0) aside.push_back(name);
+      }
+      if (fs::exists(target)) {
+        const std::map<std::string, std::string> now = contents_of(target);
+        const bool old_whole = now == old_report;
+        const bool new_whole = now.size() == 4 && now.at("report.html") == report_b[0].content &&
+                               now.at("scan.csv") == report_b[1].content &&
+                               now.at("summary.json") == report_b[2].content;
+        CHECK((old_whole || new_whole));
+        if (new_whole)
+          write_output_directory(target, report_a);  // back to the old one for the next k
+      } else {
+        // Only the fallback has a moment without a target, and then the old report is whole
+        // beside it, the way back.
+        CHECK_FALSE(exchange);
+        missing_seen = true;
+        REQUIRE(aside.size() == 1);
+        CHECK(contents_of(base + "/" + aside[0]) == old_report);
+        fs::rename(base + "/" + aside[0], target);
+      }
+      // What a SIGKILL leaves (a temporary, a lock file, an emptied `.old-`) is removed by hand
+      // here; the next run must work with a stale lock file, so that one stays.
+      for (const std::string& name : names_in(base)) {
+        if (name.rfind("report.tmp-", 0) == 0 || name.rfind("report.old-", 0) == 0)
+          fs::remove_all(base + "/" + name);
+      }
+    }
+    CHECK(missing_seen == !exchange);  // the fallback's moment between its two renames was hit
+    write_output_directory(target, report_b, options);  // a write after all those kills succeeds
+    CHECK(names_in(base) == std::vector<std::string>{"report"});
+    fs::remove_all(base);
+  }
+}
+
+TEST_CASE(
+    "SIGTERM at any step: the process ends by the signal, no temporary or lock is left, the report "
+    "is whole") {
+  for (const bool exchange : {true, false}) {
+    CAPTURE(exchange);
+    spurcast::OutputDirectoryOptions options;
+    options.without_rename_exchange = !exchange;
+    const std::size_t steps = steps_of_replacement(options);
+    const std::string base = make_temp_dir();
+    const std::string target = base + "/report";
+    write_output_directory(target, report_a);
+    const std::map<std::string, std::string> old_report = contents_of(target);
+    bool seen_new = false;
+    for (std::size_t k = 1; k <= steps; ++k) {
+      CAPTURE(k);
+      const int status = write_in_child(target, options, k, send_sigterm);
+      REQUIRE(WIFSIGNALED(status));
+      CHECK(WTERMSIG(status) == SIGTERM);
+      CHECK(names_in(base) == std::vector<std::string>{"report"});
+      const std::map<std::string, std::string> now = contents_of(target);
+      // Before placing, the signal stops the write; from placing on, the write is finished first.
+      if (now != old_report) {
+        CHECK(now.at("summary.json") == report_b[2].content);
+        CHECK(now.size() == 4);
+        seen_new = true;
+        write_output_directory(target, report_a);
+      } else {
+        CHECK_FALSE(
+            seen_new);  // once a step is past placing, every later step gives the new report
+      }
+    }
+    CHECK(seen_new);
+    fs::remove_all(base);
+  }
+}
+
+TEST_CASE("two writers of one folder at once: the second is refused, the first wins") {
+  const std::string base = make_temp_dir();
+  const std::string target = base + "/report";
+  write_output_directory(target, report_a);
+  int locked[2];
+  int go[2];
+  REQUIRE(::pipe(locked) == 0);
+  REQUIRE(::pipe(go) == 0);
+  const pid_t first = ::fork();
+  REQUIRE(first >= 0);
+  if (first == 0) {
+    spurcast::OutputDirectoryOptions options;
+    options.after_step = [&](std::size_t, const std::string& what) {
+      if (what.rfind("locked ", 0) != 0) return;
+      char byte = 1;
+      (void)!::write(locked[1], &byte, 1);  // tell the parent the lock is held
+      (void)!::read(go[0], &byte, 1);       // and wait for it
+    };
+    try {
+      write_output_directory(target, report_b, options);
+    } catch (...) {
+      std::_Exit(3);
+    }
+    std::_Exit(0);
+  }
+  char byte = 0;
+  REQUIRE(::read(locked[0], &byte, 1) == 1);
+  CHECK_THROWS_WITH_AS(
+      write_output_directory(target, report_a),
+      ("another spurcast run is writing " + target + " at the same time; nothing was written")
+          .c_str(),
+      spurcast::OutputError);
+  CHECK_THROWS_WITH_AS(
+      spurcast::write_file_atomically(target, "x"),
+      ("another spurcast run is writing " + target + " at the same time; nothing was written")
+          .c_str(),
+      spurcast::OutputError);
+  REQUIRE(::write(go[1], &byte, 1) == 1);
+  int status = 0;
+  REQUIRE(::waitpid(first, &status, 0) == first);
+  CHECK(WIFEXITED(status));
+  CHECK(WEXITSTATUS(status) == 0);
+  CHECK(read_file(target + "/summary.json") == report_b[2].content);
+  CHECK(names_in(base) == std::vector<std::string>{"report"});
   fs::remove_all(base);
 }
