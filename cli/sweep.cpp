@@ -58,15 +58,18 @@ int run_sweep_command(const Options& options) {
 
   const SweepResult result = run_sweep(table, options.scenario_file, directory, sweep);
 
+  // The CSV and the plot appear together or not at all (core/output/output_dir.hpp).
   std::vector<std::string> written;
+  OutputSet outputs;
   if (!options.csv_file.empty()) {
-    write_file_atomically(options.csv_file, sweep_csv(result));
+    outputs.add_file(options.csv_file, sweep_csv(result));
     written.push_back(options.csv_file);
   }
   if (!options.plot_file.empty()) {
-    write_file_atomically(options.plot_file, sweep_svg(result, "sweep of " + result.axes.front().key));
+    outputs.add_file(options.plot_file, sweep_svg(result, "sweep of " + result.axes.front().key));
     written.push_back(options.plot_file);
   }
+  outputs.commit();
 
   std::cout << (options.json ? sweep_json(result, written) : sweep_text(result, written));
   return sweep_goal_met(result) ? exit_ok : exit_limit_exceeded;

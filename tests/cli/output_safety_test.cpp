@@ -6,6 +6,7 @@
 #include <fcntl.h>
 #include <sys/file.h>
 #include <sys/stat.h>
+#include <sys/sysmacros.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -252,4 +253,89 @@ TEST_CASE(
     CHECK(fs::exists(s.root / "out" / "report.html"));
   }
   MESSAGE(conflicts << " of 6 rounds had a conflict");
+}
+
+TEST_CASE("sweep whose --plot cannot be written exits 3 and leaves no CSV (all outputs or none)") {
+  Scratch s;
+  const std::vector<std::string> sweep{"sweep", example.string(), "--vary",
+                                       "switching.frequency=150kHz:300kHz:7"};
+  std::vector<std::string> arguments = sweep;
+  for (const char* a : {"--csv", "s.csv", "--plot", "nodir/p.svg"}) arguments.push_back(a);
+  const RunResult missing = run_cli(s.root, arguments, s.io);
+  CHECK(missing.exit_code == 3);
+  CHECK(missing.err ==
+        "spurcast: error: cannot write nodir/p.svg: the folder nodir does not exist\n");
+  CHECK(names_in(s.root) == std::vector<std::string>{"io"});
+
+  // An earlier CSV stays as it was when the plot's target is a folder.
+  write_text(s.root / "s.csv", "earlier\n");
+  fs::create_directories(s.root / "p.svg");
+  arguments = sweep;
+  for (const char* a : {"--csv", "s.csv", "--plot", "p.svg"}) arguments.push_back(a);
+  const RunResult folder = run_cli(s.root, arguments, s.io);
+  CHECK(folder.exit_code == 3);
+  CHECK(folder.err ==
+        "spurcast: error: cannot write p.svg: it is a folder, not a regular file; spurcast "
+        "replaces only regular files\n");
+  CHECK(read_text(s.root / "s.csv") == "earlier\n");
+  CHECK(names_in(s.root) == std::vector<std::string>{"io", "p.svg", "s.csv"});
+
+  // Both writable: both written.
+  fs::remove(s.root / "p.svg");
+  CHECK(run_cli(s.root, arguments, s.io).exit_code <= 1);
+  CHECK(read_text(s.root / "s.csv").rfind("switching.frequency", 0) == 0);
+  CHECK(read_text(s.root / "p.svg").find("<svg") != std::string::npos);
+}
+
+TEST_CASE(
+    "--csv at a symbolic link, a FIFO or a device is refused with exit 3; the link's target is "
+    "untouched") {
+  Scratch s;
+  write_text(s.root / "victim", "keep\n");
+  fs::create_symlink(s.root / "victim", s.root / "link.csv");
+  RunResult r = run_cli(s.root, {"scan", example.string(), "--csv", "link.csv"}, s.io);
+  CHECK(r.exit_code == 3);
+  CHECK(
+      r.err ==
+      "spurcast: error: cannot write link.csv: it is a symbolic link, not a regular file; spurcast "
+      "replaces only regular files\n");
+  CHECK(read_text(s.root / "victim") == "keep\n");
+  REQUIRE(::mkfifo((s.root / "fifo.csv").c_str(), 0644) == 0);
+  r = run_cli(s.root, {"scan", example.string(), "--csv", "fifo.csv"}, s.io);
+  CHECK(r.exit_code == 3);
+  CHECK(r.err ==
+        "spurcast: error: cannot write fifo.csv: it is a FIFO, not a regular file; spurcast "
+        "replaces only regular files\n");
+  // A character device (1, 3: the Linux null device) can be made only by root.
+  if (::mknod((s.root / "null.csv").c_str(), S_IFCHR | 0666, makedev(1, 3)) == 0) {
+    r = run_cli(s.root, {"spectrum", example.string(), "--csv", "null.csv"}, s.io);
+    CHECK(r.exit_code == 3);
+    CHECK(r.err ==
+          "spurcast: error: cannot write null.csv: it is a device, not a regular file; spurcast "
+          "replaces "
+          "only regular files\n");
+    CHECK(fs::is_character_file(s.root / "null.csv"));
+  } else {
+    MESSAGE("device case skipped: mknod needs root");
+  }
+  CHECK(fs::is_symlink(s.root / "link.csv"));
+  CHECK(fs::is_fifo(s.root / "fifo.csv"));
+}
+
+TEST_CASE("a symbolic link planted at the old temporary name FILE.tmp-PID is not followed") {
+  Scratch s;
+  write_text(s.root / "victim", "keep\n");
+  // The shell plants the link at the name the CLI used before issue 14 ($$ is the PID that exec
+  // keeps).
+  const std::string command = "cd " + spurcast::test::shell_quote(s.root.string()) +
+                              " && ln -s victim out.csv.tmp-$$ && exec " +
+                              spurcast::test::shell_quote(SPURCAST_EXECUTABLE) + " scan " +
+                              spurcast::test::shell_quote(example.string()) +
+                              " --csv out.csv >/dev/null 2>&1";
+  const int status = std::system(command.c_str());
+  CHECK(WIFEXITED(status));
+  CHECK(WEXITSTATUS(status) == 0);
+  CHECK(read_text(s.root / "victim") == "keep\n");
+  CHECK_FALSE(fs::is_symlink(s.root / "out.csv"));
+  CHECK(read_text(s.root / "out.csv").rfind("frequency_hz,", 0) == 0);
 }

@@ -570,3 +570,108 @@ TEST_CASE("two writers of one folder at once: the second is refused, the first w
   CHECK(names_in(base) == std::vector<std::string>{"report"});
   fs::remove_all(base);
 }
+
+// --- Several outputs of one command: together or not at all (issue 14)
+// -----------------------------
+
+TEST_CASE(
+    "a set whose second target is refused writes nothing and leaves the first target as it was") {
+  const std::string base = make_temp_dir();
+  std::ofstream(base + "/sweep.csv") << "old csv\n";
+  fs::create_directory(base + "/sweep.svg");
+  spurcast::OutputSet outputs;
+  outputs.add_file(base + "/sweep.csv", "new csv\n");
+  outputs.add_file(base + "/sweep.svg", "<svg/>\n");
+  CHECK_THROWS_WITH_AS(outputs.commit(), not_regular(base + "/sweep.svg", "a folder").c_str(),
+                       spurcast::OutputError);
+  CHECK(read_file(base + "/sweep.csv") == "old csv\n");
+
+  spurcast::OutputSet missing_folder;
+  missing_folder.add_file(base + "/new.csv", "new csv\n");
+  missing_folder.add_file(base + "/no/plot.svg", "<svg/>\n");
+  CHECK_THROWS_WITH_AS(
+      missing_folder.commit(),
+      ("cannot write " + base + "/no/plot.svg: the folder " + base + "/no does not exist").c_str(),
+      spurcast::OutputError);
+  CHECK(names_in(base) == std::vector<std::string>{"sweep.csv", "sweep.svg"});
+
+  spurcast::OutputSet twice;
+  twice.add_file(base + "/same.csv", "a");
+  twice.add_file(base + "/same.csv", "b");
+  CHECK_THROWS_WITH_AS(twice.commit(), (base + "/same.csv is given twice as an output").c_str(),
+                       spurcast::OutputError);
+  fs::remove_all(base);
+}
+
+TEST_CASE(
+    "a set that fails while placing is rolled back: every target as before, no temporary left") {
+  for (const bool exchange : {true, false}) {
+    CAPTURE(exchange);
+    const std::string base = make_temp_dir();
+    std::ofstream(base + "/a.csv") << "old a\n";
+    std::ofstream(base + "/b.svg") << "old b\n";
+    write_output_directory(base + "/report", report_a);
+    const std::map<std::string, std::string> old_report = contents_of(base + "/report");
+    // Fail after each target is placed in turn (the hook throws, as a failing rename would).
+    for (const std::string& failing : {base + "/a.csv", base + "/b.svg", base + "/report"}) {
+      CAPTURE(failing);
+      spurcast::OutputDirectoryOptions options;
+      options.without_rename_exchange = !exchange;
+      options.after_step = [&failing](std::size_t, const std::string& what) {
+        if (what == "placed " + failing) throw spurcast::OutputError("injected failure");
+      };
+      spurcast::OutputSet outputs(options);
+      outputs.add_file(base + "/a.csv", "new a\n");
+      outputs.add_file(base + "/b.svg", "new b\n");
+      outputs.add_folder(base + "/report", report_b);
+      outputs.add_file(base + "/c.csv", "new c\n");  // a new target: removed again
+      CHECK_THROWS_WITH_AS(outputs.commit(), "injected failure", spurcast::OutputError);
+      CHECK(read_file(base + "/a.csv") == "old a\n");
+      CHECK(read_file(base + "/b.svg") == "old b\n");
+      CHECK(contents_of(base + "/report") == old_report);
+      CHECK(names_in(base) == std::vector<std::string>{"a.csv", "b.svg", "report"});
+    }
+    fs::remove_all(base);
+  }
+}
+
+TEST_CASE("SIGTERM at any step of a two-file set: both files old or both new") {
+  spurcast::OutputDirectoryOptions counting;
+  std::size_t steps = 0;
+  counting.after_step = [&steps](std::size_t step, const std::string&) { steps = step; };
+  const std::string base = make_temp_dir();
+  const auto write_pair = [&base](const std::string& tag,
+                                  const spurcast::OutputDirectoryOptions& options) {
+    spurcast::OutputSet outputs(options);
+    outputs.add_file(base + "/sweep.csv", tag + " csv\n");
+    outputs.add_file(base + "/sweep.svg", tag + " svg\n");
+    outputs.commit();
+  };
+  write_pair("old", {});
+  write_pair("old", counting);
+  REQUIRE(steps >= 10);
+  for (std::size_t k = 1; k <= steps; ++k) {
+    CAPTURE(k);
+    const pid_t child = ::fork();
+    REQUIRE(child >= 0);
+    if (child == 0) {
+      std::signal(SIGTERM, SIG_DFL);
+      spurcast::OutputDirectoryOptions options;
+      options.after_step = [k](std::size_t step, const std::string&) {
+        if (step == k) ::kill(::getpid(), SIGTERM);
+      };
+      write_pair("new", options);
+      std::_Exit(0);
+    }
+    int status = 0;
+    REQUIRE(::waitpid(child, &status, 0) == child);
+    CHECK(WIFSIGNALED(status));
+    const std::string csv = read_file(base + "/sweep.csv");
+    const std::string svg = read_file(base + "/sweep.svg");
+    CHECK(
+        ((csv == "old csv\n" && svg == "old svg\n") || (csv == "new csv\n" && svg == "new svg\n")));
+    CHECK(names_in(base) == std::vector<std::string>{"sweep.csv", "sweep.svg"});
+    write_pair("old", {});
+  }
+  fs::remove_all(base);
+}
