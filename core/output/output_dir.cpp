@@ -320,8 +320,13 @@ class Commit {
       unlock_all();
       throw;
     }
-    for (Work& w : work_) remove_old(w);
-    for (Work& w : work_) fsync_folder(w.where.parent);
+    try {
+      for (Work& w : work_) remove_old(w);
+      for (Work& w : work_) fsync_folder(w.where.parent);
+    } catch (...) {  // only a test hook throws here: every output is already in place
+      unlock_all();
+      throw;
+    }
     unlock_all();
     step("done");
   }
