@@ -9,6 +9,7 @@
 #include "core/compliance/limits.hpp"
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
+#include "core/output/output_dir.hpp"
 #include "spurcast_demo_scenario.hpp"
 
 namespace spurcast::cli {
@@ -24,6 +25,7 @@ int run_demo(const Options& options) {
   Prediction prediction;
   {
     Progress progress;
+    check_output_folder(options.output);  // refuse a folder that is not ours before the long part
     progress.show("predicting the built-in demo scenario");
     const Scenario scenario =
         scenario_from_text(demo_scenario_toml, "greenhouse-buck.toml (built in)", shipped_limits_directory());

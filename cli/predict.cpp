@@ -6,6 +6,7 @@
 #include "cli/terminal.hpp"
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
+#include "core/output/output_dir.hpp"
 
 namespace spurcast::cli {
 
@@ -23,6 +24,7 @@ int run_predict(const Options& options) {
     Progress progress;
     progress.show("reading " + options.scenario);
     const Scenario scenario = load_scenario(options.scenario);
+    check_output_folder(options.output);  // refuse a folder that is not ours before the long part
     progress.show("predicting (source, conducted path, receiver scans, bands)");
     prediction = predict(scenario);
   }

@@ -715,6 +715,19 @@ void write_output_directory(const std::string& directory, const std::vector<Outp
   set.commit();
 }
 
+void check_output_folder(const std::string& directory) {
+  const TargetPath where = split_target(directory, true);
+  struct stat parent {};
+  if (::stat(where.parent.c_str(), &parent) != 0 || !S_ISDIR(parent.st_mode)) {
+    throw OutputError("the folder " + where.parent +
+                      " (parent of the output folder) does not exist");
+  }
+  struct stat info {};
+  if (::lstat(where.path.c_str(), &info) != 0) return;
+  if (!S_ISDIR(info.st_mode)) throw OutputError(where.path + " exists and is not a folder");
+  (void)check_replaceable(where.path);
+}
+
 void write_file_atomically(const std::string& path, const std::string& content,
                            const OutputDirectoryOptions& options) {
   OutputSet set(options);

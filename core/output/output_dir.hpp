@@ -121,6 +121,11 @@ class OutputSet {
 void write_output_directory(const std::string& directory, const std::vector<OutputFile>& files,
                             const OutputDirectoryOptions& options = {});
 
+/// Checks, without writing, that `directory` could be written as an output folder now (steps 2
+/// and 3's parent check above), so a command can refuse before a long computation. Throws the same
+/// OutputError as write_output_directory would; the write checks again.
+void check_output_folder(const std::string& directory);
+
 /// Writes one file at `path` as described above: nobody ever reads a half-written file, a target
 /// that exists and is not a regular file is refused. Throws OutputError naming `path`.
 void write_file_atomically(const std::string& path, const std::string& content,

@@ -675,3 +675,24 @@ TEST_CASE("SIGTERM at any step of a two-file set: both files old or both new") {
   }
   fs::remove_all(base);
 }
+
+TEST_CASE("check_output_folder refuses before any write what write_output_directory would refuse") {
+  const std::string base = make_temp_dir();
+  spurcast::check_output_folder(base + "/new");  // a new folder is fine
+  write_output_directory(base + "/report", report_a);
+  spurcast::check_output_folder(base + "/report");  // so is an earlier report
+  fs::create_directory(base + "/mine");
+  std::ofstream(base + "/mine/buck.toml") << "x";
+  CHECK_THROWS_WITH_AS(
+      spurcast::check_output_folder(base + "/mine"),
+      (base + "/mine is not empty and was not written by spurcast (no .spurcast-output marker); "
+              "choose another folder")
+          .c_str(),
+      spurcast::OutputError);
+  CHECK_THROWS_WITH_AS(
+      spurcast::check_output_folder(base + "/no/r"),
+      ("the folder " + base + "/no (parent of the output folder) does not exist").c_str(),
+      spurcast::OutputError);
+  CHECK(names_in(base) == std::vector<std::string>{"mine", "report"});
+  fs::remove_all(base);
+}
