@@ -51,17 +51,16 @@ ScanResult scan_line_spectrum(const LineSpectrum& lines, const ScanPlan& grid_pl
 /// profile (the frequency sweeps at a constant rate), with the arcsine density for a sine profile.
 /// The power of the line is kept (Matsumoto et al., IEEE Trans. EMC 47(3), 2005: spreading does
 /// not reduce the harmonic power); this is the time-averaged power a channel collects.
-std::vector<SpectralLine> spread_lines(const std::vector<double>& frequency_hz, const std::vector<double>& level_db,
-                                       const DitherSpec& dither) {
+std::vector<SpectralLine> spread_lines(const std::vector<SpectralLine>& lines, const DitherSpec& dither) {
   constexpr double resolution_hz = 1e3;  // finer than any channel raster (5 kHz and up)
   constexpr std::size_t max_sub_lines = 2000;
   std::vector<SpectralLine> out;
-  for (std::size_t i = 0; i < frequency_hz.size(); ++i) {
-    const double centre = frequency_hz[i];
+  for (const SpectralLine& line : lines) {
+    const double centre = line.frequency_hz;
     const double deviation = centre * dither.deviation_fraction;
     const auto count = static_cast<std::size_t>(
         std::clamp(std::ceil(2.0 * deviation / resolution_hz), 1.0, static_cast<double>(max_sub_lines)));
-    const double power = std::pow(10.0, level_db[i] / 10.0);
+    const double power = std::pow(10.0, line.level_db / 10.0);
     for (std::size_t m = 0; m < count; ++m) {
       // Sub-band m covers x in [x0, x1] of the normalised deviation [-1, 1].
       const double x0 = -1.0 + 2.0 * static_cast<double>(m) / static_cast<double>(count);
@@ -71,7 +70,7 @@ std::vector<SpectralLine> spread_lines(const std::vector<double>& frequency_hz, 
         weight = (std::asin(std::clamp(x1, -1.0, 1.0)) - std::asin(std::clamp(x0, -1.0, 1.0))) / std::numbers::pi;
       }
       if (weight <= 0.0 || power <= 0.0) continue;
-      out.push_back({centre + deviation * 0.5 * (x0 + x1), 10.0 * std::log10(power * weight)});
+      out.push_back({centre + deviation * 0.5 * (x0 + x1), 10.0 * std::log10(power * weight), line.source_index});
     }
   }
   return out;
@@ -149,6 +148,32 @@ double dithered_record_duration_s(const SwitchingSpec& spec, double sample_rate_
   return duration_s;
 }
 
+RadiatorCurrents radiator_currents(const Scenario& scenario, const LineSpectrum& switch_node_v,
+                                   const LineSpectrum& input_current_a, const std::vector<std::size_t>& harmonics,
+                                   const ConductedResult* conducted) {
+  RadiatorCurrents currents;
+  const double f0 = input_current_a.fundamental_hz > 0.0 ? input_current_a.fundamental_hz : switch_node_v.fundamental_hz;
+  std::optional<BatteryCurrents> battery;
+  if (scenario.supply.kind == SupplyKind::battery) {
+    battery = battery_lead_currents(scenario.supply, scenario.coupling, switch_node_v, input_current_a);
+  } else if (!conducted) {
+    throw Error("the cable currents need the conducted solution");
+  }
+  for (const std::size_t k : harmonics) {
+    currents.frequency_hz.push_back(static_cast<double>(k) * f0);
+    const std::size_t i = k - 1;
+    if (battery) {
+      currents.cable_cm_per_conductor_a.push_back(i < battery->cm_per_conductor_a.size() ? std::abs(battery->cm_per_conductor_a[i]) : 0.0);
+      currents.cable_dm_a.push_back(i < battery->dm_a.size() ? std::abs(battery->dm_a[i]) : 0.0);
+    } else {
+      currents.cable_cm_per_conductor_a.push_back(i < conducted->cm_current_a.size() ? std::abs(conducted->cm_current_a[i]) : 0.0);
+      currents.cable_dm_a.push_back(i < conducted->dm_current_a.size() ? std::abs(conducted->dm_current_a[i]) : 0.0);
+    }
+    currents.hot_loop_a.push_back(i < input_current_a.harmonics.size() ? std::abs(input_current_a.harmonics[i]) : 0.0);
+  }
+  return currents;
+}
+
 std::string to_string(SourceKind kind) {
   switch (kind) {
     case SourceKind::described: return "described";
@@ -166,7 +191,10 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   const double top_hz = highest_frequency_hz(bands);
 
   const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn);
-  p.setup_description = model.setup_description();
+  const bool battery = scenario.supply.kind == SupplyKind::battery;
+  p.setup_description = battery ? "battery supply: no LISN; " + format_quantity(scenario.supply.lead_length_m, Dimension::length) +
+                                      " leads " + format_quantity(scenario.supply.lead_spacing_m, Dimension::length) + " apart"
+                                : model.setup_description();
   const bool two_lines = model.line_count() == 2;
   for (const CisprBand band : bands) {
     const BandParameters range = band_parameters(band);
@@ -207,10 +235,10 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
                       std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
                       " only");
   }
-  p.conducted = conduct(p.switch_node_v, p.input_current_a, model);
+  if (!battery) p.conducted = conduct(p.switch_node_v, p.input_current_a, model);
 
-  // Receiver scans per band.
-  if (!options.skip_scans) {
+  // Receiver scans per band (none for a battery supply: there is no LISN port to read).
+  if (!options.skip_scans && !battery) {
     for (const CisprBand band : bands) {
       BandScan scan;
       scan.band = band;
@@ -253,7 +281,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     const auto band_readings = readings_from_scan(scan.worst.readings, scenario.receiver.detectors);
     readings.insert(readings.end(), band_readings.begin(), band_readings.end());
   }
-  if (options.skip_scans) {
+  if (options.skip_scans && p.conducted) {
     // A periodic source's isolated line reads its RMS value on every detector (CISPR 16-1-1
     // calibration); the sweep uses this when the harmonics are far apart compared with the RBW.
     for (std::size_t k = 0; k < p.conducted->frequency_hz.size(); ++k) {
@@ -266,35 +294,36 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   margin_options.guard_db = scenario.limits.guard_db;
   p.margins = compare_with_limits(readings, scenario.limits.sets, margin_options);
   p.verdict = p.margins.verdict;
-  if (scenario.limits.sets.empty()) {
+  if (battery) {
+    p.notes.push_back("battery supply: no LISN, no conducted limits apply; the leads carry the differential-mode "
+                      "loop current and a common-mode current returned through the product's self-capacitance");
+  } else if (scenario.limits.sets.empty()) {
     p.notes.push_back("no limit lines in the scenario: nothing was compared, the verdict says pass by default");
   } else if (p.margins.compared_readings == 0) {
     p.notes.push_back("no reading fell on a limit line (check the bands and the lines' frequency ranges)");
   }
 
-  // Broadcast reception: fields from the CM and DM currents of the conducted path.
-  const RadiationSetup setup = radiation_setup(scenario.broadcast);
+  // Broadcast reception: fields of the radiators (cable CM and DM, hot loop), then the estimate.
+  const RadiationSetup setup = radiation_setup(scenario.broadcast, scenario.supply, scenario.board);
   p.radiation_convention = radiation_convention(setup);
-  std::vector<double> cm_a, dm_a;
-  cm_a.reserve(p.conducted->frequency_hz.size());
-  dm_a.reserve(p.conducted->frequency_hz.size());
-  for (std::size_t k = 0; k < p.conducted->frequency_hz.size(); ++k) {
-    cm_a.push_back(std::abs(p.conducted->cm_current_a[k]));
-    dm_a.push_back(std::abs(p.conducted->dm_current_a[k]));
+  std::vector<std::size_t> harmonics(
+      p.conducted ? p.conducted->frequency_hz.size()
+                  : std::max(p.switch_node_v.harmonics.size(), p.input_current_a.harmonics.size()));
+  for (std::size_t k = 0; k < harmonics.size(); ++k) harmonics[k] = k + 1;
+  p.field = radiated_field(setup, radiator_currents(scenario, p.switch_node_v, p.input_current_a, harmonics,
+                                                    p.conducted ? &*p.conducted : nullptr));
+  if (!setup.hot_loop_area_m2) {
+    p.notes.push_back("no [board] hot_loop_area: the switching cell's loop, usually the strongest radiator near "
+                      "the product, is left out");
+  } else if (p.input_current_a.harmonics.empty()) {
+    p.notes.push_back("the source gives no input current: the hot loop carries nothing");
   }
-  p.field = radiated_field(setup, p.conducted->frequency_hz, cm_a, dm_a);
-  std::vector<double> field_hz, field_db;
-  for (const FieldLine& line : p.field) {
-    field_hz.push_back(line.frequency_hz);
-    field_db.push_back(line.total_dbuvm);
-  }
-  std::vector<SpectralLine> field_lines;
+  ReceiverLines lines = receiver_lines(p.field);
   if (p.source_kind == SourceKind::dithered) {
-    field_lines = spread_lines(field_hz, field_db, *scenario.switching->dither);
-  } else {
-    for (std::size_t k = 0; k < field_hz.size(); ++k) field_lines.push_back({field_hz[k], field_db[k]});
+    lines.e_lines = spread_lines(lines.e_lines, *scenario.switching->dither);
+    lines.h_lines = spread_lines(lines.h_lines, *scenario.switching->dither);
   }
-  p.reception = estimate_reception(bands_for(scenario.broadcast), field_lines, scenario.broadcast);
+  p.reception = estimate_reception(bands_for(scenario.broadcast), lines, scenario.broadcast);
   return p;
 }
 

@@ -59,8 +59,8 @@ struct Prediction {
   std::optional<ConductedResult> conducted;
   std::vector<BandScan> scans;
   MarginReport margins;
-  /// Field lines at the broadcast receiver [dBµV/m] (CM cable + DM loop, core/radio/radiated.hpp), and
-  /// the per-band reception estimate made from them.
+  /// Field lines at the broadcast receiver [dBµV/m] per radiator (cable CM and DM, hot loop;
+  /// core/radio/radiated.hpp), and the per-band reception estimate made from them.
   std::vector<FieldLine> field;
   std::vector<BandReception> reception;
   std::string radiation_convention;
@@ -86,6 +86,15 @@ struct Prediction {
 /// True when a capture states its switching frequency and holds a whole number of its periods
 /// (to within half a sample), so the FFT receiver may treat the record as exact periods.
 [[nodiscard]] bool holds_whole_periods(const Capture& capture);
+
+/// The radiators' currents (core/radio/radiated.hpp) at the harmonic numbers `harmonics` (1-based, of the
+/// sources' fundamental): the cable's CM and DM currents from `conducted` (mains and dc supplies) or from
+/// the battery leads' model (core/radio/product.hpp), and the hot loop's pulsed source current.
+/// `conducted` may be null for a battery supply; otherwise Error.
+[[nodiscard]] RadiatorCurrents radiator_currents(const Scenario& scenario, const LineSpectrum& switch_node_v,
+                                                 const LineSpectrum& input_current_a,
+                                                 const std::vector<std::size_t>& harmonics,
+                                                 const ConductedResult* conducted);
 
 /// Runs the chain. Throws Error on inconsistent input (e.g. a capture too slow for the band).
 [[nodiscard]] Prediction predict(const Scenario& scenario, const PredictionOptions& options = {});

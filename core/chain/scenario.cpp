@@ -10,7 +10,7 @@ namespace spurcast {
 const std::vector<std::string>& scenario_sections() {
   static const std::vector<std::string> sections{"title",  "description", "switching", "capture",
                                                  "coupling", "filter",    "lisn",      "receiver",
-                                                 "limits", "broadcast"};
+                                                 "limits", "broadcast", "supply",   "board"};
   return sections;
 }
 
@@ -61,6 +61,23 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
   if (const toml::table* section = top.optional_table("broadcast")) {
     TableReader reader(*section, file, "broadcast");
     scenario.broadcast = read_broadcast_section(reader);
+  }
+  if (const toml::table* section = top.optional_table("supply")) {
+    TableReader reader(*section, file, "supply");
+    scenario.supply = read_supply_section(reader);
+  }
+  if (const toml::table* section = top.optional_table("board")) {
+    TableReader reader(*section, file, "board");
+    scenario.board = read_board_section(reader);
+  }
+  if (scenario.supply.kind == SupplyKind::battery) {
+    // No network and no limit: a battery product has no conducted measurement to compare.
+    for (const char* section : {"lisn", "filter", "limits"}) {
+      if (top.has(section)) {
+        throw Error(top.position(section), std::string("a battery supply has no LISN and no conducted limits: remove [") +
+                                               section + "] or set [supply] kind = \"mains\" or \"dc\"");
+      }
+    }
   }
   top.finish(scenario_sections());
   return scenario;

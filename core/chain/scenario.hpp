@@ -14,6 +14,7 @@
 #include "core/input/toml.hpp"
 
 #include "core/radio/bands.hpp"
+#include "core/radio/product.hpp"
 #include "core/source/capture.hpp"
 #include "core/coupling/conducted.hpp"
 #include "core/coupling/filter.hpp"
@@ -38,6 +39,8 @@ struct Scenario {
   ReceiverSpec receiver;                   ///< [receiver]
   LimitsSpec limits;                       ///< [limits]
   BroadcastSpec broadcast;                 ///< [broadcast]
+  SupplySpec supply;                       ///< [supply]
+  BoardSpec board;                         ///< [board]
 };
 
 /// The top-level keys a scenario may hold.

@@ -17,7 +17,9 @@
 #include "core/input/error.hpp"
 #include "core/radio/radiated.hpp"
 #include "core/receiver/receiver.hpp"
+#include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
+#include "core/radio/reception.hpp"
 #include "core/source/source.hpp"
 
 namespace spurcast {
@@ -251,7 +253,7 @@ LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& mode
   out.drift_band_ok.assign(bands.size(), true);
   if (ks.empty()) {
     out.margins = compare_with_limits({}, scenario.limits.sets, {.guard_db = scenario.limits.guard_db});
-    out.reception = estimate_reception(bands, {}, scenario.broadcast);
+    out.reception = estimate_reception(bands, std::vector<SpectralLine>{}, scenario.broadcast);
     return out;
   }
   const double top_hz = static_cast<double>(ks.back()) * f0 * (1.0 + 1e-9);
@@ -318,33 +320,39 @@ LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& mode
     }
   }
 
-  // Broadcast bands: fields of the CM and DM currents, then the reception estimate.
-  std::vector<double> field_hz, field_cm, field_dm;
+  // Broadcast bands: fields of the radiators, then the reception estimate (as predict() does).
+  std::vector<std::size_t> band_ks;
+  RadiatorCurrents currents;
   for (std::size_t j = 0; j < ks.size(); ++j) {
     const double f = frequency_hz[j];
     const bool in_some_band = std::any_of(bands.begin(), bands.end(), [&](const Band& b) {
       return f >= (b.low_hz - b.bandwidth_hz) / (1.0 + tol) && f <= (b.high_hz + b.bandwidth_hz) / (1.0 - tol);
     });
     if (!in_some_band) continue;
-    field_hz.push_back(f);
-    field_cm.push_back(cm_a[j]);
-    field_dm.push_back(dm_a[j]);
+    band_ks.push_back(ks[j]);
+    currents.frequency_hz.push_back(f);
+    currents.cable_cm_per_conductor_a.push_back(cm_a[j]);
+    currents.cable_dm_a.push_back(dm_a[j]);
+    const std::size_t k = ks[j] - 1;
+    currents.hot_loop_a.push_back(k < i_in.harmonics.size() ? std::abs(i_in.harmonics[k]) : 0.0);
   }
-  const std::vector<FieldLine> fields =
-      radiated_field(radiation_setup(scenario.broadcast), field_hz, field_cm, field_dm);
-  std::vector<SpectralLine> lines;
-  lines.reserve(fields.size());
-  for (const FieldLine& field : fields) lines.push_back({field.frequency_hz, field.total_dbuvm});
-  out.reception = estimate_reception(bands, lines, scenario.broadcast);
+  if (scenario.supply.kind == SupplyKind::battery) currents = radiator_currents(scenario, v_sw, i_in, band_ks, nullptr);
+  const ReceiverLines heard = receiver_lines(
+      radiated_field(radiation_setup(scenario.broadcast, scenario.supply, scenario.board), currents));
+  out.reception = estimate_reception(bands, heard, scenario.broadcast);
 
   // Drift of the lines across the channels, analytically: a channel hears every line whose range
   // k·f0·(1 ± tol) overlaps its passband (power sum, the worst case); the band stays clear when
   // each such channel is judged clear.
   if (tol > 0.0) {
-    std::vector<double> line_power_of(lines.size());
-    for (std::size_t l = 0; l < lines.size(); ++l) line_power_of[l] = std::pow(10.0, lines[l].level_db / 10.0);
+    std::vector<double> e_power(heard.e_lines.size()), h_power(heard.h_lines.size());
+    for (std::size_t l = 0; l < e_power.size(); ++l) e_power[l] = std::pow(10.0, heard.e_lines[l].level_db / 10.0);
+    for (std::size_t l = 0; l < h_power.size(); ++l) h_power[l] = std::pow(10.0, heard.h_lines[l].level_db / 10.0);
     for (std::size_t b = 0; b < bands.size(); ++b) {
       const Band& band = bands[b];
+      const bool magnetic = antenna_for_band(scenario.broadcast.antenna, band.high_hz) == AntennaKind::ferrite;
+      const std::vector<SpectralLine>& lines = magnetic ? heard.h_lines : heard.e_lines;
+      const std::vector<double>& line_power_of = magnetic ? h_power : e_power;
       std::vector<double> own_centres;
       if (b >= ctx.channel_centres.size() || !ctx.shared_bands) own_centres = band.channel_centres_hz();
       const std::vector<double>& centres = own_centres.empty() ? ctx.channel_centres[b] : own_centres;

@@ -283,10 +283,16 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
     band["low_hz"] = rounded(b.band.low_hz, 1);
     band["high_hz"] = rounded(b.band.high_hz, 1);
     band["verdict"] = reception_verdict_name(b.verdict);
+    band["antenna"] = antenna_name(b.antenna);
     if (b.worst_channel) {
       const ChannelReception& c = b.channels[*b.worst_channel];
       band["worst_channel_hz"] = rounded(c.centre_hz, 1);
       band["worst_level_dbuvm"] = rounded(c.level_dbuvm, 2);
+      nlohmann::ordered_json shares = nlohmann::ordered_json::object();
+      for (std::size_t r = 0; r < radiator_count; ++r) {
+        shares[radiator_name(static_cast<Radiator>(r))] = rounded(c.radiator_share[r], 4);
+      }
+      band["radiator_shares"] = shares;
     } else {
       band["worst_channel_hz"] = nullptr;
       band["worst_level_dbuvm"] = nullptr;
@@ -475,10 +481,20 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   add("broadcast", "distance", q(b.distance_m, Dimension::length));
   add("broadcast", "cable length", q(b.cable_length_m, Dimension::length));
   add("broadcast", "environment", environment_name(b.environment));
-  if (b.loop_area_m2) {
+  add("broadcast", "antenna", antenna_choice_name(b.antenna));
+  add("supply", "kind", supply_kind_name(s.supply.kind));
+  if (s.supply.kind == SupplyKind::battery) {
+    add("supply", "lead length", q(s.supply.lead_length_m, Dimension::length));
+    add("supply", "internal resistance", q(s.supply.internal_resistance_ohm, Dimension::resistance));
+    add("supply", "product size", q(s.supply.product_size_m, Dimension::length));
+  }
+  add("supply", "conductor spacing", q(s.supply.lead_spacing_m, Dimension::length));
+  if (s.board.hot_loop_area_m2) {
     char area[64];
-    std::snprintf(area, sizeof area, "%.4g cm\xC2\xB2", *b.loop_area_m2 * 1e4);
-    add("broadcast", "DM loop area", area);
+    std::snprintf(area, sizeof area, "%.4g cm\xC2\xB2", *s.board.hot_loop_area_m2 * 1e4);
+    add("board", "hot loop area", area);
+  } else {
+    add("board", "hot loop area", "not given (no hot-loop field)");
   }
   add("broadcast", "ground reflection", b.ground_reflection ? "yes (+6 dB)" : "no");
   for (const Band& band : b.extra_bands) {
@@ -736,27 +752,35 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   // 5. Broadcast bands.
   out += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
   out += "<p>Estimated field of the harmonics at a receiver " + html(format_quantity(s.broadcast.distance_m, Dimension::length)) +
-         " from the product and its " + html(format_quantity(s.broadcast.cable_length_m, Dimension::length)) +
-         " supply cable (" + html(environment_name(s.broadcast.environment)) +
+         " from the product and its " +
+         html(format_quantity(s.supply.kind == SupplyKind::battery ? s.supply.lead_length_m : s.broadcast.cable_length_m,
+                              Dimension::length)) +
+         (s.supply.kind == SupplyKind::battery ? " battery leads (" : " supply cable (") + html(environment_name(s.broadcast.environment)) +
          " environment, ITU region " + std::to_string(s.broadcast.region) +
          "). <em>clear</em>: under the ambient man-made noise (ITU-R P.372) or the level the receiver rejects; "
          "<em>watch</em>: above it, below the disturbance threshold; <em>noisy</em>: a weak station is likely "
-         "disturbed.</p>\n";
-  out += "<table>\n<tr><th>band</th><th>range</th><th>verdict</th><th>worst channel</th><th>field</th><th>ambient</th>"
-         "<th>noisy above</th><th>notes</th></tr>\n";
+         "disturbed. A ferrite rod (LW, MW) reads the magnetic field as its equivalent far field, "
+         "&eta;<sub>0</sub>&middot;H; a whip reads the electric field.</p>\n";
+  out += "<table>\n<tr><th>band</th><th>range</th><th>antenna</th><th>verdict</th><th>worst channel</th><th>field</th>"
+         "<th>ambient</th><th>noisy above</th><th>main radiator</th><th>notes</th></tr>\n";
   std::vector<std::string> caveats;  // distinct caveats, numbered once below the table
   for (const BandReception& b : p.reception) {
     out += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
            html(format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
                 format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits)) +
-           "</td><td>" + tag(reception_verdict_name(b.verdict)) + "</td>";
+           "</td><td>" + html(antenna_name(b.antenna)) + "</td><td>" + tag(reception_verdict_name(b.verdict)) + "</td>";
     if (b.worst_channel) {
       const ChannelReception& c = b.channels[*b.worst_channel];
       out += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
              level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.ambient_dbuvm) +
-             " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td>";
+             " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td><td>" +
+             (c.dominant_radiator
+                  ? html(radiator_name(*c.dominant_radiator)) + " (" +
+                        std::to_string(static_cast<int>(std::lround(100.0 * c.radiator_share[static_cast<std::size_t>(*c.dominant_radiator)]))) + " %)"
+                  : std::string()) +
+             "</td>";
     } else {
-      out += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td>";
+      out += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td><td></td>";
     }
     std::vector<std::string> refs;
     for (const std::string& caveat : b.caveats) {
@@ -838,9 +862,10 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          ".</li>\n";
   out += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
          "mask is met only approximately. Detectors are calibrated so a sine reads its RMS value.</li>\n"
-         "<li>Broadcast-band fields use short-cable (common mode) and small-loop (differential mode) formulas "
-         "(C. R. Paul); they are far-field estimates, and near the product at low frequencies the receiver is in the "
-         "near field, where they are rough. The ambient is man-made noise only (ITU-R P.372).</li>\n"
+         "<li>Broadcast-band fields use the exact near- and far-field expressions of short dipoles and small loops "
+         "(Balanis) for the supply cable's common- and differential-mode currents and the hot loop, in the "
+         "orientation that couples most; real orientations, the room and nearby wiring change them by many dB either "
+         "way. The ambient is man-made noise only (ITU-R P.372).</li>\n"
          "<li>Limit values marked <em>from memory</em> must be checked against the standard before a decision.</li>\n";
   for (const std::string& note : p.notes) out += "<li>" + html(note) + "</li>\n";
   out += "</ul>\n</section>\n";

@@ -218,16 +218,15 @@ BroadcastSpec read_broadcast_section(TableReader& reader) {
     }
     spec.plan = resolved.string();
   }
-  if (const toml::node* area = reader.node("loop_area")) {
-    if (const auto* text = area->as_string()) {
-      try {
-        spec.loop_area_m2 = parse_area_m2(text->get());
-      } catch (const Error& e) {
-        reader.fail("loop_area", e.message());
-      }
-    } else {
-      spec.loop_area_m2 = quantity_from_node(*area, Dimension::number, reader.file());
-      if (!(*spec.loop_area_m2 > 0.0)) reader.fail("loop_area", "loop area must be positive");
+  if (reader.has("loop_area")) {
+    reader.fail("loop_area", "loop_area is now [board] hot_loop_area: the switching cell's loop, carrying the "
+                             "pulsed source current");
+  }
+  if (const auto antenna = reader.optional_string("antenna")) {
+    try {
+      spec.antenna = antenna_choice_from_name(*antenna);
+    } catch (const Error& e) {
+      reader.fail("antenna", e.message());
     }
   }
   spec.ground_reflection = reader.optional_bool("ground_reflection").value_or(false);
@@ -239,7 +238,7 @@ BroadcastSpec read_broadcast_section(TableReader& reader) {
     if (!names.insert(band.name).second) throw Error(band.position, "duplicate band name '" + band.name + "'");
     spec.extra_bands.push_back(std::move(band));
   }
-  reader.finish({"region", "distance", "cable_length", "environment", "plan", "loop_area", "ground_reflection",
+  reader.finish({"region", "distance", "cable_length", "environment", "plan", "antenna", "ground_reflection",
                  "band"});
   return spec;
 }
@@ -298,6 +297,7 @@ BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<Spect
       if (line.level_db > strongest_db) {
         strongest_db = line.level_db;
         hit.strongest_line_hz = line.frequency_hz;
+        hit.strongest_line_index = *it;
       }
     }
     if (hit.line_count == 0) continue;

@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "core/radio/ambient.hpp"
+#include "core/radio/antenna.hpp"
 #include "core/input/error.hpp"
 
 namespace spurcast {
@@ -90,8 +91,8 @@ struct BandPlan {
 ///   cable_length = "1.5 m"       radiating mains/supply cable (default 1.5 m)
 ///   environment = "residential"  city | residential | rural | quiet-rural ("business" = city)
 ///   plan = "region1"             optional: a shipped plan name (limits/bands/<name>.toml) or a path
-///   loop_area = "4 cm2"          optional DM loop area: "4 cm2", "400 mm2", "4e-4 m2" or a plain
-///                                number in m² (quantities have no area unit, so the loader parses it)
+///   antenna = "auto"             auto | ferrite | whip: what the receivers listen with (auto: a ferrite
+///                                rod on LW and MW, a whip above; core/radio/antenna.hpp)
 ///   ground_reflection = false    optional: +6 dB for a reflecting ground (see core/radio/radiated.hpp)
 ///   [[broadcast.band]]           user bands, keys as in a plan file; `wanted_field` and
 ///                                `protection_ratio` default to the service's usual values (am: 60
@@ -102,7 +103,7 @@ struct BroadcastSpec {
   double cable_length_m = 1.5;
   Environment environment = Environment::residential;
   std::optional<std::string> plan;
-  std::optional<double> loop_area_m2;
+  AntennaChoice antenna = AntennaChoice::automatic;
   bool ground_reflection = false;
   std::vector<Band> extra_bands;
   SourcePosition position;  ///< of the [broadcast] table
@@ -124,6 +125,9 @@ struct BroadcastSpec {
 struct SpectralLine {
   double frequency_hz = 0.0;
   double level_db = 0.0;
+  /// The caller's index of the line's origin (a field line, for the radiator shares); no_source if none.
+  std::size_t source_index = no_source;
+  static constexpr std::size_t no_source = static_cast<std::size_t>(-1);
 };
 
 /// One channel that hears at least one line.
@@ -131,6 +135,7 @@ struct ChannelHit {
   double centre_hz = 0.0;          ///< channel centre [Hz]
   double level_db = 0.0;           ///< power sum of the lines in its passband [dB, unit of the input]
   double strongest_line_hz = 0.0;  ///< the strongest line it hears [Hz]
+  std::size_t strongest_line_index = 0;  ///< its index in the input lines
   std::size_t line_count = 0;      ///< lines within ±bandwidth/2
 };
 

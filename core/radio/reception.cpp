@@ -49,15 +49,35 @@ namespace {
 std::string format_mhz(double hz) { return format_quantity(hz, Dimension::frequency); }
 
 BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines,
-                         const std::vector<std::size_t>& order, const BroadcastSpec& spec) {
+                         const std::vector<std::size_t>& order, const BroadcastSpec& spec,
+                         const std::vector<FieldLine>* field, bool magnetic) {
   BandReception result;
   result.band = band;
+  result.antenna = antenna_for_band(spec.antenna, band.high_hz);
   const BandOccupancy occupancy = map_sorted_lines_to_band(band, lines, order);
   result.lines_inside = occupancy.lines_inside;
   for (const ChannelHit& hit : occupancy.channels) {
     ChannelReception channel = judge_channel(band, hit.centre_hz, hit.level_db, spec.environment);
     channel.strongest_line_hz = hit.strongest_line_hz;
     channel.line_count = hit.line_count;
+    const std::size_t source = lines[hit.strongest_line_index].source_index;
+    if (field && source < field->size()) {
+      const FieldLine& at = (*field)[source];
+      const auto& levels = magnetic ? at.h_dbuvm : at.e_dbuvm;
+      double total = 0.0;
+      for (std::size_t r = 0; r < radiator_count; ++r) {
+        channel.radiator_share[r] = levels[r] > level_floor_db ? std::pow(10.0, levels[r] / 10.0) : 0.0;
+        total += channel.radiator_share[r];
+      }
+      if (total > 0.0) {
+        std::size_t largest = 0;
+        for (std::size_t r = 0; r < radiator_count; ++r) {
+          channel.radiator_share[r] /= total;
+          if (channel.radiator_share[r] > channel.radiator_share[largest]) largest = r;
+        }
+        channel.dominant_radiator = static_cast<Radiator>(largest);
+      }
+    }
     result.channels.push_back(channel);
   }
   auto worse = [](const ChannelReception& a, const ChannelReception& b) {
@@ -71,16 +91,13 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
   }
   if (result.worst_channel) result.verdict = result.channels[*result.worst_channel].verdict;
 
-  const double c_m_per_s = 299792458.0;
-  const double near_limit_hz = c_m_per_s / (2.0 * std::numbers::pi * spec.distance_m);
-  if (band.low_hz < near_limit_hz) {
-    result.caveats.push_back("near field at " + format_quantity(spec.distance_m, Dimension::length) +
-                             " below " + format_mhz(near_limit_hz) +
-                             ": the noise reaches the receiver through the mains wiring and the near field; "
-                             "the far-field cable formula used here is only an order-of-magnitude estimate");
-  }
-  if (spec.cable_length_m > c_m_per_s / band.high_hz / 10.0) {
-    result.caveats.push_back("cable longer than a tenth of a wavelength: length capped at the half-wave-dipole value");
+  const bool long_cable = field && std::any_of(result.lines_inside.begin(), result.lines_inside.end(), [&](std::size_t i) {
+    const std::size_t source = lines[i].source_index;
+    return source < field->size() && (*field)[source].cable_electrically_long;
+  });
+  if (long_cable) {
+    result.caveats.push_back("cable longer than a tenth of a wavelength: a travelling-wave current is assumed; "
+                             "standing waves on a mismatched cable can add up to 6 dB");
   }
   if (!man_made_noise_in_range(band.low_hz) || !man_made_noise_in_range(band.high_hz)) {
     result.caveats.push_back("ambient noise held at the edge of the P.372 fit (0.3-250 MHz), not extrapolated");
@@ -106,36 +123,46 @@ std::string number(double value, const char* format) {
 
 }  // namespace
 
+ReceiverLines receiver_lines(std::vector<FieldLine> field) {
+  ReceiverLines out;
+  out.e_lines.reserve(field.size());
+  out.h_lines.reserve(field.size());
+  for (std::size_t i = 0; i < field.size(); ++i) {
+    out.e_lines.push_back({field[i].frequency_hz, field[i].e_total_dbuvm, i});
+    out.h_lines.push_back({field[i].frequency_hz, field[i].h_total_dbuvm, i});
+  }
+  out.field = std::move(field);
+  return out;
+}
+
+std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, const ReceiverLines& lines,
+                                              const BroadcastSpec& spec) {
+  std::vector<BandReception> results;
+  results.reserve(bands.size());
+  const std::vector<std::size_t> e_order = sorted_line_order(lines.e_lines);
+  const std::vector<std::size_t> h_order = sorted_line_order(lines.h_lines);
+  for (const Band& band : bands) {
+    const bool magnetic = antenna_for_band(spec.antenna, band.high_hz) == AntennaKind::ferrite;
+    results.push_back(judge_band(band, magnetic ? lines.h_lines : lines.e_lines, magnetic ? h_order : e_order, spec,
+                                 &lines.field, magnetic));
+  }
+  return results;
+}
+
 std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
                                               const std::vector<SpectralLine>& field_lines_dbuvm,
                                               const BroadcastSpec& spec) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
   const std::vector<std::size_t> order = sorted_line_order(field_lines_dbuvm);
-  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, order, spec));
+  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, order, spec, nullptr, false));
   return results;
 }
 
-RadiationSetup radiation_setup(const BroadcastSpec& spec) {
-  RadiationSetup setup;
-  setup.distance_m = spec.distance_m;
-  setup.cable_length_m = spec.cable_length_m;
-  setup.loop_area_m2 = spec.loop_area_m2;
-  setup.ground_reflection = spec.ground_reflection;
-  return setup;
-}
-
-std::vector<BandReception> estimate_reception_from_currents(const std::vector<Band>& bands,
-                                                            const BroadcastSpec& spec,
-                                                            const std::vector<double>& frequency_hz,
-                                                            const std::vector<double>& cm_current_per_conductor_a,
-                                                            const std::vector<double>& dm_current_a) {
-  const std::vector<FieldLine> fields =
-      radiated_field(radiation_setup(spec), frequency_hz, cm_current_per_conductor_a, dm_current_a);
-  std::vector<SpectralLine> lines;
-  lines.reserve(fields.size());
-  for (const FieldLine& field : fields) lines.push_back({field.frequency_hz, field.total_dbuvm});
-  return estimate_reception(bands, lines, spec);
+std::vector<BandReception> estimate_reception_from_currents(const std::vector<Band>& bands, const BroadcastSpec& spec,
+                                                            const RadiationSetup& setup,
+                                                            const RadiatorCurrents& currents) {
+  return estimate_reception(bands, receiver_lines(radiated_field(setup, currents)), spec);
 }
 
 std::string bands_csv(const std::vector<BandReception>& results) {

@@ -19,16 +19,19 @@
 /// Assumptions: the weak station is at the band's minimum usable field strength (the band file's
 /// wanted_field); the disturbance field is the power sum of the lines in the receiver's rectangular
 /// passband; the ambient is man-made noise only (galactic and atmospheric noise, large on LW/MW at
-/// night, are left out, which makes `clear` harder to reach). Below about 16 MHz at 3 m the receiver
-/// is in the near field of the cable; the field there is an estimate, flagged in `caveats`.
+/// night, are left out, which makes `clear` harder to reach). Each band's receiver listens with its
+/// antenna (core/radio/antenna.hpp): a ferrite rod reads η0·H, a whip reads E, both exact at any
+/// distance (core/radio/radiated.hpp).
 ///
 /// Example:
-///   const auto results = estimate_reception(bands_for(spec), field_lines, spec);
+///   const auto results = estimate_reception(bands_for(spec), receiver_lines(field), spec);
 ///   const std::string csv = bands_csv(results);
+#include <array>
 #include <optional>
 #include <string>
 #include <vector>
 
+#include "core/radio/antenna.hpp"
 #include "core/radio/bands.hpp"
 #include "core/radio/radiated.hpp"
 
@@ -48,6 +51,10 @@ struct ChannelReception {
   double level_dbuvm = 0.0;        ///< disturbance field in the channel bandwidth [dBµV/m]
   double strongest_line_hz = 0.0;
   std::size_t line_count = 0;
+  /// Each radiator's share of the field at the strongest line (power fractions summing to 1), when the
+  /// lines came from radiated_field(); all zero otherwise.
+  std::array<double, radiator_count> radiator_share{};
+  std::optional<Radiator> dominant_radiator;  ///< the largest share, when known
   double ambient_dbuvm = 0.0;      ///< P.372 man-made noise in the channel bandwidth [dBµV/m]
   double protection_threshold_dbuvm = 0.0;  ///< wanted_field − protection_ratio [dBµV/m]
   double clear_below_dbuvm = 0.0;  ///< at or below this: clear
@@ -58,6 +65,7 @@ struct ChannelReception {
 /// The estimate for one band.
 struct BandReception {
   Band band;
+  AntennaKind antenna = AntennaKind::whip;  ///< what the band's receiver listens with
   ReceptionVerdict verdict = ReceptionVerdict::clear;           ///< the worst channel's (clear when nothing is heard)
   std::vector<std::size_t> lines_inside;      ///< indices of input lines with low <= f <= high
   std::vector<ChannelReception> channels;     ///< channels that hear a line, ascending
@@ -69,21 +77,29 @@ struct BandReception {
 [[nodiscard]] ChannelReception judge_channel(const Band& band, double centre_hz, double level_dbuvm,
                                              Environment environment);
 
-/// Estimates every band from field lines (frequency, level in dBµV/m at the receiver).
-/// `spec` gives the environment and the distance (for the near-field caveat).
+/// What the receivers hear: E lines for a whip, η0·H lines for a ferrite rod [dBµV/m], each line's
+/// source_index pointing into `field` (for the radiator shares).
+struct ReceiverLines {
+  std::vector<FieldLine> field;
+  std::vector<SpectralLine> e_lines;
+  std::vector<SpectralLine> h_lines;
+};
+/// One E and one η0·H line per field line.
+[[nodiscard]] ReceiverLines receiver_lines(std::vector<FieldLine> field);
+
+/// Estimates every band, each from the lines of its antenna (spec.antenna, antenna_for_band()).
+[[nodiscard]] std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, const ReceiverLines& lines,
+                                                            const BroadcastSpec& spec);
+/// The same with one set of field lines (frequency, level in dBµV/m) heard by every band's antenna.
 [[nodiscard]] std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
                                                             const std::vector<SpectralLine>& field_lines_dbuvm,
                                                             const BroadcastSpec& spec);
 
-/// The whole estimate from conducted currents: the radiated fields (core/radio/radiated.hpp, geometry
-/// from `spec`) of each frequency, then estimate_reception(). Currents RMS [A]: CM per conductor,
-/// DM loop current (may be empty).
-[[nodiscard]] std::vector<BandReception> estimate_reception_from_currents(
-    const std::vector<Band>& bands, const BroadcastSpec& spec, const std::vector<double>& frequency_hz,
-    const std::vector<double>& cm_current_per_conductor_a, const std::vector<double>& dm_current_a);
-
-/// The radiation setup of a [broadcast] section.
-[[nodiscard]] RadiationSetup radiation_setup(const BroadcastSpec& spec);
+/// The whole estimate from the radiators' currents: radiated_field(), then estimate_reception().
+[[nodiscard]] std::vector<BandReception> estimate_reception_from_currents(const std::vector<Band>& bands,
+                                                                          const BroadcastSpec& spec,
+                                                                          const RadiationSetup& setup,
+                                                                          const RadiatorCurrents& currents);
 
 /// Bands CSV (docs/design.md §4): `band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit`,
 /// one row per band; worst_channel_hz and worst_level empty when no channel hears anything; region 0

@@ -361,7 +361,7 @@ TEST_CASE("[broadcast] section of a scenario") {
     CHECK(spec.cable_length_m == doctest::Approx(1.5));
     CHECK(spec.environment == Environment::residential);
     CHECK_FALSE(spec.plan);
-    CHECK_FALSE(spec.loop_area_m2);
+    CHECK(spec.antenna == AntennaChoice::automatic);
     CHECK_FALSE(spec.ground_reflection);
     CHECK(spec.extra_bands.empty());
   }
@@ -371,7 +371,7 @@ distance = "10 m"
 cable_length = "2 m"
 environment = "business"
 plan = "region2"
-loop_area = "4 cm2"
+antenna = "whip"
 ground_reflection = true
 [[band]]
 name = "DCF77"
@@ -389,7 +389,7 @@ protection_ratio = "20 dB"
     CHECK(spec.environment == Environment::city);  // "business" is P.372's older name for city
     // A bare name is the shipped plan, resolved at load time.
     CHECK(std::filesystem::path(*spec.plan).filename() == "region2.toml");
-    CHECK(*spec.loop_area_m2 == doctest::Approx(4e-4));
+    CHECK(spec.antenna == AntennaChoice::whip);
     CHECK(spec.ground_reflection);
     REQUIRE(spec.extra_bands.size() == 1);
     const Band& dcf = spec.extra_bands[0];
@@ -419,8 +419,12 @@ protection_ratio = "20 dB"
     CHECK_THROWS_WITH_AS((void)read("distnce = \"3 m\"\n"),
                          "s.toml:1:1: unknown key 'distnce' in [broadcast]; did you mean 'distance'?", Error);
     CHECK_THROWS_WITH_AS((void)read("region = 0\n"), "s.toml:1:10: expected ITU region 1, 2 or 3, found 0", Error);
-    CHECK_THROWS_WITH_AS((void)read("loop_area = \"2 cm\"\n"),
-                         "s.toml:1:13: expected an area (e.g. \"4 cm2\"), found \"2 cm\"", Error);
+    // The DM current at the LISN around a loop area was the wrong source: the key moved to [board].
+    CHECK_THROWS_WITH_AS((void)read("loop_area = \"2 cm2\"\n"),
+                         "s.toml:1:13: loop_area is now [board] hot_loop_area: the switching cell's loop, carrying "
+                         "the pulsed source current", Error);
+    CHECK_THROWS_WITH_AS((void)read("antenna = \"loop\"\n"),
+                         "s.toml:1:11: expected one of auto, ferrite or whip, found \"loop\"", Error);
     CHECK_THROWS_WITH_AS((void)read("[[band]]\nname = \"x\"\nlow = \"1 MHz\"\nhigh = \"2 MHz\"\nbandwidth = \"9 kHz\"\nmodulation = \"am\"\nband = 1\n"),
                          "s.toml:7:1: unknown key 'band' in [broadcast.band 1]", Error);
   }
