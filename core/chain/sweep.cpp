@@ -341,48 +341,40 @@ LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& mode
       radiated_field(radiation_setup(scenario.broadcast, scenario.supply, scenario.board), currents));
   out.reception = estimate_reception(bands, heard, scenario.broadcast);
 
-  // Drift of the lines across the channels, analytically: a channel hears every line whose range
-  // k·f0·(1 ± tol) overlaps its passband (power sum, the worst case); the band stays clear when
-  // each such channel is judged clear.
+  // Drift of the lines across the channels, analytically: a channel hears each line whose range
+  // k·f0·(1 ± tol) comes within its reach, through its shaped response at the nearest point of that
+  // range (full level when the range covers the centre; power sum, the worst case); the band stays
+  // clear when each such channel is judged clear, with the same whistle rule as predict().
   if (tol > 0.0) {
-    std::vector<double> e_power(heard.e_lines.size()), h_power(heard.h_lines.size());
-    for (std::size_t l = 0; l < e_power.size(); ++l) e_power[l] = std::pow(10.0, heard.e_lines[l].level_db / 10.0);
-    for (std::size_t l = 0; l < h_power.size(); ++l) h_power[l] = std::pow(10.0, heard.h_lines[l].level_db / 10.0);
     for (std::size_t b = 0; b < bands.size(); ++b) {
       const Band& band = bands[b];
       const bool magnetic = antenna_for_band(scenario.broadcast.antenna, band.high_hz) == AntennaKind::ferrite;
       const std::vector<SpectralLine>& lines = magnetic ? heard.h_lines : heard.e_lines;
-      const std::vector<double>& line_power_of = magnetic ? h_power : e_power;
       std::vector<double> own_centres;
       if (b >= ctx.channel_centres.size() || !ctx.shared_bands) own_centres = band.channel_centres_hz();
       const std::vector<double>& centres = own_centres.empty() ? ctx.channel_centres[b] : own_centres;
-      const double half_bw = 0.5 * band.bandwidth_hz;
-      // Each line adds its power to a run of channels: difference arrays, then running sums.
-      std::vector<double> power_step(centres.size() + 1, 0.0);
-      std::vector<std::ptrdiff_t> count_step(centres.size() + 1, 0);
-      for (std::size_t l = 0; l < lines.size(); ++l) {
-        const double lo = lines[l].frequency_hz * (1.0 - tol) - half_bw;
-        const double hi = lines[l].frequency_hz * (1.0 + tol) + half_bw;
-        const auto first = static_cast<std::size_t>(std::lower_bound(centres.begin(), centres.end(), lo) - centres.begin());
-        const auto last = static_cast<std::size_t>(std::upper_bound(centres.begin(), centres.end(), hi) - centres.begin());
-        if (first >= last) continue;
-        power_step[first] += line_power_of[l];
-        power_step[last] -= line_power_of[l];
-        ++count_step[first];
-        --count_step[last];
-      }
-      double power = 0.0;
-      std::ptrdiff_t count = 0;
-      for (std::size_t c = 0; c < centres.size() && out.drift_band_ok[b]; ++c) {
-        power += power_step[c];
-        count += count_step[c];
-        if (count <= 0) {
-          power = 0.0;  // no line here: drop the rounding residue of the running sum
-          continue;
+      const double reach = channel_reach_hz(band.bandwidth_hz);
+      std::vector<double> power(centres.size(), 0.0), strongest(centres.size(), 0.0);
+      std::vector<bool> heard_any(centres.size(), false);
+      for (const SpectralLine& line : lines) {
+        const double lo = line.frequency_hz * (1.0 - tol);
+        const double hi = line.frequency_hz * (1.0 + tol);
+        const auto first = static_cast<std::size_t>(std::lower_bound(centres.begin(), centres.end(), lo - reach) - centres.begin());
+        const auto last = static_cast<std::size_t>(std::upper_bound(centres.begin(), centres.end(), hi + reach) - centres.begin());
+        for (std::size_t c = first; c < last; ++c) {
+          const double offset = centres[c] < lo ? lo - centres[c] : centres[c] > hi ? centres[c] - hi : 0.0;
+          const double p = std::pow(10.0, (line.level_db + channel_response_db(offset, band.bandwidth_hz)) / 10.0);
+          power[c] += p;
+          strongest[c] = std::max(strongest[c], p);
+          heard_any[c] = true;
         }
-        const double level_db = power > 0.0 ? 10.0 * std::log10(power) : level_floor_db;
-        if (judge_channel(band, centres[c], level_db, scenario.broadcast.environment).verdict !=
-            ReceptionVerdict::clear) {
+      }
+      for (std::size_t c = 0; c < centres.size() && out.drift_band_ok[b]; ++c) {
+        if (!heard_any[c]) continue;
+        const double level_db = power[c] > 0.0 ? 10.0 * std::log10(power[c]) : level_floor_db;
+        const double strongest_db = strongest[c] > 0.0 ? 10.0 * std::log10(strongest[c]) : level_floor_db;
+        if (judge_channel(band, centres[c], level_db, scenario.broadcast.environment, is_tone(strongest_db, level_db))
+                .verdict != ReceptionVerdict::clear) {
           out.drift_band_ok[b] = false;
         }
       }

@@ -267,12 +267,21 @@ BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine
   return map_sorted_lines_to_band(band, lines, sorted_line_order(lines));
 }
 
+double channel_response_db(double offset_hz, double bandwidth_hz) {
+  const double x = 2.0 * offset_hz / bandwidth_hz;
+  return -channel_edge_db * x * x;
+}
+
+double channel_reach_hz(double bandwidth_hz) {
+  return 0.5 * bandwidth_hz * std::sqrt(-channel_stop_db / channel_edge_db);
+}
+
 BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines,
                                        const std::vector<std::size_t>& order) {
   if (order.size() != lines.size()) throw Error("line order does not match the lines");
   BandOccupancy occupancy;
   const std::vector<double> centres = band.channel_centres_hz();
-  const double half_bw = 0.5 * band.bandwidth_hz;
+  const double reach = channel_reach_hz(band.bandwidth_hz);
   // Each channel finds its lines by binary search in the frequency-sorted order.
   auto first_at_or_above = [&](double f) {
     return std::lower_bound(order.begin(), order.end(), f,
@@ -283,25 +292,25 @@ BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<Spect
     occupancy.lines_inside.push_back(*it);
   }
   for (const double centre : centres) {
-    const double lo = centre - half_bw - edge_slack_hz;
-    const double hi = centre + half_bw + edge_slack_hz;
-    auto it = first_at_or_above(lo);
+    auto it = first_at_or_above(centre - reach);
     ChannelHit hit;
     hit.centre_hz = centre;
     double power = 0.0;
     double strongest_db = -INFINITY;
-    for (; it != order.end() && lines[*it].frequency_hz <= hi; ++it) {
+    for (; it != order.end() && lines[*it].frequency_hz <= centre + reach; ++it) {
       const SpectralLine& line = lines[*it];
-      power += std::pow(10.0, line.level_db / 10.0);
+      const double weighted_db = line.level_db + channel_response_db(line.frequency_hz - centre, band.bandwidth_hz);
+      power += std::pow(10.0, weighted_db / 10.0);
       ++hit.line_count;
-      if (line.level_db > strongest_db) {
-        strongest_db = line.level_db;
+      if (weighted_db > strongest_db) {
+        strongest_db = weighted_db;
         hit.strongest_line_hz = line.frequency_hz;
         hit.strongest_line_index = *it;
       }
     }
     if (hit.line_count == 0) continue;
     hit.level_db = power > 0.0 ? 10.0 * std::log10(power) : level_floor_db;
+    hit.strongest_level_db = std::max(strongest_db, level_floor_db);
     occupancy.channels.push_back(hit);
   }
   for (std::size_t c = 0; c < occupancy.channels.size(); ++c) {

@@ -18,15 +18,22 @@ std::string reception_verdict_name(ReceptionVerdict verdict) {
   return "clear";
 }
 
-ChannelReception judge_channel(const Band& band, double centre_hz, double level_dbuvm, Environment environment) {
+bool is_tone(double strongest_level_db, double level_db) {
+  return strongest_level_db >= level_db - 10.0 * std::log10(2.0) - 1e-9;
+}
+
+ChannelReception judge_channel(const Band& band, double centre_hz, double level_dbuvm, Environment environment,
+                               bool tone) {
   ChannelReception channel;
   channel.centre_hz = centre_hz;
   channel.level_dbuvm = level_dbuvm;
+  channel.tone = tone;
   channel.ambient_dbuvm = ambient_noise_field_dbuvm(environment, centre_hz, band.bandwidth_hz);
   channel.protection_threshold_dbuvm = band.wanted_field_dbuvm - band.protection_ratio_db;
   if (band.modulation == Modulation::am) {
-    // AM: audio S/N follows C/N; the protection ratio (BS.560) is the disturbance limit.
-    channel.clear_below_dbuvm = channel.ambient_dbuvm;
+    // AM: audio S/N follows C/N; the protection ratio (BS.560) is the disturbance limit. A whistle is
+    // heard under the noise (critical-band masking, judgement).
+    channel.clear_below_dbuvm = channel.ambient_dbuvm - (tone ? tone_audibility_db : 0.0);
     channel.noisy_above_dbuvm = std::max(channel.ambient_dbuvm, channel.protection_threshold_dbuvm);
   } else {
     // FM: limiter and capture effect reject what lies a protection ratio (BS.412) under the wanted
@@ -57,7 +64,8 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
   const BandOccupancy occupancy = map_sorted_lines_to_band(band, lines, order);
   result.lines_inside = occupancy.lines_inside;
   for (const ChannelHit& hit : occupancy.channels) {
-    ChannelReception channel = judge_channel(band, hit.centre_hz, hit.level_db, spec.environment);
+    ChannelReception channel = judge_channel(band, hit.centre_hz, hit.level_db, spec.environment,
+                                             is_tone(hit.strongest_level_db, hit.level_db));
     channel.strongest_line_hz = hit.strongest_line_hz;
     channel.line_count = hit.line_count;
     const std::size_t source = lines[hit.strongest_line_index].source_index;

@@ -17,8 +17,9 @@
 ///     FM threshold carrier-to-noise ratio (12 dB, common practice: 10–12 dB) of the weak wanted
 ///     signal, where the FM improvement collapses: noisy above wanted − fm_threshold.
 /// Assumptions: the weak station is at the band's minimum usable field strength (the band file's
-/// wanted_field); the disturbance field is the power sum of the lines in the receiver's rectangular
-/// passband; the ambient is man-made noise only (galactic and atmospheric noise, large on LW/MW at
+/// wanted_field); the disturbance field is the power sum of the lines weighted by the channel's
+/// shaped response (channel_response_db in core/radio/bands.hpp), so no line falls between channels;
+/// a single line is a whistle, audible under the noise (tone_audibility_db); the ambient is man-made noise only (galactic and atmospheric noise, large on LW/MW at
 /// night, are left out, which makes `clear` harder to reach). Each band's receiver listens with its
 /// antenna (core/radio/antenna.hpp): a ferrite rod reads η0·H, a whip reads E, both exact at any
 /// distance (core/radio/radiated.hpp).
@@ -42,6 +43,12 @@ enum class ReceptionVerdict { clear, watch, noisy };
 /// "clear", "watch", "noisy".
 [[nodiscard]] std::string reception_verdict_name(ReceptionVerdict verdict);
 
+/// How far under the channel's noise power a steady tone (a heterodyne whistle) is still heard [dB]:
+/// 10 dB, the middle of the 8–13 dB of critical-band masking (docs/references.md §5.5, judgement).
+/// An AM channel whose power comes mostly from one line (its strongest line carries at least half of
+/// it) is clear only this far under the ambient noise.
+inline constexpr double tone_audibility_db = 10.0;
+
 /// FM threshold carrier-to-noise ratio [dB] (common practice: 10–12 dB).
 inline constexpr double fm_threshold_cn_db = 12.0;
 
@@ -59,6 +66,7 @@ struct ChannelReception {
   double protection_threshold_dbuvm = 0.0;  ///< wanted_field − protection_ratio [dBµV/m]
   double clear_below_dbuvm = 0.0;  ///< at or below this: clear
   double noisy_above_dbuvm = 0.0;  ///< above this: noisy
+  bool tone = false;               ///< one line dominates: judged as a whistle (tone_audibility_db)
   ReceptionVerdict verdict = ReceptionVerdict::clear;
 };
 
@@ -73,9 +81,12 @@ struct BandReception {
   std::vector<std::string> caveats;           ///< near field, electrically long cable, noise-model range
 };
 
-/// The verdict of one channel for a disturbance `level_dbuvm` (rules above). Exposed for tests.
+/// The verdict of one channel for a disturbance `level_dbuvm` (rules above); `tone`: the disturbance is
+/// one steady line, heard as a whistle on AM down to tone_audibility_db under the ambient. Exposed for tests.
 [[nodiscard]] ChannelReception judge_channel(const Band& band, double centre_hz, double level_dbuvm,
-                                             Environment environment);
+                                             Environment environment, bool tone = false);
+/// True when a channel's strongest line (through the channel's response) carries at least half its power.
+[[nodiscard]] bool is_tone(double strongest_level_db, double level_db);
 
 /// What the receivers hear: E lines for a whip, η0·H lines for a ferrite rod [dBµV/m], each line's
 /// source_index pointing into `field` (for the radiator shares).

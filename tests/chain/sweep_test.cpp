@@ -170,15 +170,17 @@ TEST_CASE("common practice: a switching frequency above the top of MW keeps ever
   const RobustWindow& top = w.back();
   CHECK(top.from_value <= 2.1e6);
   CHECK(top.to_value >= 2.5e6 - tol_hz);
-  // The window begins above the highest channel's passband (1602 kHz + 4.5 kHz, or 1606.5 kHz):
-  // 1610 kHz is the first grid point of 5 kHz steps past it.
-  CHECK(std::abs(top.from_value - 1.61e6) < tol_hz);
-  // With a 5 % drift the fundamental's range f0·(1 ± 0.05) must stay above 1606.5 kHz:
-  // f0 > 1606.5 / 0.95 = 1691.05 kHz, so the window starts at the grid point 1695 kHz.
+  // The window begins beyond the highest channel's reach: its Gaussian response (9 kHz at −6 dB) is cut
+  // 60 dB down, 1.578 × 9 kHz = 14.2 kHz off, at 1616.2 kHz; this loud line is above the ambient
+  // anywhere inside it. 1620 kHz is the first grid point of 5 kHz steps past it. (A brick-wall
+  // passband ended at 1606.5 kHz; the skirt is heard as well, core/radio/bands.hpp.)
+  CHECK(std::abs(top.from_value - 1.62e6) < tol_hz);
+  // With a 5 % drift the fundamental's range f0·(1 ± 0.05) must stay above 1616.2 kHz:
+  // f0 > 1616.2 / 0.95 = 1701.3 kHz, so the window starts at the grid point 1705 kHz.
   const SweepResult drift = sweep_1d(loud_scenario(1), "switching.frequency=1.5MHz:2.5MHz:201", {"MW"}, 0.05);
   const auto wd = windows_of(drift, 0);
   REQUIRE(wd.size() >= 1);
-  CHECK(std::abs(wd.back().from_value - 1.695e6) < tol_hz);
+  CHECK(std::abs(wd.back().from_value - 1.705e6) < tol_hz);
   CHECK(wd.back().to_value >= 2.5e6 - tol_hz);
 }
 
@@ -195,31 +197,24 @@ TEST_CASE("common practice: a fundamental below 150 kHz stays below the start of
   CHECK(std::abs(wd[0].to_value - 142e3) < tol_hz);
 }
 
-TEST_CASE("hand-computed: region 2 MW, a fundamental between two 10 kHz channels") {
-  // Channels at every 10 kHz with a 9 kHz passband (±4.5 kHz, edges included): near 1005 kHz the
-  // passbands of 1000 and 1010 kHz leave (1004.5, 1005.5) kHz free. The second harmonic (2009-2011
-  // kHz) is above MW (1705 kHz), so the fundamental is MW's only line. (Two consecutive harmonics k,
-  // k+1 cannot both fall in gaps: their difference f0 would have to lie within 1 kHz of a multiple of
-  // 10 kHz while k·f0 lies 4.5-5.5 kHz off one; for MW's 1705/525 ratio k = 1 is the only case.)
+TEST_CASE("region 2 MW: a fundamental between two 10 kHz channels is heard in both, no window in the gap") {
+  // With a brick-wall 9 kHz passband (±4.5 kHz) the channels at 1000 and 1010 kHz left (1004.5,
+  // 1005.5) kHz unheard, and the sweep offered it as a window. A receiver hears a line there as a 5 kHz
+  // whistle: the shaped response (docs/references.md §5.5: a 9 kHz Gaussian passes a line 5 kHz off
+  // centre at −7.4 dB) weights it in both channels, so no offset is clear for a loud line. The second
+  // harmonic (2009-2011 kHz) is above MW (1705 kHz), so the fundamental is MW's only line.
   const std::string vary = "switching.frequency=1000kHz:1010kHz:1001";  // 10 Hz steps
   const SweepResult r = sweep_1d(loud_scenario(2), vary, {"MW"}, 0.0);
-  auto w = windows_of(r, 0);
-  REQUIRE(w.size() == 1);
-  CHECK(std::abs(w[0].from_value - 1004.51e3) < tol_hz);
-  CHECK(std::abs(w[0].to_value - 1005.49e3) < tol_hz);
-
-  // ±0.03 % drift (±301.5 Hz): f0·1.0003 < 1005.5 kHz and f0·0.9997 > 1004.5 kHz, so
-  // 1004.80144 < f0 < 1005.19844 kHz -> grid points 1004.81 to 1005.19 kHz (hand-computed).
-  const SweepResult d = sweep_1d(loud_scenario(2), vary, {"MW"}, 0.0003);
-  w = windows_of(d, 0);
-  REQUIRE(w.size() == 1);
-  CHECK(std::abs(w[0].from_value - 1004.81e3) < tol_hz);
-  CHECK(std::abs(w[0].to_value - 1005.19e3) < tol_hz);
-
-  // ±0.1 % (±1 kHz) is wider than the 1 kHz gap: the fundamental drifts onto a channel everywhere.
-  const SweepResult none = sweep_1d(loud_scenario(2), vary, {"MW"}, 0.001);
-  CHECK(windows_of(none, 0).empty());
-  for (const SweepPoint& p : none.points) CHECK_FALSE(p.robust[0]);
+  CHECK(windows_of(r, 0).empty());
+  const auto mw = std::find(r.bands.begin(), r.bands.end(), "MW");
+  REQUIRE(mw != r.bands.end());
+  const auto index = static_cast<std::size_t>(mw - r.bands.begin());
+  for (const SweepPoint& p : r.points) {
+    CAPTURE(p.values[0]);
+    CHECK_FALSE(p.robust[0]);
+    REQUIRE(p.bands.size() > index);
+    CHECK(p.bands[index].verdict != ReceptionVerdict::clear);
+  }
 }
 
 TEST_CASE("output order does not depend on the thread count") {

@@ -54,7 +54,8 @@ std::string data_file(const std::string& name) {
   return std::string(SPURCAST_SOURCE_DIR) + "/tests/data/bands/" + name;
 }
 
-// The slow, obviously correct twin of map_lines_to_band: every channel against every line.
+// The slow, obviously correct twin of map_lines_to_band: every channel against every line, through a
+// Gaussian written out: amplitude 2^(−(2Δ/B)²), half (−6.02 dB) at Δ = B/2, cut at 60 dB down.
 std::vector<ChannelHit> brute_force_hits(const Band& band, const std::vector<SpectralLine>& lines) {
   std::vector<ChannelHit> hits;
   for (double centre : band.channel_centres_hz()) {
@@ -62,8 +63,10 @@ std::vector<ChannelHit> brute_force_hits(const Band& band, const std::vector<Spe
     hit.centre_hz = centre;
     double power = 0.0;
     for (const SpectralLine& line : lines) {
-      if (std::abs(line.frequency_hz - centre) <= band.bandwidth_hz / 2.0 + 1e-3) {
-        power += std::pow(10.0, line.level_db / 10.0);
+      const double x = 2.0 * (line.frequency_hz - centre) / band.bandwidth_hz;
+      const double amplitude = std::pow(2.0, -x * x);
+      if (amplitude >= 1e-3) {
+        power += std::pow(10.0, line.level_db / 10.0) * amplitude * amplitude;
         ++hit.line_count;
       }
     }
@@ -229,59 +232,88 @@ TEST_CASE("a 100 kHz source puts a line on every 10th Region 2 MW channel centre
   // Harmonics 6..17 (600-1700 kHz) are inside 525-1705 kHz.
   REQUIRE(occupancy.lines_inside.size() == 12);
   CHECK(lines[occupancy.lines_inside.front()].frequency_hz == doctest::Approx(600e3));
-  REQUIRE(occupancy.channels.size() == 12);
+  // Each line is heard in full by the channel on it, and by its two neighbours 10 kHz away through
+  // the Gaussian skirt, −6.02·(20/9)² = −29.73 dB (the 1700 kHz line has no channel above it).
+  const double skirt_db = -20.0 * std::log10(2.0) * (20.0 / 9.0) * (20.0 / 9.0);
+  REQUIRE(occupancy.channels.size() == 12 * 3 - 1);
   const auto centres = mw.channel_centres_hz();
+  std::size_t on_line = 0;
   for (std::size_t i = 0; i < occupancy.channels.size(); ++i) {
     const ChannelHit& hit = occupancy.channels[i];
     CAPTURE(hit.centre_hz);
-    CHECK(hit.centre_hz == doctest::Approx((6.0 + static_cast<double>(i)) * 100e3));
-    CHECK(hit.strongest_line_hz == doctest::Approx(hit.centre_hz));
     CHECK(hit.line_count == 1);
-    // Every 10th centre of the 10 kHz grid: index in the channel list steps by 10.
-    const auto index = std::find_if(centres.begin(), centres.end(),
-                                    [&](double c) { return std::abs(c - hit.centre_hz) < tol_hz; }) - centres.begin();
-    CHECK(index == 7 + 10 * static_cast<long>(i));
+    const double nearest = std::round(hit.centre_hz / 100e3) * 100e3;
+    CHECK(hit.strongest_line_hz == doctest::Approx(nearest));
+    const double level = 60.0 - nearest / 100e3;
+    if (std::abs(hit.centre_hz - nearest) < tol_hz) {
+      CHECK(hit.level_db == doctest::Approx(level).epsilon(tol_db));
+      // Every 10th centre of the 10 kHz grid: index in the channel list steps by 10.
+      const auto index = std::find_if(centres.begin(), centres.end(),
+                                      [&](double c) { return std::abs(c - hit.centre_hz) < tol_hz; }) - centres.begin();
+      CHECK(index == 7 + 10 * static_cast<long>(on_line++));
+    } else {
+      CHECK(std::abs(std::abs(hit.centre_hz - nearest) - 10e3) < tol_hz);
+      CHECK(hit.level_db == doctest::Approx(level + skirt_db).epsilon(tol_db));
+    }
   }
+  CHECK(on_line == 12);
   // The loudest is the lowest harmonic inside (level 60 − 6 dB).
   REQUIRE(occupancy.worst_channel);
   CHECK(occupancy.channels[*occupancy.worst_channel].centre_hz == doctest::Approx(600e3));
   CHECK(occupancy.channels[*occupancy.worst_channel].level_db == doctest::Approx(54.0).epsilon(tol_db));
 }
 
-TEST_CASE("a 104.5 kHz source falls between Region 2 MW channels for some harmonics (hand-computed)") {
+TEST_CASE("a line between two Region 2 MW channels is heard in both, at -7.4 dB (docs/references.md §5.5)") {
   const Band mw = band_named(load_region_band_plan(2), "MW");  // 10 kHz raster, 9 kHz receiver
-  std::vector<SpectralLine> lines;
-  for (int k = 1; k <= 20; ++k) lines.push_back({k * 104.5e3, 40.0});
-  const BandOccupancy occupancy = map_lines_to_band(mw, lines);
-  // k = 6..16 (627-1672 kHz) are inside; 522.5 kHz and 1776.5 kHz are not.
-  CHECK(occupancy.lines_inside.size() == 11);
-  // By hand: 627→630, 731.5→730, 836→840 (4 kHz off, inside ±4.5 kHz), 940.5→940, 1045→none
-  // (5 kHz from 1040 and from 1050), 1149.5→1150, 1254→1250, 1358.5→1360, 1463→1460,
-  // 1567.5→1570, 1672→1670.
-  const double expected_khz[] = {630, 730, 840, 940, 1150, 1250, 1360, 1460, 1570, 1670};
-  REQUIRE(occupancy.channels.size() == std::size(expected_khz));
-  for (std::size_t i = 0; i < std::size(expected_khz); ++i) {
-    CHECK(occupancy.channels[i].centre_hz == doctest::Approx(expected_khz[i] * 1e3));
+  // A brick-wall 9 kHz passband heard nothing of 1045 kHz (5 kHz from 1040 and from 1050 kHz). A 9 kHz
+  // Gaussian passes a line 5 kHz off centre at −7.43 dB [D]: 20·log10(2^(−(10/9)²)).
+  const double expected_db = 20.0 * std::log10(std::pow(2.0, -(10.0 / 9.0) * (10.0 / 9.0)));
+  CHECK(expected_db == doctest::Approx(-7.43).epsilon(0.001));
+  CHECK(channel_response_db(5e3, 9e3) == doctest::Approx(expected_db).epsilon(1e-12));
+  const BandOccupancy occupancy = map_lines_to_band(mw, {{1045e3, 70.0}});
+  std::size_t heard_at_level = 0;
+  for (const ChannelHit& hit : occupancy.channels) {
+    if (std::abs(hit.centre_hz - 1040e3) < tol_hz || std::abs(hit.centre_hz - 1050e3) < tol_hz) {
+      CHECK(hit.level_db == doctest::Approx(70.0 + expected_db).epsilon(tol_db));
+      ++heard_at_level;
+    } else {
+      CHECK(hit.level_db < 70.0 + expected_db);
+    }
   }
+  CHECK(heard_at_level == 2);
+  // Every offset is heard somewhere: sweep a line across a raster step.
+  for (double f = 1040e3; f <= 1050e3; f += 250.0) {
+    CAPTURE(f);
+    const BandOccupancy one = map_lines_to_band(mw, {{f, 70.0}});
+    REQUIRE(one.worst_channel);
+    CHECK(one.channels[*one.worst_channel].level_db >= 70.0 + expected_db - 1e-9);
+  }
+  // The reach: 60 dB down at 1.578 bandwidths.
+  CHECK(channel_response_db(channel_reach_hz(9e3), 9e3) == doctest::Approx(channel_stop_db));
 }
 
-TEST_CASE("lines in one passband are power-summed: the energy of a dithered line in a channel") {
+TEST_CASE("lines in one passband are power-summed through the response: the energy of a dithered line") {
   Band band;
   band.name = "test";
   band.low_hz = 500e3;
   band.high_hz = 1500e3;
   band.raster_hz = 10e3;
   band.bandwidth_hz = 9e3;
-  // Two equal lines 2 kHz apart in the 1000 kHz channel: +3.01 dB (10·log10 2).
+  // Two equal lines 1 kHz either side of 1000 kHz: each −6.02·(2/9)² = −0.297 dB, together +3.01 dB.
   const auto two = map_lines_to_band(band, {{999e3, 30.0}, {1001e3, 30.0}});
-  REQUIRE(two.channels.size() == 1);
-  CHECK(two.channels[0].level_db == doctest::Approx(30.0 + 10.0 * std::log10(2.0)).epsilon(tol_db));
-  CHECK(two.channels[0].line_count == 2);
-  // The passband edge is included: 1004.5 kHz is 4.5 kHz = bandwidth/2 from 1000 kHz (heard) and
-  // 5.5 kHz from 1010 kHz (not heard).
+  REQUIRE(two.worst_channel);
+  const ChannelHit& centre = two.channels[*two.worst_channel];
+  CHECK(centre.centre_hz == doctest::Approx(1000e3));
+  CHECK(centre.level_db == doctest::Approx(30.0 - 20.0 * std::log10(2.0) * (2.0 / 9.0) * (2.0 / 9.0) + 10.0 * std::log10(2.0)).epsilon(tol_db));
+  CHECK(centre.line_count == 2);
+  // At the edge of the 6 dB bandwidth, 4.5 kHz from 1000 kHz: −6.02 dB; 5.5 kHz from 1010 kHz: −8.99 dB.
   const auto edge = map_lines_to_band(band, {{1004.5e3, 20.0}});
-  REQUIRE(edge.channels.size() == 1);
-  CHECK(edge.channels[0].centre_hz == doctest::Approx(1000e3));
+  for (const ChannelHit& hit : edge.channels) {
+    if (std::abs(hit.centre_hz - 1000e3) < tol_hz) CHECK(hit.level_db == doctest::Approx(20.0 - 20.0 * std::log10(2.0)).epsilon(tol_db));
+    if (std::abs(hit.centre_hz - 1010e3) < tol_hz) {
+      CHECK(hit.level_db == doctest::Approx(20.0 - 20.0 * std::log10(2.0) * (11.0 / 9.0) * (11.0 / 9.0)).epsilon(tol_db));
+    }
+  }
 }
 
 TEST_CASE("fast mapping agrees with the brute-force twin on a random spread spectrum") {

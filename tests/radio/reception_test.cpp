@@ -55,6 +55,28 @@ TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (do
   CHECK(near(city.clear_below_dbuvm, city.noisy_above_dbuvm));
 }
 
+TEST_CASE("a whistle is heard under the noise: tone_audibility_db (docs/references.md §5.5, judgement)") {
+  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const Band& mw = band_named(bands, "MW");
+  // 10 dBµV/m at 999 kHz is under the residential ambient (16.55 dBµV/m): clear as noise, but a steady
+  // line there is a whistle, heard down to 16.55 − 10 = 6.55 dBµV/m.
+  CHECK(judge_channel(mw, 999e3, 10.0, Environment::residential, false).verdict == ReceptionVerdict::clear);
+  const ChannelReception tone = judge_channel(mw, 999e3, 10.0, Environment::residential, true);
+  CHECK(tone.verdict == ReceptionVerdict::watch);
+  CHECK(near(tone.clear_below_dbuvm, tone.ambient_dbuvm - tone_audibility_db));
+  CHECK(judge_channel(mw, 999e3, 6.0, Environment::residential, true).verdict == ReceptionVerdict::clear);
+  // One line is a tone; two equal lines in the channel are not (neither carries more than half).
+  CHECK(is_tone(10.0, 10.0));
+  CHECK(is_tone(10.0 - 10.0 * std::log10(2.0), 10.0));
+  CHECK_FALSE(is_tone(9.0, 10.0 + 10.0 * std::log10(2.0)));
+  BroadcastSpec spec;
+  const auto results = estimate_reception(bands, {{999e3, 10.0}}, spec);
+  const BandReception& band = result_named(results, "MW");
+  REQUIRE(band.worst_channel);
+  CHECK(band.channels[*band.worst_channel].tone);
+  CHECK(band.verdict == ReceptionVerdict::watch);
+}
+
 TEST_CASE("FM tolerates what AM does not: limiter, capture effect, FM threshold") {
   const std::vector<Band> bands = load_region_band_plan(1).bands;
   const Band& fm = band_named(bands, "FM");
