@@ -47,35 +47,6 @@ ScanResult scan_line_spectrum(const LineSpectrum& lines, const ScanPlan& grid_pl
   return grid;
 }
 
-/// Spreads each line of a dithered source over its deviation k·Δf: uniformly for a triangle
-/// profile (the frequency sweeps at a constant rate), with the arcsine density for a sine profile.
-/// The power of the line is kept (Matsumoto et al., IEEE Trans. EMC 47(3), 2005: spreading does
-/// not reduce the harmonic power); this is the time-averaged power a channel collects.
-std::vector<SpectralLine> spread_lines(const std::vector<SpectralLine>& lines, const DitherSpec& dither) {
-  constexpr double resolution_hz = 1e3;  // finer than any channel raster (5 kHz and up)
-  constexpr std::size_t max_sub_lines = 2000;
-  std::vector<SpectralLine> out;
-  for (const SpectralLine& line : lines) {
-    const double centre = line.frequency_hz;
-    const double deviation = centre * dither.deviation_fraction;
-    const auto count = static_cast<std::size_t>(
-        std::clamp(std::ceil(2.0 * deviation / resolution_hz), 1.0, static_cast<double>(max_sub_lines)));
-    const double power = std::pow(10.0, line.level_db / 10.0);
-    for (std::size_t m = 0; m < count; ++m) {
-      // Sub-band m covers x in [x0, x1] of the normalised deviation [-1, 1].
-      const double x0 = -1.0 + 2.0 * static_cast<double>(m) / static_cast<double>(count);
-      const double x1 = -1.0 + 2.0 * static_cast<double>(m + 1) / static_cast<double>(count);
-      double weight = 1.0 / static_cast<double>(count);
-      if (dither.profile == DitherProfile::sine) {
-        weight = (std::asin(std::clamp(x1, -1.0, 1.0)) - std::asin(std::clamp(x0, -1.0, 1.0))) / std::numbers::pi;
-      }
-      if (weight <= 0.0 || power <= 0.0) continue;
-      out.push_back({centre + deviation * 0.5 * (x0 + x1), 10.0 * std::log10(power * weight), line.source_index});
-    }
-  }
-  return out;
-}
-
 LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>& notes) {
   FftPlanner planner;
   const AmplitudeSpectrum spectrum = amplitude_spectrum(capture.waveform, Window::hann, planner);
@@ -319,10 +290,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     p.notes.push_back("the source gives no input current: the hot loop carries nothing");
   }
   ReceiverLines lines = receiver_lines(p.field);
-  if (p.source_kind == SourceKind::dithered) {
-    lines.e_lines = spread_lines(lines.e_lines, *scenario.switching->dither);
-    lines.h_lines = spread_lines(lines.h_lines, *scenario.switching->dither);
-  }
+  if (p.source_kind == SourceKind::dithered) lines.dither = *scenario.switching->dither;
   p.reception = estimate_reception(bands_for(scenario.broadcast), lines, scenario.broadcast);
   return p;
 }

@@ -30,17 +30,12 @@ ChannelReception judge_channel(const Band& band, double centre_hz, double level_
   channel.tone = tone;
   channel.ambient_dbuvm = ambient_noise_field_dbuvm(environment, centre_hz, band.bandwidth_hz);
   channel.protection_threshold_dbuvm = band.wanted_field_dbuvm - band.protection_ratio_db;
-  if (band.modulation == Modulation::am) {
-    // AM: audio S/N follows C/N; the protection ratio (BS.560) is the disturbance limit. A whistle is
-    // heard under the noise (critical-band masking, judgement).
-    channel.clear_below_dbuvm = channel.ambient_dbuvm - (tone ? tone_audibility_db : 0.0);
-    channel.noisy_above_dbuvm = std::max(channel.ambient_dbuvm, channel.protection_threshold_dbuvm);
-  } else {
-    // FM: limiter and capture effect reject what lies a protection ratio (BS.412) under the wanted
-    // carrier; the FM improvement holds until C/N falls to the threshold (common practice 10-12 dB).
-    channel.clear_below_dbuvm = std::max(channel.ambient_dbuvm, channel.protection_threshold_dbuvm);
-    channel.noisy_above_dbuvm = std::max(channel.clear_below_dbuvm, band.wanted_field_dbuvm - fm_threshold_cn_db);
-  }
+  // AM: audio S/N follows C/N, and the protection ratio (BS.560) is the disturbance limit; a whistle is
+  // heard under the noise (critical-band masking, judgement). FM: the BS.412 protection ratio, which
+  // already includes the limiter's and the capture effect's rejection.
+  const bool whistle = tone && band.modulation == Modulation::am;
+  channel.clear_below_dbuvm = channel.ambient_dbuvm - (whistle ? tone_audibility_db : 0.0);
+  channel.noisy_above_dbuvm = std::max(channel.ambient_dbuvm, channel.protection_threshold_dbuvm);
   if (level_dbuvm <= channel.clear_below_dbuvm) {
     channel.verdict = ReceptionVerdict::clear;
   } else if (level_dbuvm > channel.noisy_above_dbuvm) {
@@ -131,6 +126,46 @@ std::string number(double value, const char* format) {
 
 }  // namespace
 
+double sweep_peak_factor(double sweep_rate_hz_per_s, double bandwidth_3db_hz) {
+  const double x = 0.195 * sweep_rate_hz_per_s / (bandwidth_3db_hz * bandwidth_3db_hz);
+  return 1.0 / std::sqrt(1.0 + x * x);
+}
+
+std::vector<SpectralLine> dithered_lines(const std::vector<SpectralLine>& lines, const DitherSpec& dither,
+                                         double bandwidth_hz) {
+  // Equivalent noise bandwidth of the Gaussian power response 4^(−(2Δ/B)²): (B/2)·√(π/ln 4).
+  const double enbw_hz = 0.5 * bandwidth_hz * std::sqrt(std::numbers::pi / std::log(4.0));
+  const double b3_hz = bandwidth_hz / std::sqrt(2.0);  // the Gaussian's 3 dB width
+  const double resolution_hz = std::min(1e3, bandwidth_hz / 8.0);
+  constexpr std::size_t max_sub_lines = 4000;
+  std::vector<SpectralLine> out;
+  for (const SpectralLine& line : lines) {
+    const double deviation = line.frequency_hz * dither.deviation_fraction;
+    const auto count = static_cast<std::size_t>(
+        std::clamp(std::ceil(2.0 * deviation / resolution_hz), 1.0, static_cast<double>(max_sub_lines)));
+    if (count == 1 || deviation <= 0.0) {
+      out.push_back(line);
+      continue;
+    }
+    const double time_average = std::min(1.0, enbw_hz / (2.0 * deviation));
+    const double peak = sweep_peak_factor(4.0 * deviation * dither.rate_hz, b3_hz);
+    const double scale = std::max(time_average, peak) / time_average;
+    const double power = std::pow(10.0, line.level_db / 10.0) * scale;
+    for (std::size_t m = 0; m < count; ++m) {
+      // Sub-band m covers x in [x0, x1] of the normalised deviation [-1, 1].
+      const double x0 = -1.0 + 2.0 * static_cast<double>(m) / static_cast<double>(count);
+      const double x1 = -1.0 + 2.0 * static_cast<double>(m + 1) / static_cast<double>(count);
+      double weight = 1.0 / static_cast<double>(count);
+      if (dither.profile == DitherProfile::sine) {
+        weight = (std::asin(std::clamp(x1, -1.0, 1.0)) - std::asin(std::clamp(x0, -1.0, 1.0))) / std::numbers::pi;
+      }
+      if (weight <= 0.0 || power <= 0.0) continue;
+      out.push_back({line.frequency_hz + deviation * 0.5 * (x0 + x1), 10.0 * std::log10(power * weight), line.source_index});
+    }
+  }
+  return out;
+}
+
 ReceiverLines receiver_lines(std::vector<FieldLine> field) {
   ReceiverLines out;
   out.e_lines.reserve(field.size());
@@ -151,8 +186,22 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, co
   const std::vector<std::size_t> h_order = sorted_line_order(lines.h_lines);
   for (const Band& band : bands) {
     const bool magnetic = antenna_for_band(spec.antenna, band.high_hz) == AntennaKind::ferrite;
-    results.push_back(judge_band(band, magnetic ? lines.h_lines : lines.e_lines, magnetic ? h_order : e_order, spec,
-                                 &lines.field, magnetic));
+    const std::vector<SpectralLine>& heard = magnetic ? lines.h_lines : lines.e_lines;
+    if (lines.dither) {
+      // Spread with this band's channel bandwidth; only the lines that can reach the band.
+      const double reach = channel_reach_hz(band.bandwidth_hz);
+      std::vector<SpectralLine> near_band;
+      for (const SpectralLine& line : heard) {
+        const double deviation = line.frequency_hz * lines.dither->deviation_fraction;
+        if (line.frequency_hz + deviation >= band.low_hz - reach && line.frequency_hz - deviation <= band.high_hz + reach) {
+          near_band.push_back(line);
+        }
+      }
+      const std::vector<SpectralLine> spread = dithered_lines(near_band, *lines.dither, band.bandwidth_hz);
+      results.push_back(judge_band(band, spread, sorted_line_order(spread), spec, &lines.field, magnetic));
+    } else {
+      results.push_back(judge_band(band, heard, magnetic ? h_order : e_order, spec, &lines.field, magnetic));
+    }
   }
   return results;
 }

@@ -2,7 +2,7 @@
 /// The reception estimate: for each broadcast band, how a nearby receiver tuned to its channels fares
 /// against the disturbance field in its bandwidth. Our verdicts:
 ///   clear  — the disturbance is under what the receiver already hears (the ambient man-made noise of
-///            ITU-R P.372; for FM also under the level its limiter and capture effect reject);
+///            ITU-R P.372; for a whistle on AM, tone_audibility_db under it);
 ///   watch  — above that, but below the threshold where a weak station is disturbed;
 ///   noisy  — reception of a weak station is likely disturbed.
 ///
@@ -11,16 +11,19 @@
 ///     carrier-to-noise ratio, so the threshold is the co-channel protection ratio (ITU-R BS.560:
 ///     40 dB, giving 20 dBµV/m for a 60 dBµV/m station): noisy above
 ///     max(ambient, wanted_field − protection_ratio), clear at or below the ambient.
-///   FM: the limiter suppresses amplitude noise and the capture effect suppresses a weaker co-channel
-///     carrier by the BS.412 protection ratio (36 dB mono steady, from memory), so the disturbance is
-///     clear at or below max(ambient, wanted − protection_ratio); it is noisy once it comes within the
-///     FM threshold carrier-to-noise ratio (12 dB, common practice: 10–12 dB) of the weak wanted
-///     signal, where the FM improvement collapses: noisy above wanted − fm_threshold.
+///   FM: the co-channel RF protection ratio of ITU-R BS.412 (mono 36 dB, stereo 45 dB, steady; from
+///     memory, docs/references.md §5.1) is the level of an interferer against a station at the minimum
+///     usable field (48 dBµV/m mono, 54 stereo; the band file's values) at which reception is just
+///     acceptable: noisy above max(ambient, wanted − protection_ratio), clear at or below the ambient.
+///     The limiter and the capture effect are what the protection ratio already measures, so no further
+///     credit is given (an earlier rule that waited for the FM threshold C/N was 24 dB more lenient than
+///     the ratio it cited).
 /// Assumptions: the weak station is at the band's minimum usable field strength (the band file's
 /// wanted_field); the disturbance field is the power sum of the lines weighted by the channel's
 /// shaped response (channel_response_db in core/radio/bands.hpp), so no line falls between channels;
-/// a single line is a whistle, audible under the noise (tone_audibility_db); the ambient is man-made noise only (galactic and atmospheric noise, large on LW/MW at
-/// night, are left out, which makes `clear` harder to reach). Each band's receiver listens with its
+/// a single line is a whistle, audible under the noise (tone_audibility_db); the ambient is man-made
+/// noise only (galactic and atmospheric noise, large on LW/MW at night, are left out, which makes
+/// `clear` harder to reach). Each band's receiver listens with its
 /// antenna (core/radio/antenna.hpp): a ferrite rod reads η0·H, a whip reads E, both exact at any
 /// distance (core/radio/radiated.hpp).
 ///
@@ -35,6 +38,7 @@
 #include "core/radio/antenna.hpp"
 #include "core/radio/bands.hpp"
 #include "core/radio/radiated.hpp"
+#include "core/source/source.hpp"
 
 namespace spurcast {
 
@@ -48,9 +52,6 @@ enum class ReceptionVerdict { clear, watch, noisy };
 /// An AM channel whose power comes mostly from one line (its strongest line carries at least half of
 /// it) is clear only this far under the ambient noise.
 inline constexpr double tone_audibility_db = 10.0;
-
-/// FM threshold carrier-to-noise ratio [dB] (common practice: 10–12 dB).
-inline constexpr double fm_threshold_cn_db = 12.0;
 
 /// One channel that hears at least one line, with the numbers behind its verdict.
 struct ChannelReception {
@@ -94,7 +95,27 @@ struct ReceiverLines {
   std::vector<FieldLine> field;
   std::vector<SpectralLine> e_lines;
   std::vector<SpectralLine> h_lines;
+  /// A dithered source: the lines are its nominal (undithered) harmonics, spread per band by
+  /// dithered_lines() with the band's channel bandwidth.
+  std::optional<DitherSpec> dither;
 };
+
+/// The sweep-rate factor of a channel [power ratio, ≤ 1]: the peak power a Gaussian filter of 3 dB
+/// bandwidth B3 reads from a line sweeping through it at `sweep_rate_hz_per_s`,
+/// [1 + (0.195·S/B3²)²]^(−1/2) (the swept-analyser sweep-loss relation for a Gaussian filter, from memory).
+[[nodiscard]] double sweep_peak_factor(double sweep_rate_hz_per_s, double bandwidth_3db_hz);
+
+/// A dithered source's lines as a channel of `bandwidth_hz` (6 dB) hears them: each line spread over its
+/// deviation k·Δf (uniform density for a triangle, arcsine for a sine profile; sub-lines spaced at most
+/// bandwidth/8 and 1 kHz), scaled so that a channel inside the deviation collects the larger of
+///  - the time-averaged share, ENBW/(2·k·Δf) (ENBW = 0.753·bandwidth for the Gaussian), and
+///  - sweep_peak_factor() at the mean sweep rate 4·k·Δf·f_m: a slow sweep (f_m·k·Δf small against the
+///    bandwidth²) crosses the channel and is heard as the full line for part of each period
+///    (docs/references.md §5.5), a fast one only as its time-averaged share. The level heard is the peak
+///    of the passage (judgement: a periodic burst at the full line is as audible as the line).
+/// Lines keep their source_index.
+[[nodiscard]] std::vector<SpectralLine> dithered_lines(const std::vector<SpectralLine>& lines, const DitherSpec& dither,
+                                                       double bandwidth_hz);
 /// One E and one η0·H line per field line.
 [[nodiscard]] ReceiverLines receiver_lines(std::vector<FieldLine> field);
 
