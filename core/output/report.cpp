@@ -104,31 +104,15 @@ std::string join(const std::vector<std::string>& items, const std::string& separ
   return out;
 }
 
-std::string verdict_sentence(const Prediction& p) {
-  const MarginReport& m = p.margins;
-  if (!m.worst) {
-    return p.scenario.limits.sets.empty() ? "no limit lines were given: nothing to compare"
-                                          : "no reading fell within the limit lines: nothing compared";
-  }
-  const MarginRow& w = *m.worst;
-  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
-                            " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
-  switch (m.verdict) {
-    case Verdict::pass: return "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
-    case Verdict::marginal:
-      return "every limit is met, but a margin is under the " + signed_db(m.guard_db, 1) + " guard band: " + where;
-    case Verdict::fail: return "a limit is exceeded: " + where;
-  }
-  return where;
-}
-
 const char* verdict_word(Verdict verdict) {
   switch (verdict) {
     case Verdict::pass: return "PASS";
     case Verdict::marginal: return "MARGINAL";
     case Verdict::fail: return "FAIL";
+    case Verdict::incomplete: return "INCOMPLETE";
+    case Verdict::no_limits: return "NO LIMITS";
   }
-  return "PASS";
+  return "INCOMPLETE";
 }
 
 std::optional<double> uncertainty_for(const Prediction& p) {
@@ -143,6 +127,50 @@ std::optional<double> uncertainty_for(const Prediction& p) {
 }
 
 }  // namespace
+
+
+std::vector<std::string> not_computed_lines(const Prediction& p) {
+  std::vector<std::string> lines;
+  for (const NotComputed& part : p.margins.not_computed) lines.push_back(describe(part));
+  for (const UncomputedRange& range : p.unread_bands) {
+    lines.push_back(format_quantity(range.from_hz, Dimension::frequency, 5) + "-" +
+                    format_quantity(range.to_hz, Dimension::frequency, 5) + " of " + range.what + ": " + range.reason);
+  }
+  std::vector<std::string> bands;
+  for (const BandReception& b : p.reception) {
+    if (b.verdict == ReceptionVerdict::not_computed) bands.push_back(b.band.name);
+  }
+  if (!bands.empty()) {
+    lines.push_back("broadcast band" + std::string(bands.size() > 1 ? "s " : " ") + join(bands, ", ") +
+                    ": the source's lines stop at " + format_quantity(p.computed_up_to_hz, Dimension::frequency, 5) +
+                    " (half the capture's sample rate)");
+  }
+  return lines;
+}
+
+std::string verdict_sentence(const Prediction& p) {
+  const MarginReport& m = p.margins;
+  std::string out;
+  if (!m.not_computed.empty()) {
+    out = "not computed: " + describe(m.not_computed.front());
+    if (m.not_computed.size() > 1) out += " (and " + std::to_string(m.not_computed.size() - 1) + " more)";
+    out += "; ";
+  }
+  if (p.verdict == Verdict::no_limits) return out + "no limit lines were given: nothing was compared";
+  if (!m.worst) return out + "no reading fell within the limit lines: nothing compared";
+  const MarginRow& w = *m.worst;
+  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
+                            " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
+  switch (p.verdict) {
+    case Verdict::pass: return out + "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
+    case Verdict::marginal:
+      return out + "every limit is met, but a margin is under the " + signed_db(m.guard_db, 1) + " guard band: " + where;
+    case Verdict::fail: return out + "a limit is exceeded: " + where;
+    case Verdict::incomplete: return out + "where computed, " + where;
+    case Verdict::no_limits: break;
+  }
+  return out + where;
+}
 
 // ---------------------------------------------------------------------------------------------
 // CSV files.
@@ -251,6 +279,30 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
   j["scenario"] = p.scenario.file;
   j["source"] = to_string(p.source_kind);
   j["verdict"] = to_string(p.verdict);
+  // What was not computed comes right after the verdict it qualifies.
+  nlohmann::ordered_json not_computed = nlohmann::ordered_json::array();
+  for (const NotComputed& part : p.margins.not_computed) {
+    not_computed.push_back({{"limit", part.limit_label},
+                            {"from_hz", rounded(part.from_hz, 1)},
+                            {"to_hz", std::isfinite(part.to_hz) ? nlohmann::ordered_json(rounded(part.to_hz, 1))
+                                                                : nlohmann::ordered_json()},
+                            {"reason", part.reason}});
+  }
+  for (const UncomputedRange& range : p.unread_bands) {
+    not_computed.push_back({{"range", range.what},
+                            {"from_hz", rounded(range.from_hz, 1)},
+                            {"to_hz", rounded(range.to_hz, 1)},
+                            {"reason", range.reason}});
+  }
+  for (const BandReception& b : p.reception) {
+    if (b.verdict != ReceptionVerdict::not_computed) continue;
+    not_computed.push_back({{"broadcast_band", b.band.name},
+                            {"from_hz", rounded(std::max(b.band.low_hz, p.computed_up_to_hz), 1)},
+                            {"to_hz", rounded(b.band.high_hz, 1)},
+                            {"reason", "the source's lines stop at " +
+                                           format_quantity(p.computed_up_to_hz, Dimension::frequency, 5)}});
+  }
+  j["not_computed"] = not_computed;
   j["guard_db"] = rounded(p.margins.guard_db, 2);
   nlohmann::ordered_json worst_per = nlohmann::ordered_json::object();
   for (const DetectorMargin& d : p.margins.worst_per_detector) {
@@ -624,6 +676,8 @@ section { background:var(--card); border:1px solid var(--rule); border-radius:6p
 .verdict.pass { border-left-color:var(--pass); } .verdict.pass .word { color:var(--pass); }
 .verdict.marginal { border-left-color:var(--marginal); } .verdict.marginal .word { color:var(--marginal); }
 .verdict.fail { border-left-color:var(--fail); } .verdict.fail .word { color:var(--fail); }
+.verdict.incomplete { border-left-color:var(--marginal); } .verdict.incomplete .word { color:var(--marginal); }
+.verdict.no-limits .word { color:var(--soft); }
 table { border-collapse: collapse; width: 100%; font-size: 13.5px; }
 th, td { text-align:left; padding: 4px 8px; border-bottom: 1px solid var(--rule); vertical-align: top; }
 th { background:#ece8dd; font-weight: 600; }
@@ -633,6 +687,7 @@ td.section { color: var(--soft); white-space: nowrap; }
 .tag.pass, .tag.clear { background:#d5ead9; color:var(--pass); }
 .tag.marginal, .tag.watch { background:#f5e3b3; color:var(--marginal); }
 .tag.fail, .tag.noisy { background:#f2d0c8; color:var(--fail); }
+.tag.not { background:#e4e1d8; color:var(--soft); }
 figure { margin: 0 0 18px; }
 figure svg { width:100%; height:auto; border:1px solid var(--rule); border-radius:4px; background:#fbfaf6; }
 figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
@@ -651,8 +706,9 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
   for (const WorstFrequency& w : rows) {
     const MarginRow& r = w.row;
     out += "<tr><td class=\"num\">" + html(frequency_quantity(r.frequency_hz)) + "</td><td>" +
-           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) +
-           " dB\xC2\xB5V</td><td class=\"num\">" + level_text(r.limit) + " dB\xC2\xB5V</td><td class=\"num\">" +
+           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) + " " +
+           row_unit_symbol(r) + (r.quantity == LimitQuantity::radiated_field ? " (estimate)" : "") +
+           "</td><td class=\"num\">" + level_text(r.limit) + " " + row_unit_symbol(r) + "</td><td class=\"num\">" +
            html(signed_db(r.margin_db, 2)) + "</td><td class=\"num\">" +
            (r.uncertainty_db ? html(fixed(*r.uncertainty_db, 1) + " dB") : "\xE2\x80\x94") + "</td><td>" +
            html(r.limit_label) + "</td><td>" + tag(to_string(verdict_for(r.margin_db, p.margins.guard_db))) +
@@ -665,7 +721,8 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
 
 std::string report_html(const Prediction& p, const std::vector<std::string>& files) {
   const Scenario& s = p.scenario;
-  const std::string verdict = to_string(p.verdict);
+  std::string verdict = to_string(p.verdict);
+  std::replace(verdict.begin(), verdict.end(), ' ', '-');  // a CSS class ("no-limits")
   std::string out;
   out += "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n";
   out += "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n";
@@ -679,6 +736,11 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   // 1. The verdict in one line.
   out += "<section id=\"verdict\" class=\"verdict " + verdict + "\">\n<h2 hidden>Verdict</h2>\n<span class=\"word\">" +
          verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span>\n</section>\n";
+  if (const std::vector<std::string> missing = not_computed_lines(p); !missing.empty()) {
+    out += "<section id=\"not-computed\" class=\"caution\">\n<h2>Not computed</h2>\n<ul>\n";
+    for (const std::string& line : missing) out += "<li>" + html(line) + "</li>\n";
+    out += "</ul>\n</section>\n";
+  }
 
   // 2. The scenario.
   out += "<section id=\"scenario\">\n<h2>Scenario</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
@@ -723,7 +785,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     for (const DetectorMargin& d : p.margins.worst_per_detector) {
       out += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
              "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
-             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " dB\xC2\xB5V</td><td>" +
+             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " " +
+             row_unit_symbol(d.worst) + "</td><td>" +
              html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
     }
     out += "</table>\n";

@@ -54,6 +54,16 @@ struct WorstFrequency {
 /// as the CSVs print them.
 [[nodiscard]] std::string summary_json(const Prediction& prediction, const std::vector<std::string>& files);
 
+/// What the prediction did not compute, one sentence each, in the order every output shows them
+/// first: the parts of limit lines without a reading (with the reason), the unread parts of the
+/// receiver bands, and the broadcast bands above the highest computed frequency.
+[[nodiscard]] std::vector<std::string> not_computed_lines(const Prediction& prediction);
+
+/// The verdict in one sentence (terminal and report): what the verdict rests on, and for
+/// `incomplete` which range was not computed and why; for a common-mode-only capture it says that
+/// differential-mode noise is not included.
+[[nodiscard]] std::string verdict_sentence(const Prediction& prediction);
+
 /// One row of the scenario table: what, and its value with units (format_quantity).
 struct ScenarioInput {
   std::string section;  ///< "source", "coupling", "filter 1", "lisn", ...

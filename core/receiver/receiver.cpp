@@ -466,6 +466,11 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const double highest_covered_hz = 0.5 * waveform.sample_rate_hz - span_bandwidths * band.bandwidth_6db_hz;
   if (plan.frequencies_hz.empty() && frequencies.back() >= highest_covered_hz && frequencies.front() < highest_covered_hz) {
     while (frequencies.back() >= highest_covered_hz) frequencies.pop_back();
+    result.read_up_to_hz = frequencies.back();
+    result.unread_reason = "the record's sample rate (" +
+                           format_quantity(waveform.sample_rate_hz, Dimension::frequency) +
+                           ") covers tuned frequencies up to " + format_quantity(frequencies.back(), Dimension::frequency) +
+                           " only (the tuned frequency plus the IF span must stay under half the sample rate)";
     result.notes.push_back("tuned frequencies above " + format_quantity(frequencies.back(), Dimension::frequency) +
                            " not read: the record's sample rate (" +
                            format_quantity(waveform.sample_rate_hz, Dimension::frequency) + ") does not cover them");

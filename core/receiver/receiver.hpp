@@ -111,6 +111,10 @@ struct ScanResult {
   double bandwidth_6db_hz = 0.0;  ///< [Hz]
   double step_hz = 0.0;           ///< [Hz] 0 for spot readings
   std::vector<Reading> readings;  ///< ascending frequency
+  /// [Hz] set when a band scan stopped early: tuned frequencies above this one were not read (the
+  /// record's sample rate does not cover them); `unread_reason` says why.
+  std::optional<double> read_up_to_hz;
+  std::string unread_reason;
   /// Facts the user should know about how the readings were made ("record treated as periodic ...").
   std::vector<std::string> notes;
 };

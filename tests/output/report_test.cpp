@@ -305,7 +305,7 @@ TEST_CASE("the real chain on the greenhouse example: summary.json agrees with ma
       else cell += ch;
     }
     cells.push_back(cell);
-    REQUIRE(cells.size() == 6);
+    REQUIRE(cells.size() == 7);
     const std::string line_detector = cells[5].substr(cells[5].rfind("/ ") + 2);
     const double margin = std::stod(cells[4]);
     if (!smallest.count(line_detector) || margin < smallest[line_detector]) smallest[line_detector] = margin;
