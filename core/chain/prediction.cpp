@@ -305,6 +305,8 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       p.switch_node_v.fundamental_hz = lines.fundamental_hz;
       captured_i = capture.waveform;
     }
+    p.common_mode_only = captured_v.has_value();
+    p.differential_mode_only = captured_i.has_value();
     p.notes.push_back("captured source: the capture drives the " +
                       std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
                       " only");

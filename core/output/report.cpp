@@ -148,11 +148,24 @@ std::vector<std::string> not_computed_lines(const Prediction& p) {
   return lines;
 }
 
+std::string single_path_warning(const Prediction& p) {
+  if (p.common_mode_only) {
+    return "common-mode noise only: the voltage capture drives the common-mode path, differential-mode noise "
+           "(the input current's) is not included";
+  }
+  if (p.differential_mode_only) {
+    return "differential-mode noise only: the current capture drives the differential-mode path, common-mode "
+           "noise (the switch node's) is not included";
+  }
+  return "";
+}
+
 std::string verdict_sentence(const Prediction& p) {
   const MarginReport& m = p.margins;
   std::string out;
+  if (const std::string warning = single_path_warning(p); !warning.empty()) out = warning + "; ";
   if (!m.not_computed.empty()) {
-    out = "not computed: " + describe(m.not_computed.front());
+    out += "not computed: " + describe(m.not_computed.front());
     if (m.not_computed.size() > 1) out += " (and " + std::to_string(m.not_computed.size() - 1) + " more)";
     out += "; ";
   }
@@ -303,6 +316,10 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
                                            format_quantity(p.computed_up_to_hz, Dimension::frequency, 5)}});
   }
   j["not_computed"] = not_computed;
+  // A capture that drives one path: the other path's noise is missing from every margin.
+  const std::string single_path = single_path_warning(p);
+  j["paths"] = p.common_mode_only ? "common mode only" : p.differential_mode_only ? "differential mode only" : "both";
+  if (!single_path.empty()) j["paths_warning"] = single_path;
   j["guard_db"] = rounded(p.margins.guard_db, 2);
   nlohmann::ordered_json worst_per = nlohmann::ordered_json::object();
   for (const DetectorMargin& d : p.margins.worst_per_detector) {
@@ -771,6 +788,9 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
 
   // 4. Margins.
   out += "<section id=\"margins\">\n<h2>Margins</h2>\n";
+  if (const std::string warning = single_path_warning(p); !warning.empty()) {
+    out += "<p class=\"caution\"><strong>" + html(warning) + ".</strong></p>\n";
+  }
   out += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
          " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
          std::to_string(p.margins.readings) + " readings compared";

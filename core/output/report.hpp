@@ -64,6 +64,11 @@ struct WorstFrequency {
 /// differential-mode noise is not included.
 [[nodiscard]] std::string verdict_sentence(const Prediction& prediction);
 
+/// "" for a source that drives both paths; for a capture that drives only one, the sentence that
+/// says which noise is not included ("common-mode noise only: differential-mode noise is not
+/// included ..."), shown before the verdict and above every margins table.
+[[nodiscard]] std::string single_path_warning(const Prediction& prediction);
+
 /// One row of the scenario table: what, and its value with units (format_quantity).
 struct ScenarioInput {
   std::string section;  ///< "source", "coupling", "filter 1", "lisn", ...

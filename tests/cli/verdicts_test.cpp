@@ -110,7 +110,8 @@ TEST_CASE("a 1 MS/s capture is incomplete above 480 kHz, not a pass") {
   const RunResult r = run_in(dir, "predict s.toml -o out");
   CAPTURE(r.err);
   CHECK(r.exit_code == 1);
-  CHECK(r.out.find("verdict: incomplete (not computed: 480.75 kHz-30 MHz of CISPR 32 class B, AC mains port / "
+  CHECK(r.out.find("verdict: incomplete (common-mode noise only: the voltage capture drives the common-mode path, "
+                   "differential-mode noise (the input current's) is not included; not computed: 480.75 kHz-30 MHz of CISPR 32 class B, AC mains port / "
                    "quasi-peak: the record's sample rate (1 MHz) covers tuned frequencies up to 480.8 kHz only") !=
         std::string::npos);
   CHECK(r.out.find("PASS") == std::string::npos);
@@ -120,7 +121,8 @@ TEST_CASE("a 1 MS/s capture is incomplete above 480 kHz, not a pass") {
   CHECK(summary.at("not_computed")[0].at("from_hz").get<double>() == doctest::Approx(480750.0));
   // The report's verdict line says the same first.
   const std::string html = read_text(dir / "out/report.html");
-  CHECK(html.find("<span class=\"word\">INCOMPLETE</span>\n<span>not computed: 480.75 kHz-30 MHz") != std::string::npos);
+  CHECK(html.find("<span class=\"word\">INCOMPLETE</span>\n<span>common-mode noise only: ") != std::string::npos);
+  CHECK(html.find("is not included; not computed: 480.75 kHz-30 MHz of CISPR 32 class B") != std::string::npos);
   // Broadcast bands above 500 kHz were not computed: never `clear`.
   const std::string bands = read_text(dir / "out/bands.csv");
   CHECK(bands.find("\nMW,1,526500,1606500,not computed,") != std::string::npos);
@@ -158,4 +160,24 @@ TEST_CASE("no limit lines: the verdict is `no limits` (exit 0), never pass") {
   const auto summary = nlohmann::json::parse(read_text(dir / "out/summary.json"));
   CHECK(summary.at("verdict") == "no limits");
   CHECK(read_text(dir / "out/report.html").find("<span class=\"word\">NO LIMITS</span>") != std::string::npos);
+}
+
+TEST_CASE("a voltage capture says first that differential-mode noise is not included") {
+  const fs::path dir = fresh_directory("spurcast-verdicts-", "cm-only");
+  const RunResult r = run_in(dir, "predict " + shell_quote(source_dir + "/examples/scope-capture.toml") + " -o out");
+  CAPTURE(r.err);
+  CHECK(r.exit_code == 1);
+  const std::string warning = "common-mode noise only: the voltage capture drives the common-mode path, "
+                              "differential-mode noise (the input current's) is not included";
+  // In the verdict line itself, before anything else it says.
+  CHECK(r.out.find("verdict: fail (" + warning + "; ") != std::string::npos);
+  // Above the margins table of the terminal and of the report, and in summary.json.
+  CHECK(r.out.find("worst margin per detector of the limit line:\n  (" + warning + ")\n") != std::string::npos);
+  const std::string html = read_text(dir / "out/report.html");
+  const std::size_t margins = html.find("<h2>Margins</h2>");
+  REQUIRE(margins != std::string::npos);
+  CHECK(html.find("<p class=\"caution\"><strong>common-mode noise only: the voltage capture", margins) == margins + 17);
+  const auto summary = nlohmann::json::parse(read_text(dir / "out/summary.json"));
+  CHECK(summary.at("paths") == "common mode only");
+  CHECK(summary.at("paths_warning") == warning);
 }
