@@ -29,8 +29,9 @@ namespace spurcast {
 
 /// spectrum.csv: the conducted result at the harmonics (header only when there is none).
 [[nodiscard]] std::string lisn_spectrum_csv(const Prediction& prediction);
-/// source_spectrum.csv: the switch-node voltage lines; `envelope_dbuv` (Paul's trapezoid bound,
-/// core/source/source.hpp trapezoid_envelope_rms) for a described source.
+/// source_spectrum.csv: the switch-node voltage lines; `envelope_dbuv` (the envelope of the plain
+/// trapezoid without ringing, core/source/source.hpp trapezoid_envelope_rms; a ringing source's lines
+/// exceed it) for a described source.
 [[nodiscard]] std::string source_spectrum_csv(const Prediction& prediction);
 /// source_current_spectrum.csv: the input-current lines, `level_dbua` and `envelope_dbua`.
 [[nodiscard]] std::string source_current_spectrum_csv(const Prediction& prediction);
@@ -81,8 +82,8 @@ struct ScenarioInput {
 /// The receiver plot of one band: peak / quasi-peak / average against the limit lines, broadcast
 /// bands shaded, the three worst readings of the band marked with their margin.
 [[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan);
-/// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with Paul's
-/// −20/−40 dB per decade envelope for a described source.
+/// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with the plain
+/// trapezoid's envelope for a described source, and the harmonics above it (ringing) marked.
 [[nodiscard]] SpectrumPlot source_plot(const Prediction& prediction);
 
 /// The report page. `files` are the names written beside it (listed at the end).
