@@ -323,6 +323,9 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       ScanPlan plan;
       plan.band = band;
       plan.step_hz = step_hz;
+      // No reading falls below the receiver's own noise floor (a real receiver reads its noise
+      // between the harmonics, not −400 dBµV).
+      plan.noise_floor_db = scenario.receiver.noise_floor_dbuv.value_or(default_noise_floor_dbuv(band));
       if (p.source_kind == SourceKind::described) {
         scan.line1 = scan_line_spectrum(p.conducted->line_spectrum(1), plan);
         if (two_lines) scan.line2 = scan_line_spectrum(p.conducted->line_spectrum(2), plan);

@@ -229,20 +229,35 @@ std::string source_current_spectrum_csv(const Prediction& p) {
   return line_spectrum_csv(p.input_current_a, spec, spec ? spec->current_a : 0.0);
 }
 
+namespace {
+
+/// The detectors whose reading is the noise floor, joined by '+' ("" for none).
+std::string at_floor_text(const Reading& r, const std::optional<double>& noise_floor_db) {
+  std::string text;
+  for (const Detector d : {Detector::peak, Detector::quasi_peak, Detector::average}) {
+    if (at_noise_floor(r.level_db(d), noise_floor_db)) text += (text.empty() ? "" : "+") + to_string(d);
+  }
+  return text;
+}
+
+}  // namespace
+
 std::string scan_csv(const Prediction& p) {
-  std::vector<Reading> rows;
+  std::vector<std::pair<Reading, std::optional<double>>> rows;  // reading, its band's noise floor
   for (const BandScan& scan : p.scans) {
-    for (const Reading& r : scan.worst.readings) rows.push_back(r);
+    for (const Reading& r : scan.worst.readings) rows.emplace_back(r, scan.worst.noise_floor_db);
   }
   // Stable: at a shared frequency the earlier (lower) band stays first, then duplicates are dropped.
-  std::stable_sort(rows.begin(), rows.end(), [](const Reading& a, const Reading& b) { return a.frequency_hz < b.frequency_hz; });
-  std::string csv = "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n";
+  std::stable_sort(rows.begin(), rows.end(),
+                   [](const auto& a, const auto& b) { return a.first.frequency_hz < b.first.frequency_hz; });
+  std::string csv = "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor\n";
   std::string previous;
-  for (const Reading& r : rows) {
+  for (const auto& [r, floor_db] : rows) {
     const std::string f = frequency_text(r.frequency_hz);
     if (f == previous) continue;
     previous = f;
-    csv += f + "," + level_text(r.peak_db) + "," + level_text(r.quasi_peak_db) + "," + level_text(r.average_db) + "\n";
+    csv += f + "," + level_text(r.peak_db) + "," + level_text(r.quasi_peak_db) + "," + level_text(r.average_db) + "," +
+           at_floor_text(r, floor_db) + "\n";
   }
   return csv;
 }
@@ -578,6 +593,17 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
     // Drawn widest first: where the detectors agree (a steady line) all three stay visible.
     trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
     plot.traces.push_back(std::move(trace));
+  }
+  if (scan.worst.noise_floor_db) {
+    // The receiver's noise floor: a detector trace lying on this line read only the floor there.
+    PlotTrace floor;
+    floor.label = "receiver noise floor (readings on it: nothing above the floor)";
+    floor.colour = "#8a8a8a";
+    floor.dash = "2 3";
+    floor.width_px = 1.2;
+    floor.frequency_hz = {band.start_hz, band.stop_hz};
+    floor.level = {*scan.worst.noise_floor_db, *scan.worst.noise_floor_db};
+    plot.traces.push_back(std::move(floor));
   }
   for (const LimitSet& set : p.scenario.limits.sets) {
     if (set.measures != LimitQuantity::conducted_voltage) continue;

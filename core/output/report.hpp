@@ -5,7 +5,8 @@
 ///   source_spectrum.csv  source harmonics: harmonic,frequency_hz,level_dbuv[,envelope_dbuv]
 ///                        (the switch-node voltage; envelope for described sources)
 ///   source_current_spectrum.csv  the same for the pulsed input current (level_dbua[,envelope_dbua])
-///   scan.csv             receiver readings, the worst of the lines: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv
+///   scan.csv             receiver readings, the worst of the lines: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor
+///                        (at_floor: the detectors, joined by '+', whose reading is the receiver's noise floor)
 ///   margins.csv          core/compliance/margins.hpp margins_csv()
 ///   bands.csv            core/radio/reception.hpp bands_csv()
 ///   scan-<band>.svg, source.svg  the plots, also inlined in the report
@@ -37,6 +38,8 @@ namespace spurcast {
 [[nodiscard]] std::string source_current_spectrum_csv(const Prediction& prediction);
 /// scan.csv: the worst-of-lines readings of every band in one ascending list; at a frequency shared
 /// by two bands (30 MHz) the lower band's reading is kept (CISPR 16-1-1: 30 MHz belongs to band B).
+/// The added last column `at_floor` names the detectors whose reading is the receiver's noise floor
+/// ("peak+quasi-peak+average", "average", ... or empty).
 [[nodiscard]] std::string scan_csv(const Prediction& prediction);
 
 /// A reading that stands out: the smallest margin at one frequency.

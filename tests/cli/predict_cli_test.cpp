@@ -123,7 +123,7 @@ nlohmann::json check_report_folder(const fs::path& folder) {
   CHECK(lines_of(read_file(folder / "bands.csv"))[0] == "band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit");
   const std::vector<std::string> scan = lines_of(read_file(folder / "scan.csv"));
   REQUIRE(scan.size() > 1);
-  CHECK(scan[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
+  CHECK(scan[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor");
   double previous = -1.0;
   bool ascending = true;
   for (std::size_t i = 1; i < scan.size(); ++i) {

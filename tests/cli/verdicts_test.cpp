@@ -181,3 +181,42 @@ TEST_CASE("a voltage capture says first that differential-mode noise is not incl
   CHECK(summary.at("paths") == "common mode only");
   CHECK(summary.at("paths_warning") == warning);
 }
+
+TEST_CASE("scan.csv: no reading under the receiver's noise floor, and the readings on it marked") {
+  const fs::path dir = fresh_directory("spurcast-verdicts-", "floor");
+  std::string text = read_text(source_dir + "/examples/greenhouse-buck.toml");
+  const std::string detectors = "detectors = [\"peak\", \"quasi-peak\", \"average\"]\n";
+  const std::size_t at = text.find(detectors);
+  REQUIRE(at != std::string::npos);
+  text.insert(at + detectors.size(), "noise_floor = \"-5 dBuV\"\n");
+  write_text(dir / "g.toml", text);
+  const RunResult r = run_in(dir, "predict g.toml -o out");
+  CAPTURE(r.err);
+  CHECK(r.exit_code == 1);
+  const std::string csv = read_text(dir / "out/scan.csv");
+  REQUIRE(csv.rfind("frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor\n", 0) == 0);
+  std::size_t rows = 0, all_at_floor = 0, clear_of_floor = 0;
+  std::size_t start = csv.find('\n') + 1;
+  while (start < csv.size()) {
+    const std::size_t end = csv.find('\n', start);
+    const std::string row = csv.substr(start, end - start);
+    double f = 0.0, pk = 0.0, qp = 0.0, av = 0.0;
+    char flags[64] = "";
+    REQUIRE(std::sscanf(row.c_str(), "%lf,%lf,%lf,%lf,%63s", &f, &pk, &qp, &av, flags) >= 4);
+    const double tol_db = 0.005;  // the CSV's two decimals
+    CHECK(av >= -5.0 - tol_db);   // the average detector reads lowest
+    const std::string marked = flags;
+    if (marked == "peak+quasi-peak+average") {
+      ++all_at_floor;
+      CHECK(std::abs(pk + 5.0) < tol_db);
+    } else if (marked.empty()) {
+      ++clear_of_floor;
+      CHECK(av > -5.0);
+    }
+    ++rows;
+    start = end + 1;
+  }
+  CHECK(all_at_floor > 0);
+  CHECK(clear_of_floor > 0);
+  CHECK(rows > all_at_floor + clear_of_floor / 2);
+}

@@ -194,11 +194,11 @@ TEST_CASE("source_spectrum.csv carries Paul's trapezoid envelope") {
 TEST_CASE("scan.csv: one ascending list over the bands; 30 MHz once, from band B") {
   const std::vector<std::string> lines = lines_of(scan_csv(hand_prediction()));
   REQUIRE(lines.size() == 5);
-  CHECK(lines[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
-  CHECK(lines[1] == "1000000.0,58.00,55.00,44.00");
-  CHECK(lines[2] == "2000000.0,50.00,48.00,45.00");
-  CHECK(lines[3] == "30000000.0,30.00,29.00,28.00");  // CISPR 16-1-1: 30 MHz is the top of band B
-  CHECK(lines[4] == "31000000.0,20.00,19.00,18.00");
+  CHECK(lines[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor");
+  CHECK(lines[1] == "1000000.0,58.00,55.00,44.00,");
+  CHECK(lines[2] == "2000000.0,50.00,48.00,45.00,");
+  CHECK(lines[3] == "30000000.0,30.00,29.00,28.00,");  // CISPR 16-1-1: 30 MHz is the top of band B
+  CHECK(lines[4] == "31000000.0,20.00,19.00,18.00,");
 }
 
 TEST_CASE("summary.json: the keys of docs/design.md section 4 and values as the CSVs print them") {
