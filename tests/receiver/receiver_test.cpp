@@ -459,6 +459,7 @@ TEST_CASE("highest_reading and peak_maxima pick the highest reading and each lin
   CHECK(maxima[0].frequency_hz == doctest::Approx(3e6));  // the plateau counts at its last point
   CHECK(maxima[1].frequency_hz == doctest::Approx(6e6));
   CHECK(peak_maxima(result, 1).size() == 1);
+}
 
 TEST_CASE("the receiver's noise floor: default k·T0·B + noise figure, no reading below it, [receiver] noise_floor") {
   // k·T0 = −174 dBm/Hz (common practice, T0 = 290 K); 1 mW into 50 Ω is 106.99 dBµV; noise bandwidth of the
