@@ -359,7 +359,7 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
     if (!trace.label.empty()) legend.push_back({trace.label, trace.colour, trace.dash, false});
   }
   if (!plot.spans.empty()) legend.push_back({"broadcast band", plot.spans.front().fill, "", true});
-  if (!plot.markers.empty()) legend.push_back({"worst reading (margin)", plot.markers.front().colour, "", true});
+  if (!plot.markers.empty()) legend.push_back({plot.marker_legend, plot.markers.front().colour, "", true});
 
   layout.plot_left = 62.0;
   layout.plot_right = plot.width_px - 22.0;

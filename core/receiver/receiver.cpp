@@ -60,6 +60,11 @@ CisprBand band_for_frequency(double frequency_hz) {
 
 namespace {
 
+// The range a [receiver] noise_floor may take [dBµV]: beyond it the value is surely a typing error
+// (a real receiver's floor lies near −30..+10 dBµV in the CISPR bands; judgement).
+constexpr double min_noise_floor_dbuv = -60.0;
+constexpr double max_noise_floor_dbuv = 60.0;
+
 void check_step(const TableReader& reader, std::string_view key, double step_hz, CisprBand band) {
   const BandParameters p = band_parameters(band);
   if (!(step_hz > 0.0)) {
@@ -116,8 +121,37 @@ ReceiverSpec read_receiver_section(TableReader& reader) {
   if (spec.step_hz) {
     for (CisprBand band : spec.bands) check_step(reader, "step", *spec.step_hz, band);
   }
-  reader.finish({"bands", "detectors", "step"});
+  spec.noise_floor_dbuv = reader.optional_quantity("noise_floor", Dimension::level_dbuv);
+  if (spec.noise_floor_dbuv && !(*spec.noise_floor_dbuv >= min_noise_floor_dbuv && *spec.noise_floor_dbuv <= max_noise_floor_dbuv)) {
+    reader.fail("noise_floor", "expected a noise floor from " + format_quantity(min_noise_floor_dbuv, Dimension::level_dbuv) +
+                                   " to " + format_quantity(max_noise_floor_dbuv, Dimension::level_dbuv) + ", found " +
+                                   format_quantity(*spec.noise_floor_dbuv, Dimension::level_dbuv));
+  }
+  reader.finish({"bands", "detectors", "step", "noise_floor"});
   return spec;
+}
+
+double default_noise_floor_dbuv(CisprBand band) {
+  // k·T0 = −174 dBm/Hz (T0 = 290 K); 0 dBm at 50 Ω is 107.0 dBµV; in the noise bandwidth of the
+  // Gaussian IF; plus the noise figure (judgement, a receiver without preamplifier).
+  constexpr double kt0_dbm_per_hz = -174.0;
+  constexpr double dbm_to_dbuv_50ohm = 106.99;  // 1 mW into 50 Ω: √(0.05 W·Ω) = 0.2236 V = 106.99 dBµV
+  constexpr double noise_figure_db = 20.0;      // judgement
+  return kt0_dbm_per_hz + dbm_to_dbuv_50ohm + 10.0 * std::log10(noise_bandwidth_hz(band_parameters(band).bandwidth_6db_hz)) +
+         noise_figure_db;
+}
+
+bool at_noise_floor(double level_db, const std::optional<double>& noise_floor_db) {
+  return noise_floor_db && level_db <= *noise_floor_db + 1e-9;
+}
+
+void apply_noise_floor(ScanResult& result, double noise_floor_db) {
+  result.noise_floor_db = noise_floor_db;
+  for (Reading& r : result.readings) {
+    r.peak_db = std::max(r.peak_db, noise_floor_db);
+    r.quasi_peak_db = std::max(r.quasi_peak_db, noise_floor_db);
+    r.average_db = std::max(r.average_db, noise_floor_db);
+  }
 }
 
 double if_gain(double offset_hz, double bandwidth_6db_hz) {
@@ -466,6 +500,11 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const double highest_covered_hz = 0.5 * waveform.sample_rate_hz - span_bandwidths * band.bandwidth_6db_hz;
   if (plan.frequencies_hz.empty() && frequencies.back() >= highest_covered_hz && frequencies.front() < highest_covered_hz) {
     while (frequencies.back() >= highest_covered_hz) frequencies.pop_back();
+    result.read_up_to_hz = frequencies.back();
+    result.unread_reason = "the record's sample rate (" +
+                           format_quantity(waveform.sample_rate_hz, Dimension::frequency) +
+                           ") covers tuned frequencies up to " + format_quantity(frequencies.back(), Dimension::frequency) +
+                           " only (the tuned frequency plus the IF span must stay under half the sample rate)";
     result.notes.push_back("tuned frequencies above " + format_quantity(frequencies.back(), Dimension::frequency) +
                            " not read: the record's sample rate (" +
                            format_quantity(waveform.sample_rate_hz, Dimension::frequency) + ") does not cover them");
@@ -515,6 +554,7 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
                            format_quantity(plan.slowest_modulation_hz, Dimension::frequency) +
                            "); fewer than 3 may misrepresent it");
   }
+  if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
 }
 
@@ -568,6 +608,7 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
       result.readings[i] = make_reading(tuned_hz, r);
     }
   });
+  if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
 }
 

@@ -48,11 +48,20 @@ struct ReceiverSpec {
   std::vector<CisprBand> bands{CisprBand::B};
   std::vector<Detector> detectors{Detector::peak, Detector::quasi_peak, Detector::average};
   std::optional<double> step_hz;  ///< [Hz] scan step; default default_step_hz(band); <= B6/2
+  /// [dBµV] the receiver's noise floor for every band; default default_noise_floor_dbuv(band).
+  std::optional<double> noise_floor_dbuv;
 };
 
+/// The default noise floor of the emulated receiver in `band` [dBµV at its 50 Ω input]: thermal noise
+/// k·T0 = −174 dBm/Hz (−67.0 dBµV/Hz at 50 Ω, physics) in the Gaussian IF's noise bandwidth
+/// (0.7527·B6), plus a 20 dB noise figure (judgement: a receiver without preamplifier). Band A
+/// −25.2 dBµV, band B −8.7 dBµV, bands C/D +2.6 dBµV.
+[[nodiscard]] double default_noise_floor_dbuv(CisprBand band);
+
 /// Reads the [receiver] table: keys `bands` (array of "A".."D", default ["B"]), `detectors` (array
-/// of "peak", "quasi-peak", "average", default all three) and `step` (a frequency, at most half the
-/// 6 dB bandwidth of every listed band). Calls reader.finish(). Errors carry the value's position.
+/// of "peak", "quasi-peak", "average", default all three), `step` (a frequency, at most half the
+/// 6 dB bandwidth of every listed band) and `noise_floor` (a level in dBµV between −60 and
+/// +60 dBµV). Calls reader.finish(). Errors carry the value's position.
 [[nodiscard]] ReceiverSpec read_receiver_section(TableReader& reader);
 
 // ---------------------------------------------------------------------------------------------
@@ -92,6 +101,9 @@ struct ScanPlan {
   /// Threads of the sampled path (its record transform and the tuned frequencies, split into
   /// contiguous runs); 0 = std::thread::hardware_concurrency(). The readings do not depend on it.
   unsigned threads = 0;
+  /// [dB of the record's quantity] the receiver's noise floor: no reading falls below it (nullopt:
+  /// no floor, the bare signal; readings then fall to level_floor_db where nothing is in the passband).
+  std::optional<double> noise_floor_db;
 };
 
 /// One tuned frequency. Levels are RMS-calibrated readings in dBµV for a voltage, dBµA for a current;
@@ -105,12 +117,24 @@ struct Reading {
   [[nodiscard]] double level_db(Detector detector) const;
 };
 
+/// True when `level_db` is the scan's noise floor (the signal alone reads at or below it).
+[[nodiscard]] bool at_noise_floor(double level_db, const std::optional<double>& noise_floor_db);
+
+/// Holds every reading of `result` at or above `noise_floor_db` and records the floor.
+void apply_noise_floor(struct ScanResult& result, double noise_floor_db);
+
 struct ScanResult {
   Quantity quantity = Quantity::voltage;
   CisprBand band = CisprBand::B;
   double bandwidth_6db_hz = 0.0;  ///< [Hz]
   double step_hz = 0.0;           ///< [Hz] 0 for spot readings
   std::vector<Reading> readings;  ///< ascending frequency
+  /// [Hz] set when a band scan stopped early: tuned frequencies above this one were not read (the
+  /// record's sample rate does not cover them); `unread_reason` says why.
+  std::optional<double> read_up_to_hz;
+  /// [dB] the noise floor the readings were held at (ScanPlan::noise_floor_db), if any.
+  std::optional<double> noise_floor_db;
+  std::string unread_reason;
   /// Facts the user should know about how the readings were made ("record treated as periodic ...").
   std::vector<std::string> notes;
 };

@@ -460,3 +460,36 @@ TEST_CASE("highest_reading and peak_maxima pick the highest reading and each lin
   CHECK(maxima[1].frequency_hz == doctest::Approx(6e6));
   CHECK(peak_maxima(result, 1).size() == 1);
 }
+
+TEST_CASE("the receiver's noise floor: default k·T0·B + noise figure, no reading below it, [receiver] noise_floor") {
+  // k·T0 = −174 dBm/Hz (common practice, T0 = 290 K); 1 mW into 50 Ω is 106.99 dBµV; noise bandwidth of the
+  // Gaussian IF 0.7527·B6 (docs/references.md §1.2); noise figure 20 dB (the module's judgement).
+  const double tol_db = 0.01;
+  CHECK(std::abs(default_noise_floor_dbuv(CisprBand::A) - (-174.0 + 106.99 + 10.0 * std::log10(0.7527 * 200.0) + 20.0)) < tol_db);
+  CHECK(std::abs(default_noise_floor_dbuv(CisprBand::B) - (-8.70)) < tol_db);
+  CHECK(std::abs(default_noise_floor_dbuv(CisprBand::C) - 2.55) < tol_db);
+
+  // One 40 dBµV line at 1 MHz (f0 = 1 MHz): on it every detector reads 40 dBµV (calibration, RMS);
+  // between lines the bare signal reads nothing, so the reading is the floor, never below.
+  LineSpectrum lines;
+  lines.fundamental_hz = 1e6;
+  lines.harmonics = {{dbuv_to_volts(40.0), 0.0}};
+  ScanPlan plan{.band = CisprBand::B, .frequencies_hz = {1e6, 1.5e6}};
+  const ScanResult bare = scan_lines(lines, plan);
+  CHECK(bare.readings[1].average_db <= level_floor_db);
+  plan.noise_floor_db = -8.7;
+  const ScanResult held = scan_lines(lines, plan);
+  CHECK(std::abs(held.readings[0].quasi_peak_db - 40.0) < tol_db);
+  CHECK_FALSE(at_noise_floor(held.readings[0].quasi_peak_db, held.noise_floor_db));
+  for (const Detector d : {Detector::peak, Detector::quasi_peak, Detector::average}) {
+    CHECK(std::abs(held.readings[1].level_db(d) - (-8.7)) < 1e-12);
+    CHECK(at_noise_floor(held.readings[1].level_db(d), held.noise_floor_db));
+  }
+
+  const ReceiverSpec spec = read_spec("[receiver]\nnoise_floor = \"-3 dBuV\"\n");
+  REQUIRE(spec.noise_floor_dbuv.has_value());
+  CHECK(std::abs(*spec.noise_floor_dbuv + 3.0) < 1e-12);
+  CHECK_FALSE(read_spec("[receiver]\n").noise_floor_dbuv.has_value());
+  CHECK_THROWS_WITH_AS((void)read_spec("[receiver]\nnoise_floor = \"-400 dBuV\"\n"),
+                       "scenario.toml:2:15: expected a noise floor from -60 dBµV to 60 dBµV, found -400 dBµV", Error);
+}
