@@ -11,6 +11,7 @@ void register_commands(CLI::App& app, CommandList& commands) {
   setup_bands(app, commands);
   setup_scan(app, commands);
   setup_spectrum(app, commands);
+  setup_serve(app, commands);
 }
 
 }  // namespace spurcast::cli
