@@ -227,15 +227,35 @@ async function save() {
   document.body.appendChild(a); a.click(); a.remove();
 }
 
-document.getElementById("reset").addEventListener("click", () => { changed = {}; start(); });
+document.getElementById("reset").addEventListener("click", () => { changed = {}; start(false); });
 document.getElementById("save").addEventListener("click", save);
 
-async function start() {
+// A link may carry changes: #switching.frequency=1.9%20MHz&coupling.parasitic_capacitance=50%20pF
+// (values as typed in the fields; unknown keys are left to the server to name in its error).
+function changesFromLink() {
+  const found = {};
+  for (const part of location.hash.replace(/^#/, "").split("&")) {
+    const eq = part.indexOf("=");
+    if (eq > 0) found[decodeURIComponent(part.slice(0, eq))] = decodeURIComponent(part.slice(eq + 1));
+  }
+  return found;
+}
+
+async function start(fromLink) {
   const response = await fetch("/api/scenario");
-  buildControls(await response.json());
+  const scenario = await response.json();
+  if (fromLink) {
+    const link = changesFromLink();
+    for (const k of scenario.keys) {
+      if (k.key in link) { k.value = link[k.key]; changed[k.key] = k.kind === "number" ? Number(link[k.key]) : link[k.key]; }
+    }
+    for (const key in link) if (!(key in changed)) changed[key] = link[key];
+  }
+  buildControls(scenario);
+  document.querySelectorAll("label").forEach(l => l.classList.toggle("changed", l.textContent in changed));
   evaluate();
 }
-start();
+start(true);
 </script>
 </body>
 </html>

@@ -8,7 +8,11 @@
 #include <filesystem>
 #include <string>
 #include <thread>
+#include <unistd.h>
+#include <utility>
+#include <vector>
 
+#include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
 #include "cli_support.hpp"
@@ -50,6 +54,22 @@ struct RunningServer {
   [[nodiscard]] std::string host() const { return "127.0.0.1:" + std::to_string(port); }
 };
 
+/// `spurcast predict --json` on a copy of the example with `from` replaced by `to` in its text.
+json predict_edited(const std::vector<std::pair<std::string, std::string>>& edits, const std::string& name) {
+  const fs::path dir = fresh_directory("spurcast-whatif-", name);
+  std::string text = read_text(example);
+  for (const auto& [from, to] : edits) {
+    const auto at = text.find(from);
+    REQUIRE(at != std::string::npos);
+    text.replace(at, from.size(), to);
+  }
+  write_text(dir / "edited.toml", text);
+  // The limit files are named relative to the limits folder, so the copy needs nothing beside it.
+  const auto run = run_cli(dir, {"predict", "edited.toml", "-o", "report", "--json"}, dir);
+  REQUIRE_MESSAGE((run.exit_code == 0 || run.exit_code == 1), run.err);
+  return json::parse(run.out);
+}
+
 json error_of(const httplib::Result& result) {
   REQUIRE(result);
   CHECK(result->get_header_value("Content-Type") == "application/json");
@@ -70,20 +90,9 @@ TEST_CASE("evaluate answers what predict gives for the scenario with the same va
   const json answer = json::parse(result->body);
 
   // The same edit made by hand in a copy of the file, run through the CLI.
-  const fs::path dir = fresh_directory("spurcast-whatif-", "predict");
-  std::string text = read_text(example);
-  const auto replace = [&](const std::string& from, const std::string& to) {
-    const auto at = text.find(from);
-    REQUIRE(at != std::string::npos);
-    text.replace(at, from.size(), to);
-  };
-  replace("frequency = \"220 kHz\"", "frequency = \"1.9 MHz\"");
-  replace("parasitic_capacitance = \"35 pF\"", "parasitic_capacitance = \"50 pF\"");
-  write_text(dir / "edited.toml", text);
-  // The limit files are named relative to the limits folder, so the copy needs nothing beside it.
-  const auto run = run_cli(dir, {"predict", "edited.toml", "-o", "report", "--json"}, dir);
-  REQUIRE_MESSAGE((run.exit_code == 0 || run.exit_code == 1), run.err);
-  const json expected = json::parse(run.out);
+  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""},
+                                        {"parasitic_capacitance = \"35 pF\"", "parasitic_capacitance = \"50 pF\""}},
+                                       "predict");
 
   CHECK(answer["verdict"] == expected["verdict"]);
   REQUIRE(answer["worst_margin_db"].size() == expected["worst_margin_db"].size());
@@ -235,4 +244,45 @@ TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
   CHECK_THROWS_WITH_AS((void)second.bind(s.port),
                        ("cannot listen on 127.0.0.1:" + std::to_string(s.port) + " (in use, or not allowed)").c_str(),
                        spurcast::Error);
+}
+
+TEST_CASE("the page in a real browser shows what predict gives for a changed frequency") {
+  std::string chromium;
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) chromium = c;
+  }
+  if (chromium.empty()) {
+    MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
+    return;
+  }
+  RunningServer s;
+  const fs::path dir = fresh_directory("spurcast-whatif-", "browser");
+  fs::create_directories(dir / "profile");
+  // The page applies the link's change to its field, posts it and draws the answer; --dump-dom prints
+  // the document once the page's fetches are done (virtual time).
+  const std::string url = "http://127.0.0.1:" + std::to_string(s.port) + "/#switching.frequency=1.9%20MHz";
+  const std::string command = chromium +
+                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                              "--disable-background-networking --disable-component-update --disable-sync "
+                              "--virtual-time-budget=20000 --user-data-dir=" +
+                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
+                              spurcast::test::shell_quote(url) + " >" +
+                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
+  REQUIRE(std::system(command.c_str()) == 0);
+  const std::string dom = read_text(dir / "dom.html");
+  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""}}, "browser-predict");
+  REQUIRE(!expected["worst_margin_db"].empty());
+  for (const auto& [detector, margin] : expected["worst_margin_db"].items()) {
+    // The page shows margins to 0.1 dB.
+    const std::string cell = "data-detector=\"" + detector + "\">" + fmt::format("{:.1f}", margin.get<double>()) + "<";
+    INFO(cell);
+    CHECK(dom.find(cell) != std::string::npos);
+  }
+  for (const json& band : expected["bands"]) {
+    const std::string row = "data-band=\"" + band["name"].get<std::string>() + "\"><td>" +
+                            band["name"].get<std::string>() + "</td><td><span class=\"tag " +
+                            band["verdict"].get<std::string>() + "\">";
+    INFO(row);
+    CHECK(dom.find(row) != std::string::npos);
+  }
 }
