@@ -148,3 +148,47 @@ TEST_CASE("every bad input is refused with its message, exit code 2 and no outpu
   CHECK(checked > 0);
   fs::remove_all(scratch_root);
 }
+
+// Hostile inputs too large, or of a kind (pipes, devices), that the corpus cannot hold: built at
+// test time, each run under a cap on address space and time so that an allocation made before
+// its check, or a read that never ends, fails the test instead of taking the machine (issue 14).
+namespace {
+
+constexpr long long memory_cap_bytes = 1LL << 30;  // 1 GiB: a normal predict peaks near 200 MB
+constexpr int time_cap_s = 60;
+
+RunResult run_capped(const fs::path& directory, const std::vector<std::string>& arguments, const fs::path& scratch) {
+  return run_cli(directory, arguments, scratch,
+                 "prlimit --as=" + std::to_string(memory_cap_bytes) + " timeout -k 5 " + std::to_string(time_cap_s));
+}
+
+std::string dotted_key(int parts) {
+  std::string key = "k";
+  key.reserve(static_cast<std::size_t>(parts) * 2);
+  for (int i = 1; i < parts; ++i) key += ".k";
+  return key;
+}
+
+const std::string small_trace = "frequency_hz,level_dbuv\n150000,60\n160000,61\n";
+
+}  // namespace
+
+TEST_CASE("a table header of 300,000 parts is refused at its position by every TOML loader, without a crash") {
+  const fs::path dir = spurcast::test::fresh_directory("spurcast-deep-", std::to_string(::getpid()));
+  spurcast::test::write_text(dir / "deep.toml", "[" + dotted_key(300000) + "]\n");
+  spurcast::test::write_text(dir / "trace.csv", small_trace);
+  const std::string expected =
+      "spurcast: error: deep.toml:1:129: keys, tables and arrays nested more than 64 levels deep (each part of a "
+      "dotted key counts one level)";
+  for (const std::vector<std::string>& arguments :
+       {std::vector<std::string>{"predict", "deep.toml", "-o", "out"}, std::vector<std::string>{"limits", "deep.toml"},
+        std::vector<std::string>{"compare", "trace.csv", "--limits", "deep.toml", "--csv", "out.csv"}}) {
+    CAPTURE(arguments.front());
+    const RunResult result = run_capped(dir, arguments, dir);
+    CHECK(result.exit_code == 2);
+    CHECK(first_line(result.err) == expected);
+    CHECK(!fs::exists(dir / "out"));
+    CHECK(!fs::exists(dir / "out.csv"));
+  }
+  fs::remove_all(dir);
+}
