@@ -36,7 +36,7 @@ struct Options {
 
 int run_sweep_command(const Options& options) {
   // Inputs first: nothing is written unless every input is good.
-  const toml::table table = parse_toml_file(options.scenario_file);
+  const toml::table table = parse_toml_file(options.scenario_file, "scenario file");
   const std::filesystem::path folder = std::filesystem::path(options.scenario_file).parent_path();
   const std::string directory = folder.empty() ? "." : folder.string();
 

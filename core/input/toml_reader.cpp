@@ -1,9 +1,9 @@
 #include "core/input/toml_reader.hpp"
 
+#include "core/input/input_file.hpp"
+
 #include <algorithm>
 #include <cmath>
-#include <fstream>
-#include <sstream>
 
 namespace spurcast {
 
@@ -310,12 +310,8 @@ std::size_t edit_distance(std::string_view a, std::string_view b) {
 
 }  // namespace
 
-toml::table parse_toml_file(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw Error(SourcePosition{path, 0, 0}, "cannot open file");
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  return parse_or_throw(buffer.str(), path);
+toml::table parse_toml_file(const std::string& path, const std::string& what) {
+  return parse_or_throw(read_input_file(path, what, max_toml_file_bytes), path);
 }
 
 toml::table parse_toml_text(std::string_view text, const std::string& name) {

@@ -30,9 +30,10 @@ inline constexpr int max_toml_depth = 64;
 
 /// Position of a toml++ node in `file`.
 [[nodiscard]] SourcePosition position_of(const toml::node& node, const std::string& file);
-/// Parses a TOML file; syntax errors and nesting deeper than max_toml_depth become Error with
-/// file:line:column.
-[[nodiscard]] toml::table parse_toml_file(const std::string& path);
+/// Parses a TOML file (a regular file of at most max_toml_file_bytes, core/input/input_file.hpp);
+/// syntax errors and nesting deeper than max_toml_depth become Error with file:line:column.
+/// `what` names the file in messages: "scenario file", "limit file", "band plan".
+[[nodiscard]] toml::table parse_toml_file(const std::string& path, const std::string& what);
 /// Parses TOML text (for tests and in-memory scenarios); `name` stands for the file in messages.
 [[nodiscard]] toml::table parse_toml_text(std::string_view text, const std::string& name);
 

@@ -20,6 +20,7 @@
 #include <utility>
 #include <vector>
 
+#include "core/input/input_file.hpp"
 #include "core/source/huge_pages.hpp"
 #include "core/input/units.hpp"
 
@@ -404,27 +405,15 @@ bool starts_with_number(std::string_view line) {
 /// Memory map of a whole file, read-only.
 class MappedFile {
  public:
-  explicit MappedFile(const std::string& path) {
-    fd_ = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
-    if (fd_ < 0) {
-      std::string reason = std::strerror(errno);
-      if (!reason.empty()) reason[0] = static_cast<char>(std::tolower(static_cast<unsigned char>(reason[0])));
-      throw Error(SourcePosition{path, 0, 0}, "cannot open the capture (" + reason + ")");
-    }
-    struct stat info {};
-    if (::fstat(fd_, &info) != 0 || !S_ISREG(info.st_mode)) {
-      ::close(fd_);
-      throw Error(SourcePosition{path, 0, 0}, "expected a capture file, found a directory or device");
-    }
-    size_ = static_cast<std::size_t>(info.st_size);
+  // A regular file only: a FIFO would block open() and a device never ends (input_file.hpp).
+  explicit MappedFile(const std::string& path) : file_(path, "capture file"), size_(file_.size_bytes()) {
     if (size_ > 0) {
       // MAP_POPULATE maps a (page-cached) file in one call instead of a fault per page, the
       // faster way for a file of ordinary size. A large one is faulted in as it is read and
       // handed back behind the parser instead (release_pages()), so it is never resident whole.
       const int populate = size_ <= populate_limit_bytes ? MAP_POPULATE : 0;
-      void* address = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE | populate, fd_, 0);
+      void* address = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE | populate, file_.descriptor(), 0);
       if (address == MAP_FAILED) {
-        ::close(fd_);
         throw Error(SourcePosition{path, 0, 0}, "cannot map the capture into memory");
       }
       data_ = static_cast<const char*>(address);
@@ -435,7 +424,6 @@ class MappedFile {
   MappedFile& operator=(const MappedFile&) = delete;
   ~MappedFile() {
     if (data_ != nullptr) ::munmap(const_cast<char*>(data_), size_);
-    if (fd_ >= 0) ::close(fd_);
   }
   [[nodiscard]] std::string_view text() const { return data_ ? std::string_view(data_, size_) : std::string_view(); }
   /// Whether the parser should drop the pages it has read.
@@ -444,7 +432,7 @@ class MappedFile {
   static constexpr std::size_t populate_limit_bytes = std::size_t{256} << 20;
 
  private:
-  int fd_ = -1;
+  InputFile file_;
   const char* data_ = nullptr;
   std::size_t size_ = 0;
 };

@@ -16,6 +16,7 @@
 
 #include "cli_support.hpp"
 
+#include <sys/stat.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -187,6 +188,52 @@ TEST_CASE("a table header of 300,000 parts is refused at its position by every T
     const RunResult result = run_capped(dir, arguments, dir);
     CHECK(result.exit_code == 2);
     CHECK(first_line(result.err) == expected);
+    CHECK(!fs::exists(dir / "out"));
+    CHECK(!fs::exists(dir / "out.csv"));
+  }
+  fs::remove_all(dir);
+}
+
+TEST_CASE("a FIFO with no writer, /dev/zero and a directory are refused by every loader, without blocking") {
+  const fs::path dir = spurcast::test::fresh_directory("spurcast-fifo-", std::to_string(::getpid()));
+  REQUIRE(::mkfifo((dir / "pipe").c_str(), 0600) == 0);
+  fs::create_directories(dir / "folder");
+  spurcast::test::write_text(dir / "trace.csv", small_trace);
+  const std::string switching =
+      "[switching]\nfrequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\nrise = \"12 ns\"\n"
+      "fall = \"15 ns\"\n";
+  spurcast::test::write_text(dir / "capture-pipe.toml",
+                             "[capture]\nfile = \"pipe\"\nquantity = \"voltage\"\nfrequency = \"150 kHz\"\n");
+  spurcast::test::write_text(dir / "limits-pipe.toml", switching + "[limits]\nfiles = [\"pipe\"]\n");
+  spurcast::test::write_text(dir / "plan-pipe.toml", switching + "[broadcast]\nregion = 1\nplan = \"./pipe\"\n");
+  struct Run {
+    std::vector<std::string> arguments;
+    std::string message;
+  };
+  const std::vector<Run> runs = {
+      {{"predict", "pipe", "-o", "out"}, "pipe: is a named pipe, expected a scenario file"},
+      {{"predict", "/dev/zero", "-o", "out"}, "/dev/zero: is a character device, expected a scenario file"},
+      {{"predict", "folder", "-o", "out"}, "folder: is a directory, expected a scenario file"},
+      {{"sweep", "pipe", "--vary", "switching.duty=0.2:0.3:3"}, "pipe: is a named pipe, expected a scenario file"},
+      {{"predict", "capture-pipe.toml", "-o", "out"}, "pipe: is a named pipe, expected a capture file"},
+      {{"predict", "limits-pipe.toml", "-o", "out"}, "pipe: is a named pipe, expected a limit file"},
+      {{"predict", "plan-pipe.toml", "-o", "out"}, "plan-pipe.toml:10:8: ./pipe: is a named pipe, expected a band plan"},
+      {{"spectrum", "--capture", "pipe", "--csv", "out.csv"}, "pipe: is a named pipe, expected a capture file"},
+      {{"spectrum", "--capture", "/dev/zero", "--csv", "out.csv"}, "/dev/zero: is a character device, expected a capture file"},
+      {{"compare", "pipe", "--limits", "cispr32-class-b-conducted", "--csv", "out.csv"},
+       "pipe: is a named pipe, expected a trace file"},
+      {{"compare", "/dev/zero", "--limits", "cispr32-class-b-conducted", "--csv", "out.csv"},
+       "/dev/zero: is a character device, expected a trace file"},
+      {{"compare", "trace.csv", "--limits", "pipe", "--csv", "out.csv"}, "pipe: is a named pipe, expected a limit file"},
+      {{"compare", "trace.csv", "--limits", "cispr32-class-b-conducted", "--correction", "pipe", "--csv", "out.csv"},
+       "pipe: is a named pipe, expected a correction table"},
+      {{"limits", "pipe"}, "pipe: is a named pipe, expected a limit file"},
+  };
+  for (const Run& run : runs) {
+    CAPTURE(run.message);
+    const RunResult result = run_capped(dir, run.arguments, dir);
+    CHECK(result.exit_code == 2);
+    CHECK(first_line(result.err) == "spurcast: error: " + run.message);
     CHECK(!fs::exists(dir / "out"));
     CHECK(!fs::exists(dir / "out.csv"));
   }

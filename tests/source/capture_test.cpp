@@ -78,7 +78,7 @@ TEST_CASE("bad-capture corpus: each defect gives its own exact message with file
                        (corpus + "non_uniform.csv:5:1: non-uniform sampling: time is 500 ns off the uniform grid of 1 \xC2\xB5s "
                                  "steps (tolerance 100 ns); set resample = true (--resample) to resample it").c_str(), Error);
   CHECK_THROWS_WITH_AS((void)load("no_such_file.csv"),
-                       (corpus + "no_such_file.csv: cannot open the capture (no such file or directory)").c_str(), Error);
+                       (corpus + "no_such_file.csv: cannot open the capture file (no such file or directory)").c_str(), Error);
 }
 
 TEST_CASE("a 5 MB line is rejected with its length (generated, not committed)") {
