@@ -430,6 +430,18 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   envelope_from_lines(work.plan, buffer, phasors, envelope);
 }
 
+/// The last line of defence for finite levels: inputs are bounded where they are read (e.g.
+/// max_amplitude_v), but a reading that still overflows, or is NaN, is an error here rather than
+/// an "inf" in a CSV, a null in JSON or a plot axis without end (issue 14).
+void require_finite_readings(const ScanResult& result) {
+  for (const Reading& r : result.readings) {
+    if (std::isfinite(r.peak_db) && std::isfinite(r.quasi_peak_db) && std::isfinite(r.average_db)) continue;
+    throw Error("the reading at " + format_quantity(r.frequency_hz, Dimension::frequency) +
+                " is not a finite level (the inputs overflow the calculation): check the amplitudes, currents and "
+                "component values");
+  }
+}
+
 /// A result with the plan's band, bandwidth and step filled in and no readings yet.
 ScanResult empty_scan_result(Quantity quantity, const ScanPlan& plan) {
   ScanResult result;
@@ -515,6 +527,7 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
                            format_quantity(plan.slowest_modulation_hz, Dimension::frequency) +
                            "); fewer than 3 may misrepresent it");
   }
+  require_finite_readings(result);
   return result;
 }
 
@@ -568,6 +581,7 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
       result.readings[i] = make_reading(tuned_hz, r);
     }
   });
+  require_finite_readings(result);
   return result;
 }
 

@@ -23,6 +23,11 @@ std::string number_text(double value) {
   return buffer;
 }
 
+/// A value as typed back to the user: with an SI prefix where one fits, else "1e+308 V".
+std::string found_text(double value, Dimension dimension, const char* unit) {
+  return std::fabs(value) < 1e15 ? format_quantity(value, dimension, 9) : number_text(value) + " " + unit;
+}
+
 /// Fourier transform of one ringing tail exp(−t/decay)·sin(ω_r·t), t ≥ 0:
 /// F(ω) = ω_r / ((1/decay + jω)² + ω_r²). Summing the tail over every period is exact for the
 /// periodic signal, so c_k gains F(ω_k)·exp(−jω_k·t_edge)/T per edge.
@@ -188,6 +193,17 @@ std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
   if (spec.current_a < 0.0 || !std::isfinite(spec.current_a)) {
     return problem("current", "current must not be negative, found " + number_text(spec.current_a) + " A");
   }
+  // Upper bounds: beyond them the derived levels overflow (max_amplitude_v, source.hpp).
+  if (spec.amplitude_v > max_amplitude_v) {
+    return problem("amplitude", "expected an amplitude of at most " + format_quantity(max_amplitude_v, Dimension::voltage) +
+                                    " (beyond any power converter; larger swings overflow the levels), found " +
+                                    found_text(spec.amplitude_v, Dimension::voltage, "V"));
+  }
+  if (spec.current_a > max_current_a) {
+    return problem("current", "expected a current of at most " + format_quantity(max_current_a, Dimension::current) +
+                                  " (beyond any power converter; larger currents overflow the levels), found " +
+                                  found_text(spec.current_a, Dimension::current, "A"));
+  }
   if (spec.rise_s < 0.0 || spec.fall_s < 0.0) {
     return problem(spec.rise_s < 0.0 ? "rise" : "fall", "rise and fall times must not be negative");
   }
@@ -215,6 +231,12 @@ std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
     if (!(r.frequency_hz > 0.0)) return problem("ringing.frequency", "ringing frequency must be positive");
     if (!(r.decay_s > 0.0)) return problem("ringing.decay", "ringing decay must be positive");
     if (r.relative_amplitude < 0.0) return problem("ringing.amplitude", "ringing amplitude must not be negative");
+    if (r.relative_amplitude > max_ringing_relative_amplitude) {
+      return problem("ringing.amplitude", "expected a ringing amplitude of at most " +
+                                              number_text(max_ringing_relative_amplitude) +
+                                              " times the edge step (a real overshoot is below 1), found " +
+                                              number_text(r.relative_amplitude));
+    }
   }
   if (spec.dither) {
     const DitherSpec& d = *spec.dither;

@@ -25,7 +25,7 @@ namespace spurcast {
 struct RingingSpec {
   double frequency_hz = 0.0;        ///< [Hz] > 0
   double decay_s = 0.0;             ///< 1/e time [s] > 0
-  double relative_amplitude = 0.0;  ///< of the edge step, ≥ 0
+  double relative_amplitude = 0.0;  ///< of the edge step, in [0, max_ringing_relative_amplitude]
 };
 
 enum class DitherProfile { triangle, sine };
@@ -38,11 +38,22 @@ struct DitherSpec {
   double rate_hz = 0.0;             ///< modulation rate [Hz] > 0
 };
 
+/// The largest switch-node swing and pulsed current taken: 1 MV and 1 MA. Beyond any power
+/// converter (judgement: the largest, HVDC valves, switch some hundreds of kV and a few kA), and
+/// far inside the range where every derived level is finite: 1 MV is 240 dBµV, and the receiver's
+/// squared envelopes (about 1e12 V²) stay far below the largest double (1.8e308). A swing of 1e308 V
+/// made every level infinite (issue 14).
+inline constexpr double max_amplitude_v = 1e6;
+inline constexpr double max_current_a = 1e6;
+/// The largest ringing amplitude, relative to the edge step: 10 (judgement; a real overshoot is
+/// below 1, and the bound keeps the ringing's levels within those of max_amplitude_v × 10).
+inline constexpr double max_ringing_relative_amplitude = 10.0;
+
 struct SwitchingSpec {
   double frequency_hz = 0.0;  ///< switching frequency f0 [Hz] > 0
   double duty = 0.5;          ///< pulse width at 50 % / period, in (0, 1)
-  double amplitude_v = 0.0;   ///< switch-node swing [V] ≥ 0 (drives the common-mode path)
-  double current_a = 0.0;     ///< pulsed input current [A] ≥ 0 (drives the differential-mode path)
+  double amplitude_v = 0.0;   ///< switch-node swing [V] in [0, max_amplitude_v] (drives the common-mode path)
+  double current_a = 0.0;     ///< pulsed input current [A] in [0, max_current_a] (drives the differential-mode path)
   double rise_s = 0.0;        ///< 0–100 % rise time [s] ≥ 0
   double fall_s = 0.0;        ///< 0–100 % fall time [s] ≥ 0
   std::optional<RingingSpec> ringing;

@@ -239,3 +239,39 @@ TEST_CASE("a FIFO with no writer, /dev/zero and a directory are refused by every
   }
   fs::remove_all(dir);
 }
+
+TEST_CASE("an amplitude at its bound gives finite levels everywhere; one above is refused at its key") {
+  // 1 MV is max_amplitude_v (core/source/source.hpp). Before issue 14, 1e308 V was taken: predict
+  // never finished (its plot axis loop), scan wrote "inf" and JSON "null".
+  const fs::path dir = spurcast::test::fresh_directory("spurcast-amplitude-", std::to_string(::getpid()));
+  std::string scenario = read_text(source_dir / "examples" / "greenhouse-buck.toml");
+  const std::string swing = "amplitude = \"48 V\"";
+  REQUIRE(scenario.find(swing) != std::string::npos);
+  scenario.replace(scenario.find(swing), swing.size(), "amplitude = \"1 MV\"");
+  spurcast::test::write_text(dir / "at-bound.toml", scenario);
+  const RunResult predict = run_capped(dir, {"predict", "at-bound.toml", "-o", "report"}, dir);
+  CAPTURE(predict.err);
+  CHECK((predict.exit_code == 0 || predict.exit_code == 1));
+  for (const auto& entry : fs::directory_iterator(dir / "report")) {
+    if (entry.path().extension() != ".csv") continue;
+    const std::string text = read_text(entry.path());
+    CAPTURE(entry.path().filename().string());
+    CHECK(text.find("inf") == std::string::npos);
+    CHECK(text.find("nan") == std::string::npos);
+  }
+  const RunResult scan = run_capped(dir, {"scan", "at-bound.toml", "--json"}, dir);
+  CHECK(scan.exit_code == 0);
+  CHECK(scan.out.find("null") == std::string::npos);
+  CHECK(scan.out.find("inf") == std::string::npos);
+
+  scenario.replace(scenario.find("amplitude = \"1 MV\""), std::string("amplitude = \"1 MV\"").size(),
+                   "amplitude = \"1.001 MV\"");
+  spurcast::test::write_text(dir / "above-bound.toml", scenario);
+  const RunResult above = run_capped(dir, {"scan", "above-bound.toml", "--csv", "scan.csv"}, dir);
+  CHECK(above.exit_code == 2);
+  CHECK(first_line(above.err) ==
+        "spurcast: error: above-bound.toml:9:13: expected an amplitude of at most 1 MV (beyond any power converter; "
+        "larger swings overflow the levels), found 1.001 MV");
+  CHECK(!fs::exists(dir / "scan.csv"));
+  fs::remove_all(dir);
+}
