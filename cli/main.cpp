@@ -4,6 +4,7 @@
 
 #include <cstdio>
 #include <iostream>
+#include <new>
 
 #include "cli/commands.hpp"
 #include "core/input/error.hpp"
@@ -30,6 +31,12 @@ int main(int argc, char** argv) {
     return spurcast::cli::exit_output_failed;
   } catch (const spurcast::Error& e) {
     std::cerr << "spurcast: error: " << e.what() << "\n";
+    return spurcast::cli::exit_bad_input;
+  } catch (const std::bad_alloc&) {
+    // A last resort: every size derived from the input is checked against a stated bound before
+    // it is allocated (issue 14), so reaching this is a defect to report with the input.
+    std::cerr << "spurcast: error: out of memory: the input asks for more memory than is available (please report "
+                 "it: its size should have been refused with the bound)\n";
     return spurcast::cli::exit_bad_input;
   } catch (const std::exception& e) {
     std::cerr << "spurcast: error: " << e.what() << "\n";

@@ -56,6 +56,7 @@ int run_scan(const Options& options) {
   ScanRequest request;
   request.at = options.at;
   if (!options.step.empty()) request.step_hz = parse_quantity(options.step, Dimension::frequency);
+  request.step_origin = "--step";
   if (!options.band.empty()) request.band = band_from_string(options.band);
   request.threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   if (!options.frequencies.empty()) request.frequencies_hz = parse_frequency_list(options.frequencies);

@@ -97,7 +97,23 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
     throw Error("record duration must be positive, found " + number_text(duration_s));
   }
   const double count_real = std::ceil(sample_rate_hz * duration_s - 1e-9);
-  if (count_real > 4e9) throw Error("record of " + number_text(count_real) + " samples is too long");
+  // Checked before the samples are allocated (issue 14: a dither rate of 5 Hz took 3.5 GB).
+  if (count_real > static_cast<double>(max_record_samples) * (1.0 + 1e-9)) {
+    if (spec.dither) {
+      // The record holds at least one modulation period (docs/design.md: the detectors run to
+      // their steady state over whole periods), so the rate sets its length.
+      const double min_rate_hz = sample_rate_hz / static_cast<double>(max_record_samples);
+      throw Error(spec.dither->rate_where,
+                  "expected a dither rate of at least " + format_quantity(min_rate_hz, Dimension::frequency) +
+                      ": one modulation period at the receiver's " +
+                      format_quantity(sample_rate_hz, Dimension::frequency) + " sampling must fit in " +
+                      std::to_string(max_record_samples) + " samples, found " +
+                      format_quantity(spec.dither->rate_hz, Dimension::frequency));
+    }
+    throw Error("record of " + number_text(count_real) + " samples at " +
+                format_quantity(sample_rate_hz, Dimension::frequency) + " is longer than the " +
+                std::to_string(max_record_samples) + " samples a synthesized record may have");
+  }
   const auto count = static_cast<std::size_t>(count_real);
   Waveform waveform;
   waveform.quantity = quantity;
@@ -155,7 +171,15 @@ LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude, boo
   validate_switching(spec);
   if (!(max_frequency_hz > 0.0)) throw Error("maximum frequency must be positive");
   const double count_real = std::floor(max_frequency_hz / spec.frequency_hz + 1e-9);
-  if (count_real > 5e7) throw Error("too many harmonics requested (" + number_text(count_real) + ")");
+  // Checked before the harmonics are allocated (issue 14: "3 Hz" took more than 9 GB).
+  if (count_real > static_cast<double>(max_harmonic_count)) {
+    throw Error(spec.frequency_where,
+                "expected a switching frequency of at least " +
+                    format_quantity(max_frequency_hz / static_cast<double>(max_harmonic_count), Dimension::frequency) +
+                    " (harmonics are computed up to " + format_quantity(max_frequency_hz, Dimension::frequency) +
+                    ", at most " + std::to_string(max_harmonic_count) + " of them), found " +
+                    format_quantity(spec.frequency_hz, Dimension::frequency));
+  }
   const auto count = static_cast<std::size_t>(count_real);
   const double period_s = spec.period_s();
   LineSpectrum spectrum =
@@ -258,6 +282,7 @@ void validate_switching(const SwitchingSpec& spec) {
 SwitchingSpec read_switching_section(TableReader& reader) {
   SwitchingSpec spec;
   spec.frequency_hz = reader.required_quantity("frequency", Dimension::frequency);
+  spec.frequency_where = reader.position("frequency");
   spec.duty = reader.required_quantity("duty", Dimension::fraction);
   spec.amplitude_v = reader.required_quantity("amplitude", Dimension::voltage);
   spec.current_a = reader.required_quantity("current", Dimension::current);
@@ -288,6 +313,8 @@ SwitchingSpec read_switching_section(TableReader& reader) {
                                                                                 : DitherProfile::triangle;
     spec_d.deviation_fraction = d.required_quantity("deviation", Dimension::fraction);
     spec_d.rate_hz = d.required_quantity("rate", Dimension::frequency);
+    spec_d.rate_where = d.position("rate");
+    spec_d.where = reader.position("dither");
     d.finish({"profile", "deviation", "rate"});
     spec.dither = spec_d;
   }

@@ -11,6 +11,7 @@
 /// Example:
 ///   SwitchingSpec s;  s.frequency_hz = 220e3; s.duty = 0.25; s.amplitude_v = 48; s.rise_s = 12e-9; ...
 ///   LineSpectrum v = switch_node_spectrum(s, 30e6);   // exact harmonics up to 30 MHz
+#include <cstddef>
 #include <optional>
 #include <string>
 #include <vector>
@@ -36,6 +37,8 @@ struct DitherSpec {
   DitherProfile profile = DitherProfile::triangle;
   double deviation_fraction = 0.0;  ///< peak deviation / f0, in (0, 0.5)
   double rate_hz = 0.0;             ///< modulation rate [Hz] > 0
+  SourcePosition rate_where;        ///< of the `rate` value in the scenario (for messages), may be empty
+  SourcePosition where;             ///< of the `dither` value in the scenario (for messages), may be empty
 };
 
 /// The largest switch-node swing and pulsed current taken: 1 MV and 1 MA. Beyond any power
@@ -49,6 +52,16 @@ inline constexpr double max_current_a = 1e6;
 /// below 1, and the bound keeps the ringing's levels within those of max_amplitude_v × 10).
 inline constexpr double max_ringing_relative_amplitude = 10.0;
 
+/// The most harmonics computed for one line spectrum: 2^20 (16 MB of phasors, and a few copies
+/// along the chain). Up to 110 MHz (the top of the FM band, where harmonics end for the broadcast
+/// estimate) that takes a switching frequency of at least 105 Hz; "3 Hz" asked for 37 million and
+/// more than 9 GB (issue 14). Judgement: converters switch at kHz and above.
+inline constexpr std::size_t max_harmonic_count = std::size_t{1} << 20;
+/// The most samples of one synthesized record: 2^23 (67 MB as double; the receiver's transforms
+/// take several times that). A dithered record holds at least one modulation period, so the
+/// dither rate must be at least sample rate / 2^23 (8.9 Hz in band B).
+inline constexpr std::size_t max_record_samples = std::size_t{1} << 23;
+
 struct SwitchingSpec {
   double frequency_hz = 0.0;  ///< switching frequency f0 [Hz] > 0
   double duty = 0.5;          ///< pulse width at 50 % / period, in (0, 1)
@@ -58,6 +71,7 @@ struct SwitchingSpec {
   double fall_s = 0.0;        ///< 0–100 % fall time [s] ≥ 0
   std::optional<RingingSpec> ringing;
   std::optional<DitherSpec> dither;
+  SourcePosition frequency_where;  ///< of the `frequency` value in the scenario (for messages), may be empty
 
   [[nodiscard]] double period_s() const { return 1.0 / frequency_hz; }
 };

@@ -1,6 +1,7 @@
 // The bad-input corpus, end to end through the CLI (issue 9): every case under tests/data/bad/<loader>/
 // must make `spurcast` exit with code 2 (docs/design.md §4: "2 = bad input or usage"), print exactly the
-// expected message as the first line of stderr, and create nothing at the output path it was given.
+// expected message as the first line of stderr, and create nothing at the output path it was given,
+// within a cap of 1 GiB of address space and 60 s.
 //
 // Layout of a loader folder:
 //   command            the arguments, one line, e.g. `spectrum --capture {input} --csv {out}`;
@@ -59,6 +60,17 @@ void replace_all(std::string& text, const std::string& from, const std::string& 
   for (std::size_t at = text.find(from); at != std::string::npos; at = text.find(from, at + to.size())) {
     text.replace(at, from.size(), to);
   }
+}
+
+// Every run is capped in address space and time (prlimit, timeout), so that an allocation made
+// before its check, or a read that never ends, fails the test instead of taking the machine
+// (issue 14).
+constexpr long long memory_cap_bytes = 1LL << 30;  // 1 GiB: a normal predict peaks near 200 MB
+constexpr int time_cap_s = 60;
+
+RunResult run_capped(const fs::path& directory, const std::vector<std::string>& arguments, const fs::path& scratch) {
+  return run_cli(directory, arguments, scratch,
+                 "prlimit --as=" + std::to_string(memory_cap_bytes) + " timeout -k 5 " + std::to_string(time_cap_s));
 }
 
 struct Case {
@@ -134,8 +146,10 @@ TEST_CASE("every bad input is refused with its message, exit code 2 and no outpu
       replace_all(w, "{input}", c.input.filename().string());
       replace_all(w, "{out}", (out_folder / "result").string());
     }
-    const RunResult result = run_cli(c.folder, words, scratch);
+    const RunResult result = run_capped(c.folder, words, scratch);
     CAPTURE(result.err);
+    CAPTURE(result.out);
+    CAPTURE(c.command_line);
     CHECK(result.exit_code == 2);
     CHECK(first_line(result.err) == c.expected);
     // Nothing written on error: not the output itself, nor a temporary sibling of it.
@@ -151,17 +165,8 @@ TEST_CASE("every bad input is refused with its message, exit code 2 and no outpu
 }
 
 // Hostile inputs too large, or of a kind (pipes, devices), that the corpus cannot hold: built at
-// test time, each run under a cap on address space and time so that an allocation made before
-// its check, or a read that never ends, fails the test instead of taking the machine (issue 14).
+// test time, each run under the same caps (issue 14).
 namespace {
-
-constexpr long long memory_cap_bytes = 1LL << 30;  // 1 GiB: a normal predict peaks near 200 MB
-constexpr int time_cap_s = 60;
-
-RunResult run_capped(const fs::path& directory, const std::vector<std::string>& arguments, const fs::path& scratch) {
-  return run_cli(directory, arguments, scratch,
-                 "prlimit --as=" + std::to_string(memory_cap_bytes) + " timeout -k 5 " + std::to_string(time_cap_s));
-}
 
 std::string dotted_key(int parts) {
   std::string key = "k";

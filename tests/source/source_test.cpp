@@ -158,7 +158,7 @@ TEST_CASE("input current uses the same timing with the current amplitude and no 
 
 TEST_CASE("dither: periods follow f0·(1 ± deviation) and the mean frequency stays f0") {
   SwitchingSpec s = trapezoid(10.0, 200e3, 0.5, 20e-9);
-  s.dither = DitherSpec{DitherProfile::triangle, 0.06, 5e3};
+  s.dither = DitherSpec{DitherProfile::triangle, 0.06, 5e3, {}, {}};
   const double fs = 100e6;
   const Waveform w = synthesize_switch_node(s, fs, 4e-3);  // 20 modulation periods
   std::vector<double> rising_crossings;
