@@ -4,6 +4,7 @@
 
 #include <cstdio>
 #include <iostream>
+#include <string>
 #include <new>
 
 #include "cli/commands.hpp"
@@ -19,8 +20,14 @@ int main(int argc, char** argv) {
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    const int code = app.exit(e);
-    return code == 0 ? 0 : spurcast::cli::exit_bad_input;
+    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    // One line, like every other error (issue 14: CLI11 adds a second line of its own).
+    std::string message = e.what();
+    for (char& c : message) {
+      if (c == '\n') c = ' ';
+    }
+    std::cerr << "spurcast: error: " << message << " (see --help)\n";
+    return spurcast::cli::exit_bad_input;
   }
   try {
     for (auto& command : commands) {

@@ -91,7 +91,7 @@ void setup_scan(CLI::App& app, CommandList& commands) {
   sub->add_option("--csv", options->csv_file, "write every reading to FILE (frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv)");
   sub->add_flag("--json", options->json, "machine-readable output on stdout");
   sub->add_option("--threads", options->threads, "threads of the FFT receiver (default: SPURCAST_THREADS, else every core)")
-      ->check(CLI::PositiveNumber);
+      ->check(thread_count_check());
   commands.push_back({sub, [options] { return run_scan(*options); }});
 }
 

@@ -734,14 +734,21 @@ WindowCriterion parse_window_criterion(std::string_view band_name) {
   return criterion;
 }
 
+std::optional<std::string> thread_count_problem(std::string_view text) {
+  unsigned count = 0;
+  const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
+  if (ec != std::errc() || end != text.data() + text.size() || count == 0 || count > max_worker_threads) {
+    return "expected a thread count of 1.." + std::to_string(max_worker_threads) + ", found \"" + std::string(text) + "\"";
+  }
+  return std::nullopt;
+}
+
 unsigned sweep_thread_count(const char* environment_value) {
   if (environment_value && *environment_value) {
     const std::string_view text(environment_value);
+    if (const auto problem = thread_count_problem(text)) throw Error("SPURCAST_THREADS: " + *problem);
     unsigned count = 0;
-    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
-    if (ec != std::errc() || end != text.data() + text.size() || count == 0) {
-      throw Error("expected SPURCAST_THREADS to be a positive integer, found \"" + std::string(text) + "\"");
-    }
+    (void)std::from_chars(text.data(), text.data() + text.size(), count);
     return count;
   }
   return std::max(1u, std::thread::hardware_concurrency());

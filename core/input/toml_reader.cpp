@@ -371,6 +371,24 @@ SourcePosition TableReader::position(std::string_view key) const {
 
 SourcePosition TableReader::table_position() const { return position_of(table_, file_); }
 
+Error TableReader::missing(std::string_view key, const std::string& expected) const {
+  // A key nobody has asked for that is close to the missing one is its misspelling: name it
+  // where it is, rather than the absence of the right one (issue 14).
+  const toml::key* misspelt = nullptr;
+  for (const auto& [candidate, value] : table_) {
+    (void)value;
+    if (used_.count(candidate.str()) != 0 || nearest_key(candidate.str(), {std::string(key)}).empty()) continue;
+    if (misspelt == nullptr || candidate.source().begin.line < misspelt->source().begin.line) misspelt = &candidate;
+  }
+  if (misspelt != nullptr) {
+    const auto& begin = misspelt->source().begin;
+    return Error(SourcePosition{file_, static_cast<int>(begin.line), static_cast<int>(begin.column)},
+                 "unknown key '" + std::string(misspelt->str()) + "' in [" + where_ + "]; did you mean '" +
+                     std::string(key) + "'?");
+  }
+  return Error(table_position(), "missing key '" + std::string(key) + "' in [" + where_ + "] (expected " + expected + ")");
+}
+
 void TableReader::fail(std::string_view key, const std::string& message) const {
   throw Error(position(key), message);
 }
@@ -378,8 +396,7 @@ void TableReader::fail(std::string_view key, const std::string& message) const {
 double TableReader::required_quantity(std::string_view key, Dimension dimension) {
   const toml::node* found = lookup(key);
   if (found == nullptr) {
-    throw Error(table_position(), "missing key '" + std::string(key) + "' in [" + where_ +
-                                      "] (expected " + dimension_name(dimension) + ")");
+    throw missing(key, dimension_name(dimension));
   }
   return quantity_from_node(*found, dimension, file_);
 }
@@ -404,8 +421,7 @@ std::optional<std::string> TableReader::optional_string(std::string_view key) {
 std::string TableReader::required_string(std::string_view key) {
   auto value = optional_string(key);
   if (!value) {
-    throw Error(table_position(),
-                "missing key '" + std::string(key) + "' in [" + where_ + "] (expected a string)");
+    throw missing(key, "a string");
   }
   return *value;
 }
@@ -426,8 +442,7 @@ std::optional<std::string> TableReader::optional_choice(std::string_view key,
 std::string TableReader::required_choice(std::string_view key, const std::vector<std::string>& choices) {
   auto value = optional_choice(key, choices);
   if (!value) {
-    throw Error(table_position(), "missing key '" + std::string(key) + "' in [" + where_ +
-                                      "] (expected one of " + quoted_list(choices) + ")");
+    throw missing(key, "one of " + quoted_list(choices));
   }
   return *value;
 }

@@ -80,6 +80,9 @@ class TableReader {
 
  private:
   const toml::node* lookup(std::string_view key);
+  /// "missing key 'k' in [where] (expected ...)" at the table, or, when an unread key of the table
+  /// is close to `key`, "unknown key 'frequncy' in [switching]; did you mean 'frequency'?" at it.
+  [[nodiscard]] Error missing(std::string_view key, const std::string& expected) const;
   const toml::table& table_;
   std::string file_;
   std::string where_;

@@ -32,6 +32,10 @@ namespace {
 constexpr std::size_t max_line_bytes = std::size_t{1} << 20;
 /// Header lines looked at before giving up on finding numeric data.
 constexpr std::size_t max_header_lines = 1000;
+/// The largest captured value taken, in volts or amperes after scaling: 1e9 (a thousand times the
+/// largest swing a described source may have, max_amplitude_v; the spectrum's power sums stay
+/// finite). Judgement.
+constexpr double max_capture_value = 1e9;
 /// Below this many bytes a second parser thread costs more than it saves (thread start ~50 µs).
 constexpr std::size_t min_chunk_bytes = std::size_t{1} << 20;
 /// Time stamps within 1 % of a sample interval of the uniform grid count as uniformly sampled
@@ -261,6 +265,13 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
                            ") is beyond the range of a double");
       return;
     }
+    // Values near 1e307 are finite but their spectrum's power sums are not ("-nan Hz", issue 14).
+    if (std::fabs(scaled) > max_capture_value) {
+      fail(value_cell, "expected a value of at most " + format_number(max_capture_value) +
+                           " V or A in magnitude after the scale and unit (beyond any converter; larger values "
+                           "overflow the spectrum), found " + format_number(scaled));
+      return;
+    }
     out.value.push_back(scaled);
     if (job.release_pages && static_cast<std::size_t>(p - released_to) >= release_step_bytes) {
       release_mapped_pages(released_to, p);
@@ -400,6 +411,16 @@ bool starts_with_number(std::string_view line) {
   if (result.ec != std::errc()) return false;
   const char* after = result.ptr;
   return after == line.data() + line.size() || *after == ',' || *after == ';' || is_blank(*after);
+}
+
+/// True when the line's first cell is a number in double quotes ("1.5e-9",...).
+bool starts_with_quoted_number(std::string_view line) {
+  if (line.size() < 3 || line.front() != '"') return false;
+  const char* digits = line.data() + 1;
+  if (*digits == '+') ++digits;
+  double number = 0.0;
+  const auto result = fast_float::from_chars(digits, line.data() + line.size(), number);
+  return result.ec == std::errc() && result.ptr < line.data() + line.size() && *result.ptr == '"';
 }
 
 /// Memory map of a whole file, read-only.
@@ -592,6 +613,14 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
       first_data = line;
       break;
     }
+    // A data line with quoted numbers would read as one more header line, until "found text only"
+    // 1000 lines on (issue 14): refuse it at its first cell instead.
+    if (starts_with_quoted_number(trimmed)) {
+      const std::size_t cell_end = trimmed.find_first_of(",;\t", 1);
+      throw Error(SourcePosition{name, static_cast<int>(line_number), static_cast<int>(line.find('"') + 1)},
+                  "expected a number, found the quoted text " + std::string(trimmed.substr(0, cell_end)) +
+                      " (a capture's numbers are read without quotes)");
+    }
     if (!trimmed.empty() && trimmed.front() != '#') {
       if (header_lines.empty()) first_header_line = line_number;
       header_lines.push_back(line);
@@ -746,7 +775,9 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
     if (!chunk.time.empty()) previous = &chunk;
   }
   if (sample_count < 2) {
-    throw Error(SourcePosition{name, 0, 0}, "expected at least 2 samples, found " + std::to_string(sample_count));
+    // At the one data line (issue 14: the message had no position).
+    throw Error(SourcePosition{name, static_cast<int>(capture.first_data_line), 1},
+                "expected at least 2 samples, found " + std::to_string(sample_count));
   }
   if (options.on_sample_count) options.on_sample_count(sample_count);
 

@@ -280,3 +280,32 @@ TEST_CASE("an amplitude at its bound gives finite levels everywhere; one above i
   CHECK(!fs::exists(dir / "scan.csv"));
   fs::remove_all(dir);
 }
+
+TEST_CASE("usage errors are one line, and a thread count states its range as 1..N") {
+  const fs::path dir = spurcast::test::fresh_directory("spurcast-usage-", std::to_string(::getpid()));
+  fs::copy_file(source_dir / "examples" / "greenhouse-buck.toml", dir / "s.toml");
+  struct Run {
+    std::vector<std::string> arguments;
+    std::string message;
+  };
+  const std::vector<Run> runs = {
+      // Before issue 14: CLI11's own second line, and for 0 a range up to a 309-digit number.
+      {{"scan", "s.toml", "--threads", "0"},
+       "spurcast: error: --threads: expected a thread count of 1..256, found \"0\" (see --help)"},
+      {{"sweep", "s.toml", "--vary", "switching.duty=0.2:0.3:3", "--threads", "100000"},
+       "spurcast: error: --threads: expected a thread count of 1..256, found \"100000\" (see --help)"},
+      {{"predict", "s.toml", "--no-such-option"},
+       "spurcast: error: The following argument was not expected: --no-such-option (see --help)"},
+  };
+  for (const Run& run : runs) {
+    CAPTURE(run.message);
+    const RunResult result = run_capped(dir, run.arguments, dir);
+    CHECK(result.exit_code == 2);
+    CHECK(result.err == run.message + "\n");  // the whole of stderr: one line
+  }
+  const RunResult environment = run_cli(dir, {"sweep", "s.toml", "--vary", "switching.duty=0.2:0.3:3"}, dir,
+                                        "SPURCAST_THREADS=0");
+  CHECK(environment.exit_code == 2);
+  CHECK(environment.err == "spurcast: error: SPURCAST_THREADS: expected a thread count of 1..256, found \"0\"\n");
+  fs::remove_all(dir);
+}

@@ -46,6 +46,15 @@ TEST_CASE("TableReader: quantities with units, choices, and unknown keys with a 
   CHECK_THROWS_WITH_AS((void)reader.required_quantity("missing", Dimension::capacitance),
                        "t.toml:1:1: missing key 'missing' in [filter 1] (expected a capacitance)", Error);
   CHECK_THROWS_WITH_AS((void)reader.required_string("duty"), "t.toml:2:8: expected a string, found a number", Error);
+  // A required key that is absent while an unread key one edit away is present: the misspelling
+  // is named where it is (issue 14), for quantities, strings and choices alike.
+  CHECK_THROWS_WITH_AS((void)reader.required_quantity("inductance", Dimension::inductance),
+                       "t.toml:6:1: unknown key 'inductnce' in [filter 1]; did you mean 'inductance'?", Error);
+  CHECK_THROWS_WITH_AS((void)reader.required_string("inductancee"),
+                       "t.toml:6:1: unknown key 'inductnce' in [filter 1]; did you mean 'inductancee'?", Error);
+  // A key already read is never taken for a misspelling of another ("lines" is one edit from "line").
+  CHECK_THROWS_WITH_AS((void)reader.required_quantity("line", Dimension::number),
+                       "t.toml:1:1: missing key 'line' in [filter 1] (expected a number)", Error);
 }
 
 TEST_CASE("nearest_key finds close spellings only") {
