@@ -24,6 +24,9 @@ struct Command {
 };
 using CommandList = std::vector<Command>;
 
+/// The check of every --threads option: 1..max_worker_threads (core/chain/sweep.hpp).
+[[nodiscard]] CLI::Validator thread_count_check();
+
 /// Registers every subcommand on `app`; the run function of the parsed one is called by main.
 void register_commands(CLI::App& app, CommandList& commands);
 

@@ -25,7 +25,7 @@ struct Options {
 };
 
 int run_sensitivity_command(const Options& options) {
-  const toml::table table = parse_toml_file(options.scenario_file);
+  const toml::table table = parse_toml_file(options.scenario_file, "scenario file");
   const std::filesystem::path folder = std::filesystem::path(options.scenario_file).parent_path();
   SensitivityOptions sensitivity;
   sensitivity.threads =

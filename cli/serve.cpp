@@ -19,7 +19,7 @@ struct Options {
 
 int run_serve(const Options& options) {
   const std::filesystem::path folder = std::filesystem::path(options.scenario).parent_path();
-  WhatIfServer server(WhatIfSession(parse_toml_file(options.scenario), options.scenario,
+  WhatIfServer server(WhatIfSession(parse_toml_file(options.scenario, "scenario file"), options.scenario,
                                     folder.empty() ? "." : folder.string()));
   const int port = server.bind(options.port);
   std::cout << "what-if page: http://127.0.0.1:" << port << "/  (loopback only; Ctrl-C stops it)" << std::endl;

@@ -18,8 +18,10 @@ namespace {
 /// Harmonics are computed up to the top of the FM allocations, so the broadcast estimate covers
 /// every shipped band, and further when a receiver band reaches higher.
 constexpr double broadcast_top_hz = 110e6;
-/// The sampled path keeps a record of at most 2^23 samples per waveform (about 67 MB as double).
-constexpr double max_record_samples = 8388608.0;
+
+/// The most lines a dithered spectrum is spread into for the broadcast estimate: 2^23 (134 MB).
+/// A 400 kHz converter with 8 % dither makes about 600,000. Judgement.
+constexpr std::size_t max_spread_lines = std::size_t{1} << 23;
 
 double highest_frequency_hz(const std::vector<CisprBand>& bands) {
   double top = broadcast_top_hz;
@@ -56,12 +58,25 @@ std::vector<SpectralLine> spread_lines(const std::vector<double>& frequency_hz, 
                                        const DitherSpec& dither) {
   constexpr double resolution_hz = 1e3;  // finer than any channel raster (5 kHz and up)
   constexpr std::size_t max_sub_lines = 2000;
+  const auto sub_line_count = [&](double centre_hz) {
+    return static_cast<std::size_t>(std::clamp(std::ceil(2.0 * centre_hz * dither.deviation_fraction / resolution_hz),
+                                               1.0, static_cast<double>(max_sub_lines)));
+  };
+  // Counted before allocation (issue 14): 8 % on a 110 Hz fundamental spread 1.8e9 lines.
+  std::size_t total = 0;
+  for (const double centre : frequency_hz) total += sub_line_count(centre);
+  if (total > max_spread_lines) {
+    throw Error(dither.where, "dither of " + format_quantity(dither.deviation_fraction, Dimension::fraction) + " on " +
+                                  std::to_string(frequency_hz.size()) + " harmonics spreads them into " +
+                                  std::to_string(total) + " lines, more than the " + std::to_string(max_spread_lines) +
+                                  " of the broadcast estimate: expected a higher switching frequency or a smaller deviation");
+  }
   std::vector<SpectralLine> out;
+  out.reserve(total);
   for (std::size_t i = 0; i < frequency_hz.size(); ++i) {
     const double centre = frequency_hz[i];
     const double deviation = centre * dither.deviation_fraction;
-    const auto count = static_cast<std::size_t>(
-        std::clamp(std::ceil(2.0 * deviation / resolution_hz), 1.0, static_cast<double>(max_sub_lines)));
+    const std::size_t count = sub_line_count(centre);
     const double power = std::pow(10.0, level_db[i] / 10.0);
     for (std::size_t m = 0; m < count; ++m) {
       // Sub-band m covers x in [x0, x1] of the normalised deviation [-1, 1].

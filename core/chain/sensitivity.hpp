@@ -15,7 +15,7 @@
 /// key.
 ///
 /// Example:
-///   const toml::table table = parse_toml_file("examples/greenhouse-buck.toml");
+///   const toml::table table = parse_toml_file("examples/greenhouse-buck.toml", "scenario file");
 ///   const SensitivityResult r = run_sensitivity(table, "examples/greenhouse-buck.toml",
 ///   "examples", {}); for (const Sensitivity& s : r.sensitivities) ... s.key,
 ///   r.targets[s.target].frequency_hz, *s.db_per_10_percent

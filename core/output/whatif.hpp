@@ -18,7 +18,7 @@
 /// comes from a request; every bad key or value is a 400 JSON error naming the key.
 ///
 /// Example:
-///   WhatIfSession session(parse_toml_file("examples/greenhouse-buck.toml"), "examples/greenhouse-buck.toml", "examples");
+///   WhatIfSession session(parse_toml_file("examples/greenhouse-buck.toml", "scenario file"), "examples/greenhouse-buck.toml", "examples");
 ///   session.set_port(8470);
 ///   const WhatIfResponse r = session.handle({"POST", "/api/evaluate", "127.0.0.1:8470", std::nullopt,
 ///                                            R"({"set": {"switching.frequency": "1.9 MHz"}})"});

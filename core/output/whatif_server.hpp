@@ -3,7 +3,7 @@
 /// to WhatIfSession::handle() (core/output/whatif.hpp), which holds the security checks.
 ///
 /// Example:
-///   WhatIfServer server(WhatIfSession(parse_toml_file(path), path, folder));
+///   WhatIfServer server(WhatIfSession(parse_toml_file(path, "scenario file"), path, folder));
 ///   const int port = server.bind(0);   // 0: an ephemeral port
 ///   std::thread t([&] { server.listen(); });
 ///   ...; server.stop(); t.join();

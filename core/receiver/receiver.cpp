@@ -66,17 +66,7 @@ constexpr double min_noise_floor_dbuv = -60.0;
 constexpr double max_noise_floor_dbuv = 60.0;
 
 void check_step(const TableReader& reader, std::string_view key, double step_hz, CisprBand band) {
-  const BandParameters p = band_parameters(band);
-  if (!(step_hz > 0.0)) {
-    reader.fail(key, "expected a positive step, found " + format_quantity(step_hz, Dimension::frequency));
-  }
-  if (step_hz > 0.5 * p.bandwidth_6db_hz * (1.0 + 1e-9)) {
-    reader.fail(key, "expected a step of at most " +
-                         format_quantity(0.5 * p.bandwidth_6db_hz, Dimension::frequency) +
-                         " (half the " + format_quantity(p.bandwidth_6db_hz, Dimension::frequency) +
-                         " bandwidth of band " + to_string(band) + "), found " +
-                         format_quantity(step_hz, Dimension::frequency));
-  }
+  if (const auto problem = step_problem(band, step_hz)) reader.fail(key, *problem);
 }
 
 // Reads an array of names one element at a time, so that a wrong name points at its own position.
@@ -171,9 +161,29 @@ double noise_bandwidth_hz(double bandwidth_6db_hz) {
 
 double default_step_hz(CisprBand band) { return band_parameters(band).bandwidth_6db_hz / 4.0; }
 
+std::optional<std::string> step_problem(CisprBand band, double step_hz) {
+  const BandParameters p = band_parameters(band);
+  if (!(step_hz > 0.0)) return "expected a positive step, found " + format_quantity(step_hz, Dimension::frequency);
+  if (step_hz > 0.5 * p.bandwidth_6db_hz * (1.0 + 1e-9)) {
+    return "expected a step of at most " + format_quantity(0.5 * p.bandwidth_6db_hz, Dimension::frequency) +
+           " (half the " + format_quantity(p.bandwidth_6db_hz, Dimension::frequency) + " bandwidth of band " +
+           to_string(band) + "), found " + format_quantity(step_hz, Dimension::frequency);
+  }
+  // Counted before the grid is allocated: k = 0 .. floor(span/step), as tuned_frequencies() makes it.
+  const double span_hz = p.stop_hz * (1.0 + 1e-9) - p.start_hz;
+  if (std::floor(span_hz / step_hz) + 1.0 > static_cast<double>(max_tuned_frequencies)) {
+    return "expected a step of at least " +
+           format_quantity((p.stop_hz - p.start_hz) / static_cast<double>(max_tuned_frequencies - 1), Dimension::frequency) +
+           " in band " + to_string(band) + " (" + format_quantity(p.start_hz, Dimension::frequency) + "-" +
+           format_quantity(p.stop_hz, Dimension::frequency) + ": at most " + std::to_string(max_tuned_frequencies) +
+           " tuned frequencies), found " + format_quantity(step_hz, Dimension::frequency);
+  }
+  return std::nullopt;
+}
+
 std::vector<double> tuned_frequencies(CisprBand band, double step_hz) {
   const BandParameters p = band_parameters(band);
-  if (!(step_hz > 0.0)) throw Error("expected a positive step, found " + format_quantity(step_hz, Dimension::frequency));
+  if (const auto problem = step_problem(band, step_hz)) throw Error(*problem);
   std::vector<double> frequencies;
   const double slack = 1e-9 * p.stop_hz;
   for (std::size_t k = 0;; ++k) {
@@ -197,11 +207,8 @@ std::vector<double> plan_frequencies(const ScanPlan& plan) {
   const BandParameters p = band_parameters(plan.band);
   if (plan.frequencies_hz.empty()) {
     const double step = plan.step_hz.value_or(default_step_hz(plan.band));
-    if (step > 0.5 * p.bandwidth_6db_hz * (1.0 + 1e-9)) {
-      throw Error("expected a step of at most " + format_quantity(0.5 * p.bandwidth_6db_hz, Dimension::frequency) +
-                  " (half the " + format_quantity(p.bandwidth_6db_hz, Dimension::frequency) +
-                  " bandwidth of band " + to_string(plan.band) + "), found " +
-                  format_quantity(step, Dimension::frequency));
+    if (const auto problem = step_problem(plan.band, step)) {
+      throw Error(plan.step_origin.empty() ? *problem : plan.step_origin + ": " + *problem);
     }
     return tuned_frequencies(plan.band, step);
   }
@@ -464,6 +471,18 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   envelope_from_lines(work.plan, buffer, phasors, envelope);
 }
 
+/// The last line of defence for finite levels: inputs are bounded where they are read (e.g.
+/// max_amplitude_v), but a reading that still overflows, or is NaN, is an error here rather than
+/// an "inf" in a CSV, a null in JSON or a plot axis without end (issue 14).
+void require_finite_readings(const ScanResult& result) {
+  for (const Reading& r : result.readings) {
+    if (std::isfinite(r.peak_db) && std::isfinite(r.quasi_peak_db) && std::isfinite(r.average_db)) continue;
+    throw Error("the reading at " + format_quantity(r.frequency_hz, Dimension::frequency) +
+                " is not a finite level (the inputs overflow the calculation): check the amplitudes, currents and "
+                "component values");
+  }
+}
+
 /// A result with the plan's band, bandwidth and step filled in and no readings yet.
 ScanResult empty_scan_result(Quantity quantity, const ScanPlan& plan) {
   ScanResult result;
@@ -554,6 +573,7 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
                            format_quantity(plan.slowest_modulation_hz, Dimension::frequency) +
                            "); fewer than 3 may misrepresent it");
   }
+  require_finite_readings(result);
   if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
 }
@@ -608,6 +628,7 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
       result.readings[i] = make_reading(tuned_hz, r);
     }
   });
+  require_finite_readings(result);
   if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
 }

@@ -79,7 +79,17 @@ struct ReceiverSpec {
 [[nodiscard]] double noise_bandwidth_hz(double bandwidth_6db_hz);
 /// The default scan step: B6/4 (worst-case Gaussian scalloping 0.38 dB, docs/references.md §1.2).
 [[nodiscard]] double default_step_hz(CisprBand band);
+/// The most tuned frequencies of one band scan: 2^20. The default grids have 2,821 (band A) to
+/// 32,334 (band C/D) points; the bound allows steps 30 times finer than the default and keeps a
+/// scan's readings within some tens of MB. `scan --band C --step 1Hz` asked for 970 million
+/// (issue 14). Judgement.
+inline constexpr std::size_t max_tuned_frequencies = std::size_t{1} << 20;
+/// Why `step_hz` cannot scan `band`: not positive, above B6/2, or more than max_tuned_frequencies
+/// points ("expected a step of at least 925.1 Hz in band C (30 MHz-1 GHz: at most 1048576 tuned
+/// frequencies), found 1 Hz"); nullopt when it can.
+[[nodiscard]] std::optional<std::string> step_problem(CisprBand band, double step_hz);
 /// Tuned frequencies start_hz + k·step_hz for k = 0, 1, ... while <= stop_hz (1e-9 relative slack).
+/// Error with step_problem()'s message, before any allocation.
 [[nodiscard]] std::vector<double> tuned_frequencies(CisprBand band, double step_hz);
 
 // ---------------------------------------------------------------------------------------------
@@ -89,6 +99,8 @@ struct ReceiverSpec {
 struct ScanPlan {
   CisprBand band = CisprBand::B;
   std::optional<double> step_hz;       ///< [Hz] default default_step_hz(band); must be <= B6/2
+  /// Who gave step_hz, for messages: "--step" (then errors read "--step: expected ..."), or "".
+  std::string step_origin;
   std::vector<double> frequencies_hz;  ///< spot readings at these tuned frequencies; empty = scan the band
   /// [Hz] the slowest modulation in the signal (e.g. a dither rate), 0 = unknown. The sampled path
   /// notes a record holding fewer than 3 of its periods.

@@ -39,7 +39,7 @@ constexpr double rounding_tolerance_db = 0.005 + 1e-9;
 
 /// A server on 127.0.0.1 with an ephemeral port, serving in a thread for the life of the object.
 struct RunningServer {
-  spurcast::WhatIfServer server{spurcast::WhatIfSession(spurcast::parse_toml_file(example), example, example_dir)};
+  spurcast::WhatIfServer server{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir)};
   int port = server.bind(0);
   std::thread thread{[this] { server.listen(); }};
   ~RunningServer() {
@@ -240,7 +240,7 @@ TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
   REQUIRE(served);
   CHECK(served->status == 200);
   // A second server cannot take the same port (no SO_REUSEPORT sharing): the message names the address.
-  spurcast::WhatIfServer second{spurcast::WhatIfSession(spurcast::parse_toml_file(example), example, example_dir)};
+  spurcast::WhatIfServer second{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir)};
   CHECK_THROWS_WITH_AS((void)second.bind(s.port),
                        ("cannot listen on 127.0.0.1:" + std::to_string(s.port) + " (in use, or not allowed)").c_str(),
                        spurcast::Error);

@@ -269,6 +269,30 @@ TEST_CASE("two lines 3 kHz apart beat inside the 9 kHz bandwidth: PK reads their
   CHECK(std::abs(sampled.readings[0].average_db - exact.readings[0].average_db) < tol_db);
 }
 
+TEST_CASE("a reading that overflows is an error, never inf in a CSV or null in JSON (issue 14)") {
+  // Two lines of 1e308 V RMS: their peak phasors (sqrt(2) x 1e308) exceed the largest double
+  // (1.8e308, IEEE 754 binary64), so the sum the receiver reads is +inf. The inputs are bounded
+  // where they are read (max_amplitude_v); this is the receiver's own last line.
+  LineSpectrum lines;
+  lines.fundamental_hz = 1e3;
+  lines.harmonics.assign(1003, 0.0);
+  lines.harmonics[999] = 1e308;
+  lines.harmonics[1002] = 1e308;
+  ScanPlan plan;
+  plan.band = CisprBand::B;
+  plan.frequencies_hz = {1.0015e6};
+  CHECK_THROWS_WITH_AS((void)scan_lines(lines, plan),
+                       "the reading at 1.002 MHz is not a finite level (the inputs overflow the calculation): check the "
+                       "amplitudes, currents and component values",
+                       Error);
+  // The same lines at 1 MV (the bound) read finitely: 240 dBuV each, within the 20·log10 of their sum.
+  lines.harmonics[999] = 1e6;
+  lines.harmonics[1002] = 1e6;
+  const ScanResult finite = scan_lines(lines, plan);
+  CHECK(std::isfinite(finite.readings[0].peak_db));
+  CHECK(finite.readings[0].peak_db < volts_to_dbuv(2e6) + 0.01);
+}
+
 TEST_CASE("line path and sampled path agree within 0.5 dB on the same periodic source (slow twin)") {
   // A 2 kHz train of narrow pulses (flat lines over band B's first MHz, several in each passband)
   // and a 1 kHz square-ish wave with alternating phases: exact lines, and the same signal sampled
