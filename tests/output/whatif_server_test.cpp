@@ -116,6 +116,7 @@ TEST_CASE("evaluate answers what predict gives for the scenario with the same va
 TEST_CASE("the page and the editable keys are served; the scenario download carries the edit") {
   RunningServer s;
   httplib::Client client = s.client();
+  // The page itself (core/output/whatif_page.cpp): served whole, inline, naming no other host.
   const auto page = client.Get("/");
   REQUIRE(page);
   CHECK(page->status == 200);
