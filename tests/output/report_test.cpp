@@ -289,7 +289,7 @@ TEST_CASE("the files of a report are byte-reproducible and summary.json comes la
 }
 
 TEST_CASE("the real chain on the greenhouse example: summary.json agrees with margins.csv and bands.csv") {
-  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml");
+  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data());
   const Prediction p = predict(scenario);
   const nlohmann::json j = nlohmann::json::parse(summary_json(p, {}));
   // Smallest margin_db per line detector, read back from the margins CSV text.
