@@ -11,6 +11,7 @@
 //    tree runs the demo;
 //  - the man page names every command and option that `--help` shows.
 #include <doctest/doctest.h>
+#include <unistd.h>
 
 #include <cmath>
 #include <numbers>
@@ -83,7 +84,9 @@ void check_names_none_of(const std::vector<std::pair<std::string, std::string>>&
 /// A folder for this test under the system temporary folder, checked to lie outside the source and
 /// build folders (otherwise "names no build path" could not fail for the right reason).
 fs::path outside_directory(const std::string& name) {
-  const fs::path dir = fresh_directory("spurcast-install-test-", name);
+  // The process id keeps two runs at once (two build folders on one machine) apart.
+  const fs::path dir =
+      fresh_directory("spurcast-install-test-", name + "-" + std::to_string(getpid()));
   const std::string text = fs::canonical(dir).string();
   REQUIRE(text.find(fs::canonical(source_dir).string()) == std::string::npos);
   REQUIRE(text.find(fs::canonical(binary_dir).string()) == std::string::npos);

@@ -5,6 +5,7 @@
 #include "core/input/shipped_data.hpp"
 
 #include <doctest/doctest.h>
+#include <unistd.h>
 
 #include <filesystem>
 #include <fstream>
@@ -20,7 +21,8 @@ namespace {
 
 /// A fresh folder under the system temporary folder.
 fs::path fresh(const std::string& name) {
-  const fs::path dir = fs::temp_directory_path() / ("spurcast-shipped-data-test-" + name);
+  const fs::path dir = fs::temp_directory_path() /
+                       ("spurcast-shipped-data-test-" + name + "-" + std::to_string(getpid()));
   fs::remove_all(dir);
   fs::create_directories(dir);
   return fs::canonical(dir);
