@@ -104,7 +104,8 @@ void setup_spectrum(CLI::App& app, CommandList& commands) {
   sub->add_option("--max-frequency", options->max_frequency, "highest harmonic frequency listed")->capture_default_str();
   sub->add_option("--csv", options->csv_file, "write harmonic,frequency_hz,level_dbuv,... to this file");
   sub->add_option("--top", options->top, "how many of the strongest harmonics to print")->capture_default_str();
-  sub->add_option("--threads", options->threads, "capture parser threads (default: all cores)");
+  sub->add_option("--threads", options->threads, "capture parser threads (default: all cores)")
+      ->check(thread_count_check());
   sub->add_flag("--resample", options->resample, "resample a non-uniformly sampled capture instead of failing");
   sub->add_flag("--json", options->json, "print JSON instead of text");
   commands.push_back(Command{sub, [options] { return run_spectrum(*options); }});

@@ -69,7 +69,7 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
 }
 
 Scenario load_scenario(const std::string& path, const ShippedData& data) {
-  const toml::table table = parse_toml_file(path);
+  const toml::table table = parse_toml_file(path, "scenario file");
   const std::filesystem::path folder = std::filesystem::path(path).parent_path();
   return scenario_from_table(table, path, folder.empty() ? "." : folder.string(), data);
 }

@@ -630,7 +630,15 @@ VarySpec parse_vary(std::string_view text) {
     std::size_t count = 0;
     const auto [end, ec] = std::from_chars(n.data(), n.data() + n.size(), count);
     if (ec != std::errc() || end != n.data() + n.size() || count == 0) {
-      throw Error("expected a point count >= 1 after TO, found \"" + n + "\"");
+      // A count past size_t's range is a number too: name the bound rather than "not a count".
+      if (ec == std::errc::result_out_of_range) count = std::numeric_limits<std::size_t>::max();
+      else throw Error("expected a point count >= 1 after TO, found \"" + n + "\"");
+    }
+    // Checked here, before the values are allocated (issue 14: 1000000000 died in std::bad_alloc
+    // after 8 GB, 200000000 took 1.5 GB before it was refused).
+    if (count > max_sweep_point_count) {
+      throw Error("--vary " + vary.key + ": expected at most " + std::to_string(max_sweep_point_count) +
+                  " points, found " + n);
     }
     vary.count = count;
   }
@@ -726,14 +734,21 @@ WindowCriterion parse_window_criterion(std::string_view band_name) {
   return criterion;
 }
 
+std::optional<std::string> thread_count_problem(std::string_view text) {
+  unsigned count = 0;
+  const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
+  if (ec != std::errc() || end != text.data() + text.size() || count == 0 || count > max_worker_threads) {
+    return "expected a thread count of 1.." + std::to_string(max_worker_threads) + ", found \"" + std::string(text) + "\"";
+  }
+  return std::nullopt;
+}
+
 unsigned sweep_thread_count(const char* environment_value) {
   if (environment_value && *environment_value) {
     const std::string_view text(environment_value);
+    if (const auto problem = thread_count_problem(text)) throw Error("SPURCAST_THREADS: " + *problem);
     unsigned count = 0;
-    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
-    if (ec != std::errc() || end != text.data() + text.size() || count == 0) {
-      throw Error("expected SPURCAST_THREADS to be a positive integer, found \"" + std::string(text) + "\"");
-    }
+    (void)std::from_chars(text.data(), text.data() + text.size(), count);
     return count;
   }
   return std::max(1u, std::thread::hardware_concurrency());
@@ -746,12 +761,17 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
     throw Error("expected a tolerance from 0 to 50 %, found " + fmt::format("{:g} %", 100.0 * options.tolerance_fraction));
   }
   std::size_t total = 1;
+  std::string grid_text;  // "--vary a (1000) x --vary b (2000)", for the message
   for (const SweepAxis& axis : options.axes) {
     if (axis.values.empty()) throw Error("the sweep of '" + axis.key + "' has no values");
     (void)key_parts(axis.key);
+    grid_text += (grid_text.empty() ? "--vary " : " x --vary ") + axis.key + " (" + std::to_string(axis.values.size()) + ")";
+    // Each factor is at most max_sweep_point_count (parse_vary), so the product cannot overflow
+    // before it is compared.
     total *= axis.values.size();
     if (total > max_sweep_point_count) {
-      throw Error("expected at most " + std::to_string(max_sweep_point_count) + " sweep points, found more");
+      throw Error(grid_text + ": expected at most " + std::to_string(max_sweep_point_count) +
+                  " sweep points in all, found " + std::to_string(total));
     }
   }
 

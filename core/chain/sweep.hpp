@@ -25,7 +25,7 @@
 ///    with its scans (the time-domain receiver for sampled sources).
 ///
 /// Example:
-///   const toml::table table = parse_toml_file("examples/greenhouse-buck.toml");
+///   const toml::table table = parse_toml_file("examples/greenhouse-buck.toml", "scenario file");
 ///   SweepOptions options;
 ///   options.axes.push_back(make_axis(table, parse_vary("switching.frequency=50kHz:2.5MHz:1000")));
 ///   options.criteria.push_back(parse_window_criterion("MW"));
@@ -136,6 +136,12 @@ struct SweepOptions {
 /// otherwise std::thread::hardware_concurrency() (at least 1). Error on a value that is not a
 /// positive integer: `expected SPURCAST_THREADS to be a positive integer, found "x"`.
 [[nodiscard]] unsigned sweep_thread_count(const char* environment_value);
+/// The most worker threads a command starts: 256 (judgement: well above the cores of one machine;
+/// each thread holds its own buffers).
+inline constexpr unsigned max_worker_threads = 256;
+/// Why `text` is not a thread count of 1..max_worker_threads ("expected a thread count of 1..256,
+/// found \"0\""), or nullopt.
+[[nodiscard]] std::optional<std::string> thread_count_problem(std::string_view text);
 
 /// The worst margin to the lines of one detector at one point.
 struct DetectorMarginPoint {

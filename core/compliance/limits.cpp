@@ -242,7 +242,7 @@ const LimitLine* LimitSet::line_for(Detector detector) const {
   return nullptr;
 }
 
-LimitSet read_limit_file(const std::string& path) { return read_set(parse_toml_file(path), path); }
+LimitSet read_limit_file(const std::string& path) { return read_set(parse_toml_file(path, "limit file"), path); }
 
 LimitSet parse_limit_text(std::string_view text, const std::string& name) {
   return read_set(parse_toml_text(text, name), name);
@@ -268,6 +268,12 @@ std::optional<std::string> resolve_limit_file(const std::string& name, const std
   }
   for (const fs::path& candidate : candidates) {
     if (exists_as_file(candidate)) return candidate.lexically_normal().string();
+  }
+  // No regular file: a directory, pipe or device of that name is named, so that the loader
+  // refuses it with what it is (core/input/input_file.hpp) rather than "cannot find".
+  for (const fs::path& candidate : candidates) {
+    std::error_code ignored;
+    if (fs::exists(candidate, ignored)) return candidate.lexically_normal().string();
   }
   return std::nullopt;
 }

@@ -6,6 +6,7 @@
 #include <cmath>
 #include <set>
 
+#include "core/input/input_file.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"
 
@@ -149,7 +150,7 @@ BandPlan read_plan(const toml::table& table, const std::string& file) {
 
 }  // namespace
 
-BandPlan load_band_plan(const std::string& path) { return read_plan(parse_toml_file(path), path); }
+BandPlan load_band_plan(const std::string& path) { return read_plan(parse_toml_file(path, "band plan"), path); }
 
 BandPlan parse_band_plan(const std::string& text, const std::string& name) {
   return read_plan(parse_toml_text(text, name), name);
@@ -215,8 +216,11 @@ BroadcastSpec read_broadcast_section(TableReader& reader, const ShippedData& dat
       resolved = std::filesystem::path(reader.file()).parent_path() / resolved;
     }
     std::error_code ignored;
-    if (!std::filesystem::is_regular_file(resolved, ignored)) {
-      reader.fail("plan", "band plan not found: " + resolved.string());
+    if (!std::filesystem::exists(resolved, ignored)) reader.fail("plan", "band plan not found: " + resolved.string());
+    try {
+      const InputFile plan_file(resolved.string(), "band plan");  // a regular file (not a pipe or device)
+    } catch (const Error& e) {
+      reader.fail("plan", e.what());
     }
     spec.plan = resolved.string();
   }

@@ -14,6 +14,7 @@ std::string reception_verdict_name(ReceptionVerdict verdict) {
     case ReceptionVerdict::clear: return "clear";
     case ReceptionVerdict::watch: return "watch";
     case ReceptionVerdict::noisy: return "noisy";
+    case ReceptionVerdict::not_computed: return "not computed";
   }
   return "clear";
 }
@@ -49,7 +50,7 @@ namespace {
 std::string format_mhz(double hz) { return format_quantity(hz, Dimension::frequency); }
 
 BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines,
-                         const std::vector<std::size_t>& order, const BroadcastSpec& spec) {
+                         const std::vector<std::size_t>& order, const BroadcastSpec& spec, double computed_up_to_hz) {
   BandReception result;
   result.band = band;
   const BandOccupancy occupancy = map_sorted_lines_to_band(band, lines, order);
@@ -70,6 +71,12 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
     }
   }
   if (result.worst_channel) result.verdict = result.channels[*result.worst_channel].verdict;
+  if (band.high_hz > computed_up_to_hz) {
+    // Nothing was computed above computed_up_to_hz: silence there is not a clear band.
+    if (result.verdict == ReceptionVerdict::clear) result.verdict = ReceptionVerdict::not_computed;
+    result.caveats.push_back("not computed above " + format_mhz(computed_up_to_hz) +
+                             ": the source's lines stop there (a capture's Nyquist frequency)");
+  }
 
   const double c_m_per_s = 299792458.0;
   const double near_limit_hz = c_m_per_s / (2.0 * std::numbers::pi * spec.distance_m);
@@ -108,11 +115,11 @@ std::string number(double value, const char* format) {
 
 std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
                                               const std::vector<SpectralLine>& field_lines_dbuvm,
-                                              const BroadcastSpec& spec) {
+                                              const BroadcastSpec& spec, double computed_up_to_hz) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
   const std::vector<std::size_t> order = sorted_line_order(field_lines_dbuvm);
-  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, order, spec));
+  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, order, spec, computed_up_to_hz));
   return results;
 }
 

@@ -25,6 +25,7 @@
 /// Example:
 ///   const auto results = estimate_reception(bands_for(spec, locate_shipped_data()), field_lines, spec);
 ///   const std::string csv = bands_csv(results);
+#include <limits>
 #include <optional>
 #include <string>
 #include <vector>
@@ -34,9 +35,11 @@
 
 namespace spurcast {
 
-enum class ReceptionVerdict { clear, watch, noisy };
+///   not computed — the band lies (wholly, or partly with nothing heard below) above the highest
+///            frequency the source's lines reach (a capture's Nyquist frequency): never `clear`.
+enum class ReceptionVerdict { clear, watch, noisy, not_computed };
 
-/// "clear", "watch", "noisy".
+/// "clear", "watch", "noisy", "not computed".
 [[nodiscard]] std::string reception_verdict_name(ReceptionVerdict verdict);
 
 /// FM threshold carrier-to-noise ratio [dB] (common practice: 10–12 dB).
@@ -70,10 +73,12 @@ struct BandReception {
                                              Environment environment);
 
 /// Estimates every band from field lines (frequency, level in dBµV/m at the receiver).
-/// `spec` gives the environment and the distance (for the near-field caveat).
-[[nodiscard]] std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
-                                                            const std::vector<SpectralLine>& field_lines_dbuvm,
-                                                            const BroadcastSpec& spec);
+/// `spec` gives the environment and the distance (for the near-field caveat). `computed_up_to_hz` is
+/// the highest frequency the lines could reach: a band above it is `not computed` (a band across it
+/// keeps a watch/noisy verdict from its computed part, else is `not computed`), with a caveat.
+[[nodiscard]] std::vector<BandReception> estimate_reception(
+    const std::vector<Band>& bands, const std::vector<SpectralLine>& field_lines_dbuvm, const BroadcastSpec& spec,
+    double computed_up_to_hz = std::numeric_limits<double>::infinity());
 
 /// The whole estimate from conducted currents: the radiated fields (core/radio/radiated.hpp, geometry
 /// from `spec`) of each frequency, then estimate_reception(). Currents RMS [A]: CM per conductor,

@@ -56,7 +56,7 @@ Timing best_of_3(const std::function<void()>& run) {
 int main(int argc, char** argv) {
   const ShippedData data = locate_shipped_data();
   const std::string path = argc > 1 ? argv[1] : data.examples_directory() + "/greenhouse-buck.toml";
-  const toml::table table = parse_toml_file(path);
+  const toml::table table = parse_toml_file(path, "scenario file");
   const std::string directory = path.substr(0, path.find_last_of('/'));
   const Scenario base = scenario_from_table(table, path, directory, data);
 

@@ -81,5 +81,5 @@ TEST_CASE("a wrong unit inside a section points at the value") {
 }
 
 TEST_CASE("a missing file is a clear error") {
-  CHECK_THROWS_WITH_AS((void)load_scenario("/nonexistent/s.toml", locate_shipped_data()), "/nonexistent/s.toml: cannot open file", Error);
+  CHECK_THROWS_WITH_AS((void)load_scenario("/nonexistent/s.toml", locate_shipped_data()), "/nonexistent/s.toml: cannot open the scenario file (no such file or directory)", Error);
 }

@@ -157,7 +157,11 @@ capacitance = "10 uF"
 TEST_CASE("thread count: SPURCAST_THREADS or every core") {
   CHECK(sweep_thread_count("3") == 3);
   CHECK(sweep_thread_count(nullptr) >= 1);
-  CHECK_THROWS_WITH_AS((void)sweep_thread_count("two"), "expected SPURCAST_THREADS to be a positive integer, found \"two\"",
+  // The range is stated as 1..N (issue 14); the variable is named first.
+  CHECK_THROWS_WITH_AS((void)sweep_thread_count("two"), "SPURCAST_THREADS: expected a thread count of 1..256, found \"two\"",
+                       Error);
+  CHECK(sweep_thread_count("256") == 256);
+  CHECK_THROWS_WITH_AS((void)sweep_thread_count("257"), "SPURCAST_THREADS: expected a thread count of 1..256, found \"257\"",
                        Error);
 }
 

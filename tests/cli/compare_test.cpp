@@ -72,7 +72,7 @@ TEST_CASE("compare: every limit met -> exit 0, margins CSV written") {
   CHECK(r.out.find("nothing to re-measure") != std::string::npos);
   REQUIRE(fs::exists(dir / "margins.csv"));
   const std::string csv = read_text(dir / "margins.csv");
-  CHECK(csv.rfind("frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n", 0) == 0);
+  CHECK(csv.rfind("frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit\n", 0) == 0);
   // A peak trace meets both the quasi-peak and the average line: two rows per point.
   CHECK(std::count(csv.begin(), csv.end(), '\n') == 1 + 2 * 400);
   CHECK_FALSE(has_temporary_files(dir));

@@ -120,11 +120,11 @@ nlohmann::json check_report_folder(const fs::path& folder) {
 
   // Column headers are interface (docs/design.md §4).
   CHECK(lines_of(read_file(folder / "spectrum.csv"))[0] == "harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv");
-  CHECK(lines_of(read_file(folder / "margins.csv"))[0] == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit");
+  CHECK(lines_of(read_file(folder / "margins.csv"))[0] == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit");
   CHECK(lines_of(read_file(folder / "bands.csv"))[0] == "band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit");
   const std::vector<std::string> scan = lines_of(read_file(folder / "scan.csv"));
   REQUIRE(scan.size() > 1);
-  CHECK(scan[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
+  CHECK(scan[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor");
   double previous = -1.0;
   bool ascending = true;
   for (std::size_t i = 1; i < scan.size(); ++i) {
@@ -141,7 +141,8 @@ nlohmann::json check_report_folder(const fs::path& folder) {
   const std::vector<std::string> margins = lines_of(read_file(folder / "margins.csv"));
   for (std::size_t i = 1; i < margins.size(); ++i) {
     const std::vector<std::string> cells = csv_cells(margins[i]);
-    REQUIRE(cells.size() == 6);
+    REQUIRE(cells.size() == 7);
+    CHECK(cells[6] == "dB\xC2\xB5V");  // every example compares conducted-voltage lines
     const std::string detector = cells[5].substr(cells[5].rfind("/ ") + 2);
     const double margin = std::stod(cells[4]);
     if (!smallest.count(detector) || margin < smallest[detector]) smallest[detector] = margin;

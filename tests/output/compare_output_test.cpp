@@ -85,5 +85,5 @@ TEST_CASE("compare_text: verdict with the worst margin, the files, and the closi
 TEST_CASE("the margins CSV beside them has the interface columns") {
   const CompareResult r = failing_result();
   const std::string csv = margins_csv(r.report);
-  CHECK(csv.substr(0, csv.find('\n')) == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit");
+  CHECK(csv.substr(0, csv.find('\n')) == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit");
 }

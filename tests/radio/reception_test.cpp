@@ -192,3 +192,24 @@ TEST_CASE("an observation of the trade: 17 kHz spikes -> MW disturbed, SW added 
     }
   }
 }
+
+TEST_CASE("bands above the highest computed frequency are not computed, never clear") {
+  BroadcastSpec spec;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
+  // Lines computed up to 20 MHz (a 40 MS/s capture): 30 dBµV/m at 999 kHz (MW noisy, BS.560
+  // threshold 20 dBµV/m, docs/references.md §5.2), nothing else.
+  const auto results = estimate_reception(bands, {{999e3, 30.0}}, spec, 20e6);
+  CHECK(result_named(results, "LW").verdict == ReceptionVerdict::clear);  // wholly computed, silent
+  CHECK(result_named(results, "MW").verdict == ReceptionVerdict::noisy);
+  CHECK(result_named(results, "FM").verdict == ReceptionVerdict::not_computed);
+  CHECK(result_named(results, "11 m").verdict == ReceptionVerdict::not_computed);
+  CHECK(reception_verdict_name(ReceptionVerdict::not_computed) == "not computed");
+  const std::string csv = bands_csv(results);
+  CHECK(csv.find("\nFM,1,87500000,108000000,not computed,,,dB\xC2\xB5V/m\n") != std::string::npos);
+  // A band across the limit keeps what its computed part heard (a line at 19 MHz in the 15 m band,
+  // 18.9-19.02 MHz, computed up to 19.01 MHz), and says the rest was not computed.
+  const auto across = estimate_reception(bands, {{18.95e6, 60.0}}, spec, 19.01e6);
+  const BandReception& b15 = result_named(across, "15 m");
+  CHECK(b15.verdict == ReceptionVerdict::noisy);
+  CHECK(b15.caveats.back() == "not computed above 19.01 MHz: the source's lines stop there (a capture's Nyquist frequency)");
+}
