@@ -52,7 +52,7 @@ std::vector<double> parse_frequency_list(const std::string& text) {
 
 int run_scan(const Options& options) {
   // --at is checked by its option (and again, with the same message, by scan_scenario).
-  const Scenario scenario = load_scenario(options.scenario_file);
+  const Scenario scenario = load_scenario(options.scenario_file, locate_shipped_data());
   ScanRequest request;
   request.at = options.at;
   if (!options.step.empty()) request.step_hz = parse_quantity(options.step, Dimension::frequency);

@@ -11,6 +11,7 @@
 #include "cli/commands.hpp"
 #include "cli/terminal.hpp"
 #include "core/chain/sweep.hpp"
+#include "core/input/shipped_data.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/output/sensitivity_output.hpp"
 
@@ -35,7 +36,7 @@ int run_sensitivity_command(const Options& options) {
     Progress progress;
     progress.show("predicting once per numeric key of " + options.scenario_file);
     result = run_sensitivity(table, options.scenario_file, folder.empty() ? "." : folder.string(),
-                             sensitivity);
+                             locate_shipped_data(), sensitivity);
   }
   std::cout << (options.json ? sensitivity_json(result) : sensitivity_text(result));
   return exit_ok;

@@ -5,6 +5,7 @@
 #include <string>
 
 #include "cli/commands.hpp"
+#include "core/input/shipped_data.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/output/whatif_server.hpp"
 
@@ -20,7 +21,7 @@ struct Options {
 int run_serve(const Options& options) {
   const std::filesystem::path folder = std::filesystem::path(options.scenario).parent_path();
   WhatIfServer server(WhatIfSession(parse_toml_file(options.scenario, "scenario file"), options.scenario,
-                                    folder.empty() ? "." : folder.string()));
+                                    folder.empty() ? "." : folder.string(), locate_shipped_data()));
   const int port = server.bind(options.port);
   std::cout << "what-if page: http://127.0.0.1:" << port << "/  (loopback only; Ctrl-C stops it)" << std::endl;
   server.listen();

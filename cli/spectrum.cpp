@@ -77,7 +77,7 @@ int run_spectrum(const Options& options) {
     result = capture_spectrum(spec, at, settings);
   } else {
     const std::string at = scenario_point(options.at);
-    result = scenario_spectrum(load_scenario(options.scenario_file), at, settings);
+    result = scenario_spectrum(load_scenario(options.scenario_file, locate_shipped_data()), at, settings);
   }
   if (!options.csv_file.empty()) write_file_atomically(options.csv_file, spectrum_csv(result));
   std::cout << (options.json ? spectrum_json(result) : spectrum_text(result, options.top));

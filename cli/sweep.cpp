@@ -56,7 +56,7 @@ int run_sweep_command(const Options& options) {
   sweep.threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   sweep.exact_lines = !options.scan;
 
-  const SweepResult result = run_sweep(table, options.scenario_file, directory, sweep);
+  const SweepResult result = run_sweep(table, options.scenario_file, directory, locate_shipped_data(), sweep);
 
   // The CSV and the plot appear together or not at all (core/output/output_dir.hpp).
   std::vector<std::string> written;

@@ -437,7 +437,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   } else {
     for (std::size_t k = 0; k < field_hz.size(); ++k) field_lines.push_back({field_hz[k], field_db[k]});
   }
-  p.reception = estimate_reception(bands_for(scenario.broadcast), field_lines, scenario.broadcast, p.computed_up_to_hz);
+  p.reception = estimate_reception(bands_for(scenario.broadcast, scenario.data), field_lines, scenario.broadcast, p.computed_up_to_hz);
   return p;
 }
 

@@ -3,7 +3,7 @@
 /// receiver → limits / bands. One call, one value out; the report writers and the sweep consume it.
 ///
 /// Example:
-///   const Scenario scenario = load_scenario("examples/greenhouse-buck.toml");
+///   const Scenario scenario = load_scenario("examples/greenhouse-buck.toml", locate_shipped_data());
 ///   const Prediction p = predict(scenario);
 ///   p.margins.verdict, p.scans[0].worst.readings, p.reception[i].verdict ...
 #include <optional>

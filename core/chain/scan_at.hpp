@@ -8,7 +8,7 @@
 /// Example:
 ///   ScanRequest request;
 ///   request.band = CisprBand::B;
-///   const ScanReport report = scan_scenario(load_scenario("buck.toml"), request);
+///   const ScanReport report = scan_scenario(load_scenario("buck.toml", locate_shipped_data()), request);
 ///   scan_csv(report);  // core/output/scan_output.hpp
 #include <functional>
 #include <optional>

@@ -182,8 +182,9 @@ void list_sensitivity_keys(const toml::table& table, std::vector<SensitivityKey>
 }
 
 SensitivityResult run_sensitivity(const toml::table& table, const std::string& file,
-                                  const std::string& directory, const SensitivityOptions& options) {
-  const Scenario base_scenario = scenario_from_table(table, file, directory);
+                                  const std::string& directory, const ShippedData& data,
+                                  const SensitivityOptions& options) {
+  const Scenario base_scenario = scenario_from_table(table, file, directory, data);
   if (!base_scenario.switching || base_scenario.switching->dither) {
     throw Error(
         "sensitivity needs a described source without dither: a dithered or captured source goes "
@@ -220,7 +221,7 @@ SensitivityResult run_sensitivity(const toml::table& table, const std::string& f
         set_scenario_key(changed, key.key, key.value_si * (1.0 + sensitivity_step_fraction),
                          key.dimension);
         try {
-          const Prediction p = predict(scenario_from_table(changed, file, directory));
+          const Prediction p = predict(scenario_from_table(changed, file, directory, data));
           per_key[i] = read_changes(p, result.targets, i);
         } catch (const Error& e) {
           errors[i] = e.what();  // the changed scenario is invalid: reported per key, not fatal

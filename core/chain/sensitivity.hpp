@@ -25,6 +25,7 @@
 #include <vector>
 
 #include "core/chain/prediction.hpp"
+#include "core/input/shipped_data.hpp"
 #include "core/input/toml.hpp"
 #include "core/input/units.hpp"
 #include "core/receiver/detector.hpp"
@@ -117,7 +118,7 @@ void list_sensitivity_keys(const toml::table& table, std::vector<SensitivityKey>
 /// there is neither a limit nor a broadcast band: `nothing to take sensitivities of: the scenario
 /// gives no limit line and no broadcast band`.
 [[nodiscard]] SensitivityResult run_sensitivity(const toml::table& table, const std::string& file,
-                                                const std::string& directory,
+                                                const std::string& directory, const ShippedData& data,
                                                 const SensitivityOptions& options);
 
 }  // namespace spurcast

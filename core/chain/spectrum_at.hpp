@@ -8,7 +8,7 @@
 /// Example:
 ///   SpectrumSettings settings;
 ///   settings.max_frequency_hz = 30e6;
-///   const SpectrumResult r = scenario_spectrum(load_scenario("buck.toml"), "lisn", settings);
+///   const SpectrumResult r = scenario_spectrum(load_scenario("buck.toml", locate_shipped_data()), "lisn", settings);
 ///   spectrum_csv(r);  // core/output/spectrum_output.hpp
 #include <cstddef>
 #include <optional>

@@ -459,7 +459,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
     for (std::size_t a = 0; a < options.axes.size(); ++a) {
       set_scenario_key(copy, options.axes[a].key, values[a], options.axes[a].dimension);
     }
-    scenario = scenario_from_table(copy, ctx.file, ctx.directory);
+    scenario = scenario_from_table(copy, ctx.file, ctx.directory, ctx.base.data);
     if (!ctx.reread_limits) scenario.limits = ctx.base.limits;
   } catch (const Error& e) {
     point.error = e.what();
@@ -470,7 +470,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
   bool drift_limits_ok = true;
   try {
     std::optional<std::vector<Band>> own_bands;
-    if (!ctx.shared_bands) own_bands = bands_for(scenario.broadcast);
+    if (!ctx.shared_bands) own_bands = bands_for(scenario.broadcast, scenario.data);
     const std::vector<Band>& bands = own_bands ? *own_bands : ctx.bands;
     if (options.exact_lines && lines_are_isolated(scenario)) {
       point.method = "lines";
@@ -755,7 +755,7 @@ unsigned sweep_thread_count(const char* environment_value) {
 }
 
 SweepResult run_sweep(const toml::table& table, const std::string& file, const std::string& directory,
-                      const SweepOptions& options) {
+                      const ShippedData& data, const SweepOptions& options) {
   if (options.axes.empty()) throw Error("a sweep needs at least one --vary");
   if (!(options.tolerance_fraction >= 0.0 && options.tolerance_fraction < 0.5)) {
     throw Error("expected a tolerance from 0 to 50 %, found " + fmt::format("{:g} %", 100.0 * options.tolerance_fraction));
@@ -780,7 +780,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   ctx.file = file;
   ctx.directory = directory;
   ctx.options = &options;
-  ctx.base = scenario_from_table(table, file, directory);
+  ctx.base = scenario_from_table(table, file, directory, data);
   for (const SweepAxis& axis : options.axes) {
     const std::string section = key_parts(axis.key).front();
     if (section == "limits") ctx.reread_limits = true;
@@ -788,7 +788,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
     if (section == "broadcast") ctx.shared_bands = false;
   }
   if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn);
-  ctx.bands = bands_for(ctx.base.broadcast);
+  ctx.bands = bands_for(ctx.base.broadcast, ctx.base.data);
   for (const Band& band : ctx.bands) ctx.channel_centres.push_back(band.channel_centres_hz());
 
   SweepResult result;

@@ -30,7 +30,8 @@
 ///   options.axes.push_back(make_axis(table, parse_vary("switching.frequency=50kHz:2.5MHz:1000")));
 ///   options.criteria.push_back(parse_window_criterion("MW"));
 ///   options.tolerance_fraction = 0.05;
-///   const SweepResult result = run_sweep(table, "examples/greenhouse-buck.toml", "examples", options);
+///   const SweepResult result = run_sweep(table, "examples/greenhouse-buck.toml", "examples",
+///                                        locate_shipped_data(), options);
 ///   for (const RobustWindow& w : result.windows) ... w.from_value, w.to_value ...
 #include <cstddef>
 #include <optional>
@@ -206,12 +207,12 @@ struct SweepResult {
   std::size_t invalid_points = 0;
 };
 
-/// Runs the sweep over the parsed scenario `table` (`file` and `directory` as for
+/// Runs the sweep over the parsed scenario `table` (`file`, `directory` and `data` as for
 /// scenario_from_table). Throws Error when the base scenario is invalid, a criterion names a band
 /// the plan does not have, the options are out of range, or every point is invalid (the first
 /// point's message, prefixed with its values).
 [[nodiscard]] SweepResult run_sweep(const toml::table& table, const std::string& file, const std::string& directory,
-                                    const SweepOptions& options);
+                                    const ShippedData& data, const SweepOptions& options);
 
 /// A value of an axis for people: 6 significant digits with the axis unit (a fraction in %).
 [[nodiscard]] std::string sweep_value_text(double value, Dimension dimension);

@@ -555,7 +555,7 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   add("limits", "guard band", q(s.limits.guard_db, Dimension::decibel));
   const BroadcastSpec& b = s.broadcast;
   add("broadcast", "ITU region", std::to_string(b.region));
-  if (b.plan) add("broadcast", "band plan", *b.plan);
+  if (b.plan) add("broadcast", "band plan", s.data.shown_path(*b.plan));
   add("broadcast", "distance", q(b.distance_m, Dimension::length));
   add("broadcast", "cable length", q(b.cable_length_m, Dimension::length));
   add("broadcast", "environment", environment_name(b.environment));

@@ -16,7 +16,7 @@
 /// prediction always gives the same bytes.
 ///
 /// Example:
-///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml"));
+///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml", locate_shipped_data()));
 ///   write_output_directory("spurcast-report", report_files(p));
 #include <cstddef>
 #include <string>

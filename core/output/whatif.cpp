@@ -160,6 +160,7 @@ std::vector<WhatIfKey> whatif_keys(const toml::table& table) {
 }
 
 toml::table whatif_apply(const toml::table& table, const std::string& file, const std::string& directory,
+                         const ShippedData& data,
                          const std::string& set_object_json) {
   const json set = json::parse(set_object_json);
   toml::table edited = table;
@@ -185,7 +186,7 @@ toml::table whatif_apply(const toml::table& table, const std::string& file, cons
         throw Error("expected a quantity string such as \"1.9 MHz\" or a number, found " + value.dump());
       }
       // Every section's own reader judges the edited table, so the key is named with its message.
-      (void)scenario_from_table(edited, file, directory);
+      (void)scenario_from_table(edited, file, directory, data);
     } catch (const Error& e) {
       throw Error(named + e.what());
     }
@@ -193,9 +194,9 @@ toml::table whatif_apply(const toml::table& table, const std::string& file, cons
   return edited;
 }
 
-WhatIfSession::WhatIfSession(toml::table table, std::string file, std::string directory)
-    : table_(std::move(table)), file_(std::move(file)), directory_(std::move(directory)) {
-  (void)scenario_from_table(table_, file_, directory_);
+WhatIfSession::WhatIfSession(toml::table table, std::string file, std::string directory, ShippedData data)
+    : table_(std::move(table)), file_(std::move(file)), directory_(std::move(directory)), data_(std::move(data)) {
+  (void)scenario_from_table(table_, file_, directory_, data_);
 }
 
 WhatIfResponse WhatIfSession::handle(const WhatIfRequest& request) const {
@@ -254,7 +255,7 @@ WhatIfResponse WhatIfSession::route(const WhatIfRequest& request) const {
     }
     toml::table edited;
     try {
-      edited = whatif_apply(table_, file_, directory_, set_object_of(request.body));
+      edited = whatif_apply(table_, file_, directory_, data_, set_object_of(request.body));
     } catch (const Error& e) {
       return json_error(400, e.what());
     }
@@ -267,7 +268,7 @@ WhatIfResponse WhatIfSession::route(const WhatIfRequest& request) const {
       return r;
     }
     try {
-      const Prediction prediction = predict(scenario_from_table(edited, file_, directory_));
+      const Prediction prediction = predict(scenario_from_table(edited, file_, directory_, data_));
       WhatIfResponse r;
       r.body = summary_json(prediction, {});
       return r;

@@ -29,6 +29,7 @@
 #include <string>
 #include <vector>
 
+#include "core/input/shipped_data.hpp"
 #include "core/input/toml.hpp"
 
 namespace spurcast {
@@ -77,13 +78,13 @@ struct WhatIfKey {
 /// Each key is checked by re-reading the scenario after it is set. Errors name the key:
 /// `'switching.frequency': expected a frequency (e.g. "220 kHz"), found "fast"`.
 [[nodiscard]] toml::table whatif_apply(const toml::table& table, const std::string& file, const std::string& directory,
-                                       const std::string& set_object_json);
+                                       const ShippedData& data, const std::string& set_object_json);
 
 class WhatIfSession {
  public:
   /// `table` is the parsed scenario; `file` names it in messages, `directory` resolves its relative
-  /// paths. Throws Error when the scenario itself is invalid.
-  WhatIfSession(toml::table table, std::string file, std::string directory);
+  /// paths, `data` finds the shipped band plans and limit files. Throws Error when the scenario itself is invalid.
+  WhatIfSession(toml::table table, std::string file, std::string directory, ShippedData data);
 
   /// The port the server listens on (0 until bound): the Host and Origin checks compare with it.
   void set_port(int port) { port_ = port; }
@@ -98,6 +99,7 @@ class WhatIfSession {
   toml::table table_;
   std::string file_;
   std::string directory_;
+  ShippedData data_;
   int port_ = 0;
   /// Evaluations running now (shared by the copies a move leaves behind; the session is moved into its server).
   std::shared_ptr<std::atomic<int>> evaluations_ = std::make_shared<std::atomic<int>>(0);

@@ -23,7 +23,7 @@
 /// is in the near field of the cable; the field there is an estimate, flagged in `caveats`.
 ///
 /// Example:
-///   const auto results = estimate_reception(bands_for(spec), field_lines, spec);
+///   const auto results = estimate_reception(bands_for(spec, locate_shipped_data()), field_lines, spec);
 ///   const std::string csv = bands_csv(results);
 #include <limits>
 #include <optional>

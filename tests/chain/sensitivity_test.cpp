@@ -55,7 +55,7 @@ SensitivityResult run_text(const std::string& text) {
   const toml::table table = parse_toml_text(text, "test.toml");
   SensitivityOptions options;
   options.threads = 2;
-  return run_sensitivity(table, "test.toml", SPURCAST_SOURCE_DIR, options);
+  return run_sensitivity(table, "test.toml", SPURCAST_SOURCE_DIR, locate_shipped_data(), options);
 }
 
 const Sensitivity* find(const SensitivityResult& r, const std::string& key, std::size_t target) {

@@ -8,7 +8,8 @@
 //                      {input} is the case's input file, {out} an output path in a fresh folder
 //   <case>.<ext>       the input (exactly one file with that stem besides the two below)
 //   <case>.expected    the exact first stderr line, e.g. `spurcast: error: x.toml:3:9: expected ...`;
-//                      {source_dir} stands for the repository root (shipped limit files are found there)
+//                      {source_dir} stands for the repository root, {data_dir} for the executable's
+//                      data folder (<build>/share/spurcast, where shipped limit files are found)
 //   <case>.command     optional: arguments for this case instead of the folder's `command`
 // The CLI runs with the loader folder as its working directory and the bare file name, so messages
 // name the file as the user typed it. Other files (side inputs a case refers to) have no .expected.
@@ -117,6 +118,7 @@ std::vector<Case> collect_cases() {
       c.stem = expected_file.stem().string();
       c.expected = first_line(read_text(expected_file));
       replace_all(c.expected, "{source_dir}", source_dir.string());
+      replace_all(c.expected, "{data_dir}", (fs::path(SPURCAST_EXECUTABLE).parent_path() / "share/spurcast").string());
       for (const fs::path& f : files) {
         if (f.stem() == c.stem && f.extension() != ".expected" && f.extension() != ".command") c.input = f;
       }

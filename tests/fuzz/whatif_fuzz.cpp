@@ -48,7 +48,7 @@ environment = "residential"
 const spurcast::WhatIfSession& session() {
   static const std::unique_ptr<spurcast::WhatIfSession> s = [] {
     auto made = std::make_unique<spurcast::WhatIfSession>(spurcast::parse_toml_text(scenario_text, "fuzz.toml"),
-                                                          "fuzz.toml", ".");
+                                                          "fuzz.toml", ".", spurcast::locate_shipped_data());
     made->set_port(8470);
     return made;
   }();

@@ -38,6 +38,7 @@ CompareResult failing_result() {
     trace += fmt::format("{:.10g},{}\n", f, i == 80 ? 51.0 : 30.0);
   }
   CompareRequest request;
+  request.data = locate_shipped_data();
   request.trace_file = write_file("trace.csv", trace);
   request.limit_files = {"cispr32-class-b-conducted"};
   const double emission_hz = 150e3 * std::pow(200.0, 80 / 199.0);

@@ -19,7 +19,7 @@ namespace {
 
 const Prediction& example_prediction() {
   static const Prediction prediction =
-      predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml"));
+      predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data()));
   return prediction;
 }
 

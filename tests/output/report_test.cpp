@@ -296,7 +296,7 @@ TEST_CASE("the files of a report are byte-reproducible and summary.json comes la
 }
 
 TEST_CASE("the real chain on the greenhouse example: summary.json agrees with margins.csv and bands.csv") {
-  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml");
+  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data());
   const Prediction p = predict(scenario);
   const nlohmann::json j = nlohmann::json::parse(summary_json(p, {}));
   // Smallest margin_db per line detector, read back from the margins CSV text.
@@ -342,7 +342,7 @@ TEST_CASE("the source plot labels the plain trapezoid's envelope and marks the r
   // The greenhouse example rings at 85 MHz: its harmonics there stand above the envelope, each such
   // line is in the "above" trace (checked against the envelope formula at the same frequency), and the
   // largest excess is marked with its value.
-  const Prediction p = predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml"));
+  const Prediction p = predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data()));
   const SpectrumPlot ringing = source_plot(p);
   REQUIRE(ringing.traces.size() == 3);
   const PlotTrace& above = ringing.traces[2];

@@ -33,7 +33,7 @@ const SweepResult& example_sweep() {
     options.axes.push_back(make_axis(table, parse_vary("switching.frequency=300kHz:500kHz:5")));
     options.criteria.push_back(parse_window_criterion("MW"));
     options.threads = 2;
-    return run_sweep(table, file, std::string(SPURCAST_SOURCE_DIR) + "/examples", options);
+    return run_sweep(table, file, std::string(SPURCAST_SOURCE_DIR) + "/examples", locate_shipped_data(), options);
   }();
   return result;
 }

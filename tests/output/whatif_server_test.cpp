@@ -39,7 +39,7 @@ constexpr double rounding_tolerance_db = 0.005 + 1e-9;
 
 /// A server on 127.0.0.1 with an ephemeral port, serving in a thread for the life of the object.
 struct RunningServer {
-  spurcast::WhatIfServer server{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir)};
+  spurcast::WhatIfServer server{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir, spurcast::locate_shipped_data())};
   int port = server.bind(0);
   std::thread thread{[this] { server.listen(); }};
   ~RunningServer() {
@@ -144,8 +144,8 @@ TEST_CASE("the page and the editable keys are served; the scenario download carr
   const auto saved = client.Post("/api/scenario.toml", R"({"set": {"filter.3.inductance": "47 uH"}})", "application/json");
   REQUIRE(saved);
   REQUIRE(saved->status == 200);
-  const spurcast::Scenario edited = spurcast::scenario_from_text(saved->body, "saved.toml", example_dir);
-  const spurcast::Scenario original = spurcast::load_scenario(example);
+  const spurcast::Scenario edited = spurcast::scenario_from_text(saved->body, "saved.toml", example_dir, spurcast::locate_shipped_data());
+  const spurcast::Scenario original = spurcast::load_scenario(example, spurcast::locate_shipped_data());
   REQUIRE(edited.filters.size() == original.filters.size());
   bool edited_stage = false;
   for (const spurcast::FilterStage& stage : edited.filters) {
@@ -241,7 +241,7 @@ TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
   REQUIRE(served);
   CHECK(served->status == 200);
   // A second server cannot take the same port (no SO_REUSEPORT sharing): the message names the address.
-  spurcast::WhatIfServer second{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir)};
+  spurcast::WhatIfServer second{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir, spurcast::locate_shipped_data())};
   CHECK_THROWS_WITH_AS((void)second.bind(s.port),
                        ("cannot listen on 127.0.0.1:" + std::to_string(s.port) + " (in use, or not allowed)").c_str(),
                        spurcast::Error);

@@ -39,7 +39,7 @@ double sinc(double x) { return x == 0.0 ? 1.0 : std::sin(std::numbers::pi * x) /
 }  // namespace
 
 TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (docs/references.md §5.2, §5.4)") {
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const Band& mw = band_named(bands, "MW");
   // At 999 kHz, residential, 9 kHz: ambient 72.5 − 27.7·log10(0.999) + 20·log10(0.999) + 39.54 − 95.5.
   const ChannelReception quiet = judge_channel(mw, 999e3, 10.0, Environment::residential);
@@ -56,7 +56,7 @@ TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (do
 }
 
 TEST_CASE("FM tolerates what AM does not: limiter, capture effect, FM threshold") {
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const Band& fm = band_named(bands, "FM");
   const Band& mw = band_named(bands, "MW");
   // FM weak station 48 dBµV/m (BS.412 mono rural, from memory); protection 36 dB → 12 dBµV/m;
@@ -73,7 +73,7 @@ TEST_CASE("FM tolerates what AM does not: limiter, capture effect, FM threshold"
 
 TEST_CASE("bands CSV columns (docs/design.md §4)") {
   BroadcastSpec spec;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   // One 30 dBµV/m line at 999 kHz.
   const auto results = estimate_reception(bands, {{999e3, 30.0}}, spec);
   const std::string csv = bands_csv(results);
@@ -90,7 +90,7 @@ TEST_CASE("bands CSV columns (docs/design.md §4)") {
 
 TEST_CASE("worst channel: highest verdict first, then the largest excess over its noisy threshold") {
   BroadcastSpec spec;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   // 25 dBµV/m at 531 kHz (noisy) and 24 dBµV/m at 1602 kHz: both noisy; ambient is lower at
   // 1602 kHz but the noisy threshold is 20 dBµV/m for both, so 531 kHz is worse by 1 dB.
   const auto results = estimate_reception(bands, {{531e3, 25.0}, {1602e3, 24.0}}, spec);
@@ -103,7 +103,7 @@ TEST_CASE("worst channel: highest verdict first, then the largest excess over it
 TEST_CASE("from currents: the same as radiating first, then judging") {
   BroadcastSpec spec;
   spec.loop_area_m2 = 4e-4;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const std::vector<double> frequency = {999e3, 6.1e6, 98e6};
   const std::vector<double> cm = {20e-6, 2e-6, 0.1e-6};
   const std::vector<double> dm = {10e-3, 1e-3, 1e-4};
@@ -170,7 +170,7 @@ TEST_CASE("an observation of the trade: 17 kHz spikes -> MW disturbed, SW added 
     cm.push_back(piecewise_linear_rms(corners, slopes, 1.0 / f0_hz, n));
   }
   BroadcastSpec spec;  // region 1, 3 m, 1.5 m, residential
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const auto results = estimate_reception_from_currents(bands, spec, frequency, cm, {});
   for (const BandReception& result : results) {
     CAPTURE(result.band.name);
@@ -195,7 +195,7 @@ TEST_CASE("an observation of the trade: 17 kHz spikes -> MW disturbed, SW added 
 
 TEST_CASE("bands above the highest computed frequency are not computed, never clear") {
   BroadcastSpec spec;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   // Lines computed up to 20 MHz (a 40 MS/s capture): 30 dBµV/m at 999 kHz (MW noisy, BS.560
   // threshold 20 dBµV/m, docs/references.md §5.2), nothing else.
   const auto results = estimate_reception(bands, {{999e3, 30.0}}, spec, 20e6);
