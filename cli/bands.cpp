@@ -17,6 +17,7 @@ struct Options {
 };
 
 int run_bands(const Options& options) {
+  const ShippedData data = locate_shipped_data();
   std::vector<int> regions;
   if (options.region == 0) {
     regions = {1, 2, 3};
@@ -25,7 +26,7 @@ int run_bands(const Options& options) {
   }
   std::vector<BandPlan> plans;
   for (const int region : regions) {
-    const BandPlan plan = load_region_band_plan(region);
+    const BandPlan plan = load_region_band_plan(region, data);
     if (options.json) {
       plans.push_back(plan);
     } else {

@@ -1,6 +1,12 @@
 #include "cli/commands.hpp"
 
+#include "core/chain/sweep.hpp"
+
 namespace spurcast::cli {
+
+CLI::Validator thread_count_check() {
+  return CLI::Validator([](std::string& text) { return spurcast::thread_count_problem(text).value_or(""); }, "1..N");
+}
 
 void register_commands(CLI::App& app, CommandList& commands) {
   setup_compare(app, commands);
@@ -11,6 +17,8 @@ void register_commands(CLI::App& app, CommandList& commands) {
   setup_bands(app, commands);
   setup_scan(app, commands);
   setup_spectrum(app, commands);
+  setup_sensitivity(app, commands);
+  setup_serve(app, commands);
 }
 
 }  // namespace spurcast::cli

@@ -24,6 +24,9 @@ struct Command {
 };
 using CommandList = std::vector<Command>;
 
+/// The check of every --threads option: 1..max_worker_threads (core/chain/sweep.hpp).
+[[nodiscard]] CLI::Validator thread_count_check();
+
 /// Registers every subcommand on `app`; the run function of the parsed one is called by main.
 void register_commands(CLI::App& app, CommandList& commands);
 
@@ -36,5 +39,7 @@ void setup_predict(CLI::App& app, CommandList& commands);
 void setup_demo(CLI::App& app, CommandList& commands);
 void setup_bands(CLI::App& app, CommandList& commands);
 void setup_scan(CLI::App& app, CommandList& commands);
+void setup_sensitivity(CLI::App& app, CommandList& commands);
+void setup_serve(CLI::App& app, CommandList& commands);
 
 }  // namespace spurcast::cli

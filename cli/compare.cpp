@@ -44,6 +44,7 @@ int run_compare(const Options& options) {
   request.correction_files = options.correction_files;
   request.prediction_file = options.prediction_file;
   request.closest_count = options.top;
+  request.data = locate_shipped_data();
   const CompareResult result = compare_trace(request);
   for (const std::string& note : result.notes) std::cerr << "spurcast: note: " << note << "\n";
 

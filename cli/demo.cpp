@@ -27,8 +27,9 @@ int run_demo(const Options& options) {
     Progress progress;
     check_output_folder(options.output);  // refuse a folder that is not ours before the long part
     progress.show("predicting the built-in demo scenario");
+    const ShippedData data = locate_shipped_data();
     const Scenario scenario =
-        scenario_from_text(demo_scenario_toml, "greenhouse-buck.toml (built in)", shipped_limits_directory());
+        scenario_from_text(demo_scenario_toml, "greenhouse-buck.toml (built in)", data.limits_directory(), data);
     prediction = predict(scenario);
   }
   // The demo shows the tool at work on an invented product: its verdict is reported, not turned

@@ -19,10 +19,11 @@ struct Options {
 };
 
 int run_limits(const Options& options) {
+  const ShippedData data = locate_shipped_data();
   if (options.files.empty()) {
-    const auto files = shipped_limit_files();
+    const auto files = shipped_limit_files(data);
     std::vector<LimitSet> sets;
-    if (!options.json) std::cout << "shipped limit files (" << shipped_limits_directory() << "):\n";
+    if (!options.json) std::cout << "shipped limit files (" << data.limits_directory() << "):\n";
     for (const std::string& file : files) {
       const LimitSet set = read_limit_file(file);
       if (options.json) {
@@ -39,8 +40,8 @@ int run_limits(const Options& options) {
   std::vector<LimitSet> sets;
   for (const std::string& name : options.files) {
     try {
-      const auto path = resolve_limit_file(name, ".");
-      if (!path) throw Error("cannot find limit file \"" + name + "\" here or in " + shipped_limits_directory());
+      const auto path = resolve_limit_file(name, ".", data);
+      if (!path) throw Error("cannot find limit file \"" + name + "\" here or in " + data.limits_directory());
       const LimitSet set = read_limit_file(*path);
       if (options.json) {
         sets.push_back(set);

@@ -4,6 +4,8 @@
 
 #include <cstdio>
 #include <iostream>
+#include <string>
+#include <new>
 
 #include "cli/commands.hpp"
 #include "core/input/error.hpp"
@@ -18,8 +20,14 @@ int main(int argc, char** argv) {
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    const int code = app.exit(e);
-    return code == 0 ? 0 : spurcast::cli::exit_bad_input;
+    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    // One line, like every other error (issue 14: CLI11 adds a second line of its own).
+    std::string message = e.what();
+    for (char& c : message) {
+      if (c == '\n') c = ' ';
+    }
+    std::cerr << "spurcast: error: " << message << " (see --help)\n";
+    return spurcast::cli::exit_bad_input;
   }
   try {
     for (auto& command : commands) {
@@ -30,6 +38,12 @@ int main(int argc, char** argv) {
     return spurcast::cli::exit_output_failed;
   } catch (const spurcast::Error& e) {
     std::cerr << "spurcast: error: " << e.what() << "\n";
+    return spurcast::cli::exit_bad_input;
+  } catch (const std::bad_alloc&) {
+    // A last resort: every size derived from the input is checked against a stated bound before
+    // it is allocated (issue 14), so reaching this is a defect to report with the input.
+    std::cerr << "spurcast: error: out of memory: the input asks for more memory than is available (please report "
+                 "it: its size should have been refused with the bound)\n";
     return spurcast::cli::exit_bad_input;
   } catch (const std::exception& e) {
     std::cerr << "spurcast: error: " << e.what() << "\n";

@@ -23,7 +23,7 @@ int run_predict(const Options& options) {
   {
     Progress progress;
     progress.show("reading " + options.scenario);
-    const Scenario scenario = load_scenario(options.scenario);
+    const Scenario scenario = load_scenario(options.scenario, locate_shipped_data());
     check_output_folder(options.output);  // refuse a folder that is not ours before the long part
     progress.show("predicting (source, conducted path, receiver scans, bands)");
     prediction = predict(scenario);

@@ -52,10 +52,11 @@ std::vector<double> parse_frequency_list(const std::string& text) {
 
 int run_scan(const Options& options) {
   // --at is checked by its option (and again, with the same message, by scan_scenario).
-  const Scenario scenario = load_scenario(options.scenario_file);
+  const Scenario scenario = load_scenario(options.scenario_file, locate_shipped_data());
   ScanRequest request;
   request.at = options.at;
   if (!options.step.empty()) request.step_hz = parse_quantity(options.step, Dimension::frequency);
+  request.step_origin = "--step";
   if (!options.band.empty()) request.band = band_from_string(options.band);
   request.threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   if (!options.frequencies.empty()) request.frequencies_hz = parse_frequency_list(options.frequencies);
@@ -90,7 +91,7 @@ void setup_scan(CLI::App& app, CommandList& commands) {
   sub->add_option("--csv", options->csv_file, "write every reading to FILE (frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv)");
   sub->add_flag("--json", options->json, "machine-readable output on stdout");
   sub->add_option("--threads", options->threads, "threads of the FFT receiver (default: SPURCAST_THREADS, else every core)")
-      ->check(CLI::PositiveNumber);
+      ->check(thread_count_check());
   commands.push_back({sub, [options] { return run_scan(*options); }});
 }
 

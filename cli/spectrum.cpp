@@ -77,7 +77,7 @@ int run_spectrum(const Options& options) {
     result = capture_spectrum(spec, at, settings);
   } else {
     const std::string at = scenario_point(options.at);
-    result = scenario_spectrum(load_scenario(options.scenario_file), at, settings);
+    result = scenario_spectrum(load_scenario(options.scenario_file, locate_shipped_data()), at, settings);
   }
   if (!options.csv_file.empty()) write_file_atomically(options.csv_file, spectrum_csv(result));
   std::cout << (options.json ? spectrum_json(result) : spectrum_text(result, options.top));
@@ -104,7 +104,8 @@ void setup_spectrum(CLI::App& app, CommandList& commands) {
   sub->add_option("--max-frequency", options->max_frequency, "highest harmonic frequency listed")->capture_default_str();
   sub->add_option("--csv", options->csv_file, "write harmonic,frequency_hz,level_dbuv,... to this file");
   sub->add_option("--top", options->top, "how many of the strongest harmonics to print")->capture_default_str();
-  sub->add_option("--threads", options->threads, "capture parser threads (default: all cores)");
+  sub->add_option("--threads", options->threads, "capture parser threads (default: all cores)")
+      ->check(thread_count_check());
   sub->add_flag("--resample", options->resample, "resample a non-uniformly sampled capture instead of failing");
   sub->add_flag("--json", options->json, "print JSON instead of text");
   commands.push_back(Command{sub, [options] { return run_spectrum(*options); }});

@@ -36,7 +36,7 @@ struct Options {
 
 int run_sweep_command(const Options& options) {
   // Inputs first: nothing is written unless every input is good.
-  const toml::table table = parse_toml_file(options.scenario_file);
+  const toml::table table = parse_toml_file(options.scenario_file, "scenario file");
   const std::filesystem::path folder = std::filesystem::path(options.scenario_file).parent_path();
   const std::string directory = folder.empty() ? "." : folder.string();
 
@@ -56,7 +56,7 @@ int run_sweep_command(const Options& options) {
   sweep.threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   sweep.exact_lines = !options.scan;
 
-  const SweepResult result = run_sweep(table, options.scenario_file, directory, sweep);
+  const SweepResult result = run_sweep(table, options.scenario_file, directory, locate_shipped_data(), sweep);
 
   // The CSV and the plot appear together or not at all (core/output/output_dir.hpp).
   std::vector<std::string> written;
@@ -102,7 +102,8 @@ void setup_sweep(CLI::App& app, CommandList& commands) {
   sub->add_option("--plot", options->plot_file, "write the sweep plot (SVG) to this file");
   sub->add_flag("--json", options->json, "print JSON instead of text");
   sub->add_flag("--scan", options->scan, "use the receiver scan at every point (slow; the exact line path is the default)");
-  sub->add_option("--threads", options->threads, "worker threads (default: SPURCAST_THREADS, else every core)");
+  sub->add_option("--threads", options->threads, "worker threads (default: SPURCAST_THREADS, else every core)")
+      ->check(thread_count_check());
   commands.push_back(Command{sub, [options] { return run_sweep_command(*options); }});
 }
 

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <numbers>
 
 #include "core/input/error.hpp"
@@ -17,8 +18,6 @@ namespace {
 /// Harmonics are computed up to the top of the FM allocations, so the broadcast estimate covers
 /// every shipped band, and further when a receiver band reaches higher.
 constexpr double broadcast_top_hz = 110e6;
-/// The sampled path keeps a record of at most 2^23 samples per waveform (about 67 MB as double).
-constexpr double max_record_samples = 8388608.0;
 
 double highest_frequency_hz(const std::vector<CisprBand>& bands) {
   double top = broadcast_top_hz;
@@ -69,6 +68,82 @@ LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>
   return lines;
 }
 
+
+/// The distinct measuring distances of the radiated-field sets, in order of appearance.
+std::vector<double> radiated_limit_distances(const std::vector<LimitSet>& sets) {
+  std::vector<double> distances;
+  for (const LimitSet& set : sets) {
+    if (set.measures != LimitQuantity::radiated_field || !set.distance_m) continue;
+    const double d = *set.distance_m;
+    if (std::none_of(distances.begin(), distances.end(), [&](double x) { return std::abs(x - d) <= 1e-9 * d; })) {
+      distances.push_back(d);
+    }
+  }
+  return distances;
+}
+
+/// The receiver's readings of the radiated-field estimate in `band` at `distance_m`: the field of
+/// every line (core/radio/radiated.hpp: CM cable and DM loop, the scenario's [broadcast] geometry)
+/// with a +6 dB ground-plane reflection, since radiated limits are measured over a reflecting ground
+/// and the antenna height scan finds the reinforcement (judgement: the upper bound of the two-ray
+/// sum), then the band's receiver on those lines. Levels in dBµV/m.
+std::string band_list(const std::vector<CisprBand>& bands) {
+  std::string text;
+  for (const CisprBand band : bands) text += (text.empty() ? "" : ", ") + to_string(band);
+  return text;
+}
+
+/// The frequency ranges of each quantity that no reading covers, with the reason (for the margins'
+/// `not computed` parts): bands not in the scenario, the part of a band above a capture's sample
+/// rate, radiated fields outside bands C/D, conducted current everywhere.
+std::vector<UnreadRange> unread_ranges(Prediction& p, const std::vector<CisprBand>& bands, bool skip_scans,
+                                       double top_hz) {
+  std::vector<UnreadRange> unread;
+  constexpr double infinity = std::numeric_limits<double>::infinity();
+  const std::string outside = "outside the CISPR bands the receiver emulates (9 kHz-1 GHz)";
+  const BandParameters a = band_parameters(CisprBand::A);
+  const BandParameters d = band_parameters(CisprBand::D);
+  for (const LimitQuantity q : {LimitQuantity::conducted_voltage, LimitQuantity::radiated_field}) {
+    unread.push_back({q, 0.0, a.start_hz, outside});
+    unread.push_back({q, d.stop_hz, infinity, outside});
+  }
+  unread.push_back({LimitQuantity::conducted_current, 0.0, infinity,
+                    "the chain computes LISN-port voltages and radiated fields, not probe currents"});
+  const std::string scanned = " (the scenario's [receiver] bands are " + band_list(bands) + ")";
+  for (const CisprBand band : {CisprBand::A, CisprBand::B, CisprBand::C, CisprBand::D}) {
+    const BandParameters bp = band_parameters(band);
+    const bool listed = std::find(bands.begin(), bands.end(), band) != bands.end();
+    // Conducted voltage.
+    if (skip_scans) {
+      // Margins-only mode reads every line up to top_hz.
+      if (listed && top_hz < bp.stop_hz) {
+        unread.push_back({LimitQuantity::conducted_voltage, top_hz, bp.stop_hz, "no lines computed above " +
+                                                                                    format_quantity(top_hz, Dimension::frequency)});
+      }
+    } else if (!listed) {
+      unread.push_back({LimitQuantity::conducted_voltage, bp.start_hz, bp.stop_hz,
+                        "band " + to_string(band) + " was not scanned" + scanned});
+    } else {
+      for (const BandScan& scan : p.scans) {
+        if (scan.band != band || !scan.worst.read_up_to_hz) continue;
+        unread.push_back({LimitQuantity::conducted_voltage, *scan.worst.read_up_to_hz, bp.stop_hz,
+                          scan.worst.unread_reason});
+        p.unread_bands.push_back({"band " + to_string(band), *scan.worst.read_up_to_hz, bp.stop_hz,
+                                  scan.worst.unread_reason});
+      }
+    }
+    // Radiated field: estimated in bands C and D only.
+    if (band == CisprBand::A || band == CisprBand::B) {
+      unread.push_back({LimitQuantity::radiated_field, bp.start_hz, bp.stop_hz,
+                        "a radiated-field line is compared only with the radiated-field estimate of bands C "
+                        "and D (30 MHz-1 GHz), never with a LISN voltage"});
+    } else if (!listed || skip_scans) {
+      unread.push_back({LimitQuantity::radiated_field, bp.start_hz, bp.stop_hz,
+                        "band " + to_string(band) + " was not scanned, so it has no radiated-field estimate" + scanned});
+    }
+  }
+  return unread;
+}
 }  // namespace
 
 bool holds_whole_periods(const Capture& capture) {
@@ -145,6 +220,29 @@ RadiatorCurrents radiator_currents(const Scenario& scenario, const LineSpectrum&
   return currents;
 }
 
+ScanResult radiated_field_scan(const Prediction& p, const Scenario& scenario, CisprBand band, double distance_m,
+                               const std::optional<double>& step_hz) {
+  RadiationSetup setup = radiation_setup(scenario.broadcast, scenario.supply, scenario.board);
+  setup.distance_m = distance_m;
+  setup.ground_reflection = true;
+  const std::size_t count = p.conducted ? p.conducted->frequency_hz.size()
+                                        : std::max(p.switch_node_v.harmonics.size(), p.input_current_a.harmonics.size());
+  std::vector<std::size_t> harmonics(count);
+  for (std::size_t k = 0; k < count; ++k) harmonics[k] = k + 1;
+  const std::vector<FieldLine> field = radiated_field(
+      setup, radiator_currents(scenario, p.switch_node_v, p.input_current_a, harmonics, p.conducted ? &*p.conducted : nullptr));
+  LineSpectrum lines;
+  lines.quantity = Quantity::voltage;  // volts per metre
+  lines.fundamental_hz = p.switch_node_v.fundamental_hz > 0.0 ? p.switch_node_v.fundamental_hz
+                                                               : p.input_current_a.fundamental_hz;
+  // Radiated limits are read with an electric-field antenna (CISPR 16-1-4): the E field.
+  for (const FieldLine& line : field) lines.harmonics.emplace_back(dbuv_to_volts(line.e_total_dbuvm), 0.0);
+  ScanPlan plan;
+  plan.band = band;
+  plan.step_hz = step_hz;
+  return scan_line_spectrum(lines, plan);
+}
+
 std::string to_string(SourceKind kind) {
   switch (kind) {
     case SourceKind::described: return "described";
@@ -177,6 +275,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   std::optional<Waveform> captured_v;
   std::optional<Waveform> captured_i;
   bool captured_whole_periods = false;
+  std::optional<double> capture_nyquist_hz;
   if (scenario.switching) {
     const SwitchingSpec& spec = *scenario.switching;
     p.source_kind = spec.dither ? SourceKind::dithered : SourceKind::described;
@@ -191,6 +290,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     const Capture capture = load_capture(*scenario.capture);
     const LineSpectrum lines = lines_from_capture(capture, p.notes);
     captured_whole_periods = holds_whole_periods(capture);
+    capture_nyquist_hz = capture.waveform.sample_rate_hz / 2.0;
     if (capture.waveform.quantity == Quantity::voltage) {
       p.switch_node_v = lines;
       p.input_current_a.quantity = Quantity::current;
@@ -202,11 +302,15 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       p.switch_node_v.fundamental_hz = lines.fundamental_hz;
       captured_i = capture.waveform;
     }
+    p.common_mode_only = captured_v.has_value();
+    p.differential_mode_only = captured_i.has_value();
     p.notes.push_back("captured source: the capture drives the " +
                       std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
                       " only");
   }
   if (!battery) p.conducted = conduct(p.switch_node_v, p.input_current_a, model);
+  // A capture's lines stop at its Nyquist frequency: nothing above it was computed.
+  p.computed_up_to_hz = capture_nyquist_hz ? *capture_nyquist_hz : top_hz;
 
   // Receiver scans per band (none for a battery supply: there is no LISN port to read).
   if (!options.skip_scans && !battery) {
@@ -216,6 +320,9 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       ScanPlan plan;
       plan.band = band;
       plan.step_hz = step_hz;
+      // No reading falls below the receiver's own noise floor (a real receiver reads its noise
+      // between the harmonics, not −400 dBµV).
+      plan.noise_floor_db = scenario.receiver.noise_floor_dbuv.value_or(default_noise_floor_dbuv(band));
       if (p.source_kind == SourceKind::described) {
         scan.line1 = scan_line_spectrum(p.conducted->line_spectrum(1), plan);
         if (two_lines) scan.line2 = scan_line_spectrum(p.conducted->line_spectrum(2), plan);
@@ -246,7 +353,8 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     }
   }
 
-  // Margins against the scenario's limit lines.
+  // Margins against the scenario's limit lines: LISN-port voltages with conducted-voltage lines,
+  // radiated-field estimates with radiated-field lines (core/compliance/margins.hpp).
   std::vector<LevelReading> readings;
   for (const BandScan& scan : p.scans) {
     const auto band_readings = readings_from_scan(scan.worst.readings, scenario.receiver.detectors);
@@ -261,15 +369,33 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       for (const Detector d : scenario.receiver.detectors) readings.push_back({p.conducted->frequency_hz[k], d, level});
     }
   }
+  if (!options.skip_scans) {
+    for (const double distance_m : radiated_limit_distances(scenario.limits.sets)) {
+      for (const CisprBand band : bands) {
+        if (band != CisprBand::C && band != CisprBand::D) continue;
+        RadiatedScan radiated{band, distance_m, radiated_field_scan(p, scenario, band, distance_m, step_hz)};
+        const auto field_readings = readings_from_scan(radiated.scan.readings, scenario.receiver.detectors,
+                                                       LimitQuantity::radiated_field, distance_m);
+        readings.insert(readings.end(), field_readings.begin(), field_readings.end());
+        p.radiated_scans.push_back(std::move(radiated));
+      }
+    }
+    if (!p.radiated_scans.empty()) {
+      p.notes.push_back(std::string("radiated-field readings are estimates (E field of the supply cable and the hot loop at "
+                                    "the limit's distance, with a +6 dB ground-plane reflection), not a measurement") +
+                        (p.source_kind == SourceKind::dithered ? "; they use the undithered lines" : ""));
+    }
+  }
   MarginOptions margin_options;
   margin_options.guard_db = scenario.limits.guard_db;
+  margin_options.unread = unread_ranges(p, bands, options.skip_scans, top_hz);
   p.margins = compare_with_limits(readings, scenario.limits.sets, margin_options);
   p.verdict = p.margins.verdict;
   if (battery) {
     p.notes.push_back("battery supply: no LISN, no conducted limits apply; the leads carry the differential-mode "
                       "loop current and a common-mode current returned through the product's self-capacitance");
   } else if (scenario.limits.sets.empty()) {
-    p.notes.push_back("no limit lines in the scenario: nothing was compared, the verdict says pass by default");
+    p.notes.push_back("no limit lines in the scenario: nothing was compared (verdict: no limits)");
   } else if (p.margins.compared_readings == 0) {
     p.notes.push_back("no reading fell on a limit line (check the bands and the lines' frequency ranges)");
   }
@@ -291,7 +417,8 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   }
   ReceiverLines lines = receiver_lines(p.field);
   if (p.source_kind == SourceKind::dithered) lines.dither = *scenario.switching->dither;
-  p.reception = estimate_reception(bands_for(scenario.broadcast), lines, scenario.broadcast);
+  p.reception = estimate_reception(bands_for(scenario.broadcast, scenario.data), lines, scenario.broadcast,
+                                   p.computed_up_to_hz);
   return p;
 }
 

@@ -3,7 +3,7 @@
 /// receiver → limits / bands. One call, one value out; the report writers and the sweep consume it.
 ///
 /// Example:
-///   const Scenario scenario = load_scenario("examples/greenhouse-buck.toml");
+///   const Scenario scenario = load_scenario("examples/greenhouse-buck.toml", locate_shipped_data());
 ///   const Prediction p = predict(scenario);
 ///   p.margins.verdict, p.scans[0].worst.readings, p.reception[i].verdict ...
 #include <optional>
@@ -47,6 +47,22 @@ struct BandScan {
   ScanResult worst;
 };
 
+/// The radiated-field estimate of one CISPR band C/D at one limit's measuring distance, read by the
+/// receiver from the field lines (levels in dBµV/m; an estimate, core/radio/radiated.hpp).
+struct RadiatedScan {
+  CisprBand band = CisprBand::C;
+  double distance_m = 10.0;  ///< [m] the limit set's measuring distance
+  ScanResult scan;           ///< readings in dBµV/m
+};
+
+/// Part of a broadcast band or other range the prediction did not compute, and why.
+struct UncomputedRange {
+  std::string what;    ///< "broadcast band FM", "band B", ...
+  double from_hz = 0.0;
+  double to_hz = 0.0;
+  std::string reason;
+};
+
 struct Prediction {
   Scenario scenario;
   SourceKind source_kind = SourceKind::described;
@@ -55,10 +71,22 @@ struct Prediction {
   LineSpectrum switch_node_v;
   LineSpectrum input_current_a;
   /// The conducted result at the harmonics (every source kind; for a dithered source it holds the
-  /// nominal, undithered lines).
+  /// nominal, undithered lines). Absent for a battery supply: there is no LISN.
   std::optional<ConductedResult> conducted;
   std::vector<BandScan> scans;
   MarginReport margins;
+  /// Radiated-field estimates read for the radiated-field limit sets (bands C/D only).
+  std::vector<RadiatedScan> radiated_scans;
+  /// Ranges of the receiver bands that were not read (e.g. above a capture's Nyquist frequency);
+  /// limit-line parts not computed are in margins.not_computed.
+  std::vector<UncomputedRange> unread_bands;
+  /// [Hz] the highest frequency the source's lines reach (a capture: half its sample rate);
+  /// broadcast bands above it are `not computed`.
+  double computed_up_to_hz = 0.0;
+  /// The capture drives only the common-mode path: differential-mode noise is not included.
+  bool common_mode_only = false;
+  /// The capture drives only the differential-mode path: common-mode noise is not included.
+  bool differential_mode_only = false;
   /// Field lines at the broadcast receiver [dBµV/m] per radiator (cable CM and DM, hot loop;
   /// core/radio/radiated.hpp), and the per-band reception estimate made from them.
   std::vector<FieldLine> field;
@@ -66,7 +94,7 @@ struct Prediction {
   std::string radiation_convention;
   std::string setup_description;  ///< the LISN set-up the levels refer to
   std::vector<std::string> notes; ///< assumptions and warnings to show the user
-  Verdict verdict = Verdict::pass;  ///< the margins' verdict (pass when no limit was given)
+  Verdict verdict = Verdict::no_limits;  ///< the margins' verdict (no_limits when no limit was given)
 };
 
 /// Sample rate of the FFT receiver's synthesized records for `band`: 2.5× the highest frequency the

@@ -33,6 +33,7 @@ std::vector<ScanPlan> scan_plans(const Scenario& scenario, const ScanRequest& re
       band_plan.band = band;
       band_plan.threads = request.threads;
       band_plan.step_hz = request.step_hz ? request.step_hz : scenario.receiver.step_hz;
+      if (request.step_hz) band_plan.step_origin = request.step_origin;
       plans.push_back(band_plan);
     }
   }

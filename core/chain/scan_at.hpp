@@ -8,7 +8,7 @@
 /// Example:
 ///   ScanRequest request;
 ///   request.band = CisprBand::B;
-///   const ScanReport report = scan_scenario(load_scenario("buck.toml"), request);
+///   const ScanReport report = scan_scenario(load_scenario("buck.toml", locate_shipped_data()), request);
 ///   scan_csv(report);  // core/output/scan_output.hpp
 #include <functional>
 #include <optional>
@@ -25,6 +25,7 @@ struct ScanRequest {
   std::string at = "lisn";            ///< source | current | lisn
   std::optional<CisprBand> band;      ///< none: the scenario's [receiver] bands, or the band of each spot frequency
   std::optional<double> step_hz;      ///< [Hz] none: the scenario's step, else the band's default
+  std::string step_origin;            ///< who gave step_hz, named in its errors (e.g. "--step")
   std::vector<double> frequencies_hz; ///< [Hz] spot readings at these tuned frequencies; empty = scan the bands
   unsigned threads = 0;               ///< FFT receiver threads; 0 = every core
 };

@@ -14,10 +14,12 @@ const std::vector<std::string>& scenario_sections() {
   return sections;
 }
 
-Scenario scenario_from_table(const toml::table& table, const std::string& file, const std::string& directory) {
+Scenario scenario_from_table(const toml::table& table, const std::string& file, const std::string& directory,
+                             const ShippedData& data) {
   Scenario scenario;
   scenario.file = file;
   scenario.directory = directory;
+  scenario.data = data;
   TableReader top(table, file, "scenario");
   scenario.title = top.optional_string("title").value_or("");
   scenario.description = top.optional_string("description").value_or("");
@@ -56,11 +58,11 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
   }
   if (const toml::table* section = top.optional_table("limits")) {
     TableReader reader(*section, file, "limits");
-    scenario.limits = read_limits_section(reader, directory);
+    scenario.limits = read_limits_section(reader, directory, data);
   }
   if (const toml::table* section = top.optional_table("broadcast")) {
     TableReader reader(*section, file, "broadcast");
-    scenario.broadcast = read_broadcast_section(reader);
+    scenario.broadcast = read_broadcast_section(reader, data);
   }
   if (const toml::table* section = top.optional_table("supply")) {
     TableReader reader(*section, file, "supply");
@@ -83,14 +85,15 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
   return scenario;
 }
 
-Scenario load_scenario(const std::string& path) {
-  const toml::table table = parse_toml_file(path);
+Scenario load_scenario(const std::string& path, const ShippedData& data) {
+  const toml::table table = parse_toml_file(path, "scenario file");
   const std::filesystem::path folder = std::filesystem::path(path).parent_path();
-  return scenario_from_table(table, path, folder.empty() ? "." : folder.string());
+  return scenario_from_table(table, path, folder.empty() ? "." : folder.string(), data);
 }
 
-Scenario scenario_from_text(std::string_view text, const std::string& name, const std::string& directory) {
-  return scenario_from_table(parse_toml_text(text, name), name, directory);
+Scenario scenario_from_text(std::string_view text, const std::string& name, const std::string& directory,
+                            const ShippedData& data) {
+  return scenario_from_table(parse_toml_text(text, name), name, directory, data);
 }
 
 }  // namespace spurcast

@@ -4,13 +4,14 @@
 /// loader checks the top level, dispatches, and keeps file positions for every error.
 ///
 /// Example:
-///   const Scenario s = load_scenario("examples/greenhouse-buck.toml");
+///   const Scenario s = load_scenario("examples/greenhouse-buck.toml", locate_shipped_data());
 ///   if (s.switching) { ... }  // a described source; otherwise s.capture names a capture file
 #include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
 
+#include "core/input/shipped_data.hpp"
 #include "core/input/toml.hpp"
 
 #include "core/radio/bands.hpp"
@@ -30,6 +31,7 @@ struct Scenario {
   std::string description;
   std::string file;       ///< the scenario file as named (for messages and the report)
   std::string directory;  ///< folder that relative paths in the scenario are taken from
+  ShippedData data;       ///< where shipped names (limit files, band plans) were resolved
   std::optional<SwitchingSpec> switching;  ///< [switching]: a described source
   std::optional<CaptureSpec> capture;      ///< [capture]: a captured waveform instead
   CouplingSpec coupling;                   ///< [coupling]
@@ -46,14 +48,15 @@ struct Scenario {
 /// The top-level keys a scenario may hold.
 [[nodiscard]] const std::vector<std::string>& scenario_sections();
 
-/// Reads and checks a scenario file. Errors carry file:line:column.
-[[nodiscard]] Scenario load_scenario(const std::string& path);
+/// Reads and checks a scenario file; shipped names (limit files, band plans) resolve in `data`.
+/// Errors carry file:line:column.
+[[nodiscard]] Scenario load_scenario(const std::string& path, const ShippedData& data);
 /// The same from parsed TOML (used by the sweep, which edits the table and re-reads it).
 /// `file` names the source in messages; `directory` resolves relative paths.
 [[nodiscard]] Scenario scenario_from_table(const toml::table& table, const std::string& file,
-                                           const std::string& directory);
+                                           const std::string& directory, const ShippedData& data);
 /// The same from TOML text (tests, the built-in demo).
 [[nodiscard]] Scenario scenario_from_text(std::string_view text, const std::string& name,
-                                          const std::string& directory);
+                                          const std::string& directory, const ShippedData& data);
 
 }  // namespace spurcast

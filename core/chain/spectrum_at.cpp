@@ -61,13 +61,10 @@ HarmonicTable sampled_table(Waveform waveform, Window window, FftPlanner& planne
                             double max_frequency_hz, SpectrumResult& result) {
   const AmplitudeSpectrum spectrum = amplitude_spectrum(std::move(waveform), window, planner, threads);
   if (result.fundamental_hz == 0.0) {
-    // Refine a given f_sw against the record (a real converter is off its nominal frequency by
-    // more than a bin of a long record); estimate it when none was given.
-    const FundamentalEstimate estimate = estimate_fundamental(spectrum, f0_hz);
-    result.fundamental_hz = estimate.frequency_hz;
+    // A given f_sw is used as given (harmonic_table refuses one the record cannot read); it is
+    // estimated only when none was given.
+    result.fundamental_hz = f0_hz ? *f0_hz : estimate_fundamental(spectrum).frequency_hz;
     result.fundamental_estimated = !f0_hz.has_value();
-    result.nominal_fundamental_hz = f0_hz;
-    if (window == Window::rectangular && f0_hz) result.fundamental_hz = *f0_hz;  // coherent record: take it as given
   }
   return harmonic_table(spectrum, result.fundamental_hz, max_frequency_hz);
 }

@@ -8,7 +8,7 @@
 /// Example:
 ///   SpectrumSettings settings;
 ///   settings.max_frequency_hz = 30e6;
-///   const SpectrumResult r = scenario_spectrum(load_scenario("buck.toml"), "lisn", settings);
+///   const SpectrumResult r = scenario_spectrum(load_scenario("buck.toml", locate_shipped_data()), "lisn", settings);
 ///   spectrum_csv(r);  // core/output/spectrum_output.hpp
 #include <cstddef>
 #include <optional>
@@ -38,7 +38,7 @@ struct SpectrumResult {
   Quantity quantity = Quantity::voltage;
   double fundamental_hz = 0.0;  ///< [Hz] the harmonics sit at its multiples
   bool fundamental_estimated = false;            ///< estimated from the record (none was given)
-  std::optional<double> nominal_fundamental_hz;  ///< [Hz] the one given, before refinement on a record
+  std::optional<double> nominal_fundamental_hz;  ///< [Hz] unused: a given fundamental is used as given
   std::optional<std::string> window;             ///< sampled records only
   std::optional<Capture> capture;                ///< sampled records: the capture without its samples
   std::size_t capture_samples = 0;

@@ -459,7 +459,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
     for (std::size_t a = 0; a < options.axes.size(); ++a) {
       set_scenario_key(copy, options.axes[a].key, values[a], options.axes[a].dimension);
     }
-    scenario = scenario_from_table(copy, ctx.file, ctx.directory);
+    scenario = scenario_from_table(copy, ctx.file, ctx.directory, ctx.base.data);
     if (!ctx.reread_limits) scenario.limits = ctx.base.limits;
   } catch (const Error& e) {
     point.error = e.what();
@@ -470,7 +470,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
   bool drift_limits_ok = true;
   try {
     std::optional<std::vector<Band>> own_bands;
-    if (!ctx.shared_bands) own_bands = bands_for(scenario.broadcast);
+    if (!ctx.shared_bands) own_bands = bands_for(scenario.broadcast, scenario.data);
     const std::vector<Band>& bands = own_bands ? *own_bands : ctx.bands;
     if (options.exact_lines && lines_are_isolated(scenario)) {
       point.method = "lines";
@@ -630,7 +630,15 @@ VarySpec parse_vary(std::string_view text) {
     std::size_t count = 0;
     const auto [end, ec] = std::from_chars(n.data(), n.data() + n.size(), count);
     if (ec != std::errc() || end != n.data() + n.size() || count == 0) {
-      throw Error("expected a point count >= 1 after TO, found \"" + n + "\"");
+      // A count past size_t's range is a number too: name the bound rather than "not a count".
+      if (ec == std::errc::result_out_of_range) count = std::numeric_limits<std::size_t>::max();
+      else throw Error("expected a point count >= 1 after TO, found \"" + n + "\"");
+    }
+    // Checked here, before the values are allocated (issue 14: 1000000000 died in std::bad_alloc
+    // after 8 GB, 200000000 took 1.5 GB before it was refused).
+    if (count > max_sweep_point_count) {
+      throw Error("--vary " + vary.key + ": expected at most " + std::to_string(max_sweep_point_count) +
+                  " points, found " + n);
     }
     vary.count = count;
   }
@@ -726,32 +734,44 @@ WindowCriterion parse_window_criterion(std::string_view band_name) {
   return criterion;
 }
 
+std::optional<std::string> thread_count_problem(std::string_view text) {
+  unsigned count = 0;
+  const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
+  if (ec != std::errc() || end != text.data() + text.size() || count == 0 || count > max_worker_threads) {
+    return "expected a thread count of 1.." + std::to_string(max_worker_threads) + ", found \"" + std::string(text) + "\"";
+  }
+  return std::nullopt;
+}
+
 unsigned sweep_thread_count(const char* environment_value) {
   if (environment_value && *environment_value) {
     const std::string_view text(environment_value);
+    if (const auto problem = thread_count_problem(text)) throw Error("SPURCAST_THREADS: " + *problem);
     unsigned count = 0;
-    const auto [end, ec] = std::from_chars(text.data(), text.data() + text.size(), count);
-    if (ec != std::errc() || end != text.data() + text.size() || count == 0) {
-      throw Error("expected SPURCAST_THREADS to be a positive integer, found \"" + std::string(text) + "\"");
-    }
+    (void)std::from_chars(text.data(), text.data() + text.size(), count);
     return count;
   }
   return std::max(1u, std::thread::hardware_concurrency());
 }
 
 SweepResult run_sweep(const toml::table& table, const std::string& file, const std::string& directory,
-                      const SweepOptions& options) {
+                      const ShippedData& data, const SweepOptions& options) {
   if (options.axes.empty()) throw Error("a sweep needs at least one --vary");
   if (!(options.tolerance_fraction >= 0.0 && options.tolerance_fraction < 0.5)) {
     throw Error("expected a tolerance from 0 to 50 %, found " + fmt::format("{:g} %", 100.0 * options.tolerance_fraction));
   }
   std::size_t total = 1;
+  std::string grid_text;  // "--vary a (1000) x --vary b (2000)", for the message
   for (const SweepAxis& axis : options.axes) {
     if (axis.values.empty()) throw Error("the sweep of '" + axis.key + "' has no values");
     (void)key_parts(axis.key);
+    grid_text += (grid_text.empty() ? "--vary " : " x --vary ") + axis.key + " (" + std::to_string(axis.values.size()) + ")";
+    // Each factor is at most max_sweep_point_count (parse_vary), so the product cannot overflow
+    // before it is compared.
     total *= axis.values.size();
     if (total > max_sweep_point_count) {
-      throw Error("expected at most " + std::to_string(max_sweep_point_count) + " sweep points, found more");
+      throw Error(grid_text + ": expected at most " + std::to_string(max_sweep_point_count) +
+                  " sweep points in all, found " + std::to_string(total));
     }
   }
 
@@ -760,7 +780,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   ctx.file = file;
   ctx.directory = directory;
   ctx.options = &options;
-  ctx.base = scenario_from_table(table, file, directory);
+  ctx.base = scenario_from_table(table, file, directory, data);
   for (const SweepAxis& axis : options.axes) {
     const std::string section = key_parts(axis.key).front();
     if (section == "limits") ctx.reread_limits = true;
@@ -768,7 +788,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
     if (section == "broadcast") ctx.shared_bands = false;
   }
   if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn);
-  ctx.bands = bands_for(ctx.base.broadcast);
+  ctx.bands = bands_for(ctx.base.broadcast, ctx.base.data);
   for (const Band& band : ctx.bands) ctx.channel_centres.push_back(band.channel_centres_hz());
 
   SweepResult result;

@@ -25,12 +25,13 @@
 ///    with its scans (the time-domain receiver for sampled sources).
 ///
 /// Example:
-///   const toml::table table = parse_toml_file("examples/greenhouse-buck.toml");
+///   const toml::table table = parse_toml_file("examples/greenhouse-buck.toml", "scenario file");
 ///   SweepOptions options;
 ///   options.axes.push_back(make_axis(table, parse_vary("switching.frequency=50kHz:2.5MHz:1000")));
 ///   options.criteria.push_back(parse_window_criterion("MW"));
 ///   options.tolerance_fraction = 0.05;
-///   const SweepResult result = run_sweep(table, "examples/greenhouse-buck.toml", "examples", options);
+///   const SweepResult result = run_sweep(table, "examples/greenhouse-buck.toml", "examples",
+///                                        locate_shipped_data(), options);
 ///   for (const RobustWindow& w : result.windows) ... w.from_value, w.to_value ...
 #include <cstddef>
 #include <optional>
@@ -135,6 +136,12 @@ struct SweepOptions {
 /// otherwise std::thread::hardware_concurrency() (at least 1). Error on a value that is not a
 /// positive integer: `expected SPURCAST_THREADS to be a positive integer, found "x"`.
 [[nodiscard]] unsigned sweep_thread_count(const char* environment_value);
+/// The most worker threads a command starts: 256 (judgement: well above the cores of one machine;
+/// each thread holds its own buffers).
+inline constexpr unsigned max_worker_threads = 256;
+/// Why `text` is not a thread count of 1..max_worker_threads ("expected a thread count of 1..256,
+/// found \"0\""), or nullopt.
+[[nodiscard]] std::optional<std::string> thread_count_problem(std::string_view text);
 
 /// The worst margin to the lines of one detector at one point.
 struct DetectorMarginPoint {
@@ -200,12 +207,12 @@ struct SweepResult {
   std::size_t invalid_points = 0;
 };
 
-/// Runs the sweep over the parsed scenario `table` (`file` and `directory` as for
+/// Runs the sweep over the parsed scenario `table` (`file`, `directory` and `data` as for
 /// scenario_from_table). Throws Error when the base scenario is invalid, a criterion names a band
 /// the plan does not have, the options are out of range, or every point is invalid (the first
 /// point's message, prefixed with its values).
 [[nodiscard]] SweepResult run_sweep(const toml::table& table, const std::string& file, const std::string& directory,
-                                    const SweepOptions& options);
+                                    const ShippedData& data, const SweepOptions& options);
 
 /// A value of an axis for people: 6 significant digits with the axis unit (a fraction in %).
 [[nodiscard]] std::string sweep_value_text(double value, Dimension dimension);

@@ -242,21 +242,14 @@ const LimitLine* LimitSet::line_for(Detector detector) const {
   return nullptr;
 }
 
-LimitSet read_limit_file(const std::string& path) { return read_set(parse_toml_file(path), path); }
+LimitSet read_limit_file(const std::string& path) { return read_set(parse_toml_file(path, "limit file"), path); }
 
 LimitSet parse_limit_text(std::string_view text, const std::string& name) {
   return read_set(parse_toml_text(text, name), name);
 }
 
-std::string shipped_limits_directory() {
-#ifdef SPURCAST_LIMITS_DIR
-  return SPURCAST_LIMITS_DIR;
-#else
-  return "limits";
-#endif
-}
-
-std::optional<std::string> resolve_limit_file(const std::string& name, const std::string& base_directory) {
+std::optional<std::string> resolve_limit_file(const std::string& name, const std::string& base_directory,
+                                              const ShippedData& data) {
   if (name.empty()) return std::nullopt;
   const fs::path given(name);
   std::vector<fs::path> candidates;
@@ -264,7 +257,7 @@ std::optional<std::string> resolve_limit_file(const std::string& name, const std
     candidates.push_back(given);
   } else {
     candidates.push_back(fs::path(base_directory.empty() ? "." : base_directory) / given);
-    const fs::path shipped(shipped_limits_directory());
+    const fs::path shipped(data.limits_directory());
     candidates.push_back(shipped / given);
     const std::string prefix = "limits/";
     if (name.rfind(prefix, 0) == 0) candidates.push_back(shipped / name.substr(prefix.size()));
@@ -276,10 +269,16 @@ std::optional<std::string> resolve_limit_file(const std::string& name, const std
   for (const fs::path& candidate : candidates) {
     if (exists_as_file(candidate)) return candidate.lexically_normal().string();
   }
+  // No regular file: a directory, pipe or device of that name is named, so that the loader
+  // refuses it with what it is (core/input/input_file.hpp) rather than "cannot find".
+  for (const fs::path& candidate : candidates) {
+    std::error_code ignored;
+    if (fs::exists(candidate, ignored)) return candidate.lexically_normal().string();
+  }
   return std::nullopt;
 }
 
-LimitsSpec read_limits_section(TableReader& reader, const std::string& scenario_directory) {
+LimitsSpec read_limits_section(TableReader& reader, const std::string& scenario_directory, const ShippedData& data) {
   LimitsSpec spec;
   spec.guard_db = reader.quantity_or("guard", Dimension::decibel, default_guard_db);
   if (!(spec.guard_db >= 0.0)) {
@@ -298,13 +297,16 @@ LimitsSpec read_limits_section(TableReader& reader, const std::string& scenario_
       if (text == nullptr) {
         throw Error(position_of(*element, reader.file()), "expected a limit file name (a string)");
       }
-      const auto path = resolve_limit_file(text->get(), scenario_directory);
+      const auto path = resolve_limit_file(text->get(), scenario_directory, data);
       if (!path) {
         throw Error(position_of(*element, reader.file()),
                     "cannot find limit file \"" + text->get() + "\" in the scenario's folder or in " +
-                        shipped_limits_directory());
+                        data.limits_directory());
       }
-      spec.sets.push_back(read_limit_file(*path));
+      LimitSet set = read_limit_file(*path);
+      // Reports name a shipped file by its place in the data folder, not by where it is installed.
+      set.file = data.shown_path(*path);
+      spec.sets.push_back(std::move(set));
     }
   }
   const auto lines = reader.table_array("line");
@@ -355,10 +357,10 @@ LimitsSpec read_limits_section(TableReader& reader, const std::string& scenario_
   return spec;
 }
 
-std::vector<std::string> shipped_limit_files() {
+std::vector<std::string> shipped_limit_files(const ShippedData& data) {
   std::vector<std::string> files;
   std::error_code error;
-  const fs::path directory(shipped_limits_directory());
+  const fs::path directory(data.limits_directory());
   for (const auto& entry : fs::directory_iterator(directory, error)) {
     if (!entry.is_regular_file() || entry.path().extension() != ".toml") continue;
     // Band plans may share the directory: a limit file declares `measures` at the top level.

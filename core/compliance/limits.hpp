@@ -25,6 +25,7 @@
 
 #include "core/receiver/detector.hpp"
 #include "core/input/error.hpp"
+#include "core/input/shipped_data.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"
 
@@ -88,7 +89,7 @@ struct LimitSet {
   LimitConfidence confidence = LimitConfidence::read_from_document;
   std::string notes;                       ///< optional free text
   std::vector<LimitLine> lines;            ///< at most one line per detector
-  std::string file;                        ///< path it was read from ("" for inline lines)
+  std::string file;                        ///< path it was read from, "<shipped>/..." for a shipped file ("" for inline lines)
 
   /// The line of `detector`, or nullptr.
   [[nodiscard]] const LimitLine* line_for(Detector detector) const;
@@ -120,20 +121,21 @@ inline constexpr double default_guard_db = 6.0;
 ///   unit = "dBuV"
 ///   detector = "quasi-peak"
 ///   segment = [ { from = "150 kHz", to = "30 MHz", level = "50 dBuV" } ]
-/// File names resolve against `scenario_directory` first, then against the shipped limits directory
-/// (SPURCAST_LIMITS_DIR, also with a leading "limits/" removed); a bare name without ".toml" names a
-/// shipped file. Calls reader.finish({"files", "guard", "line"}).
-[[nodiscard]] LimitsSpec read_limits_section(TableReader& reader, const std::string& scenario_directory);
+/// File names resolve against `scenario_directory` first, then against `data`'s limits folder (also
+/// with a leading "limits/" removed); a bare name without ".toml" names a shipped file. A shipped
+/// file's LimitSet::file is its shown name ("<shipped>/limits/x.toml", ShippedData::shown_path).
+/// Calls reader.finish({"files", "guard", "line"}).
+[[nodiscard]] LimitsSpec read_limits_section(TableReader& reader, const std::string& scenario_directory,
+                                             const ShippedData& data);
 
 /// Resolves a limit file name as read_limits_section does; nullopt when no candidate exists.
 [[nodiscard]] std::optional<std::string> resolve_limit_file(const std::string& name,
-                                                            const std::string& base_directory);
+                                                            const std::string& base_directory,
+                                                            const ShippedData& data);
 
-/// The directory of the shipped limit files (the compile definition SPURCAST_LIMITS_DIR).
-[[nodiscard]] std::string shipped_limits_directory();
-/// The shipped limit files (*.toml directly in the shipped directory that declare `measures`),
+/// The shipped limit files (*.toml directly in `data`'s limits folder that declare `measures`),
 /// sorted by file name.
-[[nodiscard]] std::vector<std::string> shipped_limit_files();
+[[nodiscard]] std::vector<std::string> shipped_limit_files(const ShippedData& data);
 
 /// The unit symbol used in text ("dBµV", "dBµV/m", "dBµA").
 [[nodiscard]] std::string limit_unit_symbol(const LimitSet& set);

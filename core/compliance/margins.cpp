@@ -12,6 +12,8 @@ std::string to_string(Verdict verdict) {
     case Verdict::pass: return "pass";
     case Verdict::marginal: return "marginal";
     case Verdict::fail: return "fail";
+    case Verdict::incomplete: return "incomplete";
+    case Verdict::no_limits: return "no limits";
   }
   return "pass";
 }
@@ -54,6 +56,25 @@ bool compares(Detector reading, Detector line, bool peak_against_every_line) {
   return reading == line || (peak_against_every_line && reading == Detector::peak);
 }
 
+// A reading is compared only with a set that measures the same quantity, and a radiated-field
+// reading only with a set of its measuring distance (a field falls with distance).
+bool same_quantity(const LevelReading& reading, const LimitSet& set) {
+  if (reading.quantity != set.measures) return false;
+  if (set.measures != LimitQuantity::radiated_field) return true;
+  return reading.distance_m && set.distance_m &&
+         std::abs(*reading.distance_m - *set.distance_m) <= 1e-9 * *set.distance_m;
+}
+
+std::string quantity_words(const LimitSet& set) {
+  switch (set.measures) {
+    case LimitQuantity::conducted_voltage: return "LISN-port voltage";
+    case LimitQuantity::radiated_field:
+      return "radiated-field estimate at " + format_quantity(set.distance_m.value_or(0.0), Dimension::length);
+    case LimitQuantity::conducted_current: return "conducted current";
+  }
+  return "reading";
+}
+
 }  // namespace
 
 MarginReport compare_with_limits(const std::vector<LevelReading>& readings, const std::vector<LimitSet>& sets,
@@ -64,11 +85,16 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
   MarginReport report;
   report.guard_db = options.guard_db;
   report.readings = readings.size();
+  // Comparisons per line, to find the lines no reading reached.
+  std::vector<std::vector<std::size_t>> line_rows(sets.size());
+  for (std::size_t s = 0; s < sets.size(); ++s) line_rows[s].assign(sets[s].lines.size(), 0);
   for (const LevelReading& reading : readings) {
     bool compared = false;
     for (std::size_t s = 0; s < sets.size(); ++s) {
       const LimitSet& set = sets[s];
-      for (const LimitLine& line : set.lines) {
+      if (!same_quantity(reading, set)) continue;
+      for (std::size_t l = 0; l < set.lines.size(); ++l) {
+        const LimitLine& line = set.lines[l];
         if (!compares(reading.detector, line.detector, options.peak_against_every_line)) continue;
         const auto limit = line.level_at(reading.frequency_hz);
         if (!limit) continue;
@@ -80,9 +106,11 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
         row.margin_db = *limit - reading.level;  // docs/design.md §6: margin = limit − reading
         row.limit_detector = line.detector;
         row.set_index = s;
+        row.quantity = set.measures;
         row.limit_label = line_label(set, line);
         row.uncertainty_db = cispr_uncertainty_db(set.measures, reading.frequency_hz);
         report.rows.push_back(std::move(row));
+        ++line_rows[s][l];
         compared = true;
       }
     }
@@ -108,7 +136,46 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
             [](const DetectorMargin& a, const DetectorMargin& b) {
               return detector_rank(a.detector) < detector_rank(b.detector);
             });
-  if (report.worst) report.verdict = verdict_for(report.worst->margin_db, options.guard_db);
+
+  // What was not computed: the unread ranges where they meet a line of their quantity, and every
+  // line that no reading reached at all.
+  for (std::size_t s = 0; s < sets.size(); ++s) {
+    const LimitSet& set = sets[s];
+    for (std::size_t l = 0; l < set.lines.size(); ++l) {
+      const LimitLine& line = set.lines[l];
+      bool listed = false;
+      for (const UnreadRange& gap : options.unread) {
+        if (gap.quantity != set.measures) continue;
+        for (const LimitSegment& segment : line.segments) {
+          const double from_hz = std::max(gap.from_hz, segment.from_hz);
+          const double to_hz = std::min(gap.to_hz, segment.to_hz);
+          if (!(to_hz > from_hz * (1.0 + 1e-9))) continue;
+          // Adjacent segments of one line merge into one part.
+          if (!report.not_computed.empty() && listed && report.not_computed.back().reason == gap.reason &&
+              std::abs(report.not_computed.back().to_hz - from_hz) <= 1e-9 * from_hz) {
+            report.not_computed.back().to_hz = to_hz;
+          } else {
+            report.not_computed.push_back({line_label(set, line), from_hz, to_hz, gap.reason});
+          }
+          listed = true;
+        }
+      }
+      if (!listed && line_rows[s][l] == 0) {
+        report.not_computed.push_back({line_label(set, line), line.low_hz(), line.high_hz(),
+                                       "no " + to_string(line.detector) + " reading of the " + quantity_words(set) +
+                                           " falls on this line"});
+      }
+    }
+  }
+  if (sets.empty()) {
+    report.verdict = Verdict::no_limits;
+  } else if (report.worst && report.worst->margin_db < 0.0) {
+    report.verdict = Verdict::fail;  // an exceeded limit is a fact whatever else was not read
+  } else if (!report.not_computed.empty() || !report.worst) {
+    report.verdict = Verdict::incomplete;
+  } else {
+    report.verdict = verdict_for(report.worst->margin_db, options.guard_db);
+  }
 
   // Closest to (or over) the limit: smallest margins first; at most one row per frequency and
   // reading detector, rows at least closest_separation_hz apart.
@@ -183,14 +250,30 @@ std::string csv_field(const std::string& text) {
   return quoted + "\"";
 }
 
+std::string row_unit_symbol(const MarginRow& row) {
+  switch (row.quantity) {
+    case LimitQuantity::conducted_voltage: return unit_symbol(Dimension::level_dbuv);
+    case LimitQuantity::radiated_field: return unit_symbol(Dimension::level_dbuvm);
+    case LimitQuantity::conducted_current: return unit_symbol(Dimension::level_dbua);
+  }
+  return unit_symbol(Dimension::level_dbuv);
+}
+
+std::string describe(const NotComputed& part) {
+  const std::string to = std::isfinite(part.to_hz) ? format_quantity(part.to_hz, Dimension::frequency, 5) : "up";
+  return format_quantity(part.from_hz, Dimension::frequency, 5) + "-" + to + " of " + part.limit_label + ": " +
+         part.reason;
+}
+
 std::string margins_csv(const MarginReport& report) {
-  std::string csv = "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n";
+  std::string csv = "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit\n";
   char buffer[160];
   for (const MarginRow& row : report.rows) {
     std::snprintf(buffer, sizeof buffer, "%.10g,%s,%.2f,%.2f,%.2f,", row.frequency_hz,
                   to_string(row.reading_detector).c_str(), row.reading, row.limit, row.margin_db);
     csv += buffer;
     csv += csv_field(row.limit_label);
+    csv += ',' + row_unit_symbol(row);
     csv += '\n';
   }
   return csv;

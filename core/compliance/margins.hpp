@@ -26,29 +26,38 @@ struct LevelReading {
   double frequency_hz = 0.0;            ///< [Hz]
   Detector detector = Detector::peak;   ///< the detector that made the reading
   double level = level_floor_db;        ///< [dBµV | dBµV/m | dBµA]
+  /// What the reading measures: it is compared only with limit sets that measure the same thing
+  /// (a LISN voltage never with a radiated-field line).
+  LimitQuantity quantity = LimitQuantity::conducted_voltage;
+  /// [m] measuring distance of a radiated-field reading: compared only with sets of that distance.
+  std::optional<double> distance_m{};
 };
 
 /// Readings of a receiver scan: one LevelReading per tuned frequency and listed detector. Works with
 /// any scan row type having `frequency_hz` and `level_db(Detector)` (the receiver's Reading).
 /// Readings at level_floor_db (nothing in the passband) are left out.
+/// `quantity` and `distance_m` say what the scan measured (a LISN port voltage by default).
 template <class ScanRow>
-[[nodiscard]] std::vector<LevelReading> readings_from_scan(const std::vector<ScanRow>& scan,
-                                                           const std::vector<Detector>& detectors) {
+[[nodiscard]] std::vector<LevelReading> readings_from_scan(
+    const std::vector<ScanRow>& scan, const std::vector<Detector>& detectors,
+    LimitQuantity quantity = LimitQuantity::conducted_voltage, std::optional<double> distance_m = std::nullopt) {
   std::vector<LevelReading> readings;
   readings.reserve(scan.size() * detectors.size());
   for (const ScanRow& row : scan) {
     for (Detector detector : detectors) {
       const double level = row.level_db(detector);
       if (!std::isfinite(level) || level <= level_floor_db) continue;
-      readings.push_back(LevelReading{row.frequency_hz, detector, level});
+      readings.push_back(LevelReading{row.frequency_hz, detector, level, quantity, distance_m});
     }
   }
   return readings;
 }
 
-/// pass: every margin >= guard; marginal: every margin >= 0 and one under the guard; fail: a margin < 0.
-enum class Verdict { pass, marginal, fail };
-/// "pass", "marginal" or "fail".
+/// pass: every margin >= guard; marginal: every margin >= 0 and one under the guard; fail: a margin < 0;
+/// incomplete: no margin < 0, but part of a limit line has no reading (not computed); no_limits: no
+/// limit line was given, so nothing can pass or fail.
+enum class Verdict { pass, marginal, fail, incomplete, no_limits };
+/// "pass", "marginal", "fail", "incomplete" or "no limits".
 [[nodiscard]] std::string to_string(Verdict verdict);
 /// The verdict of one margin: fail when margin < 0, marginal when 0 <= margin < guard, else pass.
 [[nodiscard]] Verdict verdict_for(double margin_db, double guard_db);
@@ -60,6 +69,22 @@ enum class Verdict { pass, marginal, fail };
 /// applies (the band the limits start in).
 [[nodiscard]] std::optional<double> cispr_uncertainty_db(LimitQuantity measures, double frequency_hz);
 
+/// A frequency range of one quantity that was not read, and why.
+struct UnreadRange {
+  LimitQuantity quantity = LimitQuantity::conducted_voltage;
+  double from_hz = 0.0;  ///< [Hz]
+  double to_hz = 0.0;    ///< [Hz] > from_hz (may be infinity)
+  std::string reason;    ///< e.g. "band A is not in the scenario's [receiver] bands"
+};
+
+/// Part of a limit line that no reading reached: the verdict is `incomplete` (unless a margin fails).
+struct NotComputed {
+  std::string limit_label;  ///< line_label(set, line)
+  double from_hz = 0.0;     ///< [Hz]
+  double to_hz = 0.0;       ///< [Hz]
+  std::string reason;
+};
+
 struct MarginOptions {
   double guard_db = default_guard_db;  ///< [dB] >= 0
   /// Pre-scan rule: a peak reading is compared with the quasi-peak and average lines too, since
@@ -67,6 +92,9 @@ struct MarginOptions {
   /// a line proves that line is met. Without it each reading meets only its own detector's line.
   bool peak_against_every_line = false;
   std::size_t closest_count = 10;      ///< how many rows `closest` keeps
+  /// Frequency ranges the readings do not cover, with the reason; where one meets a limit line of
+  /// its quantity, that part of the line is `not_computed` and the verdict cannot be pass.
+  std::vector<UnreadRange> unread{};
   /// [Hz] rows of `closest` are at least this far apart (0: no thinning); for dense traces, so one
   /// emission does not fill the list with its neighbouring points.
   double closest_separation_hz = 0.0;
@@ -85,6 +113,7 @@ struct MarginRow {
   double margin_db = 0.0;                    ///< limit − reading [dB]; negative = over the limit
   Detector limit_detector = Detector::peak;  ///< the detector of the line
   std::size_t set_index = 0;                 ///< index into the compared sets
+  LimitQuantity quantity = LimitQuantity::conducted_voltage;  ///< what the reading and the line measure
   std::string limit_label;                   ///< line_label(set, line)
   std::optional<double> uncertainty_db;      ///< U_cispr at frequency_hz [dB], when known
 };
@@ -106,7 +135,11 @@ struct MarginReport {
   std::size_t compared_readings = 0;            ///< readings compared with at least one line
   /// Readings outside every segment of the lines their detector is compared with: not compared.
   std::size_t not_compared = 0;
-  Verdict verdict = Verdict::pass;              ///< over all rows (pass when nothing was compared)
+  /// Parts of limit lines without a reading (options.unread, and every line no reading reached).
+  std::vector<NotComputed> not_computed;
+  /// no_limits without sets; fail when a margin is negative; else incomplete when something was
+  /// not computed; else pass or marginal by the worst margin.
+  Verdict verdict = Verdict::no_limits;
 };
 
 /// Compares every reading with the matching lines of every set. Error when options.guard_db < 0.
@@ -114,8 +147,16 @@ struct MarginReport {
                                                const std::vector<LimitSet>& sets,
                                                const MarginOptions& options = {});
 
-/// The margins CSV (docs/design.md §4): header `frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit`
-/// then one line per row; levels with 2 decimals, the limit label quoted when it holds a comma.
+/// The unit symbol of a row's reading and limit ("dBµV", "dBµV/m", "dBµA").
+[[nodiscard]] std::string row_unit_symbol(const MarginRow& row);
+
+/// "482 kHz-30 MHz of <line>: <reason>", one not-computed part in words.
+[[nodiscard]] std::string describe(const NotComputed& part);
+
+/// The margins CSV (docs/design.md §4): header
+/// `frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit` then one line per row; levels
+/// with 2 decimals, the limit label quoted when it holds a comma. The first columns keep their names
+/// (interface); `unit` says what the row compares (dBµV at the LISN port, dBµV/m radiated estimate).
 [[nodiscard]] std::string margins_csv(const MarginReport& report);
 
 /// Quotes a CSV field when it holds a comma, quote or newline (RFC 4180).

@@ -10,6 +10,7 @@
 #include <sstream>
 
 #include "core/input/error.hpp"
+#include "core/input/input_file.hpp"
 #include "core/input/units.hpp"
 
 namespace spurcast {
@@ -26,12 +27,9 @@ struct CsvRow {
   std::vector<CsvField> fields;
 };
 
-std::string read_file(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw Error(SourcePosition{path, 0, 0}, "cannot open file");
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  return buffer.str();
+/// A regular file only (a FIFO or /dev/zero would never end), of a bounded size (input_file.hpp).
+std::string read_file(const std::string& path, const std::string& what) {
+  return read_input_file(path, what, max_csv_file_bytes);
 }
 
 // Whether c is one of the characters of `set` (never the NUL that ends it).
@@ -522,7 +520,7 @@ MeasuredTrace parse_trace_csv(std::string_view text, const std::string& name, st
 }
 
 MeasuredTrace read_trace_csv(const std::string& path, std::optional<TraceUnit> unit, const std::string& level_column) {
-  return parse_trace_csv(read_file(path), path, unit, level_column);
+  return parse_trace_csv(read_file(path, "trace file"), path, unit, level_column);
 }
 
 double CorrectionTable::at(double f_hz) const {
@@ -545,7 +543,7 @@ CorrectionTable parse_correction_csv(std::string_view text, const std::string& n
   return correction;
 }
 
-CorrectionTable read_correction_csv(const std::string& path) { return parse_correction_csv(read_file(path), path); }
+CorrectionTable read_correction_csv(const std::string& path) { return parse_correction_csv(read_file(path, "correction table"), path); }
 
 MeasuredTrace apply_corrections(MeasuredTrace trace, const std::vector<CorrectionTable>& tables) {
   for (std::size_t i = 0; i < trace.frequency_hz.size(); ++i) {
@@ -609,6 +607,6 @@ std::vector<ScanCsvRow> parse_scan_csv(std::string_view text, const std::string&
   return rows;
 }
 
-std::vector<ScanCsvRow> read_scan_csv(const std::string& path) { return parse_scan_csv(read_file(path), path); }
+std::vector<ScanCsvRow> read_scan_csv(const std::string& path) { return parse_scan_csv(read_file(path, "scan CSV file"), path); }
 
 }  // namespace spurcast

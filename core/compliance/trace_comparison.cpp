@@ -17,9 +17,11 @@ CompareResult compare_trace(const CompareRequest& request) {
   result.correction_files = request.correction_files;
   result.prediction_file = request.prediction_file;
   for (const std::string& name : request.limit_files) {
-    const auto path = resolve_limit_file(name, ".");
-    if (!path) throw Error("cannot find limit file \"" + name + "\" here or in " + shipped_limits_directory());
+    const auto path = resolve_limit_file(name, ".", request.data);
+    if (!path) throw Error("cannot find limit file \"" + name + "\" here or in " + request.data.limits_directory());
     result.sets.push_back(read_limit_file(*path));
+    // Outputs name a shipped file by its place in the data folder, not by where it is installed.
+    result.sets.back().file = request.data.shown_path(*path);
     if (result.sets.back().unit != result.sets.front().unit) {
       throw Error("expected limit files of one unit, found " + limit_unit_symbol(result.sets.front()) + " and " +
                   limit_unit_symbol(result.sets.back()));

@@ -35,6 +35,7 @@ struct CompareRequest {
   Detector detector = Detector::peak;    ///< the trace's detector
   std::string prediction_file;           ///< "" = none; a predicted scan CSV
   std::size_t closest_count = 10;        ///< how many closest readings to list
+  ShippedData data;                      ///< where shipped names resolve (the CLI: locate_shipped_data())
 };
 
 /// The comparison, with everything it was made from.

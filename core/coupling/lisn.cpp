@@ -27,12 +27,17 @@ LisnSpec read_lisn_section(TableReader& reader) {
 LisnParts lisn_parts(LisnModel model) {
   LisnParts parts;
   if (model == LisnModel::v_network_50uh) {
-    // CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) (docs/references.md §2.1). The capacitor values of the
-    // schematic are from memory (docs/references.md §2.1 [M]: supply side 1 µF..8 µF, coupling 0.1 µF or
-    // 0.25 µF, discharge 1 kΩ); we use 1 µF, 0.25 µF, 1 kΩ.
+    // CISPR 16-1-2 V-network 50 Ω ∥ (50 µH + 5 Ω) (docs/references.md §2.1). The coupling capacitor
+    // and discharge resistor are from memory (docs/references.md §2.1 [M]: coupling 0.1 µF or 0.25 µF,
+    // discharge 1 kΩ). The supply-side capacitor is a judgement: the drawings' 1 µF..8 µF [M] do not
+    // keep the network within the standard's ±20 % / ±11.5° (docs/references.md §2.2 [M]) at the low
+    // end of band A: 1 µF resonates with the 50 µH near 22.5 kHz (13.3 Ω at −69° at 9 kHz instead of
+    // 5.2 Ω at +27°), 8 µF is 22° off at 9 kHz and in tolerance only above 13.5 kHz. 20 µF (0.88 Ω
+    // at 9 kHz beside the 5 Ω) keeps it within 6 % and 8.8° from 9 kHz to 30 MHz
+    // (tests/coupling/lisn_test.cpp checks it at the frequencies of the §2.2 table).
     parts.inductance_h = 50e-6;
     parts.damping_resistance_ohm = 5.0;
-    parts.supply_capacitance_f = 1e-6;      // from memory
+    parts.supply_capacitance_f = 20e-6;     // judgement (see above)
     parts.coupling_capacitance_f = 0.25e-6; // from memory
     parts.discharge_resistance_ohm = 1e3;   // from memory
   } else {

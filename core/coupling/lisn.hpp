@@ -7,8 +7,10 @@
 ///  - ideal: the impedance the standards define, seen from the EUT terminal; the receiver's 50 Ω is
 ///    connected straight to the terminal, so the port voltage is the terminal voltage. This is what a
 ///    lab reports after its voltage-division-factor correction (docs/references.md §2.3).
-///  - practical: the schematic's parts, values from memory (docs/references.md §2.1 [M]): the supply-side
-///    capacitor in series with the damping resistor, the coupling capacitor into the 50 Ω receiver
+///  - practical: the schematic's parts, values from memory (docs/references.md §2.1 [M]) except the
+///    50 µH network's supply-side capacitor (20 µF, a judgement that keeps the impedance within the
+///    standard's tolerance down to 9 kHz, see lisn.cpp): the supply-side capacitor in series with the
+///    damping resistor, the coupling capacitor into the 50 Ω receiver
 ///    and the 1 kΩ discharge resistor across the receiver port; the port then reads less than the
 ///    terminal at the low end (the voltage division factor).
 #include <string>

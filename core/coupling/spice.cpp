@@ -9,6 +9,7 @@
 #include <sstream>
 
 #include "core/input/error.hpp"
+#include "core/input/input_file.hpp"
 
 namespace spurcast {
 
@@ -421,11 +422,8 @@ std::vector<NetlistElement> parse_spice_subcircuit(std::string_view text, const 
 
 std::vector<NetlistElement> load_spice_subcircuit(const std::string& path,
                                                   const std::string& subckt) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw Error(SourcePosition{path, 0, 0}, "cannot open file");
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  return parse_spice_subcircuit(buffer.str(), path, subckt);
+  // A regular file of bounded size only, as for every loader (core/input/input_file.hpp).
+  return parse_spice_subcircuit(read_input_file(path, "SPICE netlist", max_csv_file_bytes), path, subckt);
 }
 
 }  // namespace spurcast

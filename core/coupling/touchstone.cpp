@@ -10,6 +10,7 @@
 #include <sstream>
 
 #include "core/input/error.hpp"
+#include "core/input/input_file.hpp"
 #include "core/input/units.hpp"
 
 namespace spurcast {
@@ -271,11 +272,8 @@ int touchstone_ports(const std::string& path) {
 
 std::shared_ptr<const TouchstoneData> load_touchstone(const std::string& path) {
   const int ports = touchstone_ports(path);
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw Error(SourcePosition{path, 0, 0}, "cannot open file");
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  return parse_touchstone(buffer.str(), path, ports);
+  // A regular file of bounded size only, as for every loader (core/input/input_file.hpp).
+  return parse_touchstone(read_input_file(path, "Touchstone file", max_csv_file_bytes), path, ports);
 }
 
 }  // namespace spurcast

@@ -1,9 +1,9 @@
 #include "core/input/toml_reader.hpp"
 
+#include "core/input/input_file.hpp"
+
 #include <algorithm>
 #include <cmath>
-#include <fstream>
-#include <sstream>
 
 namespace spurcast {
 
@@ -14,6 +14,134 @@ SourcePosition position_of(const toml::node& node, const std::string& file) {
 
 namespace {
 
+/// How deep tables, arrays and inline tables nest in one TOML file, counted before toml++ reads
+/// it. toml++ 3.3.0 bounds arrays and inline tables nested in a value (TOML_MAX_NESTED_VALUES,
+/// 256) but not the parts of a dotted key or table header: it recurses once per part, and a
+/// `[k.k.k...]` header of about 300,000 parts overflows the stack (found by hand; issue 14).
+/// Every depth here counts one level per header part, key part, array and inline table, so a
+/// file cannot reach toml++ nested deeper than max_toml_depth however it mixes them.
+class NestingTracker {
+ public:
+  explicit NestingTracker(const std::string& name) : name_(name) {}
+
+  /// A character outside strings and comments other than blanks and newlines.
+  void significant(char c, int line, int column) {
+    switch (expect_) {
+      case Expect::line_start:
+        if (c == '[') {
+          expect_ = Expect::header;
+          parts_ = 0;
+          return;
+        }
+        expect_ = Expect::key;
+        parts_ = 0;
+        key_character(c, line, column);
+        return;
+      case Expect::header:
+        if (c == '[' && parts_ == 0) return;  // the second bracket of [[array.of.tables]]
+        if (c == ']') {
+          table_depth_ = parts_;
+          expect_ = Expect::after_header;
+          return;
+        }
+        if (parts_ == 0) parts_ = 1;
+        if (c == '.') add_part(0, line, column);
+        return;
+      case Expect::after_header: return;
+      case Expect::key: key_character(c, line, column); return;
+      case Expect::value: value_character(c, line, column); return;
+    }
+  }
+  /// A quote that opens a string (a quoted key part, or a string value).
+  void string_opens(int line, int column) {
+    if (expect_ == Expect::line_start) {
+      expect_ = Expect::key;
+      parts_ = 0;
+    }
+    if ((expect_ == Expect::key || expect_ == Expect::header) && parts_ == 0) {
+      parts_ = 1;
+      check(container_depth() + parts_, line, column);
+    }
+  }
+  /// A newline outside strings: the end of a key/value pair or header, unless inside brackets.
+  void newline() {
+    if (frames_.empty()) expect_ = Expect::line_start;
+  }
+
+ private:
+  enum class Expect { line_start, header, after_header, key, value };
+  struct Frame {
+    char kind;  // '[' an array (depth: its elements'), '{' an inline table (depth: the table's)
+    int depth;
+  };
+
+  [[nodiscard]] int container_depth() const {
+    for (auto it = frames_.rbegin(); it != frames_.rend(); ++it) {
+      if (it->kind == '{') return it->depth;
+    }
+    return table_depth_;
+  }
+  void check(int depth, int line, int column) const {
+    if (depth > max_toml_depth) {
+      throw Error(SourcePosition{name_, line, column},
+                  "keys, tables and arrays nested more than " + std::to_string(max_toml_depth) +
+                      " levels deep (each part of a dotted key counts one level)");
+    }
+  }
+  void add_part(int base, int line, int column) {
+    ++parts_;
+    check(base + parts_, line, column);
+  }
+  void key_character(char c, int line, int column) {
+    if (c == '}' && parts_ == 0 && !frames_.empty()) {  // an empty inline table, {}
+      frames_.pop_back();
+      expect_ = Expect::value;
+      return;
+    }
+    if (c == '=') {
+      value_depth_ = container_depth() + std::max(parts_, 1);
+      expect_ = Expect::value;
+      return;
+    }
+    if (parts_ == 0) {
+      parts_ = 1;
+      check(container_depth() + parts_, line, column);
+    }
+    if (c == '.') add_part(container_depth(), line, column);
+  }
+  void value_character(char c, int line, int column) {
+    if (c == '[') {
+      frames_.push_back(Frame{'[', value_depth_ + 1});
+      value_depth_ += 1;
+      check(value_depth_, line, column);
+    } else if (c == '{') {
+      frames_.push_back(Frame{'{', value_depth_});
+      expect_ = Expect::key;
+      parts_ = 0;
+    } else if (c == ',' && !frames_.empty()) {
+      if (frames_.back().kind == '[') {
+        value_depth_ = frames_.back().depth;
+      } else {
+        expect_ = Expect::key;
+        parts_ = 0;
+      }
+    } else if ((c == ']' || c == '}') && !frames_.empty()) {
+      frames_.pop_back();
+      if (!frames_.empty() && frames_.back().kind == '[') value_depth_ = frames_.back().depth;
+    }
+  }
+
+  const std::string& name_;
+  Expect expect_ = Expect::line_start;
+  std::vector<Frame> frames_;
+  int table_depth_ = 0;
+  int parts_ = 0;
+  int value_depth_ = 0;
+};
+
+/// Reads the text once before toml++ does: refuses nesting deeper than max_toml_depth
+/// (NestingTracker), and non-ASCII text outside strings:
+///
 /// TOML 1.0 allows non-ASCII text only inside strings and comments (bare keys and values are
 /// ASCII). Refusing it elsewhere before toml++ sees it gives a clear message, and keeps away from
 /// a defect of toml++ 3.3.0 (Debian 12): its is_non_ascii_horizontal_whitespace() reaches
@@ -25,9 +153,10 @@ namespace {
 /// '{' or ','), or as a value (after '=', '[' or ','). A quote glued to other text (`19'9`) is
 /// invalid TOML, and the parser may read on past it as part of a date or number, so the scanner
 /// reads on as bare text too.
-void check_bare_ascii(std::string_view text, const std::string& name) {
+void prescan_toml(std::string_view text, const std::string& name) {
   enum class State { bare, comment, basic, literal, multiline_basic, multiline_literal };
   State state = State::bare;
+  NestingTracker nesting(name);
   // Last character outside strings and comments other than blanks; '\n' at a line start
   // outside brackets. A closing quote counts as '"' so that "a" "b" is not read as two strings.
   char previous_significant = '\n';
@@ -70,9 +199,12 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
           } else {
             state = basic ? State::basic : State::literal;
           }
+          nesting.string_opens(line, column);
         } else if (byte == '\n') {
           if (bracket_depth == 0) previous_significant = '\n';
+          nesting.newline();
         } else if (byte != ' ' && byte != '\t' && byte != '\r') {
+          nesting.significant(static_cast<char>(byte), line, column);
           if (byte == '[' || byte == '{') ++bracket_depth;
           if ((byte == ']' || byte == '}') && bracket_depth > 0) --bracket_depth;
           previous_significant = static_cast<char>(byte);
@@ -82,6 +214,7 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
         if (byte == '\n') {
           state = State::bare;
           if (bracket_depth == 0) previous_significant = '\n';
+          nesting.newline();
         }
         break;
       case State::basic:
@@ -94,12 +227,14 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
         } else if (byte == '"' || byte == '\n') {
           state = State::bare;
           previous_significant = byte == '\n' && bracket_depth == 0 ? '\n' : '"';
+          if (byte == '\n') nesting.newline();
         }
         break;
       case State::literal:
         if (byte == '\'' || byte == '\n') {
           state = State::bare;
           previous_significant = byte == '\n' && bracket_depth == 0 ? '\n' : '"';
+          if (byte == '\n') nesting.newline();
         }
         break;
       case State::multiline_basic:
@@ -127,7 +262,7 @@ void check_bare_ascii(std::string_view text, const std::string& name) {
 }
 
 toml::table parse_or_throw(std::string_view text, const std::string& name) {
-  check_bare_ascii(text, name);
+  prescan_toml(text, name);
   try {
     return toml::parse(text, name);
   } catch (const toml::parse_error& e) {
@@ -175,12 +310,8 @@ std::size_t edit_distance(std::string_view a, std::string_view b) {
 
 }  // namespace
 
-toml::table parse_toml_file(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw Error(SourcePosition{path, 0, 0}, "cannot open file");
-  std::ostringstream buffer;
-  buffer << in.rdbuf();
-  return parse_or_throw(buffer.str(), path);
+toml::table parse_toml_file(const std::string& path, const std::string& what) {
+  return parse_or_throw(read_input_file(path, what, max_toml_file_bytes), path);
 }
 
 toml::table parse_toml_text(std::string_view text, const std::string& name) {
@@ -240,6 +371,24 @@ SourcePosition TableReader::position(std::string_view key) const {
 
 SourcePosition TableReader::table_position() const { return position_of(table_, file_); }
 
+Error TableReader::missing(std::string_view key, const std::string& expected) const {
+  // A key nobody has asked for that is close to the missing one is its misspelling: name it
+  // where it is, rather than the absence of the right one (issue 14).
+  const toml::key* misspelt = nullptr;
+  for (const auto& [candidate, value] : table_) {
+    (void)value;
+    if (used_.count(candidate.str()) != 0 || nearest_key(candidate.str(), {std::string(key)}).empty()) continue;
+    if (misspelt == nullptr || candidate.source().begin.line < misspelt->source().begin.line) misspelt = &candidate;
+  }
+  if (misspelt != nullptr) {
+    const auto& begin = misspelt->source().begin;
+    return Error(SourcePosition{file_, static_cast<int>(begin.line), static_cast<int>(begin.column)},
+                 "unknown key '" + std::string(misspelt->str()) + "' in [" + where_ + "]; did you mean '" +
+                     std::string(key) + "'?");
+  }
+  return Error(table_position(), "missing key '" + std::string(key) + "' in [" + where_ + "] (expected " + expected + ")");
+}
+
 void TableReader::fail(std::string_view key, const std::string& message) const {
   throw Error(position(key), message);
 }
@@ -247,8 +396,7 @@ void TableReader::fail(std::string_view key, const std::string& message) const {
 double TableReader::required_quantity(std::string_view key, Dimension dimension) {
   const toml::node* found = lookup(key);
   if (found == nullptr) {
-    throw Error(table_position(), "missing key '" + std::string(key) + "' in [" + where_ +
-                                      "] (expected " + dimension_name(dimension) + ")");
+    throw missing(key, dimension_name(dimension));
   }
   return quantity_from_node(*found, dimension, file_);
 }
@@ -273,8 +421,7 @@ std::optional<std::string> TableReader::optional_string(std::string_view key) {
 std::string TableReader::required_string(std::string_view key) {
   auto value = optional_string(key);
   if (!value) {
-    throw Error(table_position(),
-                "missing key '" + std::string(key) + "' in [" + where_ + "] (expected a string)");
+    throw missing(key, "a string");
   }
   return *value;
 }
@@ -295,8 +442,7 @@ std::optional<std::string> TableReader::optional_choice(std::string_view key,
 std::string TableReader::required_choice(std::string_view key, const std::vector<std::string>& choices) {
   auto value = optional_choice(key, choices);
   if (!value) {
-    throw Error(table_position(), "missing key '" + std::string(key) + "' in [" + where_ +
-                                      "] (expected one of " + quoted_list(choices) + ")");
+    throw missing(key, "one of " + quoted_list(choices));
   }
   return *value;
 }

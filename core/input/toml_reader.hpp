@@ -21,10 +21,19 @@
 
 namespace spurcast {
 
+/// The deepest nesting a TOML file may have: one level per part of a table header or dotted key,
+/// per array and per inline table (`[a.b]` then `c = [{d = 1}]` puts d at 5). Deeper text is
+/// refused before toml++ reads it (toml++ recurses once per dotted-key part with no bound of its
+/// own). spurcast files need 5 at most (`[[limits.line]]` with `segment = [{from = ...}]`);
+/// the bound is a judgement, far below the depth where toml++ runs out of stack.
+inline constexpr int max_toml_depth = 64;
+
 /// Position of a toml++ node in `file`.
 [[nodiscard]] SourcePosition position_of(const toml::node& node, const std::string& file);
-/// Parses a TOML file; syntax errors become Error with file:line:column.
-[[nodiscard]] toml::table parse_toml_file(const std::string& path);
+/// Parses a TOML file (a regular file of at most max_toml_file_bytes, core/input/input_file.hpp);
+/// syntax errors and nesting deeper than max_toml_depth become Error with file:line:column.
+/// `what` names the file in messages: "scenario file", "limit file", "band plan".
+[[nodiscard]] toml::table parse_toml_file(const std::string& path, const std::string& what);
 /// Parses TOML text (for tests and in-memory scenarios); `name` stands for the file in messages.
 [[nodiscard]] toml::table parse_toml_text(std::string_view text, const std::string& name);
 
@@ -71,6 +80,9 @@ class TableReader {
 
  private:
   const toml::node* lookup(std::string_view key);
+  /// "missing key 'k' in [where] (expected ...)" at the table, or, when an unread key of the table
+  /// is close to `key`, "unknown key 'frequncy' in [switching]; did you mean 'frequency'?" at it.
+  [[nodiscard]] Error missing(std::string_view key, const std::string& expected) const;
   const toml::table& table_;
   std::string file_;
   std::string where_;

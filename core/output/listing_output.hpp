@@ -4,7 +4,7 @@
 ///
 /// Example:
 ///   std::cout << limit_set_text(read_limit_file(path), "cispr32-class-b-conducted");
-///   std::cout << band_plans_json({load_region_band_plan(1)});
+///   std::cout << band_plans_json({load_region_band_plan(1, locate_shipped_data())});
 #include <string>
 #include <vector>
 

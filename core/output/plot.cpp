@@ -283,7 +283,17 @@ double y_step(double y_min, double y_max, double height_px) {
 void draw_y_axis(TextPlacer& placer, std::string& svg, const PlotLayout& layout, const LinearScale& ys,
                  const std::string& y_label, double step) {
   const double first = std::ceil(ys.min / step - 1e-9) * step;
-  for (double value = first; value <= ys.max + 1e-9; value += step) {
+  // Ticks by count, not by a running sum: over an infinite or huge range `value += step` never
+  // reached the end, and predict never finished (issue 14). Levels are finite by then (the
+  // receiver refuses others); this keeps a wrong axis an error, never a loop without end.
+  const double tick_count = std::floor((ys.max + 1e-9 - first) / step) + 1.0;
+  if (!std::isfinite(first) || !std::isfinite(tick_count) || tick_count > 1000.0) {
+    char range[80];
+    std::snprintf(range, sizeof range, "%g to %g", ys.min, ys.max);
+    throw Error("plot level axis from " + std::string(range) + " is not a finite range of at most 1000 ticks");
+  }
+  for (int i = 0; i < static_cast<int>(std::max(tick_count, 0.0)); ++i) {
+    const double value = first + static_cast<double>(i) * step;
     const double y = ys.map(value);
     svg += "<line x1=\"" + number(layout.plot_left) + "\" y1=\"" + number(y) + "\" x2=\"" +
            number(layout.plot_right) + "\" y2=\"" + number(y) + "\" stroke=\"" + minor_grid_colour +
@@ -359,7 +369,7 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
     if (!trace.label.empty()) legend.push_back({trace.label, trace.colour, trace.dash, false});
   }
   if (!plot.spans.empty()) legend.push_back({"broadcast band", plot.spans.front().fill, "", true});
-  if (!plot.markers.empty()) legend.push_back({"worst reading (margin)", plot.markers.front().colour, "", true});
+  if (!plot.markers.empty()) legend.push_back({plot.marker_legend, plot.markers.front().colour, "", true});
 
   layout.plot_left = 62.0;
   layout.plot_right = plot.width_px - 22.0;

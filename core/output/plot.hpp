@@ -110,6 +110,7 @@ struct SpectrumPlot {
   std::vector<PlotTrace> traces;   ///< drawn in order (later on top)
   std::vector<PlotSpan> spans;
   std::vector<PlotMarker> markers;
+  std::string marker_legend = "worst reading (margin)";  ///< the legend entry of the markers
 };
 
 /// Everything with text that the plot placed, for the overlap tests.

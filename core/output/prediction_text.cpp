@@ -16,6 +16,8 @@ Colour verdict_colour(Verdict verdict) {
     case Verdict::pass: return Colour::green;
     case Verdict::marginal: return Colour::yellow;
     case Verdict::fail: return Colour::red;
+    case Verdict::incomplete: return Colour::yellow;
+    case Verdict::no_limits: return Colour::none;
   }
   return Colour::none;
 }
@@ -35,6 +37,7 @@ std::string level_text(double level, const std::string& unit) {
 Colour reception_colour(const std::string& verdict) {
   if (verdict == "clear") return Colour::green;
   if (verdict == "watch") return Colour::yellow;
+  if (verdict == "not computed") return Colour::dim;
   return Colour::red;
 }
 
@@ -42,19 +45,18 @@ Colour reception_colour(const std::string& verdict) {
 
 std::string prediction_summary(const Prediction& p, const std::string& directory, bool colour) {
   const MarginReport& m = p.margins;
-  const std::string uv = "dB\xC2\xB5V";
   std::string out;
   out += paint(p.scenario.title.empty() ? p.scenario.file : p.scenario.title, Colour::bold, colour) + "\n";
-  std::string verdict = "verdict: " + paint(to_string(p.verdict), verdict_colour(p.verdict), colour);
-  if (m.worst) {
-    verdict += " (worst margin " + db_text(m.worst->margin_db) + ", guard " + format_quantity(m.guard_db, Dimension::decibel) + ")";
-  } else {
-    verdict += p.scenario.limits.sets.empty() ? " (no limit lines given)" : " (nothing compared)";
+  // The verdict, and first of all what it does not cover (core/output/report.hpp).
+  out += "verdict: " + paint(to_string(p.verdict), verdict_colour(p.verdict), colour) + " (" + verdict_sentence(p) + ")\n";
+  if (const std::vector<std::string> missing = not_computed_lines(p); !missing.empty()) {
+    out += "\nnot computed:\n";
+    for (const std::string& line : missing) out += "  " + line + "\n";
   }
-  out += verdict + "\n";
 
   if (!m.worst_per_detector.empty()) {
     out += "\nworst margin per detector of the limit line:\n";
+    if (const std::string warning = single_path_warning(p); !warning.empty()) out += "  (" + warning + ")\n";
     std::vector<std::vector<std::string>> rows;
     for (const DetectorMargin& d : m.worst_per_detector) {
       const Verdict v = verdict_for(d.worst.margin_db, m.guard_db);
@@ -71,7 +73,9 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
     for (const WorstFrequency& w : worst) {
       const Verdict v = verdict_for(w.row.margin_db, m.guard_db);
       rows.push_back({format_quantity(w.row.frequency_hz, Dimension::frequency, 5), to_string(w.row.reading_detector),
-                      level_text(w.row.reading, uv), level_text(w.row.limit, uv),
+                      level_text(w.row.reading, row_unit_symbol(w.row)) +
+                          (w.row.quantity == LimitQuantity::radiated_field ? " (estimate)" : ""),
+                      level_text(w.row.limit, row_unit_symbol(w.row)),
                       paint(db_text(w.row.margin_db), verdict_colour(v), colour), w.row.limit_label});
     }
     out += format_columns(rows, {0, 2, 3, 4});

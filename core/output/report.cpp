@@ -104,31 +104,15 @@ std::string join(const std::vector<std::string>& items, const std::string& separ
   return out;
 }
 
-std::string verdict_sentence(const Prediction& p) {
-  const MarginReport& m = p.margins;
-  if (!m.worst) {
-    return p.scenario.limits.sets.empty() ? "no limit lines were given: nothing to compare"
-                                          : "no reading fell within the limit lines: nothing compared";
-  }
-  const MarginRow& w = *m.worst;
-  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
-                            " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
-  switch (m.verdict) {
-    case Verdict::pass: return "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
-    case Verdict::marginal:
-      return "every limit is met, but a margin is under the " + signed_db(m.guard_db, 1) + " guard band: " + where;
-    case Verdict::fail: return "a limit is exceeded: " + where;
-  }
-  return where;
-}
-
 const char* verdict_word(Verdict verdict) {
   switch (verdict) {
     case Verdict::pass: return "PASS";
     case Verdict::marginal: return "MARGINAL";
     case Verdict::fail: return "FAIL";
+    case Verdict::incomplete: return "INCOMPLETE";
+    case Verdict::no_limits: return "NO LIMITS";
   }
-  return "PASS";
+  return "INCOMPLETE";
 }
 
 std::optional<double> uncertainty_for(const Prediction& p) {
@@ -143,6 +127,63 @@ std::optional<double> uncertainty_for(const Prediction& p) {
 }
 
 }  // namespace
+
+
+std::vector<std::string> not_computed_lines(const Prediction& p) {
+  std::vector<std::string> lines;
+  for (const NotComputed& part : p.margins.not_computed) lines.push_back(describe(part));
+  for (const UncomputedRange& range : p.unread_bands) {
+    lines.push_back(format_quantity(range.from_hz, Dimension::frequency, 5) + "-" +
+                    format_quantity(range.to_hz, Dimension::frequency, 5) + " of " + range.what + ": " + range.reason);
+  }
+  std::vector<std::string> bands;
+  for (const BandReception& b : p.reception) {
+    if (b.verdict == ReceptionVerdict::not_computed) bands.push_back(b.band.name);
+  }
+  if (!bands.empty()) {
+    lines.push_back("broadcast band" + std::string(bands.size() > 1 ? "s " : " ") + join(bands, ", ") +
+                    ": the source's lines stop at " + format_quantity(p.computed_up_to_hz, Dimension::frequency, 5) +
+                    " (half the capture's sample rate)");
+  }
+  return lines;
+}
+
+std::string single_path_warning(const Prediction& p) {
+  if (p.common_mode_only) {
+    return "common-mode noise only: the voltage capture drives the common-mode path, differential-mode noise "
+           "(the input current's) is not included";
+  }
+  if (p.differential_mode_only) {
+    return "differential-mode noise only: the current capture drives the differential-mode path, common-mode "
+           "noise (the switch node's) is not included";
+  }
+  return "";
+}
+
+std::string verdict_sentence(const Prediction& p) {
+  const MarginReport& m = p.margins;
+  std::string out;
+  if (const std::string warning = single_path_warning(p); !warning.empty()) out = warning + "; ";
+  if (!m.not_computed.empty()) {
+    out += "not computed: " + describe(m.not_computed.front());
+    if (m.not_computed.size() > 1) out += " (and " + std::to_string(m.not_computed.size() - 1) + " more)";
+    out += "; ";
+  }
+  if (p.verdict == Verdict::no_limits) return out + "no limit lines were given: nothing was compared";
+  if (!m.worst) return out + "no reading fell within the limit lines: nothing compared";
+  const MarginRow& w = *m.worst;
+  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
+                            " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
+  switch (p.verdict) {
+    case Verdict::pass: return out + "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
+    case Verdict::marginal:
+      return out + "every limit is met, but a margin is under the " + signed_db(m.guard_db, 1) + " guard band: " + where;
+    case Verdict::fail: return out + "a limit is exceeded: " + where;
+    case Verdict::incomplete: return out + "where computed, " + where;
+    case Verdict::no_limits: break;
+  }
+  return out + where;
+}
 
 // ---------------------------------------------------------------------------------------------
 // CSV files.
@@ -188,20 +229,35 @@ std::string source_current_spectrum_csv(const Prediction& p) {
   return line_spectrum_csv(p.input_current_a, spec, spec ? spec->current_a : 0.0);
 }
 
+namespace {
+
+/// The detectors whose reading is the noise floor, joined by '+' ("" for none).
+std::string at_floor_text(const Reading& r, const std::optional<double>& noise_floor_db) {
+  std::string text;
+  for (const Detector d : {Detector::peak, Detector::quasi_peak, Detector::average}) {
+    if (at_noise_floor(r.level_db(d), noise_floor_db)) text += (text.empty() ? "" : "+") + to_string(d);
+  }
+  return text;
+}
+
+}  // namespace
+
 std::string scan_csv(const Prediction& p) {
-  std::vector<Reading> rows;
+  std::vector<std::pair<Reading, std::optional<double>>> rows;  // reading, its band's noise floor
   for (const BandScan& scan : p.scans) {
-    for (const Reading& r : scan.worst.readings) rows.push_back(r);
+    for (const Reading& r : scan.worst.readings) rows.emplace_back(r, scan.worst.noise_floor_db);
   }
   // Stable: at a shared frequency the earlier (lower) band stays first, then duplicates are dropped.
-  std::stable_sort(rows.begin(), rows.end(), [](const Reading& a, const Reading& b) { return a.frequency_hz < b.frequency_hz; });
-  std::string csv = "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n";
+  std::stable_sort(rows.begin(), rows.end(),
+                   [](const auto& a, const auto& b) { return a.first.frequency_hz < b.first.frequency_hz; });
+  std::string csv = "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor\n";
   std::string previous;
-  for (const Reading& r : rows) {
+  for (const auto& [r, floor_db] : rows) {
     const std::string f = frequency_text(r.frequency_hz);
     if (f == previous) continue;
     previous = f;
-    csv += f + "," + level_text(r.peak_db) + "," + level_text(r.quasi_peak_db) + "," + level_text(r.average_db) + "\n";
+    csv += f + "," + level_text(r.peak_db) + "," + level_text(r.quasi_peak_db) + "," + level_text(r.average_db) + "," +
+           at_floor_text(r, floor_db) + "\n";
   }
   return csv;
 }
@@ -251,6 +307,34 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
   j["scenario"] = p.scenario.file;
   j["source"] = to_string(p.source_kind);
   j["verdict"] = to_string(p.verdict);
+  // What was not computed comes right after the verdict it qualifies.
+  nlohmann::ordered_json not_computed = nlohmann::ordered_json::array();
+  for (const NotComputed& part : p.margins.not_computed) {
+    not_computed.push_back({{"limit", part.limit_label},
+                            {"from_hz", rounded(part.from_hz, 1)},
+                            {"to_hz", std::isfinite(part.to_hz) ? nlohmann::ordered_json(rounded(part.to_hz, 1))
+                                                                : nlohmann::ordered_json()},
+                            {"reason", part.reason}});
+  }
+  for (const UncomputedRange& range : p.unread_bands) {
+    not_computed.push_back({{"range", range.what},
+                            {"from_hz", rounded(range.from_hz, 1)},
+                            {"to_hz", rounded(range.to_hz, 1)},
+                            {"reason", range.reason}});
+  }
+  for (const BandReception& b : p.reception) {
+    if (b.verdict != ReceptionVerdict::not_computed) continue;
+    not_computed.push_back({{"broadcast_band", b.band.name},
+                            {"from_hz", rounded(std::max(b.band.low_hz, p.computed_up_to_hz), 1)},
+                            {"to_hz", rounded(b.band.high_hz, 1)},
+                            {"reason", "the source's lines stop at " +
+                                           format_quantity(p.computed_up_to_hz, Dimension::frequency, 5)}});
+  }
+  j["not_computed"] = not_computed;
+  // A capture that drives one path: the other path's noise is missing from every margin.
+  const std::string single_path = single_path_warning(p);
+  j["paths"] = p.common_mode_only ? "common mode only" : p.differential_mode_only ? "differential mode only" : "both";
+  if (!single_path.empty()) j["paths_warning"] = single_path;
   j["guard_db"] = rounded(p.margins.guard_db, 2);
   nlohmann::ordered_json worst_per = nlohmann::ordered_json::object();
   for (const DetectorMargin& d : p.margins.worst_per_detector) {
@@ -477,7 +561,7 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   add("limits", "guard band", q(s.limits.guard_db, Dimension::decibel));
   const BroadcastSpec& b = s.broadcast;
   add("broadcast", "ITU region", std::to_string(b.region));
-  if (b.plan) add("broadcast", "band plan", *b.plan);
+  if (b.plan) add("broadcast", "band plan", s.data.shown_path(*b.plan));
   add("broadcast", "distance", q(b.distance_m, Dimension::length));
   add("broadcast", "cable length", q(b.cable_length_m, Dimension::length));
   add("broadcast", "environment", environment_name(b.environment));
@@ -526,6 +610,17 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
     trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
     plot.traces.push_back(std::move(trace));
   }
+  if (scan.worst.noise_floor_db) {
+    // The receiver's noise floor: a detector trace lying on this line read only the floor there.
+    PlotTrace floor;
+    floor.label = "receiver noise floor (readings on it: nothing above the floor)";
+    floor.colour = "#8a8a8a";
+    floor.dash = "2 3";
+    floor.width_px = 1.2;
+    floor.frequency_hz = {band.start_hz, band.stop_hz};
+    floor.level = {*scan.worst.noise_floor_db, *scan.worst.noise_floor_db};
+    plot.traces.push_back(std::move(floor));
+  }
   for (const LimitSet& set : p.scenario.limits.sets) {
     if (set.measures != LimitQuantity::conducted_voltage) continue;
     for (const LimitLine& line : set.lines) {
@@ -563,6 +658,10 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
   return plot;
 }
 
+/// A harmonic more than this above the plain trapezoid's envelope is marked as exceeding it [dB]
+/// (above the rounding of the two computations, judgement).
+constexpr double envelope_excess_shown_db = 0.05;
+
 SpectrumPlot source_plot(const Prediction& p) {
   const bool voltage = !p.switch_node_v.harmonics.empty() || p.input_current_a.harmonics.empty();
   const LineSpectrum& lines = voltage ? p.switch_node_v : p.input_current_a;
@@ -587,7 +686,9 @@ SpectrumPlot source_plot(const Prediction& p) {
   if (p.scenario.switching) {
     const SwitchingSpec& spec = *p.scenario.switching;
     PlotTrace envelope;
-    envelope.label = "trapezoid envelope (\xE2\x88\x92" "20/\xE2\x88\x92" "40 dB per decade)";
+    // The envelope of the plain trapezoid (C. R. Paul §3.2): ringing adds lines above it, so it is
+    // no bound of this source when it rings; those lines are marked below.
+    envelope.label = "plain trapezoid's envelope (no ringing)";
     envelope.colour = quasi_peak_colour;
     envelope.dash = "7 4";
     envelope.width_px = 1.8;
@@ -600,6 +701,30 @@ SpectrumPlot source_plot(const Prediction& p) {
       top = std::max(top, envelope.level.back());
     }
     plot.traces.push_back(std::move(envelope));
+    // Harmonics above the plain trapezoid's envelope (ringing), drawn over the others, and the
+    // largest excess marked with its value.
+    PlotTrace above;
+    above.label = "above the plain trapezoid's envelope (ringing)";
+    above.stems = true;
+    above.colour = "#a8321f";
+    above.width_px = 1.6;
+    std::optional<PlotMarker> worst;
+    double worst_excess_db = 0.0;
+    for (std::size_t k = 0; k < lines.harmonics.size(); ++k) {
+      const double f = lines.frequency_hz(k);
+      const double level = volts_to_dbuv(std::abs(lines.harmonics[k]));
+      const double excess_db = level - volts_to_dbuv(trapezoid_envelope_rms(spec, amplitude, f));
+      if (!(excess_db > envelope_excess_shown_db)) continue;
+      above.frequency_hz.push_back(f);
+      above.level.push_back(level);
+      if (excess_db > worst_excess_db) {
+        worst_excess_db = excess_db;
+        worst = PlotMarker{f, level, signed_db(excess_db, 1) + " over the envelope", "#a8321f"};
+      }
+    }
+    if (!above.frequency_hz.empty()) plot.traces.push_back(std::move(above));
+    if (worst) plot.markers.push_back(*worst);
+    plot.marker_legend = "largest excess over the envelope";
   }
   if (top > level_floor_db) {
     plot.y_max = std::ceil((top + 8.0) / 10.0) * 10.0;
@@ -640,6 +765,8 @@ section { background:var(--card); border:1px solid var(--rule); border-radius:6p
 .verdict.pass { border-left-color:var(--pass); } .verdict.pass .word { color:var(--pass); }
 .verdict.marginal { border-left-color:var(--marginal); } .verdict.marginal .word { color:var(--marginal); }
 .verdict.fail { border-left-color:var(--fail); } .verdict.fail .word { color:var(--fail); }
+.verdict.incomplete { border-left-color:var(--marginal); } .verdict.incomplete .word { color:var(--marginal); }
+.verdict.no-limits .word { color:var(--soft); }
 table { border-collapse: collapse; width: 100%; font-size: 13.5px; }
 th, td { text-align:left; padding: 4px 8px; border-bottom: 1px solid var(--rule); vertical-align: top; }
 th { background:#ece8dd; font-weight: 600; }
@@ -649,6 +776,7 @@ td.section { color: var(--soft); white-space: nowrap; }
 .tag.pass, .tag.clear { background:#d5ead9; color:var(--pass); }
 .tag.marginal, .tag.watch { background:#f5e3b3; color:var(--marginal); }
 .tag.fail, .tag.noisy { background:#f2d0c8; color:var(--fail); }
+.tag.not { background:#e4e1d8; color:var(--soft); }
 figure { margin: 0 0 18px; }
 figure svg { width:100%; height:auto; border:1px solid var(--rule); border-radius:4px; background:#fbfaf6; }
 figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
@@ -667,8 +795,9 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
   for (const WorstFrequency& w : rows) {
     const MarginRow& r = w.row;
     out += "<tr><td class=\"num\">" + html(frequency_quantity(r.frequency_hz)) + "</td><td>" +
-           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) +
-           " dB\xC2\xB5V</td><td class=\"num\">" + level_text(r.limit) + " dB\xC2\xB5V</td><td class=\"num\">" +
+           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) + " " +
+           row_unit_symbol(r) + (r.quantity == LimitQuantity::radiated_field ? " (estimate)" : "") +
+           "</td><td class=\"num\">" + level_text(r.limit) + " " + row_unit_symbol(r) + "</td><td class=\"num\">" +
            html(signed_db(r.margin_db, 2)) + "</td><td class=\"num\">" +
            (r.uncertainty_db ? html(fixed(*r.uncertainty_db, 1) + " dB") : "\xE2\x80\x94") + "</td><td>" +
            html(r.limit_label) + "</td><td>" + tag(to_string(verdict_for(r.margin_db, p.margins.guard_db))) +
@@ -681,7 +810,8 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
 
 std::string report_html(const Prediction& p, const std::vector<std::string>& files) {
   const Scenario& s = p.scenario;
-  const std::string verdict = to_string(p.verdict);
+  std::string verdict = to_string(p.verdict);
+  std::replace(verdict.begin(), verdict.end(), ' ', '-');  // a CSS class ("no-limits")
   std::string out;
   out += "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n";
   out += "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n";
@@ -695,6 +825,11 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   // 1. The verdict in one line.
   out += "<section id=\"verdict\" class=\"verdict " + verdict + "\">\n<h2 hidden>Verdict</h2>\n<span class=\"word\">" +
          verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span>\n</section>\n";
+  if (const std::vector<std::string> missing = not_computed_lines(p); !missing.empty()) {
+    out += "<section id=\"not-computed\" class=\"caution\">\n<h2>Not computed</h2>\n<ul>\n";
+    for (const std::string& line : missing) out += "<li>" + html(line) + "</li>\n";
+    out += "</ul>\n</section>\n";
+  }
 
   // 2. The scenario.
   out += "<section id=\"scenario\">\n<h2>Scenario</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
@@ -717,14 +852,19 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   }
   out += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
          ". Harmonic lines of the source (RMS)" +
-         (s.switching ? std::string(" with the trapezoid bound of C. R. Paul (flat, then \xE2\x88\x92" "20 dB per decade "
-                                    "above 1/(\xCF\x80\xCF\x84), \xE2\x88\x92" "40 dB per decade above 1/(\xCF\x80t<sub>r</sub>))")
+         (s.switching ? std::string(" with the envelope of the plain trapezoid of C. R. Paul, without ringing (flat, "
+                                    "then \xE2\x88\x92" "20 dB per decade above 1/(\xCF\x80\xCF\x84), \xE2\x88\x92"
+                                    "40 dB per decade above 1/(\xCF\x80t<sub>r</sub>)); it is not a bound when the "
+                                    "source rings: harmonics above it are drawn red and the largest excess is marked")
                       : std::string()) +
          (p.source_kind == SourceKind::dithered ? ". Dithered source: the undithered lines are shown" : "") +
          ".</figcaption>\n</figure>\n</section>\n";
 
   // 4. Margins.
   out += "<section id=\"margins\">\n<h2>Margins</h2>\n";
+  if (const std::string warning = single_path_warning(p); !warning.empty()) {
+    out += "<p class=\"caution\"><strong>" + html(warning) + ".</strong></p>\n";
+  }
   out += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
          " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
          std::to_string(p.margins.readings) + " readings compared";
@@ -739,7 +879,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     for (const DetectorMargin& d : p.margins.worst_per_detector) {
       out += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
              "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
-             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " dB\xC2\xB5V</td><td>" +
+             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " " +
+             row_unit_symbol(d.worst) + "</td><td>" +
              html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
     }
     out += "</table>\n";

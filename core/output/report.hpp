@@ -5,7 +5,8 @@
 ///   source_spectrum.csv  source harmonics: harmonic,frequency_hz,level_dbuv[,envelope_dbuv]
 ///                        (the switch-node voltage; envelope for described sources)
 ///   source_current_spectrum.csv  the same for the pulsed input current (level_dbua[,envelope_dbua])
-///   scan.csv             receiver readings, the worst of the lines: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv
+///   scan.csv             receiver readings, the worst of the lines: frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor
+///                        (at_floor: the detectors, joined by '+', whose reading is the receiver's noise floor)
 ///   margins.csv          core/compliance/margins.hpp margins_csv()
 ///   bands.csv            core/radio/reception.hpp bands_csv()
 ///   scan-<band>.svg, source.svg  the plots, also inlined in the report
@@ -15,7 +16,7 @@
 /// prediction always gives the same bytes.
 ///
 /// Example:
-///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml"));
+///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml", locate_shipped_data()));
 ///   write_output_directory("spurcast-report", report_files(p));
 #include <cstddef>
 #include <string>
@@ -29,13 +30,16 @@ namespace spurcast {
 
 /// spectrum.csv: the conducted result at the harmonics (header only when there is none).
 [[nodiscard]] std::string lisn_spectrum_csv(const Prediction& prediction);
-/// source_spectrum.csv: the switch-node voltage lines; `envelope_dbuv` (Paul's trapezoid bound,
-/// core/source/source.hpp trapezoid_envelope_rms) for a described source.
+/// source_spectrum.csv: the switch-node voltage lines; `envelope_dbuv` (the envelope of the plain
+/// trapezoid without ringing, core/source/source.hpp trapezoid_envelope_rms; a ringing source's lines
+/// exceed it) for a described source.
 [[nodiscard]] std::string source_spectrum_csv(const Prediction& prediction);
 /// source_current_spectrum.csv: the input-current lines, `level_dbua` and `envelope_dbua`.
 [[nodiscard]] std::string source_current_spectrum_csv(const Prediction& prediction);
 /// scan.csv: the worst-of-lines readings of every band in one ascending list; at a frequency shared
 /// by two bands (30 MHz) the lower band's reading is kept (CISPR 16-1-1: 30 MHz belongs to band B).
+/// The added last column `at_floor` names the detectors whose reading is the receiver's noise floor
+/// ("peak+quasi-peak+average", "average", ... or empty).
 [[nodiscard]] std::string scan_csv(const Prediction& prediction);
 
 /// A reading that stands out: the smallest margin at one frequency.
@@ -54,6 +58,21 @@ struct WorstFrequency {
 /// as the CSVs print them.
 [[nodiscard]] std::string summary_json(const Prediction& prediction, const std::vector<std::string>& files);
 
+/// What the prediction did not compute, one sentence each, in the order every output shows them
+/// first: the parts of limit lines without a reading (with the reason), the unread parts of the
+/// receiver bands, and the broadcast bands above the highest computed frequency.
+[[nodiscard]] std::vector<std::string> not_computed_lines(const Prediction& prediction);
+
+/// The verdict in one sentence (terminal and report): what the verdict rests on, and for
+/// `incomplete` which range was not computed and why; for a common-mode-only capture it says that
+/// differential-mode noise is not included.
+[[nodiscard]] std::string verdict_sentence(const Prediction& prediction);
+
+/// "" for a source that drives both paths; for a capture that drives only one, the sentence that
+/// says which noise is not included ("common-mode noise only: differential-mode noise is not
+/// included ..."), shown before the verdict and above every margins table.
+[[nodiscard]] std::string single_path_warning(const Prediction& prediction);
+
 /// One row of the scenario table: what, and its value with units (format_quantity).
 struct ScenarioInput {
   std::string section;  ///< "source", "coupling", "filter 1", "lisn", ...
@@ -66,8 +85,8 @@ struct ScenarioInput {
 /// The receiver plot of one band: peak / quasi-peak / average against the limit lines, broadcast
 /// bands shaded, the three worst readings of the band marked with their margin.
 [[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan);
-/// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with Paul's
-/// −20/−40 dB per decade envelope for a described source.
+/// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with the plain
+/// trapezoid's envelope for a described source, and the harmonics above it (ringing) marked.
 [[nodiscard]] SpectrumPlot source_plot(const Prediction& prediction);
 
 /// The report page. `files` are the names written beside it (listed at the end).

@@ -79,7 +79,6 @@ std::string sweep_json(const SweepResult& result, const std::vector<std::string>
   }
   j["tolerance_fraction"] = result.tolerance_fraction;
   j["guard_db"] = result.guard_db;
-  j["threads"] = result.threads;
   j["detectors"] = ordered_json::array();
   for (const Detector d : result.detectors) j["detectors"].push_back(to_string(d));
   j["limit_lines"] = result.limit_lines;

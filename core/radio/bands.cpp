@@ -6,6 +6,7 @@
 #include <cmath>
 #include <set>
 
+#include "core/input/input_file.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"
 
@@ -149,18 +150,20 @@ BandPlan read_plan(const toml::table& table, const std::string& file) {
 
 }  // namespace
 
-BandPlan load_band_plan(const std::string& path) { return read_plan(parse_toml_file(path), path); }
+BandPlan load_band_plan(const std::string& path) { return read_plan(parse_toml_file(path, "band plan"), path); }
 
 BandPlan parse_band_plan(const std::string& text, const std::string& name) {
   return read_plan(parse_toml_text(text, name), name);
 }
 
-std::string region_band_plan_path(int region) {
+std::string region_band_plan_path(int region, const ShippedData& data) {
   if (region < 1 || region > 3) throw Error("expected ITU region 1, 2 or 3, found " + std::to_string(region));
-  return std::string(SPURCAST_LIMITS_DIR) + "/bands/region" + std::to_string(region) + ".toml";
+  return (std::filesystem::path(data.bands_directory()) / ("region" + std::to_string(region) + ".toml")).string();
 }
 
-BandPlan load_region_band_plan(int region) { return load_band_plan(region_band_plan_path(region)); }
+BandPlan load_region_band_plan(int region, const ShippedData& data) {
+  return load_band_plan(region_band_plan_path(region, data));
+}
 
 double parse_area_m2(const std::string& text) {
   const std::string bad = "expected an area (e.g. \"4 cm2\"), found \"" + text + "\"";
@@ -186,7 +189,7 @@ double parse_area_m2(const std::string& text) {
   return value * scale;
 }
 
-BroadcastSpec read_broadcast_section(TableReader& reader) {
+BroadcastSpec read_broadcast_section(TableReader& reader, const ShippedData& data) {
   BroadcastSpec spec;
   spec.position = reader.table_position();
   spec.region = read_region(reader, "region", 1);
@@ -208,13 +211,16 @@ BroadcastSpec read_broadcast_section(TableReader& reader) {
     // a bare name is a shipped plan (limits/bands/<name>.toml).
     const bool is_path = spec.plan->find('/') != std::string::npos || spec.plan->find(".toml") != std::string::npos;
     std::filesystem::path resolved = is_path ? std::filesystem::path(*spec.plan)
-                                             : std::filesystem::path(SPURCAST_LIMITS_DIR) / "bands" / (*spec.plan + ".toml");
+                                             : std::filesystem::path(data.bands_directory()) / (*spec.plan + ".toml");
     if (is_path && resolved.is_relative()) {
       resolved = std::filesystem::path(reader.file()).parent_path() / resolved;
     }
     std::error_code ignored;
-    if (!std::filesystem::is_regular_file(resolved, ignored)) {
-      reader.fail("plan", "band plan not found: " + resolved.string());
+    if (!std::filesystem::exists(resolved, ignored)) reader.fail("plan", "band plan not found: " + resolved.string());
+    try {
+      const InputFile plan_file(resolved.string(), "band plan");  // a regular file (not a pipe or device)
+    } catch (const Error& e) {
+      reader.fail("plan", e.what());
     }
     spec.plan = resolved.string();
   }
@@ -243,10 +249,10 @@ BroadcastSpec read_broadcast_section(TableReader& reader) {
   return spec;
 }
 
-std::vector<Band> bands_for(const BroadcastSpec& spec) {
+std::vector<Band> bands_for(const BroadcastSpec& spec, const ShippedData& data) {
   BandPlan plan;
   if (!spec.plan) {
-    plan = load_region_band_plan(spec.region);
+    plan = load_region_band_plan(spec.region, data);
   } else {
     plan = load_band_plan(*spec.plan);
   }

@@ -4,7 +4,7 @@
 /// how much power each channel collects.
 ///
 /// Example:
-///   const BandPlan plan = load_region_band_plan(2);
+///   const BandPlan plan = load_region_band_plan(2, locate_shipped_data());
 ///   const BandOccupancy mw = map_lines_to_band(plan.bands[0], lines);  // lines: {frequency_hz, level_db}
 ///   // mw.channels[i].level_db = power sum of the lines within ±bandwidth/2 of the channel centre
 #include <cstddef>
@@ -15,6 +15,7 @@
 #include "core/radio/ambient.hpp"
 #include "core/radio/antenna.hpp"
 #include "core/input/error.hpp"
+#include "core/input/shipped_data.hpp"
 
 namespace spurcast {
 
@@ -76,10 +77,10 @@ struct BandPlan {
 [[nodiscard]] BandPlan load_band_plan(const std::string& path);
 /// Same from TOML text; `name` stands for the file in messages (tests, in-memory plans).
 [[nodiscard]] BandPlan parse_band_plan(const std::string& text, const std::string& name);
-/// The shipped plan of ITU region 1, 2 or 3: SPURCAST_LIMITS_DIR/bands/region<N>.toml.
-[[nodiscard]] BandPlan load_region_band_plan(int region);
-/// Path of the shipped plan of `region`.
-[[nodiscard]] std::string region_band_plan_path(int region);
+/// The shipped plan of ITU region 1, 2 or 3: `data`'s limits/bands/region<N>.toml.
+[[nodiscard]] BandPlan load_region_band_plan(int region, const ShippedData& data);
+/// Path of the shipped plan of `region` in `data`.
+[[nodiscard]] std::string region_band_plan_path(int region, const ShippedData& data);
 
 /// Reads one band table ([[band]] in a plan, [[broadcast.band]] in a scenario). `region` is stored
 /// in the band. Calls reader.finish().
@@ -109,12 +110,13 @@ struct BroadcastSpec {
   SourcePosition position;  ///< of the [broadcast] table
 };
 
-/// Reads [broadcast]; calls reader.finish() with its valid keys.
-[[nodiscard]] BroadcastSpec read_broadcast_section(TableReader& reader);
+/// Reads [broadcast]; a bare plan name resolves in `data`'s band plans, and `plan` holds the path
+/// found. Calls reader.finish() with its valid keys.
+[[nodiscard]] BroadcastSpec read_broadcast_section(TableReader& reader, const ShippedData& data);
 
-/// The plan of a scenario: `spec.plan` (a shipped name or a path) or the region's shipped plan,
-/// followed by the user's bands.
-[[nodiscard]] std::vector<Band> bands_for(const BroadcastSpec& spec);
+/// The plan of a scenario: `spec.plan` (a path, as read_broadcast_section resolved it) or the
+/// region's shipped plan in `data`, followed by the user's bands.
+[[nodiscard]] std::vector<Band> bands_for(const BroadcastSpec& spec, const ShippedData& data);
 
 /// Parses an area: "4 cm2", "4 cm²", "400 mm2", "4e-4 m2" [m²]. Throws Error
 /// `expected an area (e.g. "4 cm2"), found "x"`.

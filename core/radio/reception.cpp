@@ -14,6 +14,7 @@ std::string reception_verdict_name(ReceptionVerdict verdict) {
     case ReceptionVerdict::clear: return "clear";
     case ReceptionVerdict::watch: return "watch";
     case ReceptionVerdict::noisy: return "noisy";
+    case ReceptionVerdict::not_computed: return "not computed";
   }
   return "clear";
 }
@@ -52,7 +53,7 @@ std::string format_mhz(double hz) { return format_quantity(hz, Dimension::freque
 
 BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines,
                          const std::vector<std::size_t>& order, const BroadcastSpec& spec,
-                         const std::vector<FieldLine>* field, bool magnetic) {
+                         const std::vector<FieldLine>* field, bool magnetic, double computed_up_to_hz) {
   BandReception result;
   result.band = band;
   result.antenna = antenna_for_band(spec.antenna, band.high_hz);
@@ -93,6 +94,12 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
     }
   }
   if (result.worst_channel) result.verdict = result.channels[*result.worst_channel].verdict;
+  if (band.high_hz > computed_up_to_hz) {
+    // Nothing was computed above computed_up_to_hz: silence there is not a clear band.
+    if (result.verdict == ReceptionVerdict::clear) result.verdict = ReceptionVerdict::not_computed;
+    result.caveats.push_back("not computed above " + format_mhz(computed_up_to_hz) +
+                             ": the source's lines stop there (a capture's Nyquist frequency)");
+  }
 
   const bool long_cable = field && std::any_of(result.lines_inside.begin(), result.lines_inside.end(), [&](std::size_t i) {
     const std::size_t source = lines[i].source_index;
@@ -138,11 +145,25 @@ std::vector<SpectralLine> dithered_lines(const std::vector<SpectralLine>& lines,
   const double b3_hz = bandwidth_hz / std::sqrt(2.0);  // the Gaussian's 3 dB width
   const double resolution_hz = std::min(1e3, bandwidth_hz / 8.0);
   constexpr std::size_t max_sub_lines = 4000;
+  const auto sub_line_count = [&](double frequency_hz) {
+    return static_cast<std::size_t>(std::clamp(std::ceil(2.0 * frequency_hz * dither.deviation_fraction / resolution_hz),
+                                               1.0, static_cast<double>(max_sub_lines)));
+  };
+  // Counted before allocation (issue 14): 8 % dither on a 110 Hz fundamental would spread the
+  // FM band's 186,000 harmonics into 7e8 lines.
+  std::size_t total = 0;
+  for (const SpectralLine& line : lines) total += sub_line_count(line.frequency_hz);
+  if (total > max_dithered_lines) {
+    throw Error(dither.where, "dither of " + format_quantity(dither.deviation_fraction, Dimension::fraction) + " on " +
+                                  std::to_string(lines.size()) + " harmonics spreads them into " + std::to_string(total) +
+                                  " lines, more than the " + std::to_string(max_dithered_lines) +
+                                  " of the broadcast estimate: expected a higher switching frequency or a smaller deviation");
+  }
   std::vector<SpectralLine> out;
+  out.reserve(total);
   for (const SpectralLine& line : lines) {
     const double deviation = line.frequency_hz * dither.deviation_fraction;
-    const auto count = static_cast<std::size_t>(
-        std::clamp(std::ceil(2.0 * deviation / resolution_hz), 1.0, static_cast<double>(max_sub_lines)));
+    const std::size_t count = sub_line_count(line.frequency_hz);
     if (count == 1 || deviation <= 0.0) {
       out.push_back(line);
       continue;
@@ -179,7 +200,7 @@ ReceiverLines receiver_lines(std::vector<FieldLine> field) {
 }
 
 std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, const ReceiverLines& lines,
-                                              const BroadcastSpec& spec) {
+                                              const BroadcastSpec& spec, double computed_up_to_hz) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
   const std::vector<std::size_t> e_order = sorted_line_order(lines.e_lines);
@@ -198,9 +219,10 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, co
         }
       }
       const std::vector<SpectralLine> spread = dithered_lines(near_band, *lines.dither, band.bandwidth_hz);
-      results.push_back(judge_band(band, spread, sorted_line_order(spread), spec, &lines.field, magnetic));
+      results.push_back(judge_band(band, spread, sorted_line_order(spread), spec, &lines.field, magnetic, computed_up_to_hz));
     } else {
-      results.push_back(judge_band(band, heard, magnetic ? h_order : e_order, spec, &lines.field, magnetic));
+      results.push_back(
+          judge_band(band, heard, magnetic ? h_order : e_order, spec, &lines.field, magnetic, computed_up_to_hz));
     }
   }
   return results;
@@ -208,11 +230,13 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, co
 
 std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
                                               const std::vector<SpectralLine>& field_lines_dbuvm,
-                                              const BroadcastSpec& spec) {
+                                              const BroadcastSpec& spec, double computed_up_to_hz) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
   const std::vector<std::size_t> order = sorted_line_order(field_lines_dbuvm);
-  for (const Band& band : bands) results.push_back(judge_band(band, field_lines_dbuvm, order, spec, nullptr, false));
+  for (const Band& band : bands) {
+    results.push_back(judge_band(band, field_lines_dbuvm, order, spec, nullptr, false, computed_up_to_hz));
+  }
   return results;
 }
 

@@ -28,9 +28,10 @@
 /// distance (core/radio/radiated.hpp).
 ///
 /// Example:
-///   const auto results = estimate_reception(bands_for(spec), receiver_lines(field), spec);
+///   const auto results = estimate_reception(bands_for(spec, locate_shipped_data()), receiver_lines(field), spec);
 ///   const std::string csv = bands_csv(results);
 #include <array>
+#include <limits>
 #include <optional>
 #include <string>
 #include <vector>
@@ -42,9 +43,11 @@
 
 namespace spurcast {
 
-enum class ReceptionVerdict { clear, watch, noisy };
+///   not computed — the band lies (wholly, or partly with nothing heard below) above the highest
+///            frequency the source's lines reach (a capture's Nyquist frequency): never `clear`.
+enum class ReceptionVerdict { clear, watch, noisy, not_computed };
 
-/// "clear", "watch", "noisy".
+/// "clear", "watch", "noisy", "not computed".
 [[nodiscard]] std::string reception_verdict_name(ReceptionVerdict verdict);
 
 /// How far under the channel's noise power a steady tone (a heterodyne whistle) is still heard [dB]:
@@ -114,18 +117,26 @@ struct ReceiverLines {
 ///    (docs/references.md §5.5), a fast one only as its time-averaged share. The level heard is the peak
 ///    of the passage (judgement: a periodic burst at the full line is as audible as the line).
 /// Lines keep their source_index.
+/// The most lines dithered_lines() makes for one band: 2^23 (134 MB); a 400 kHz converter with 8 %
+/// dither makes about 100,000 in the FM band. Judgement.
+inline constexpr std::size_t max_dithered_lines = std::size_t{1} << 23;
+/// Throws Error (at the dither key) when the spread would exceed max_dithered_lines.
 [[nodiscard]] std::vector<SpectralLine> dithered_lines(const std::vector<SpectralLine>& lines, const DitherSpec& dither,
                                                        double bandwidth_hz);
 /// One E and one η0·H line per field line.
 [[nodiscard]] ReceiverLines receiver_lines(std::vector<FieldLine> field);
 
 /// Estimates every band, each from the lines of its antenna (spec.antenna, antenna_for_band()).
-[[nodiscard]] std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, const ReceiverLines& lines,
-                                                            const BroadcastSpec& spec);
+/// `computed_up_to_hz` is the highest frequency the lines could reach: a band above it is `not
+/// computed` (a band across it keeps a watch/noisy verdict from its computed part, else is `not
+/// computed`), with a caveat.
+[[nodiscard]] std::vector<BandReception> estimate_reception(
+    const std::vector<Band>& bands, const ReceiverLines& lines, const BroadcastSpec& spec,
+    double computed_up_to_hz = std::numeric_limits<double>::infinity());
 /// The same with one set of field lines (frequency, level in dBµV/m) heard by every band's antenna.
-[[nodiscard]] std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
-                                                            const std::vector<SpectralLine>& field_lines_dbuvm,
-                                                            const BroadcastSpec& spec);
+[[nodiscard]] std::vector<BandReception> estimate_reception(
+    const std::vector<Band>& bands, const std::vector<SpectralLine>& field_lines_dbuvm, const BroadcastSpec& spec,
+    double computed_up_to_hz = std::numeric_limits<double>::infinity());
 
 /// The whole estimate from the radiators' currents: radiated_field(), then estimate_reception().
 [[nodiscard]] std::vector<BandReception> estimate_reception_from_currents(const std::vector<Band>& bands,

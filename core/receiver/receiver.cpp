@@ -60,18 +60,13 @@ CisprBand band_for_frequency(double frequency_hz) {
 
 namespace {
 
+// The range a [receiver] noise_floor may take [dBµV]: beyond it the value is surely a typing error
+// (a real receiver's floor lies near −30..+10 dBµV in the CISPR bands; judgement).
+constexpr double min_noise_floor_dbuv = -60.0;
+constexpr double max_noise_floor_dbuv = 60.0;
+
 void check_step(const TableReader& reader, std::string_view key, double step_hz, CisprBand band) {
-  const BandParameters p = band_parameters(band);
-  if (!(step_hz > 0.0)) {
-    reader.fail(key, "expected a positive step, found " + format_quantity(step_hz, Dimension::frequency));
-  }
-  if (step_hz > 0.5 * p.bandwidth_6db_hz * (1.0 + 1e-9)) {
-    reader.fail(key, "expected a step of at most " +
-                         format_quantity(0.5 * p.bandwidth_6db_hz, Dimension::frequency) +
-                         " (half the " + format_quantity(p.bandwidth_6db_hz, Dimension::frequency) +
-                         " bandwidth of band " + to_string(band) + "), found " +
-                         format_quantity(step_hz, Dimension::frequency));
-  }
+  if (const auto problem = step_problem(band, step_hz)) reader.fail(key, *problem);
 }
 
 // Reads an array of names one element at a time, so that a wrong name points at its own position.
@@ -116,8 +111,37 @@ ReceiverSpec read_receiver_section(TableReader& reader) {
   if (spec.step_hz) {
     for (CisprBand band : spec.bands) check_step(reader, "step", *spec.step_hz, band);
   }
-  reader.finish({"bands", "detectors", "step"});
+  spec.noise_floor_dbuv = reader.optional_quantity("noise_floor", Dimension::level_dbuv);
+  if (spec.noise_floor_dbuv && !(*spec.noise_floor_dbuv >= min_noise_floor_dbuv && *spec.noise_floor_dbuv <= max_noise_floor_dbuv)) {
+    reader.fail("noise_floor", "expected a noise floor from " + format_quantity(min_noise_floor_dbuv, Dimension::level_dbuv) +
+                                   " to " + format_quantity(max_noise_floor_dbuv, Dimension::level_dbuv) + ", found " +
+                                   format_quantity(*spec.noise_floor_dbuv, Dimension::level_dbuv));
+  }
+  reader.finish({"bands", "detectors", "step", "noise_floor"});
   return spec;
+}
+
+double default_noise_floor_dbuv(CisprBand band) {
+  // k·T0 = −174 dBm/Hz (T0 = 290 K); 0 dBm at 50 Ω is 107.0 dBµV; in the noise bandwidth of the
+  // Gaussian IF; plus the noise figure (judgement, a receiver without preamplifier).
+  constexpr double kt0_dbm_per_hz = -174.0;
+  constexpr double dbm_to_dbuv_50ohm = 106.99;  // 1 mW into 50 Ω: √(0.05 W·Ω) = 0.2236 V = 106.99 dBµV
+  constexpr double noise_figure_db = 20.0;      // judgement
+  return kt0_dbm_per_hz + dbm_to_dbuv_50ohm + 10.0 * std::log10(noise_bandwidth_hz(band_parameters(band).bandwidth_6db_hz)) +
+         noise_figure_db;
+}
+
+bool at_noise_floor(double level_db, const std::optional<double>& noise_floor_db) {
+  return noise_floor_db && level_db <= *noise_floor_db + 1e-9;
+}
+
+void apply_noise_floor(ScanResult& result, double noise_floor_db) {
+  result.noise_floor_db = noise_floor_db;
+  for (Reading& r : result.readings) {
+    r.peak_db = std::max(r.peak_db, noise_floor_db);
+    r.quasi_peak_db = std::max(r.quasi_peak_db, noise_floor_db);
+    r.average_db = std::max(r.average_db, noise_floor_db);
+  }
 }
 
 double if_gain(double offset_hz, double bandwidth_6db_hz) {
@@ -137,9 +161,29 @@ double noise_bandwidth_hz(double bandwidth_6db_hz) {
 
 double default_step_hz(CisprBand band) { return band_parameters(band).bandwidth_6db_hz / 4.0; }
 
+std::optional<std::string> step_problem(CisprBand band, double step_hz) {
+  const BandParameters p = band_parameters(band);
+  if (!(step_hz > 0.0)) return "expected a positive step, found " + format_quantity(step_hz, Dimension::frequency);
+  if (step_hz > 0.5 * p.bandwidth_6db_hz * (1.0 + 1e-9)) {
+    return "expected a step of at most " + format_quantity(0.5 * p.bandwidth_6db_hz, Dimension::frequency) +
+           " (half the " + format_quantity(p.bandwidth_6db_hz, Dimension::frequency) + " bandwidth of band " +
+           to_string(band) + "), found " + format_quantity(step_hz, Dimension::frequency);
+  }
+  // Counted before the grid is allocated: k = 0 .. floor(span/step), as tuned_frequencies() makes it.
+  const double span_hz = p.stop_hz * (1.0 + 1e-9) - p.start_hz;
+  if (std::floor(span_hz / step_hz) + 1.0 > static_cast<double>(max_tuned_frequencies)) {
+    return "expected a step of at least " +
+           format_quantity((p.stop_hz - p.start_hz) / static_cast<double>(max_tuned_frequencies - 1), Dimension::frequency) +
+           " in band " + to_string(band) + " (" + format_quantity(p.start_hz, Dimension::frequency) + "-" +
+           format_quantity(p.stop_hz, Dimension::frequency) + ": at most " + std::to_string(max_tuned_frequencies) +
+           " tuned frequencies), found " + format_quantity(step_hz, Dimension::frequency);
+  }
+  return std::nullopt;
+}
+
 std::vector<double> tuned_frequencies(CisprBand band, double step_hz) {
   const BandParameters p = band_parameters(band);
-  if (!(step_hz > 0.0)) throw Error("expected a positive step, found " + format_quantity(step_hz, Dimension::frequency));
+  if (const auto problem = step_problem(band, step_hz)) throw Error(*problem);
   std::vector<double> frequencies;
   const double slack = 1e-9 * p.stop_hz;
   for (std::size_t k = 0;; ++k) {
@@ -163,11 +207,8 @@ std::vector<double> plan_frequencies(const ScanPlan& plan) {
   const BandParameters p = band_parameters(plan.band);
   if (plan.frequencies_hz.empty()) {
     const double step = plan.step_hz.value_or(default_step_hz(plan.band));
-    if (step > 0.5 * p.bandwidth_6db_hz * (1.0 + 1e-9)) {
-      throw Error("expected a step of at most " + format_quantity(0.5 * p.bandwidth_6db_hz, Dimension::frequency) +
-                  " (half the " + format_quantity(p.bandwidth_6db_hz, Dimension::frequency) +
-                  " bandwidth of band " + to_string(plan.band) + "), found " +
-                  format_quantity(step, Dimension::frequency));
+    if (const auto problem = step_problem(plan.band, step)) {
+      throw Error(plan.step_origin.empty() ? *problem : plan.step_origin + ": " + *problem);
     }
     return tuned_frequencies(plan.band, step);
   }
@@ -430,6 +471,18 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   envelope_from_lines(work.plan, buffer, phasors, envelope);
 }
 
+/// The last line of defence for finite levels: inputs are bounded where they are read (e.g.
+/// max_amplitude_v), but a reading that still overflows, or is NaN, is an error here rather than
+/// an "inf" in a CSV, a null in JSON or a plot axis without end (issue 14).
+void require_finite_readings(const ScanResult& result) {
+  for (const Reading& r : result.readings) {
+    if (std::isfinite(r.peak_db) && std::isfinite(r.quasi_peak_db) && std::isfinite(r.average_db)) continue;
+    throw Error("the reading at " + format_quantity(r.frequency_hz, Dimension::frequency) +
+                " is not a finite level (the inputs overflow the calculation): check the amplitudes, currents and "
+                "component values");
+  }
+}
+
 /// A result with the plan's band, bandwidth and step filled in and no readings yet.
 ScanResult empty_scan_result(Quantity quantity, const ScanPlan& plan) {
   ScanResult result;
@@ -466,6 +519,11 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   const double highest_covered_hz = 0.5 * waveform.sample_rate_hz - span_bandwidths * band.bandwidth_6db_hz;
   if (plan.frequencies_hz.empty() && frequencies.back() >= highest_covered_hz && frequencies.front() < highest_covered_hz) {
     while (frequencies.back() >= highest_covered_hz) frequencies.pop_back();
+    result.read_up_to_hz = frequencies.back();
+    result.unread_reason = "the record's sample rate (" +
+                           format_quantity(waveform.sample_rate_hz, Dimension::frequency) +
+                           ") covers tuned frequencies up to " + format_quantity(frequencies.back(), Dimension::frequency) +
+                           " only (the tuned frequency plus the IF span must stay under half the sample rate)";
     result.notes.push_back("tuned frequencies above " + format_quantity(frequencies.back(), Dimension::frequency) +
                            " not read: the record's sample rate (" +
                            format_quantity(waveform.sample_rate_hz, Dimension::frequency) + ") does not cover them");
@@ -515,6 +573,8 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
                            format_quantity(plan.slowest_modulation_hz, Dimension::frequency) +
                            "); fewer than 3 may misrepresent it");
   }
+  require_finite_readings(result);
+  if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
 }
 
@@ -568,6 +628,8 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
       result.readings[i] = make_reading(tuned_hz, r);
     }
   });
+  require_finite_readings(result);
+  if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
 }
 

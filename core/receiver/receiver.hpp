@@ -48,11 +48,20 @@ struct ReceiverSpec {
   std::vector<CisprBand> bands{CisprBand::B};
   std::vector<Detector> detectors{Detector::peak, Detector::quasi_peak, Detector::average};
   std::optional<double> step_hz;  ///< [Hz] scan step; default default_step_hz(band); <= B6/2
+  /// [dBµV] the receiver's noise floor for every band; default default_noise_floor_dbuv(band).
+  std::optional<double> noise_floor_dbuv;
 };
 
+/// The default noise floor of the emulated receiver in `band` [dBµV at its 50 Ω input]: thermal noise
+/// k·T0 = −174 dBm/Hz (−67.0 dBµV/Hz at 50 Ω, physics) in the Gaussian IF's noise bandwidth
+/// (0.7527·B6), plus a 20 dB noise figure (judgement: a receiver without preamplifier). Band A
+/// −25.2 dBµV, band B −8.7 dBµV, bands C/D +2.6 dBµV.
+[[nodiscard]] double default_noise_floor_dbuv(CisprBand band);
+
 /// Reads the [receiver] table: keys `bands` (array of "A".."D", default ["B"]), `detectors` (array
-/// of "peak", "quasi-peak", "average", default all three) and `step` (a frequency, at most half the
-/// 6 dB bandwidth of every listed band). Calls reader.finish(). Errors carry the value's position.
+/// of "peak", "quasi-peak", "average", default all three), `step` (a frequency, at most half the
+/// 6 dB bandwidth of every listed band) and `noise_floor` (a level in dBµV between −60 and
+/// +60 dBµV). Calls reader.finish(). Errors carry the value's position.
 [[nodiscard]] ReceiverSpec read_receiver_section(TableReader& reader);
 
 // ---------------------------------------------------------------------------------------------
@@ -70,7 +79,17 @@ struct ReceiverSpec {
 [[nodiscard]] double noise_bandwidth_hz(double bandwidth_6db_hz);
 /// The default scan step: B6/4 (worst-case Gaussian scalloping 0.38 dB, docs/references.md §1.2).
 [[nodiscard]] double default_step_hz(CisprBand band);
+/// The most tuned frequencies of one band scan: 2^20. The default grids have 2,821 (band A) to
+/// 32,334 (band C/D) points; the bound allows steps 30 times finer than the default and keeps a
+/// scan's readings within some tens of MB. `scan --band C --step 1Hz` asked for 970 million
+/// (issue 14). Judgement.
+inline constexpr std::size_t max_tuned_frequencies = std::size_t{1} << 20;
+/// Why `step_hz` cannot scan `band`: not positive, above B6/2, or more than max_tuned_frequencies
+/// points ("expected a step of at least 925.1 Hz in band C (30 MHz-1 GHz: at most 1048576 tuned
+/// frequencies), found 1 Hz"); nullopt when it can.
+[[nodiscard]] std::optional<std::string> step_problem(CisprBand band, double step_hz);
 /// Tuned frequencies start_hz + k·step_hz for k = 0, 1, ... while <= stop_hz (1e-9 relative slack).
+/// Error with step_problem()'s message, before any allocation.
 [[nodiscard]] std::vector<double> tuned_frequencies(CisprBand band, double step_hz);
 
 // ---------------------------------------------------------------------------------------------
@@ -80,6 +99,8 @@ struct ReceiverSpec {
 struct ScanPlan {
   CisprBand band = CisprBand::B;
   std::optional<double> step_hz;       ///< [Hz] default default_step_hz(band); must be <= B6/2
+  /// Who gave step_hz, for messages: "--step" (then errors read "--step: expected ..."), or "".
+  std::string step_origin;
   std::vector<double> frequencies_hz;  ///< spot readings at these tuned frequencies; empty = scan the band
   /// [Hz] the slowest modulation in the signal (e.g. a dither rate), 0 = unknown. The sampled path
   /// notes a record holding fewer than 3 of its periods.
@@ -92,6 +113,9 @@ struct ScanPlan {
   /// Threads of the sampled path (its record transform and the tuned frequencies, split into
   /// contiguous runs); 0 = std::thread::hardware_concurrency(). The readings do not depend on it.
   unsigned threads = 0;
+  /// [dB of the record's quantity] the receiver's noise floor: no reading falls below it (nullopt:
+  /// no floor, the bare signal; readings then fall to level_floor_db where nothing is in the passband).
+  std::optional<double> noise_floor_db;
 };
 
 /// One tuned frequency. Levels are RMS-calibrated readings in dBµV for a voltage, dBµA for a current;
@@ -105,12 +129,24 @@ struct Reading {
   [[nodiscard]] double level_db(Detector detector) const;
 };
 
+/// True when `level_db` is the scan's noise floor (the signal alone reads at or below it).
+[[nodiscard]] bool at_noise_floor(double level_db, const std::optional<double>& noise_floor_db);
+
+/// Holds every reading of `result` at or above `noise_floor_db` and records the floor.
+void apply_noise_floor(struct ScanResult& result, double noise_floor_db);
+
 struct ScanResult {
   Quantity quantity = Quantity::voltage;
   CisprBand band = CisprBand::B;
   double bandwidth_6db_hz = 0.0;  ///< [Hz]
   double step_hz = 0.0;           ///< [Hz] 0 for spot readings
   std::vector<Reading> readings;  ///< ascending frequency
+  /// [Hz] set when a band scan stopped early: tuned frequencies above this one were not read (the
+  /// record's sample rate does not cover them); `unread_reason` says why.
+  std::optional<double> read_up_to_hz;
+  /// [dB] the noise floor the readings were held at (ScanPlan::noise_floor_db), if any.
+  std::optional<double> noise_floor_db;
+  std::string unread_reason;
   /// Facts the user should know about how the readings were made ("record treated as periodic ...").
   std::vector<std::string> notes;
 };

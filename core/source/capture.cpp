@@ -20,6 +20,7 @@
 #include <utility>
 #include <vector>
 
+#include "core/input/input_file.hpp"
 #include "core/source/huge_pages.hpp"
 #include "core/input/units.hpp"
 
@@ -31,6 +32,10 @@ namespace {
 constexpr std::size_t max_line_bytes = std::size_t{1} << 20;
 /// Header lines looked at before giving up on finding numeric data.
 constexpr std::size_t max_header_lines = 1000;
+/// The largest captured value taken, in volts or amperes after scaling: 1e9 (a thousand times the
+/// largest swing a described source may have, max_amplitude_v; the spectrum's power sums stay
+/// finite). Judgement.
+constexpr double max_capture_value = 1e9;
 /// Below this many bytes a second parser thread costs more than it saves (thread start ~50 µs).
 constexpr std::size_t min_chunk_bytes = std::size_t{1} << 20;
 /// Time stamps within 1 % of a sample interval of the uniform grid count as uniformly sampled
@@ -260,6 +265,13 @@ void parse_chunk(const char* text_begin, const char* begin, const char* end, con
                            ") is beyond the range of a double");
       return;
     }
+    // Values near 1e307 are finite but their spectrum's power sums are not ("-nan Hz", issue 14).
+    if (std::fabs(scaled) > max_capture_value) {
+      fail(value_cell, "expected a value of at most " + format_number(max_capture_value) +
+                           " V or A in magnitude after the scale and unit (beyond any converter; larger values "
+                           "overflow the spectrum), found " + format_number(scaled));
+      return;
+    }
     out.value.push_back(scaled);
     if (job.release_pages && static_cast<std::size_t>(p - released_to) >= release_step_bytes) {
       release_mapped_pages(released_to, p);
@@ -401,30 +413,28 @@ bool starts_with_number(std::string_view line) {
   return after == line.data() + line.size() || *after == ',' || *after == ';' || is_blank(*after);
 }
 
+/// True when the line's first cell is a number in double quotes ("1.5e-9",...).
+bool starts_with_quoted_number(std::string_view line) {
+  if (line.size() < 3 || line.front() != '"') return false;
+  const char* digits = line.data() + 1;
+  if (*digits == '+') ++digits;
+  double number = 0.0;
+  const auto result = fast_float::from_chars(digits, line.data() + line.size(), number);
+  return result.ec == std::errc() && result.ptr < line.data() + line.size() && *result.ptr == '"';
+}
+
 /// Memory map of a whole file, read-only.
 class MappedFile {
  public:
-  explicit MappedFile(const std::string& path) {
-    fd_ = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
-    if (fd_ < 0) {
-      std::string reason = std::strerror(errno);
-      if (!reason.empty()) reason[0] = static_cast<char>(std::tolower(static_cast<unsigned char>(reason[0])));
-      throw Error(SourcePosition{path, 0, 0}, "cannot open the capture (" + reason + ")");
-    }
-    struct stat info {};
-    if (::fstat(fd_, &info) != 0 || !S_ISREG(info.st_mode)) {
-      ::close(fd_);
-      throw Error(SourcePosition{path, 0, 0}, "expected a capture file, found a directory or device");
-    }
-    size_ = static_cast<std::size_t>(info.st_size);
+  // A regular file only: a FIFO would block open() and a device never ends (input_file.hpp).
+  explicit MappedFile(const std::string& path) : file_(path, "capture file"), size_(file_.size_bytes()) {
     if (size_ > 0) {
       // MAP_POPULATE maps a (page-cached) file in one call instead of a fault per page, the
       // faster way for a file of ordinary size. A large one is faulted in as it is read and
       // handed back behind the parser instead (release_pages()), so it is never resident whole.
       const int populate = size_ <= populate_limit_bytes ? MAP_POPULATE : 0;
-      void* address = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE | populate, fd_, 0);
+      void* address = ::mmap(nullptr, size_, PROT_READ, MAP_PRIVATE | populate, file_.descriptor(), 0);
       if (address == MAP_FAILED) {
-        ::close(fd_);
         throw Error(SourcePosition{path, 0, 0}, "cannot map the capture into memory");
       }
       data_ = static_cast<const char*>(address);
@@ -435,7 +445,6 @@ class MappedFile {
   MappedFile& operator=(const MappedFile&) = delete;
   ~MappedFile() {
     if (data_ != nullptr) ::munmap(const_cast<char*>(data_), size_);
-    if (fd_ >= 0) ::close(fd_);
   }
   [[nodiscard]] std::string_view text() const { return data_ ? std::string_view(data_, size_) : std::string_view(); }
   /// Whether the parser should drop the pages it has read.
@@ -444,7 +453,7 @@ class MappedFile {
   static constexpr std::size_t populate_limit_bytes = std::size_t{256} << 20;
 
  private:
-  int fd_ = -1;
+  InputFile file_;
   const char* data_ = nullptr;
   std::size_t size_ = 0;
 };
@@ -604,6 +613,14 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
       first_data = line;
       break;
     }
+    // A data line with quoted numbers would read as one more header line, until "found text only"
+    // 1000 lines on (issue 14): refuse it at its first cell instead.
+    if (starts_with_quoted_number(trimmed)) {
+      const std::size_t cell_end = trimmed.find_first_of(",;\t", 1);
+      throw Error(SourcePosition{name, static_cast<int>(line_number), static_cast<int>(line.find('"') + 1)},
+                  "expected a number, found the quoted text " + std::string(trimmed.substr(0, cell_end)) +
+                      " (a capture's numbers are read without quotes)");
+    }
     if (!trimmed.empty() && trimmed.front() != '#') {
       if (header_lines.empty()) first_header_line = line_number;
       header_lines.push_back(line);
@@ -758,7 +775,9 @@ Capture parse_capture(std::string_view text, const std::string& name, const Capt
     if (!chunk.time.empty()) previous = &chunk;
   }
   if (sample_count < 2) {
-    throw Error(SourcePosition{name, 0, 0}, "expected at least 2 samples, found " + std::to_string(sample_count));
+    // At the one data line (issue 14: the message had no position).
+    throw Error(SourcePosition{name, static_cast<int>(capture.first_data_line), 1},
+                "expected at least 2 samples, found " + std::to_string(sample_count));
   }
   if (options.on_sample_count) options.on_sample_count(sample_count);
 

@@ -23,6 +23,11 @@ std::string number_text(double value) {
   return buffer;
 }
 
+/// A value as typed back to the user: with an SI prefix where one fits, else "1e+308 V".
+std::string found_text(double value, Dimension dimension, const char* unit) {
+  return std::fabs(value) < 1e15 ? format_quantity(value, dimension, 9) : number_text(value) + " " + unit;
+}
+
 /// Fourier transform of one ringing tail exp(−t/decay)·sin(ω_r·t), t ≥ 0:
 /// F(ω) = ω_r / ((1/decay + jω)² + ω_r²). Summing the tail over every period is exact for the
 /// periodic signal, so c_k gains F(ω_k)·exp(−jω_k·t_edge)/T per edge.
@@ -92,7 +97,23 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
     throw Error("record duration must be positive, found " + number_text(duration_s));
   }
   const double count_real = std::ceil(sample_rate_hz * duration_s - 1e-9);
-  if (count_real > 4e9) throw Error("record of " + number_text(count_real) + " samples is too long");
+  // Checked before the samples are allocated (issue 14: a dither rate of 5 Hz took 3.5 GB).
+  if (count_real > static_cast<double>(max_record_samples) * (1.0 + 1e-9)) {
+    if (spec.dither) {
+      // The record holds at least one modulation period (docs/design.md: the detectors run to
+      // their steady state over whole periods), so the rate sets its length.
+      const double min_rate_hz = sample_rate_hz / static_cast<double>(max_record_samples);
+      throw Error(spec.dither->rate_where,
+                  "expected a dither rate of at least " + format_quantity(min_rate_hz, Dimension::frequency) +
+                      ": one modulation period at the receiver's " +
+                      format_quantity(sample_rate_hz, Dimension::frequency) + " sampling must fit in " +
+                      std::to_string(max_record_samples) + " samples, found " +
+                      format_quantity(spec.dither->rate_hz, Dimension::frequency));
+    }
+    throw Error("record of " + number_text(count_real) + " samples at " +
+                format_quantity(sample_rate_hz, Dimension::frequency) + " is longer than the " +
+                std::to_string(max_record_samples) + " samples a synthesized record may have");
+  }
   const auto count = static_cast<std::size_t>(count_real);
   Waveform waveform;
   waveform.quantity = quantity;
@@ -150,7 +171,15 @@ LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude, boo
   validate_switching(spec);
   if (!(max_frequency_hz > 0.0)) throw Error("maximum frequency must be positive");
   const double count_real = std::floor(max_frequency_hz / spec.frequency_hz + 1e-9);
-  if (count_real > 5e7) throw Error("too many harmonics requested (" + number_text(count_real) + ")");
+  // Checked before the harmonics are allocated (issue 14: "3 Hz" took more than 9 GB).
+  if (count_real > static_cast<double>(max_harmonic_count)) {
+    throw Error(spec.frequency_where,
+                "expected a switching frequency of at least " +
+                    format_quantity(max_frequency_hz / static_cast<double>(max_harmonic_count), Dimension::frequency) +
+                    " (harmonics are computed up to " + format_quantity(max_frequency_hz, Dimension::frequency) +
+                    ", at most " + std::to_string(max_harmonic_count) + " of them), found " +
+                    format_quantity(spec.frequency_hz, Dimension::frequency));
+  }
   const auto count = static_cast<std::size_t>(count_real);
   const double period_s = spec.period_s();
   LineSpectrum spectrum =
@@ -188,6 +217,17 @@ std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
   if (spec.current_a < 0.0 || !std::isfinite(spec.current_a)) {
     return problem("current", "current must not be negative, found " + number_text(spec.current_a) + " A");
   }
+  // Upper bounds: beyond them the derived levels overflow (max_amplitude_v, source.hpp).
+  if (spec.amplitude_v > max_amplitude_v) {
+    return problem("amplitude", "expected an amplitude of at most " + format_quantity(max_amplitude_v, Dimension::voltage) +
+                                    " (beyond any power converter; larger swings overflow the levels), found " +
+                                    found_text(spec.amplitude_v, Dimension::voltage, "V"));
+  }
+  if (spec.current_a > max_current_a) {
+    return problem("current", "expected a current of at most " + format_quantity(max_current_a, Dimension::current) +
+                                  " (beyond any power converter; larger currents overflow the levels), found " +
+                                  found_text(spec.current_a, Dimension::current, "A"));
+  }
   if (spec.rise_s < 0.0 || spec.fall_s < 0.0) {
     return problem(spec.rise_s < 0.0 ? "rise" : "fall", "rise and fall times must not be negative");
   }
@@ -215,6 +255,12 @@ std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
     if (!(r.frequency_hz > 0.0)) return problem("ringing.frequency", "ringing frequency must be positive");
     if (!(r.decay_s > 0.0)) return problem("ringing.decay", "ringing decay must be positive");
     if (r.relative_amplitude < 0.0) return problem("ringing.amplitude", "ringing amplitude must not be negative");
+    if (r.relative_amplitude > max_ringing_relative_amplitude) {
+      return problem("ringing.amplitude", "expected a ringing amplitude of at most " +
+                                              number_text(max_ringing_relative_amplitude) +
+                                              " times the edge step (a real overshoot is below 1), found " +
+                                              number_text(r.relative_amplitude));
+    }
   }
   if (spec.dither) {
     const DitherSpec& d = *spec.dither;
@@ -236,6 +282,7 @@ void validate_switching(const SwitchingSpec& spec) {
 SwitchingSpec read_switching_section(TableReader& reader) {
   SwitchingSpec spec;
   spec.frequency_hz = reader.required_quantity("frequency", Dimension::frequency);
+  spec.frequency_where = reader.position("frequency");
   spec.duty = reader.required_quantity("duty", Dimension::fraction);
   spec.amplitude_v = reader.required_quantity("amplitude", Dimension::voltage);
   spec.current_a = reader.required_quantity("current", Dimension::current);
@@ -266,6 +313,8 @@ SwitchingSpec read_switching_section(TableReader& reader) {
                                                                                 : DitherProfile::triangle;
     spec_d.deviation_fraction = d.required_quantity("deviation", Dimension::fraction);
     spec_d.rate_hz = d.required_quantity("rate", Dimension::frequency);
+    spec_d.rate_where = d.position("rate");
+    spec_d.where = reader.position("dither");
     d.finish({"profile", "deviation", "rate"});
     spec.dither = spec_d;
   }

@@ -522,8 +522,17 @@ HarmonicTable harmonic_table(const AmplitudeSpectrum& spectrum, double fundament
   table.fundamental_hz = fundamental_hz;
   table.dc = spectrum.dc;
   table.bin_width_hz = spectrum.bin_width_hz;
-  const double top_hz = std::min(max_frequency_hz, spectrum.sample_rate_hz / 2.0 -
-                                                       (properties.main_lobe_half_bins + 1) * spectrum.bin_width_hz);
+  const double readable_hz =
+      spectrum.sample_rate_hz / 2.0 - (properties.main_lobe_half_bins + 1) * spectrum.bin_width_hz;
+  // A fundamental the record cannot read gives no line at all: refuse it rather than return an
+  // empty table (the user's value is never moved to something the record can read).
+  if (fundamental_hz > readable_hz * (1.0 + 1e-12)) {
+    throw Error("expected a fundamental of at most " + format_quantity(readable_hz, Dimension::frequency, 6) +
+                " (half the record's " + format_quantity(spectrum.sample_rate_hz, Dimension::frequency, 6) +
+                " sample rate, less the " + window_name(spectrum.window) + " window's main lobe), found " +
+                format_quantity(fundamental_hz, Dimension::frequency, 6) + ": no harmonic of it can be read");
+  }
+  const double top_hz = std::min(max_frequency_hz, readable_hz);
   // Search ±20 % of f0 around k·f0 on a windowed (possibly drifting) record; on a coherent
   // rectangular record the line sits on its bin and the search must not wander to leakage.
   const double search_hz = spectrum.window == Window::rectangular ? 0.5 * spectrum.bin_width_hz : 0.2 * fundamental_hz;

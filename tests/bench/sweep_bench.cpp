@@ -54,11 +54,11 @@ Timing best_of_3(const std::function<void()>& run) {
 }  // namespace
 
 int main(int argc, char** argv) {
-  const std::string source_dir = std::string(SPURCAST_LIMITS_DIR) + "/..";
-  const std::string path = argc > 1 ? argv[1] : source_dir + "/examples/greenhouse-buck.toml";
-  const toml::table table = parse_toml_file(path);
+  const ShippedData data = locate_shipped_data();
+  const std::string path = argc > 1 ? argv[1] : data.examples_directory() + "/greenhouse-buck.toml";
+  const toml::table table = parse_toml_file(path, "scenario file");
   const std::string directory = path.substr(0, path.find_last_of('/'));
-  const Scenario base = scenario_from_table(table, path, directory);
+  const Scenario base = scenario_from_table(table, path, directory, data);
 
   std::printf("sweep of switching.frequency 50 kHz .. 2.5 MHz over %s (exact line path, MW + limits windows, 5 %% tolerance)\n",
               path.c_str());
@@ -72,7 +72,7 @@ int main(int argc, char** argv) {
       options.tolerance_fraction = 0.05;
       options.threads = threads;
       std::size_t windows = 0;
-      const Timing t = best_of_3([&] { windows = run_sweep(table, path, directory, options).windows.size(); });
+      const Timing t = best_of_3([&] { windows = run_sweep(table, path, directory, data, options).windows.size(); });
       std::printf("%8zu %8u %10.4f %10.4f %11.1f us  (%zu windows)\n", points, threads, t.wall_s, t.cpu_s,
                   1e6 * t.cpu_s / static_cast<double>(points), windows);
     }

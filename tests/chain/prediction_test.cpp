@@ -40,7 +40,7 @@ TEST_CASE("common mode: the parasitic capacitance drives both LISNs in parallel"
       scenario_text("frequency = \"200 kHz\"\nduty = 0.5\namplitude = \"10 V\"\ncurrent = \"0 A\"\n"
                     "rise = \"20 ns\"\nfall = \"20 ns\"",
                     "input_capacitance = \"1 F\"\ninput_esr = 0\ninput_esl = 0\nparasitic_capacitance = \"100 pF\""),
-      "cm.toml", ".");
+      "cm.toml", ".", locate_shipped_data());
   const Prediction p = predict(s);
   REQUIRE(p.conducted);
   for (const std::size_t k : {0u, 2u, 10u, 40u}) {
@@ -64,7 +64,7 @@ TEST_CASE("differential mode: the input capacitor divides the pulsed current wit
                                              "current = \"2 A\"\nrise = \"50 ns\"\nfall = \"50 ns\"",
                                              "input_capacitance = \"2.2 uF\"\ninput_esr = \"20 mOhm\"\n"
                                              "input_esl = 0\nparasitic_capacitance = 0"),
-                               "dm.toml", ".");
+                               "dm.toml", ".", locate_shipped_data());
   const Prediction p = predict(s);
   REQUIRE(p.conducted);
   for (const std::size_t k : {0u, 1u, 9u, 99u}) {
@@ -88,7 +88,7 @@ TEST_CASE("an isolated harmonic reads its RMS on every detector, and the margin 
                     "input_capacitance = \"4.7 uF\"\ninput_esr = \"8 mOhm\"\ninput_esl = \"1.5 nH\"\n"
                     "parasitic_capacitance = \"35 pF\"",
                     "[limits]\nfiles = [\"cispr32-class-b-conducted\"]\n"),
-      "line.toml", ".");
+      "line.toml", ".", locate_shipped_data());
   const Prediction p = predict(s);
   REQUIRE(p.scans.size() == 1);
   const ScanResult& worst = p.scans[0].worst;
@@ -125,10 +125,10 @@ TEST_CASE("dither lowers the average and quasi-peak readings at the fundamental"
       "frequency = \"400 kHz\"\nduty = 0.45\namplitude = \"24 V\"\ncurrent = \"1.2 A\"\nrise = \"8 ns\"\nfall = \"10 ns\"";
   const std::string coupling =
       "input_capacitance = \"2.2 uF\"\ninput_esr = \"15 mOhm\"\ninput_esl = \"1 nH\"\nparasitic_capacitance = \"12 pF\"";
-  const Scenario plain = scenario_from_text(scenario_text(base, coupling), "plain.toml", ".");
+  const Scenario plain = scenario_from_text(scenario_text(base, coupling), "plain.toml", ".", locate_shipped_data());
   const Scenario dithered = scenario_from_text(
       scenario_text(base + "\ndither = { profile = \"triangle\", deviation = \"8 %\", rate = \"12 kHz\" }", coupling),
-      "dither.toml", ".");
+      "dither.toml", ".", locate_shipped_data());
   PredictionOptions options;
   options.record_duration_s = 2.0 / 12e3 * 12;  // 2 ms: whole modulation periods, a fast test
   const Prediction a = predict(plain);
@@ -165,7 +165,7 @@ TEST_CASE(
     "an observation of the trade: a 17 kHz battery pulse circuit -> MW noisy or watch, SW watch or "
     "noisy, FM clear") {
   const Scenario scenario =
-      load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/battery-pulser.toml");
+      load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/battery-pulser.toml", locate_shipped_data());
   const Prediction p = predict(scenario);
   CHECK_FALSE(p.conducted);  // no LISN: nothing conducted to compare
   CHECK(p.scans.empty());

@@ -36,7 +36,7 @@ double trapezoid_dbuv(int n, double amplitude, double duty, double rise_over_per
 }  // namespace
 
 TEST_CASE("scan_scenario: a spot reading on an isolated line reads its RMS on every detector") {
-  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".");
+  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".", locate_shipped_data());
   ScanRequest request;
   request.at = "source";
   request.frequencies_hz = {300e3, 1.2e6};
@@ -60,7 +60,7 @@ TEST_CASE("scan_scenario: a spot reading on an isolated line reads its RMS on ev
 }
 
 TEST_CASE("scan_plans: spot frequencies go to the band that holds them, bands ascending") {
-  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".");
+  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".", locate_shipped_data());
   ScanRequest request;
   request.frequencies_hz = {45e6, 400e3, 100e3, 1.2e6};  // band C (30-300 MHz), B (0.15-30 MHz), A (9-150 kHz)
   const std::vector<ScanPlan> plans = scan_plans(scenario, request);
@@ -82,7 +82,7 @@ TEST_CASE("scan_plans: spot frequencies go to the band that holds them, bands as
 }
 
 TEST_CASE("scan errors") {
-  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".");
+  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".", locate_shipped_data());
   ScanRequest request;
   request.band = CisprBand::B;
   request.step_hz = 9e3;

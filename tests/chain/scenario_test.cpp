@@ -26,7 +26,7 @@ TEST_CASE("every example scenario loads") {
   for (const auto& entry : std::filesystem::directory_iterator(source_dir + "/examples")) {
     if (entry.path().extension() != ".toml") continue;
     CAPTURE(entry.path().string());
-    const Scenario s = load_scenario(entry.path().string());
+    const Scenario s = load_scenario(entry.path().string(), locate_shipped_data());
     CHECK(!s.title.empty());
     CHECK((s.switching.has_value() != s.capture.has_value()));
     ++count;
@@ -35,7 +35,7 @@ TEST_CASE("every example scenario loads") {
 }
 
 TEST_CASE("the greenhouse example reads with its units") {
-  const Scenario s = load_scenario(source_dir + "/examples/greenhouse-buck.toml");
+  const Scenario s = load_scenario(source_dir + "/examples/greenhouse-buck.toml", locate_shipped_data());
   REQUIRE(s.switching);
   CHECK(s.switching->frequency_hz == doctest::Approx(220e3));
   CHECK(s.switching->rise_s == doctest::Approx(12e-9));
@@ -48,21 +48,21 @@ TEST_CASE("the greenhouse example reads with its units") {
 }
 
 TEST_CASE("a scenario needs exactly one source") {
-  CHECK_THROWS_WITH_AS((void)scenario_from_text("title = \"x\"\n", "a.toml", "."),
+  CHECK_THROWS_WITH_AS((void)scenario_from_text("title = \"x\"\n", "a.toml", ".", locate_shipped_data()),
                        "a.toml:1:1: a scenario needs a source: a [switching] or a [capture] section", Error);
   const std::string both = std::string(minimal_switching) + "[capture]\nfile = \"x.csv\"\n";
-  CHECK_THROWS_AS((void)scenario_from_text(both, "b.toml", "."), Error);
+  CHECK_THROWS_AS((void)scenario_from_text(both, "b.toml", ".", locate_shipped_data()), Error);
 }
 
 TEST_CASE("unknown top-level keys suggest the nearest section") {
   const std::string text = std::string(minimal_switching) + "[coupleing]\ninput_capacitance = \"1 uF\"\n";
-  CHECK_THROWS_WITH_AS((void)scenario_from_text(text, "c.toml", "."),
+  CHECK_THROWS_WITH_AS((void)scenario_from_text(text, "c.toml", ".", locate_shipped_data()),
                        "c.toml:8:2: unknown key 'coupleing' in [scenario]; did you mean 'coupling'?", Error);
 }
 
 TEST_CASE("TOML syntax errors carry line and column") {
   try {
-    (void)scenario_from_text("[switching]\nfrequency = \"220 kHz\nduty = 0.25\n", "d.toml", ".");
+    (void)scenario_from_text("[switching]\nfrequency = \"220 kHz\nduty = 0.25\n", "d.toml", ".", locate_shipped_data());
     FAIL("expected an error");
   } catch (const Error& e) {
     CHECK(e.where().file == "d.toml");
@@ -76,10 +76,10 @@ TEST_CASE("a wrong unit inside a section points at the value") {
   const std::string text =
       "[switching]\nfrequency = \"3 V\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\n"
       "rise = \"12 ns\"\nfall = \"15 ns\"\n";
-  CHECK_THROWS_WITH_AS((void)scenario_from_text(text, "e.toml", "."),
+  CHECK_THROWS_WITH_AS((void)scenario_from_text(text, "e.toml", ".", locate_shipped_data()),
                        "e.toml:2:13: expected a frequency (e.g. \"220 kHz\"), found \"3 V\"", Error);
 }
 
 TEST_CASE("a missing file is a clear error") {
-  CHECK_THROWS_WITH_AS((void)load_scenario("/nonexistent/s.toml"), "/nonexistent/s.toml: cannot open file", Error);
+  CHECK_THROWS_WITH_AS((void)load_scenario("/nonexistent/s.toml", locate_shipped_data()), "/nonexistent/s.toml: cannot open the scenario file (no such file or directory)", Error);
 }

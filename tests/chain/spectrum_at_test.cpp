@@ -44,7 +44,7 @@ double trapezoid_dbuv(int n, double amplitude, double duty, double rise_over_per
 }  // namespace
 
 TEST_CASE("scenario_spectrum at the source: the trapezoid's Fourier series") {
-  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".");
+  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".", locate_shipped_data());
   SpectrumSettings settings;
   settings.max_frequency_hz = 1e6;
   const SpectrumResult r = scenario_spectrum(scenario, "source", settings);
@@ -72,7 +72,7 @@ TEST_CASE("scenario_spectrum at the source: the trapezoid's Fourier series") {
 }
 
 TEST_CASE("scenario_spectrum at the LISN: the level is the higher of the two lines") {
-  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".");
+  const Scenario scenario = scenario_from_text(trapezoid_scenario, "trapezoid.toml", ".", locate_shipped_data());
   SpectrumSettings settings;
   settings.max_frequency_hz = 2e6;
   const SpectrumResult r = scenario_spectrum(scenario, "", settings);  // "" = lisn for a scenario

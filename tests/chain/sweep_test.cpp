@@ -66,7 +66,7 @@ SweepResult sweep_1d(const std::string& text, const std::string& vary, const std
   for (const std::string& band : clear) options.criteria.push_back(parse_window_criterion(band));
   options.tolerance_fraction = tolerance;
   options.threads = threads;
-  return run_sweep(table, "test.toml", ".", options);
+  return run_sweep(table, "test.toml", ".", locate_shipped_data(), options);
 }
 
 std::vector<RobustWindow> windows_of(const SweepResult& result, std::size_t criterion) {
@@ -145,7 +145,7 @@ capacitance = "10 uF"
   set_scenario_key(copy, "switching.ringing.frequency", 60e6, Dimension::frequency);
   set_scenario_key(copy, "switching.ringing.decay", 20e-9, Dimension::time);
   set_scenario_key(copy, "switching.ringing.amplitude", 0.3, Dimension::number);
-  const Scenario s = scenario_from_table(copy, "test.toml", ".");
+  const Scenario s = scenario_from_table(copy, "test.toml", ".", locate_shipped_data());
   const double tol_rel = 1e-12;
   CHECK(std::abs(s.switching->frequency_hz - 333e3) < tol_rel * 333e3);
   CHECK(std::abs(s.filters.at(0).inductance_h - 2.2e-6) < tol_rel * 2.2e-6);
@@ -157,7 +157,11 @@ capacitance = "10 uF"
 TEST_CASE("thread count: SPURCAST_THREADS or every core") {
   CHECK(sweep_thread_count("3") == 3);
   CHECK(sweep_thread_count(nullptr) >= 1);
-  CHECK_THROWS_WITH_AS((void)sweep_thread_count("two"), "expected SPURCAST_THREADS to be a positive integer, found \"two\"",
+  // The range is stated as 1..N (issue 14); the variable is named first.
+  CHECK_THROWS_WITH_AS((void)sweep_thread_count("two"), "SPURCAST_THREADS: expected a thread count of 1..256, found \"two\"",
+                       Error);
+  CHECK(sweep_thread_count("256") == 256);
+  CHECK_THROWS_WITH_AS((void)sweep_thread_count("257"), "SPURCAST_THREADS: expected a thread count of 1..256, found \"257\"",
                        Error);
 }
 
@@ -238,10 +242,10 @@ TEST_CASE("a grid over two keys equals individual predict() runs at the same poi
   options.criteria.push_back(parse_window_criterion("MW"));
   options.criteria.push_back(WindowCriterion{WindowCriterion::Kind::limits_met, ""});
   options.threads = 2;
-  const SweepResult fast = run_sweep(table, "test.toml", ".", options);
+  const SweepResult fast = run_sweep(table, "test.toml", ".", locate_shipped_data(), options);
   REQUIRE(fast.points.size() == 6);
   options.exact_lines = false;  // the sweep's own slow path: predict() with scans
-  const SweepResult slow = run_sweep(table, "test.toml", ".", options);
+  const SweepResult slow = run_sweep(table, "test.toml", ".", locate_shipped_data(), options);
 
   const double tol_db = 0.05;  // QP and AV of a CW in steady state read its RMS within this
   for (std::size_t i = 0; i < fast.points.size(); ++i) {
@@ -254,7 +258,7 @@ TEST_CASE("a grid over two keys equals individual predict() runs at the same poi
     toml::table copy = table;
     set_scenario_key(copy, "switching.frequency", p.values[0], Dimension::frequency);
     set_scenario_key(copy, "coupling.parasitic_capacitance", p.values[1], Dimension::capacitance);
-    const Scenario scenario = scenario_from_table(copy, "test.toml", ".");
+    const Scenario scenario = scenario_from_table(copy, "test.toml", ".", locate_shipped_data());
     const Prediction prediction = predict(scenario);
     REQUIRE(prediction.margins.worst);
     REQUIRE(p.worst_margin_db);

@@ -72,7 +72,7 @@ TEST_CASE("compare: every limit met -> exit 0, margins CSV written") {
   CHECK(r.out.find("nothing to re-measure") != std::string::npos);
   REQUIRE(fs::exists(dir / "margins.csv"));
   const std::string csv = read_text(dir / "margins.csv");
-  CHECK(csv.rfind("frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n", 0) == 0);
+  CHECK(csv.rfind("frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit\n", 0) == 0);
   // A peak trace meets both the quasi-peak and the average line: two rows per point.
   CHECK(std::count(csv.begin(), csv.end(), '\n') == 1 + 2 * 400);
   CHECK_FALSE(has_temporary_files(dir));
@@ -232,7 +232,9 @@ TEST_CASE("compare: bad input -> exit 2, message on stderr, nothing written") {
   write_text(dir / "good.csv", trace_csv(30.0, 30.0));
   r = run(dir, "compare good.csv --limits no-such-limits --csv m.csv");
   CHECK(r.exit_code == 2);
-  CHECK(r.err == "spurcast: error: cannot find limit file \"no-such-limits\" here or in " + source_dir + "/limits\n");
+  // The executable finds its data beside itself: the build's copy in <build>/share/spurcast.
+  const std::string shipped_limits = (fs::path(SPURCAST_EXECUTABLE).parent_path() / "share/spurcast/limits").string();
+  CHECK(r.err == "spurcast: error: cannot find limit file \"no-such-limits\" here or in " + shipped_limits + "\n");
   CHECK_FALSE(fs::exists(dir / "m.csv"));
 
   r = run(dir, "compare good.csv --limits cispr32-class-b-conducted --guard 6V --csv m.csv");

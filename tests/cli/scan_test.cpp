@@ -96,7 +96,7 @@ TEST_CASE("scan: bad input exits with code 2, a precise message and no file") {
   write_scenario(dir);
   const RunResult step = run(dir, "scan square.toml --band B --step 5kHz --csv scan.csv");
   CHECK(step.exit_code == 2);
-  CHECK(step.err == "spurcast: error: expected a step of at most 4.5 kHz (half the 9 kHz bandwidth of band B), found 5 kHz\n");
+  CHECK(step.err == "spurcast: error: --step: expected a step of at most 4.5 kHz (half the 9 kHz bandwidth of band B), found 5 kHz\n");
   CHECK_FALSE(fs::exists(dir / "scan.csv"));
   const RunResult outside = run(dir, "scan square.toml --band B --frequencies 31MHz");
   CHECK(outside.exit_code == 2);

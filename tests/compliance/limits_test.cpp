@@ -159,14 +159,14 @@ TEST_CASE("CISPR 32 radiated files hold the values of their tables") {
 }
 
 TEST_CASE("every shipped file loads and carries its source and confidence") {
-  const auto files = shipped_limit_files();
+  const auto files = shipped_limit_files(locate_shipped_data());
   CHECK(files.size() >= 10);
   for (const char* stem : {"cispr11-group1-class-a-conducted", "cispr11-group1-class-b-conducted",
                            "cispr32-class-a-conducted", "cispr32-class-b-conducted", "cispr32-class-a-radiated-3m",
                            "cispr32-class-a-radiated-10m", "cispr32-class-b-radiated-3m", "cispr32-class-b-radiated-10m",
                            "fcc15-107-class-a-conducted", "fcc15-107-class-b-conducted"}) {
     CAPTURE(stem);
-    CHECK(std::find(files.begin(), files.end(), shipped_limits_directory() + "/" + stem + ".toml") != files.end());
+    CHECK(std::find(files.begin(), files.end(), locate_shipped_data().limits_directory() + "/" + stem + ".toml") != files.end());
   }
   for (const std::string& file : files) {
     CAPTURE(file);
@@ -266,11 +266,14 @@ segment = [ { from = "150 kHz", to = "30 MHz", level = "40 dBuV" } ]
 )",
                                             "scenario.toml");
   TableReader reader(table, "scenario.toml", "limits");
-  const LimitsSpec spec = read_limits_section(reader, "/nonexistent-folder");
+  const LimitsSpec spec = read_limits_section(reader, "/nonexistent-folder", locate_shipped_data());
   const double tol_db = 1e-9;
   CHECK(std::abs(spec.guard_db - 4.0) < tol_db);
   REQUIRE(spec.sets.size() == 3);
   CHECK(spec.sets[0].name == "CISPR 32 class B, AC mains port");
+  // A shipped file is named by its place in the data folder, never by the folder itself.
+  CHECK(spec.sets[0].file == "<shipped>/limits/cispr32-class-b-conducted.toml");
+  CHECK(spec.sets[2].file.empty());
   CHECK(spec.sets[1].name == "FCC Part 15 class A, AC power line (15.107(b))");
   CHECK(spec.sets[2].name == "customer spec");
   CHECK(spec.sets[2].lines.size() == 2);
@@ -279,24 +282,24 @@ segment = [ { from = "150 kHz", to = "30 MHz", level = "40 dBuV" } ]
   const toml::table defaults = parse_toml_text("files = []\n", "s.toml");
   TableReader default_reader(defaults, "s.toml", "limits");
   // A 6 dB pre-compliance margin is common practice (docs/references.md §7).
-  CHECK(std::abs(read_limits_section(default_reader, ".").guard_db - 6.0) < tol_db);
+  CHECK(std::abs(read_limits_section(default_reader, ".", locate_shipped_data()).guard_db - 6.0) < tol_db);
 
   const toml::table missing = parse_toml_text("files = [\"a.toml\", \"no-such-line\"]\n", "m.toml");
   TableReader missing_reader(missing, "m.toml", "limits");
-  CHECK_THROWS_WITH_AS((void)read_limits_section(missing_reader, source_dir + "/tests/data/limits"),
+  CHECK_THROWS_WITH_AS((void)read_limits_section(missing_reader, source_dir + "/tests/data/limits", locate_shipped_data()),
                        ("m.toml:1:10: cannot find limit file \"a.toml\" in the scenario's folder or in " +
-                        shipped_limits_directory()).c_str(),
+                        locate_shipped_data().limits_directory()).c_str(),
                        Error);
 
   const toml::table unknown = parse_toml_text("gaurd = \"3 dB\"\n", "u.toml");
   TableReader unknown_reader(unknown, "u.toml", "limits");
-  CHECK_THROWS_WITH_AS((void)read_limits_section(unknown_reader, "."),
+  CHECK_THROWS_WITH_AS((void)read_limits_section(unknown_reader, ".", locate_shipped_data()),
                        "u.toml:1:1: unknown key 'gaurd' in [limits]; did you mean 'guard'?", Error);
 
   // A file next to the scenario is found before the shipped ones.
   const toml::table local = parse_toml_text("files = [\"overlapping.toml\"]\n", "l.toml");
   TableReader local_reader(local, "l.toml", "limits");
-  CHECK_THROWS_WITH_AS((void)read_limits_section(local_reader, source_dir + "/tests/data/limits"),
+  CHECK_THROWS_WITH_AS((void)read_limits_section(local_reader, source_dir + "/tests/data/limits", locate_shipped_data()),
                        (source_dir + "/tests/data/limits/overlapping.toml:12:12: overlapping segments: this one "
                                      "starts at 3 MHz, inside the previous one (150 kHz to 5 MHz)").c_str(),
                        Error);

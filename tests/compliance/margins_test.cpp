@@ -96,10 +96,12 @@ TEST_CASE("margins of receiver readings against CISPR 32 class B") {
 
 TEST_CASE("verdict over a report: pass and marginal") {
   const double guard_db = 6.0;
-  const MarginReport pass = compare_with_limits({{1e6, Detector::quasi_peak, 50.0}}, {class_b()}, {.guard_db = guard_db});
+  // Both lines of class B get a reading (a line without one would make the verdict incomplete).
+  const MarginReport pass = compare_with_limits(
+      {{1e6, Detector::quasi_peak, 50.0}, {1e6, Detector::average, 40.0}}, {class_b()}, {.guard_db = guard_db});
   CHECK(pass.verdict == Verdict::pass);  // margin 6 dB = guard
-  const MarginReport marginal =
-      compare_with_limits({{1e6, Detector::quasi_peak, 50.5}}, {class_b()}, {.guard_db = guard_db});
+  const MarginReport marginal = compare_with_limits(
+      {{1e6, Detector::quasi_peak, 50.5}, {1e6, Detector::average, 40.0}}, {class_b()}, {.guard_db = guard_db});
   CHECK(marginal.verdict == Verdict::marginal);
   CHECK_THROWS_WITH_AS((void)compare_with_limits({}, {class_b()}, {.guard_db = -1.0}),
                        "expected a guard band of 0 dB or more, found -1 dB", Error);
@@ -121,8 +123,8 @@ TEST_CASE("margins CSV columns (docs/design.md §4)") {
   const MarginReport report = compare_with_limits({{250e3, Detector::quasi_peak, 60.0}}, {class_b()});
   // 61.76 dBµV at 250 kHz, docs/references.md §3.2.
   CHECK(margins_csv(report) ==
-        "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit\n"
-        "250000,quasi-peak,60.00,61.76,1.76,\"CISPR 32 class B, AC mains port / quasi-peak\"\n");
+        "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit\n"
+        "250000,quasi-peak,60.00,61.76,1.76,\"CISPR 32 class B, AC mains port / quasi-peak\",dB\xC2\xB5V\n");
   CHECK(csv_field("a\"b") == "\"a\"\"b\"");
 }
 
@@ -158,4 +160,62 @@ TEST_CASE("closest rows: local minima of the margin only (the tips of emissions)
   // Without the filter the shoulders of the first emission crowd the list.
   const MarginReport crowded = compare_with_limits(readings, {class_b()}, {.closest_count = 2});
   CHECK(std::abs(crowded.closest[1].frequency_hz - crowded.closest[0].frequency_hz) < 7e3);
+}
+
+TEST_CASE("a limit is compared only with a reading of its own quantity and distance") {
+  // CISPR 32 class B radiated at 10 m: 30 dBµV/m QP at 30-230 MHz (docs/references.md §3.4).
+  const LimitSet radiated = read_limit_file(source_dir + "/limits/cispr32-class-b-radiated-10m.toml");
+  const double tol_db = 1e-9;
+  // A LISN voltage at 50 MHz is never compared with a field line: the line is not computed.
+  const MarginReport voltage = compare_with_limits({{50e6, Detector::quasi_peak, 78.78}}, {radiated});
+  CHECK(voltage.rows.empty());
+  CHECK(voltage.verdict == Verdict::incomplete);
+  REQUIRE(voltage.not_computed.size() == 1);
+  CHECK(voltage.not_computed[0].reason ==
+        "no quasi-peak reading of the radiated-field estimate at 10 m falls on this line");
+  // A field reading at another distance is not compared either (the field falls with distance).
+  const MarginReport at_3m = compare_with_limits(
+      {{50e6, Detector::quasi_peak, 20.0, LimitQuantity::radiated_field, 3.0}}, {radiated});
+  CHECK(at_3m.rows.empty());
+  CHECK(at_3m.verdict == Verdict::incomplete);
+  // A field reading at 10 m is compared, and the row says what it compares.
+  const MarginReport field = compare_with_limits(
+      {{50e6, Detector::quasi_peak, 20.0, LimitQuantity::radiated_field, 10.0}}, {radiated});
+  REQUIRE(field.rows.size() == 1);
+  CHECK(std::abs(field.rows[0].margin_db - 10.0) < tol_db);
+  CHECK(row_unit_symbol(field.rows[0]) == "dB\xC2\xB5V/m");
+  CHECK(field.verdict == Verdict::pass);
+  CHECK(margins_csv(field).find(",dB\xC2\xB5V/m\n") != std::string::npos);
+  // A conducted reading still meets the conducted set beside the radiated one.
+  const MarginReport both = compare_with_limits(
+      {{1e6, Detector::quasi_peak, 40.0}, {1e6, Detector::average, 30.0}}, {class_b(), radiated});
+  CHECK(both.rows.size() == 2);
+  CHECK(both.verdict == Verdict::incomplete);  // the radiated line has no reading
+}
+
+TEST_CASE("unread ranges make the verdict incomplete, a failure stays a failure, no sets is no limits") {
+  const std::vector<LevelReading> low{{200e3, Detector::quasi_peak, 30.0}, {200e3, Detector::average, 20.0}};
+  MarginOptions options;
+  options.unread = {{LimitQuantity::conducted_voltage, 480.75e3, 30e6, "the record stops at 480.75 kHz"}};
+  const MarginReport report = compare_with_limits(low, {class_b()}, options);
+  CHECK(report.verdict == Verdict::incomplete);
+  CHECK(to_string(report.verdict) == "incomplete");
+  // One part per line, merged over the line's segments (0.15-0.5, 0.5-5, 5-30 MHz).
+  REQUIRE(report.not_computed.size() == 2);
+  const double tol_hz = 1e-3;
+  CHECK(std::abs(report.not_computed[0].from_hz - 480.75e3) < tol_hz);
+  CHECK(std::abs(report.not_computed[0].to_hz - 30e6) < tol_hz);
+  CHECK(describe(report.not_computed[0]) ==
+        "480.75 kHz-30 MHz of CISPR 32 class B, AC mains port / quasi-peak: the record stops at 480.75 kHz");
+  // An unread range of another quantity does not touch a conducted line.
+  MarginOptions field_only;
+  field_only.unread = {{LimitQuantity::radiated_field, 150e3, 30e6, "not estimated"}};
+  CHECK(compare_with_limits(low, {class_b()}, field_only).verdict == Verdict::pass);
+  // A negative margin is a fact whatever else was not read.
+  const MarginReport failing = compare_with_limits({{200e3, Detector::quasi_peak, 80.0}}, {class_b()}, options);
+  CHECK(failing.verdict == Verdict::fail);
+  // No limit lines: nothing can pass.
+  const MarginReport none = compare_with_limits(low, {});
+  CHECK(none.verdict == Verdict::no_limits);
+  CHECK(to_string(none.verdict) == "no limits");
 }

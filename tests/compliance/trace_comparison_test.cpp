@@ -64,6 +64,7 @@ double worst_of(const CompareResult& r, Detector d) {
 
 TEST_CASE("compare_trace: a 51 dBuV peak at 1 MHz against CISPR 32 class B") {
   CompareRequest request;
+  request.data = locate_shipped_data();
   request.trace_file = write_trace("fail.csv", 30.0, 51.0);
   request.limit_files = {"cispr32-class-b-conducted"};
   request.prediction_file = write_text("scan.csv", "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv\n1000000,48,45,41\n");
@@ -84,6 +85,7 @@ TEST_CASE("compare_trace: a 51 dBuV peak at 1 MHz against CISPR 32 class B") {
 
 TEST_CASE("compare_trace: corrections add to the reading, dBm converts for 50 ohm") {
   CompareRequest request;
+  request.data = locate_shipped_data();
   request.trace_file = write_trace("pass.csv", 30.0, 40.0);
   request.limit_files = {"cispr32-class-b-conducted"};
   const CompareResult plain = compare_trace(request);
@@ -94,6 +96,8 @@ TEST_CASE("compare_trace: corrections add to the reading, dBm converts for 50 oh
   CHECK(std::abs(worst_of(corrected, Detector::average) - (worst_of(plain, Detector::average) - 10.0)) < tol_db);
 
   CompareRequest dbm;
+
+  dbm.data = locate_shipped_data();
   const double dbuv_per_dbm = 90.0 + 10.0 * std::log10(50.0);  // 1 mW into 50 ohm is 0.2236 V: 106.99 dBuV
   dbm.trace_file = write_trace("dbm.csv", 30.0 - dbuv_per_dbm, 51.0 - dbuv_per_dbm, "frequency_hz,level_dbm");
   dbm.limit_files = {"cispr32-class-b-conducted"};
@@ -104,6 +108,7 @@ TEST_CASE("compare_trace: corrections add to the reading, dBm converts for 50 oh
 
 TEST_CASE("compare_trace: a non-peak trace is compared only with its own detector's line") {
   CompareRequest request;
+  request.data = locate_shipped_data();
   request.trace_file = write_trace("av.csv", 20.0, 35.0);
   request.limit_files = {"cispr32-class-b-conducted"};
   request.detector = Detector::average;
@@ -115,6 +120,7 @@ TEST_CASE("compare_trace: a non-peak trace is compared only with its own detecto
 
 TEST_CASE("compare_trace errors") {
   CompareRequest request;
+  request.data = locate_shipped_data();
   request.trace_file = write_trace("good.csv", 30.0, 40.0);
   request.limit_files = {"cispr32-class-b-conducted", "cispr32-class-b-radiated-3m"};
   CHECK_THROWS_WITH_AS(compare_trace(request), "expected limit files of one unit, found dB\xC2\xB5V and dB\xC2\xB5V/m", Error);

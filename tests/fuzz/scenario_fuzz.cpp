@@ -10,10 +10,12 @@
 #include "core/chain/scenario.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
+  // Shipped names resolve in the build folder's copy of the data (looked up once per process).
+  static const spurcast::ShippedData shipped = spurcast::locate_shipped_data();
   const std::string_view text(reinterpret_cast<const char*>(data), size);
   try {
     // A folder that does not exist: relative file names in the input resolve to nothing.
-    (void)spurcast::scenario_from_text(text, "fuzz.toml", "/nonexistent-spurcast-fuzz");
+    (void)spurcast::scenario_from_text(text, "fuzz.toml", "/nonexistent-spurcast-fuzz", shipped);
   } catch (const spurcast::Error&) {
   }
   return 0;

@@ -38,6 +38,7 @@ CompareResult failing_result() {
     trace += fmt::format("{:.10g},{}\n", f, i == 80 ? 51.0 : 30.0);
   }
   CompareRequest request;
+  request.data = locate_shipped_data();
   request.trace_file = write_file("trace.csv", trace);
   request.limit_files = {"cispr32-class-b-conducted"};
   const double emission_hz = 150e3 * std::pow(200.0, 80 / 199.0);
@@ -84,5 +85,5 @@ TEST_CASE("compare_text: verdict with the worst margin, the files, and the closi
 TEST_CASE("the margins CSV beside them has the interface columns") {
   const CompareResult r = failing_result();
   const std::string csv = margins_csv(r.report);
-  CHECK(csv.substr(0, csv.find('\n')) == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit");
+  CHECK(csv.substr(0, csv.find('\n')) == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit");
 }

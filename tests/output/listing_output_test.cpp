@@ -22,7 +22,7 @@ namespace {
 constexpr double tol_db = 1e-9;  // [dB]
 constexpr double tol_hz = 1e-6;  // [Hz]
 
-LimitSet cispr32_class_b() { return read_limit_file(shipped_limits_directory() + "/cispr32-class-b-conducted.toml"); }
+LimitSet cispr32_class_b() { return read_limit_file(locate_shipped_data().limits_directory() + "/cispr32-class-b-conducted.toml"); }
 
 }  // namespace
 
@@ -56,7 +56,7 @@ TEST_CASE("limit_set_text: name, quantity, detectors, range, source and confiden
 }
 
 TEST_CASE("band plans: the Region 1 MW band in JSON and text") {
-  const BandPlan plan = load_region_band_plan(1);
+  const BandPlan plan = load_region_band_plan(1, locate_shipped_data());
   const nlohmann::json j = nlohmann::json::parse(band_plans_json({plan}));
   REQUIRE(j.size() == 1);
   CHECK(j[0]["region"] == 1);

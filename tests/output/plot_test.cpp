@@ -2,6 +2,8 @@
 // reduction of long curves, and that every SVG is well-formed XML (Debian's Python xml.etree).
 #include <doctest/doctest.h>
 
+#include <limits>
+
 #include <unistd.h>
 
 #include <algorithm>
@@ -211,6 +213,14 @@ TEST_CASE("every plot is well-formed XML, text is escaped, and bad input is refu
   SpectrumPlot tiny = plot;
   tiny.width_px = 100;
   CHECK_THROWS_WITH_AS((void)spectrum_plot_svg(tiny), "plot size must be between 240 x 160 and 20000 x 20000 px", Error);
+  // A level axis without end (issue 14: predict with levels of +inf never finished its tick loop):
+  // an error, whatever the range. IEEE 754: inf - x = inf, and 1e300 + 5 == 1e300 in double.
+  SpectrumPlot endless = plot;
+  endless.y_min = 0.0;
+  endless.y_max = std::numeric_limits<double>::infinity();
+  CHECK_THROWS_WITH_AS((void)spectrum_plot_svg(endless), "plot level axis from 0 to inf is not a finite range of at most 1000 ticks", Error);
+  endless.y_max = 1e300;
+  CHECK_THROWS_WITH_AS((void)spectrum_plot_svg(endless), "plot level axis from 0 to 1e+300 is not a finite range of at most 1000 ticks", Error);
 
   if (!have_python()) {
     MESSAGE("skipped the XML parse: /usr/bin/python3 not found");

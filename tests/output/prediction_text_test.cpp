@@ -11,6 +11,7 @@
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/output/prediction_text.hpp"
+#include "core/output/report.hpp"
 
 using namespace spurcast;
 
@@ -18,7 +19,7 @@ namespace {
 
 const Prediction& example_prediction() {
   static const Prediction prediction =
-      predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml"));
+      predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data()));
   return prediction;
 }
 
@@ -29,8 +30,11 @@ TEST_CASE("prediction_summary: verdict, worst margin and band lines from the pre
   REQUIRE(p.margins.worst.has_value());
   const std::string text = prediction_summary(p, "out", false);
   CHECK(text.rfind(p.scenario.title + "\n", 0) == 0);
-  CHECK(text.find(fmt::format("verdict: {} (worst margin {:.2f} dB, guard 6 dB)\n", to_string(p.verdict),
-                              p.margins.worst->margin_db)) != std::string::npos);
+  // The verdict line carries the report's verdict sentence (what was not computed first, then the
+  // worst margin); the greenhouse example fails, everything computed.
+  CHECK(text.find("verdict: " + to_string(p.verdict) + " (" + verdict_sentence(p) + ")\n") != std::string::npos);
+  CHECK(text.find(fmt::format("verdict: fail (a limit is exceeded: worst margin \xE2\x88\x92{:.2f} dB (",
+                              -p.margins.worst->margin_db)) != std::string::npos);
   CHECK(text.find("\nworst margin per detector of the limit line:\n") != std::string::npos);
   CHECK(text.find("\nfive worst frequencies:\n") != std::string::npos);
   for (const BandReception& b : p.reception) CHECK(text.find("\n  " + b.band.name + " ") != std::string::npos);

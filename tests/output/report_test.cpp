@@ -129,6 +129,13 @@ std::vector<std::string> lines_of(const std::string& text) {
   return lines;
 }
 
+/// "15.4 dB over the envelope": the marker text for an excess.
+std::string fmt_excess(double excess_db) {
+  char text[64];
+  std::snprintf(text, sizeof text, "%.1f dB over the envelope", excess_db);
+  return text;
+}
+
 bool have_python() { return ::access(python.c_str(), X_OK) == 0; }
 
 /// Runs the HTML check; returns its stdout (JSON) or "" on failure.
@@ -187,11 +194,11 @@ TEST_CASE("source_spectrum.csv carries Paul's trapezoid envelope") {
 TEST_CASE("scan.csv: one ascending list over the bands; 30 MHz once, from band B") {
   const std::vector<std::string> lines = lines_of(scan_csv(hand_prediction()));
   REQUIRE(lines.size() == 5);
-  CHECK(lines[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
-  CHECK(lines[1] == "1000000.0,58.00,55.00,44.00");
-  CHECK(lines[2] == "2000000.0,50.00,48.00,45.00");
-  CHECK(lines[3] == "30000000.0,30.00,29.00,28.00");  // CISPR 16-1-1: 30 MHz is the top of band B
-  CHECK(lines[4] == "31000000.0,20.00,19.00,18.00");
+  CHECK(lines[0] == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor");
+  CHECK(lines[1] == "1000000.0,58.00,55.00,44.00,");
+  CHECK(lines[2] == "2000000.0,50.00,48.00,45.00,");
+  CHECK(lines[3] == "30000000.0,30.00,29.00,28.00,");  // CISPR 16-1-1: 30 MHz is the top of band B
+  CHECK(lines[4] == "31000000.0,20.00,19.00,18.00,");
 }
 
 TEST_CASE("summary.json: the keys of docs/design.md section 4 and values as the CSVs print them") {
@@ -289,7 +296,7 @@ TEST_CASE("the files of a report are byte-reproducible and summary.json comes la
 }
 
 TEST_CASE("the real chain on the greenhouse example: summary.json agrees with margins.csv and bands.csv") {
-  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml");
+  const Scenario scenario = load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data());
   const Prediction p = predict(scenario);
   const nlohmann::json j = nlohmann::json::parse(summary_json(p, {}));
   // Smallest margin_db per line detector, read back from the margins CSV text.
@@ -305,7 +312,7 @@ TEST_CASE("the real chain on the greenhouse example: summary.json agrees with ma
       else cell += ch;
     }
     cells.push_back(cell);
-    REQUIRE(cells.size() == 6);
+    REQUIRE(cells.size() == 7);
     const std::string line_detector = cells[5].substr(cells[5].rfind("/ ") + 2);
     const double margin = std::stod(cells[4]);
     if (!smallest.count(line_detector) || margin < smallest[line_detector]) smallest[line_detector] = margin;
@@ -323,4 +330,32 @@ TEST_CASE("the real chain on the greenhouse example: summary.json agrees with ma
     CHECK(band_rows[i + 1].find(expected) != std::string::npos);
     CHECK(band_rows[i + 1].find("," + j.at("bands")[i].at("verdict").get<std::string>() + ",") != std::string::npos);
   }
+}
+
+TEST_CASE("the source plot labels the plain trapezoid's envelope and marks the ringing harmonics above it") {
+  // Without ringing every harmonic lies under the envelope of the plain trapezoid (C. R. Paul §3.2,
+  // checked above): no trace of harmonics above it, no marker.
+  const SpectrumPlot plain = source_plot(hand_prediction());
+  REQUIRE(plain.traces.size() == 2);
+  CHECK(plain.traces[1].label == "plain trapezoid's envelope (no ringing)");
+  CHECK(plain.markers.empty());
+  // The greenhouse example rings at 85 MHz: its harmonics there stand above the envelope, each such
+  // line is in the "above" trace (checked against the envelope formula at the same frequency), and the
+  // largest excess is marked with its value.
+  const Prediction p = predict(load_scenario(std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml", locate_shipped_data()));
+  const SpectrumPlot ringing = source_plot(p);
+  REQUIRE(ringing.traces.size() == 3);
+  const PlotTrace& above = ringing.traces[2];
+  CHECK(above.label == "above the plain trapezoid's envelope (ringing)");
+  REQUIRE_FALSE(above.frequency_hz.empty());
+  const SwitchingSpec& spec = *p.scenario.switching;
+  double largest_db = 0.0;
+  for (std::size_t i = 0; i < above.frequency_hz.size(); ++i) {
+    const double excess_db = above.level[i] - volts_to_dbuv(trapezoid_envelope_rms(spec, spec.amplitude_v, above.frequency_hz[i]));
+    CHECK(excess_db > 0.0);
+    largest_db = std::max(largest_db, excess_db);
+  }
+  REQUIRE(ringing.markers.size() == 1);
+  CHECK(ringing.markers[0].label == fmt_excess(largest_db));
+  CHECK(ringing.marker_legend == "largest excess over the envelope");
 }

@@ -28,12 +28,12 @@ constexpr double csv_margin_resolution_db = 0.005 + 1e-12;  // [dB] 2 decimals, 
 const SweepResult& example_sweep() {
   static const SweepResult result = [] {
     const std::string file = std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml";
-    const toml::table table = parse_toml_file(file);
+    const toml::table table = parse_toml_file(file, "scenario file");
     SweepOptions options;
     options.axes.push_back(make_axis(table, parse_vary("switching.frequency=300kHz:500kHz:5")));
     options.criteria.push_back(parse_window_criterion("MW"));
     options.threads = 2;
-    return run_sweep(table, file, std::string(SPURCAST_SOURCE_DIR) + "/examples", options);
+    return run_sweep(table, file, std::string(SPURCAST_SOURCE_DIR) + "/examples", locate_shipped_data(), options);
   }();
   return result;
 }

@@ -82,7 +82,7 @@ std::vector<ChannelHit> brute_force_hits(const Band& band, const std::vector<Spe
 TEST_CASE("shipped band plans load and carry their sources") {
   for (int region = 1; region <= 3; ++region) {
     CAPTURE(region);
-    const BandPlan plan = load_region_band_plan(region);
+    const BandPlan plan = load_region_band_plan(region, locate_shipped_data());
     CHECK(plan.region == region);
     CHECK_FALSE(plan.source.empty());
     for (const Band& band : plan.bands) {
@@ -96,9 +96,9 @@ TEST_CASE("shipped band plans load and carry their sources") {
 }
 
 TEST_CASE("LW and MW edges and rasters (ITU RR Article 5, docs/references.md §4.1)") {
-  const BandPlan r1 = load_region_band_plan(1);
-  const BandPlan r2 = load_region_band_plan(2);
-  const BandPlan r3 = load_region_band_plan(3);
+  const BandPlan r1 = load_region_band_plan(1, locate_shipped_data());
+  const BandPlan r2 = load_region_band_plan(2, locate_shipped_data());
+  const BandPlan r3 = load_region_band_plan(3, locate_shipped_data());
   // LW, Region 1 only: 148.5-283.5 kHz (148.5 kHz from RR 5.64; 283.5 kHz from memory), carriers
   // on 9 kHz, 153-279 kHz (from memory).
   const Band& lw = band_named(r1, "LW");
@@ -148,7 +148,7 @@ TEST_CASE("HF broadcasting bands (ITU RR Article 5 after WRC-97/03/07/12, docs/r
                          {"16 m", 17480, 17900},  {"15 m", 18900, 19020},  {"13 m", 21450, 21850},
                          {"11 m", 25670, 26100}};
   for (int region = 1; region <= 3; ++region) {
-    const BandPlan plan = load_region_band_plan(region);
+    const BandPlan plan = load_region_band_plan(region, locate_shipped_data());
     for (const Edge& edge : common) {
       CAPTURE(region);
       CAPTURE(edge.name);
@@ -162,19 +162,19 @@ TEST_CASE("HF broadcasting bands (ITU RR Article 5 after WRC-97/03/07/12, docs/r
   }
   // 41 m: 7200-7450 kHz in Regions 1 and 3, only 7300-7400 kHz in all regions; 75 m: Regions 1 and 3,
   // 3900-3950 kHz Region 3 only.
-  CHECK(band_named(load_region_band_plan(1), "41 m").low_hz == doctest::Approx(7200e3));
-  CHECK(band_named(load_region_band_plan(1), "41 m").high_hz == doctest::Approx(7450e3));
-  CHECK(band_named(load_region_band_plan(2), "41 m").low_hz == doctest::Approx(7300e3));
-  CHECK(band_named(load_region_band_plan(2), "41 m").high_hz == doctest::Approx(7400e3));
-  CHECK(band_named(load_region_band_plan(1), "75 m").low_hz == doctest::Approx(3950e3));
-  CHECK(band_named(load_region_band_plan(3), "75 m").low_hz == doctest::Approx(3900e3));
-  CHECK_FALSE(plan_has(load_region_band_plan(2), "75 m"));
+  CHECK(band_named(load_region_band_plan(1, locate_shipped_data()), "41 m").low_hz == doctest::Approx(7200e3));
+  CHECK(band_named(load_region_band_plan(1, locate_shipped_data()), "41 m").high_hz == doctest::Approx(7450e3));
+  CHECK(band_named(load_region_band_plan(2, locate_shipped_data()), "41 m").low_hz == doctest::Approx(7300e3));
+  CHECK(band_named(load_region_band_plan(2, locate_shipped_data()), "41 m").high_hz == doctest::Approx(7400e3));
+  CHECK(band_named(load_region_band_plan(1, locate_shipped_data()), "75 m").low_hz == doctest::Approx(3950e3));
+  CHECK(band_named(load_region_band_plan(3, locate_shipped_data()), "75 m").low_hz == doctest::Approx(3900e3));
+  CHECK_FALSE(plan_has(load_region_band_plan(2, locate_shipped_data()), "75 m"));
 }
 
 TEST_CASE("VHF FM edges and rasters (docs/references.md §4.3)") {
-  const BandPlan r1 = load_region_band_plan(1);
-  const BandPlan r2 = load_region_band_plan(2);
-  const BandPlan r3 = load_region_band_plan(3);
+  const BandPlan r1 = load_region_band_plan(1, locate_shipped_data());
+  const BandPlan r2 = load_region_band_plan(2, locate_shipped_data());
+  const BandPlan r3 = load_region_band_plan(3, locate_shipped_data());
   const Band& fm1 = band_named(r1, "FM");
   CHECK(fm1.low_hz == doctest::Approx(87.5e6));
   CHECK(fm1.high_hz == doctest::Approx(108e6));
@@ -199,9 +199,9 @@ TEST_CASE("VHF FM edges and rasters (docs/references.md §4.3)") {
 }
 
 TEST_CASE("band-plan membership (docs/references.md §10 item 28)") {
-  const BandPlan r1 = load_region_band_plan(1);
-  const BandPlan r2 = load_region_band_plan(2);
-  const BandPlan r3 = load_region_band_plan(3);
+  const BandPlan r1 = load_region_band_plan(1, locate_shipped_data());
+  const BandPlan r2 = load_region_band_plan(2, locate_shipped_data());
+  const BandPlan r3 = load_region_band_plan(3, locate_shipped_data());
   // 1 MHz ∈ MW in every region.
   for (const BandPlan* plan : {&r1, &r2, &r3}) CHECK(contains_name(bands_containing(*plan, 1e6), "MW"));
   // 1.62 MHz ∈ MW only in Region 2.
@@ -225,7 +225,7 @@ TEST_CASE("band-plan membership (docs/references.md §10 item 28)") {
 }
 
 TEST_CASE("a 100 kHz source puts a line on every 10th Region 2 MW channel centre (hand-computed)") {
-  const Band mw = band_named(load_region_band_plan(2), "MW");
+  const Band mw = band_named(load_region_band_plan(2, locate_shipped_data()), "MW");
   std::vector<SpectralLine> lines;
   for (int k = 1; k <= 40; ++k) lines.push_back({k * 100e3, 60.0 - k});
   const BandOccupancy occupancy = map_lines_to_band(mw, lines);
@@ -264,7 +264,7 @@ TEST_CASE("a 100 kHz source puts a line on every 10th Region 2 MW channel centre
 }
 
 TEST_CASE("a line between two Region 2 MW channels is heard in both, at -7.4 dB (docs/references.md §5.5)") {
-  const Band mw = band_named(load_region_band_plan(2), "MW");  // 10 kHz raster, 9 kHz receiver
+  const Band mw = band_named(load_region_band_plan(2, locate_shipped_data()), "MW");  // 10 kHz raster, 9 kHz receiver
   // A brick-wall 9 kHz passband heard nothing of 1045 kHz (5 kHz from 1040 and from 1050 kHz). A 9 kHz
   // Gaussian passes a line 5 kHz off centre at −7.43 dB [D]: 20·log10(2^(−(10/9)²)).
   const double expected_db = 20.0 * std::log10(std::pow(2.0, -(10.0 / 9.0) * (10.0 / 9.0)));
@@ -317,7 +317,7 @@ TEST_CASE("lines in one passband are power-summed through the response: the ener
 }
 
 TEST_CASE("fast mapping agrees with the brute-force twin on a random spread spectrum") {
-  const Band mw = band_named(load_region_band_plan(1), "MW");
+  const Band mw = band_named(load_region_band_plan(1, locate_shipped_data()), "MW");
   std::mt19937 random(12345);
   std::uniform_real_distribution<double> frequency(400e3, 1700e3);
   std::uniform_real_distribution<double> level(-20.0, 60.0);
@@ -356,12 +356,12 @@ TEST_CASE("[broadcast] plan paths resolve against the scenario's folder; a missi
   const std::string folder = std::string(SPURCAST_SOURCE_DIR) + "/tests/data/bands";
   const toml::table table = parse_toml_text("plan = \"unknown_key.toml\"\n", folder + "/s.toml");
   TableReader reader(table, folder + "/s.toml", "broadcast");
-  const BroadcastSpec spec = read_broadcast_section(reader);
+  const BroadcastSpec spec = read_broadcast_section(reader, locate_shipped_data());
   CHECK(*spec.plan == folder + "/unknown_key.toml");
   const toml::table missing = parse_toml_text("plan = \"nowhere\"\n", "m.toml");
   TableReader missing_reader(missing, "m.toml", "broadcast");
-  CHECK_THROWS_WITH_AS((void)read_broadcast_section(missing_reader),
-                       ("m.toml:1:8: band plan not found: " + std::string(SPURCAST_LIMITS_DIR) + "/bands/nowhere.toml").c_str(),
+  CHECK_THROWS_WITH_AS((void)read_broadcast_section(missing_reader, locate_shipped_data()),
+                       ("m.toml:1:8: band plan not found: " + locate_shipped_data().bands_directory() + "/nowhere.toml").c_str(),
                        Error);
 }
 
@@ -387,7 +387,7 @@ TEST_CASE("[broadcast] section of a scenario") {
   SUBCASE("defaults") {
     const toml::table table = parse_toml_text("", "s.toml");
     TableReader reader(table, "s.toml", "broadcast");
-    const BroadcastSpec spec = read_broadcast_section(reader);
+    const BroadcastSpec spec = read_broadcast_section(reader, locate_shipped_data());
     CHECK(spec.region == 1);
     CHECK(spec.distance_m == doctest::Approx(3.0));
     CHECK(spec.cable_length_m == doctest::Approx(1.5));
@@ -414,7 +414,7 @@ modulation = "am"
 protection_ratio = "20 dB"
 )", "s.toml");
     TableReader reader(table, "s.toml", "broadcast");
-    const BroadcastSpec spec = read_broadcast_section(reader);
+    const BroadcastSpec spec = read_broadcast_section(reader, locate_shipped_data());
     CHECK(spec.region == 2);
     CHECK(spec.distance_m == doctest::Approx(10.0));
     CHECK(spec.cable_length_m == doctest::Approx(2.0));
@@ -429,7 +429,7 @@ protection_ratio = "20 dB"
     CHECK(dcf.channel_centres_hz() == std::vector<double>{77.5e3});  // no raster: one channel at the centre
     CHECK(dcf.wanted_field_dbuvm == doctest::Approx(60.0));          // AM default (BS.560)
     CHECK(dcf.protection_ratio_db == doctest::Approx(20.0));
-    const std::vector<Band> bands = bands_for(spec);
+    const std::vector<Band> bands = bands_for(spec, locate_shipped_data());
     CHECK(bands.back().name == "DCF77");
     CHECK(bands.front().name == "MW");
   }
@@ -444,7 +444,7 @@ protection_ratio = "20 dB"
     auto read = [](const std::string& text) {
       const toml::table table = parse_toml_text(text, "s.toml");
       TableReader reader(table, "s.toml", "broadcast");
-      return read_broadcast_section(reader);
+      return read_broadcast_section(reader, locate_shipped_data());
     };
     CHECK_THROWS_WITH_AS((void)read("region = 1\nenvironment = \"urban\"\n"),
                          "s.toml:2:15: expected one of city, residential, rural or quiet-rural, found \"urban\"", Error);

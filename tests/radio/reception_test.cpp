@@ -9,6 +9,7 @@
 #include <string>
 
 #include "core/radio/reception.hpp"
+#include "core/input/error.hpp"
 #include "core/input/units.hpp"
 
 using namespace spurcast;
@@ -39,7 +40,7 @@ double sinc(double x) { return x == 0.0 ? 1.0 : std::sin(std::numbers::pi * x) /
 }  // namespace
 
 TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (docs/references.md §5.2, §5.4)") {
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const Band& mw = band_named(bands, "MW");
   // At 999 kHz, residential, 9 kHz: ambient 72.5 − 27.7·log10(0.999) + 20·log10(0.999) + 39.54 − 95.5.
   const ChannelReception quiet = judge_channel(mw, 999e3, 10.0, Environment::residential);
@@ -56,7 +57,7 @@ TEST_CASE("AM channel thresholds: P.372 ambient and BS.560 60 dBuV/m - 40 dB (do
 }
 
 TEST_CASE("a whistle is heard under the noise: tone_audibility_db (docs/references.md §5.5, judgement)") {
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const Band& mw = band_named(bands, "MW");
   // 10 dBµV/m at 999 kHz is under the residential ambient (16.55 dBµV/m): clear as noise, but a steady
   // line there is a whistle, heard down to 16.55 − 10 = 6.55 dBµV/m.
@@ -78,7 +79,7 @@ TEST_CASE("a whistle is heard under the noise: tone_audibility_db (docs/referenc
 }
 
 TEST_CASE("FM: noisy above the BS.412 co-channel protection threshold (docs/references.md §5.1, from memory)") {
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const Band& fm = band_named(bands, "FM");
   // FM weak station 48 dBµV/m (BS.412 mono rural, from memory); protection 36 dB (mono steady, from
   // memory) -> 12 dBµV/m. Quiet rural at 98 MHz in 200 kHz: ambient under it.
@@ -101,7 +102,7 @@ TEST_CASE("FM: noisy above the BS.412 co-channel protection threshold (docs/refe
 
 TEST_CASE("bands CSV columns (docs/design.md §4)") {
   BroadcastSpec spec;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   // One 30 dBµV/m line at 999 kHz.
   const auto results = estimate_reception(bands, {{999e3, 30.0}}, spec);
   const std::string csv = bands_csv(results);
@@ -120,7 +121,7 @@ TEST_CASE("bands CSV columns (docs/design.md §4)") {
 
 TEST_CASE("worst channel: highest verdict first, then the largest excess over its noisy threshold") {
   BroadcastSpec spec;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   // 25 dBµV/m at 531 kHz (noisy) and 24 dBµV/m at 1602 kHz: both noisy; ambient is lower at
   // 1602 kHz but the noisy threshold is 20 dBµV/m for both, so 531 kHz is worse by 1 dB.
   const auto results = estimate_reception(bands, {{531e3, 25.0}, {1602e3, 24.0}}, spec);
@@ -134,7 +135,7 @@ TEST_CASE("from currents: the same as radiating first, then judging; each band h
   BroadcastSpec spec;
   RadiationSetup setup;
   setup.hot_loop_area_m2 = 4e-4;
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   RadiatorCurrents currents;
   currents.frequency_hz = {999e3, 6.1e6, 98e6};
   currents.cable_cm_per_conductor_a = {20e-6, 2e-6, 0.1e-6};
@@ -232,7 +233,7 @@ TEST_CASE("an observation of the trade: 17 kHz spikes -> MW disturbed, SW added 
     currents.cable_cm_per_conductor_a.push_back(piecewise_linear_rms(corners, slopes, 1.0 / f0_hz, n));
   }
   BroadcastSpec spec;  // region 1, 3 m, 1.5 m, residential
-  const std::vector<Band> bands = load_region_band_plan(1).bands;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
   const auto results = estimate_reception_from_currents(bands, spec, RadiationSetup{}, currents);
   for (const BandReception& result : results) {
     CAPTURE(result.band.name);
@@ -295,4 +296,45 @@ TEST_CASE("dither credit depends on the modulation rate against the channel band
   CHECK(std::abs(centre_level(300.0) - (40.0 - 5.0 * std::log10(1.0 + x300 * x300))) <= tol_spread_db);
   CHECK(centre_level(300.0) > 39.5);
   CHECK(sweep_peak_factor(0.0, b3) == doctest::Approx(1.0));
+}
+
+TEST_CASE("bands above the highest computed frequency are not computed, never clear") {
+  BroadcastSpec spec;
+  const std::vector<Band> bands = load_region_band_plan(1, locate_shipped_data()).bands;
+  // Lines computed up to 20 MHz (a 40 MS/s capture): 30 dBµV/m at 999 kHz (MW noisy, BS.560
+  // threshold 20 dBµV/m, docs/references.md §5.2), nothing else.
+  const auto results = estimate_reception(bands, {{999e3, 30.0}}, spec, 20e6);
+  CHECK(result_named(results, "LW").verdict == ReceptionVerdict::clear);  // wholly computed, silent
+  CHECK(result_named(results, "MW").verdict == ReceptionVerdict::noisy);
+  CHECK(result_named(results, "FM").verdict == ReceptionVerdict::not_computed);
+  CHECK(result_named(results, "11 m").verdict == ReceptionVerdict::not_computed);
+  CHECK(reception_verdict_name(ReceptionVerdict::not_computed) == "not computed");
+  const std::string csv = bands_csv(results);
+  CHECK(csv.find("\nFM,1,87500000,108000000,not computed,,,dB\xC2\xB5V/m\n") != std::string::npos);
+  // A band across the limit keeps what its computed part heard (a line at 19 MHz in the 15 m band,
+  // 18.9-19.02 MHz, computed up to 19.01 MHz), and says the rest was not computed.
+  const auto across = estimate_reception(bands, {{18.95e6, 60.0}}, spec, 19.01e6);
+  const BandReception& b15 = result_named(across, "15 m");
+  CHECK(b15.verdict == ReceptionVerdict::noisy);
+  CHECK(b15.caveats.back() == "not computed above 19.01 MHz: the source's lines stop there (a capture's Nyquist frequency)");
+}
+
+TEST_CASE("a dither spread too fine to hold is refused before allocation, at the dither key") {
+  // 8 % on a 110 Hz fundamental: the FM band's harmonics (87.5-108 MHz, about 186,000 of them) would
+  // each spread over 2·0.08·98 MHz / 1 kHz = 15,700 sub-lines (capped at 4000): far over 2^23.
+  std::vector<SpectralLine> lines;
+  for (double f = 87.5e6; f <= 108e6; f += 110.0) lines.push_back({f, 0.0});
+  DitherSpec dither;
+  dither.deviation_fraction = 0.08;
+  dither.rate_hz = 1e3;
+  CHECK_THROWS_AS((void)dithered_lines(lines, dither, 180e3), Error);
+  try {
+    (void)dithered_lines(lines, dither, 180e3);
+  } catch (const Error& e) {
+    CHECK(std::string(e.what()).find("more than the 8388608 of the broadcast estimate") != std::string::npos);
+  }
+  // A 400 kHz fundamental over the same band stays well inside.
+  std::vector<SpectralLine> coarse;
+  for (double f = 88e6; f <= 108e6; f += 400e3) coarse.push_back({f, 0.0});
+  CHECK(dithered_lines(coarse, dither, 180e3).size() < max_dithered_lines);
 }

@@ -269,6 +269,30 @@ TEST_CASE("two lines 3 kHz apart beat inside the 9 kHz bandwidth: PK reads their
   CHECK(std::abs(sampled.readings[0].average_db - exact.readings[0].average_db) < tol_db);
 }
 
+TEST_CASE("a reading that overflows is an error, never inf in a CSV or null in JSON (issue 14)") {
+  // Two lines of 1e308 V RMS: their peak phasors (sqrt(2) x 1e308) exceed the largest double
+  // (1.8e308, IEEE 754 binary64), so the sum the receiver reads is +inf. The inputs are bounded
+  // where they are read (max_amplitude_v); this is the receiver's own last line.
+  LineSpectrum lines;
+  lines.fundamental_hz = 1e3;
+  lines.harmonics.assign(1003, 0.0);
+  lines.harmonics[999] = 1e308;
+  lines.harmonics[1002] = 1e308;
+  ScanPlan plan;
+  plan.band = CisprBand::B;
+  plan.frequencies_hz = {1.0015e6};
+  CHECK_THROWS_WITH_AS((void)scan_lines(lines, plan),
+                       "the reading at 1.002 MHz is not a finite level (the inputs overflow the calculation): check the "
+                       "amplitudes, currents and component values",
+                       Error);
+  // The same lines at 1 MV (the bound) read finitely: 240 dBuV each, within the 20·log10 of their sum.
+  lines.harmonics[999] = 1e6;
+  lines.harmonics[1002] = 1e6;
+  const ScanResult finite = scan_lines(lines, plan);
+  CHECK(std::isfinite(finite.readings[0].peak_db));
+  CHECK(finite.readings[0].peak_db < volts_to_dbuv(2e6) + 0.01);
+}
+
 TEST_CASE("line path and sampled path agree within 0.5 dB on the same periodic source (slow twin)") {
   // A 2 kHz train of narrow pulses (flat lines over band B's first MHz, several in each passband)
   // and a 1 kHz square-ish wave with alternating phases: exact lines, and the same signal sampled
@@ -459,4 +483,37 @@ TEST_CASE("highest_reading and peak_maxima pick the highest reading and each lin
   CHECK(maxima[0].frequency_hz == doctest::Approx(3e6));  // the plateau counts at its last point
   CHECK(maxima[1].frequency_hz == doctest::Approx(6e6));
   CHECK(peak_maxima(result, 1).size() == 1);
+}
+
+TEST_CASE("the receiver's noise floor: default k·T0·B + noise figure, no reading below it, [receiver] noise_floor") {
+  // k·T0 = −174 dBm/Hz (common practice, T0 = 290 K); 1 mW into 50 Ω is 106.99 dBµV; noise bandwidth of the
+  // Gaussian IF 0.7527·B6 (docs/references.md §1.2); noise figure 20 dB (the module's judgement).
+  const double tol_db = 0.01;
+  CHECK(std::abs(default_noise_floor_dbuv(CisprBand::A) - (-174.0 + 106.99 + 10.0 * std::log10(0.7527 * 200.0) + 20.0)) < tol_db);
+  CHECK(std::abs(default_noise_floor_dbuv(CisprBand::B) - (-8.70)) < tol_db);
+  CHECK(std::abs(default_noise_floor_dbuv(CisprBand::C) - 2.55) < tol_db);
+
+  // One 40 dBµV line at 1 MHz (f0 = 1 MHz): on it every detector reads 40 dBµV (calibration, RMS);
+  // between lines the bare signal reads nothing, so the reading is the floor, never below.
+  LineSpectrum lines;
+  lines.fundamental_hz = 1e6;
+  lines.harmonics = {{dbuv_to_volts(40.0), 0.0}};
+  ScanPlan plan{.band = CisprBand::B, .frequencies_hz = {1e6, 1.5e6}};
+  const ScanResult bare = scan_lines(lines, plan);
+  CHECK(bare.readings[1].average_db <= level_floor_db);
+  plan.noise_floor_db = -8.7;
+  const ScanResult held = scan_lines(lines, plan);
+  CHECK(std::abs(held.readings[0].quasi_peak_db - 40.0) < tol_db);
+  CHECK_FALSE(at_noise_floor(held.readings[0].quasi_peak_db, held.noise_floor_db));
+  for (const Detector d : {Detector::peak, Detector::quasi_peak, Detector::average}) {
+    CHECK(std::abs(held.readings[1].level_db(d) - (-8.7)) < 1e-12);
+    CHECK(at_noise_floor(held.readings[1].level_db(d), held.noise_floor_db));
+  }
+
+  const ReceiverSpec spec = read_spec("[receiver]\nnoise_floor = \"-3 dBuV\"\n");
+  REQUIRE(spec.noise_floor_dbuv.has_value());
+  CHECK(std::abs(*spec.noise_floor_dbuv + 3.0) < 1e-12);
+  CHECK_FALSE(read_spec("[receiver]\n").noise_floor_dbuv.has_value());
+  CHECK_THROWS_WITH_AS((void)read_spec("[receiver]\nnoise_floor = \"-400 dBuV\"\n"),
+                       "scenario.toml:2:15: expected a noise floor from -60 dBµV to 60 dBµV, found -400 dBµV", Error);
 }

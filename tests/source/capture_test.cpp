@@ -63,7 +63,7 @@ TEST_CASE("bad-capture corpus: each defect gives its own exact message with file
   CHECK_THROWS_WITH_AS((void)load("empty.csv"), (corpus + "empty.csv: empty file, expected a time column and a value column").c_str(), Error);
   CHECK_THROWS_WITH_AS((void)load("header_only.csv"),
                        (corpus + "header_only.csv:2:1: expected a data line (time and value), found the end of the file").c_str(), Error);
-  CHECK_THROWS_WITH_AS((void)load("one_sample.csv"), (corpus + "one_sample.csv: expected at least 2 samples, found 1").c_str(), Error);
+  CHECK_THROWS_WITH_AS((void)load("one_sample.csv"), (corpus + "one_sample.csv:2:1: expected at least 2 samples, found 1").c_str(), Error);
   CHECK_THROWS_WITH_AS((void)load("nan.csv"), (corpus + "nan.csv:3:3: expected a finite number, found \"NaN\"").c_str(), Error);
   CHECK_THROWS_WITH_AS((void)load("text_cell.csv"), (corpus + "text_cell.csv:3:6: expected a number, found \"abc\"").c_str(), Error);
   CHECK_THROWS_WITH_AS((void)load("empty_cell.csv"), (corpus + "empty_cell.csv:3:6: expected a number, found an empty cell").c_str(), Error);
@@ -78,7 +78,7 @@ TEST_CASE("bad-capture corpus: each defect gives its own exact message with file
                        (corpus + "non_uniform.csv:5:1: non-uniform sampling: time is 500 ns off the uniform grid of 1 \xC2\xB5s "
                                  "steps (tolerance 100 ns); set resample = true (--resample) to resample it").c_str(), Error);
   CHECK_THROWS_WITH_AS((void)load("no_such_file.csv"),
-                       (corpus + "no_such_file.csv: cannot open the capture (no such file or directory)").c_str(), Error);
+                       (corpus + "no_such_file.csv: cannot open the capture file (no such file or directory)").c_str(), Error);
 }
 
 TEST_CASE("a 5 MB line is rejected with its length (generated, not committed)") {

@@ -158,7 +158,7 @@ TEST_CASE("input current uses the same timing with the current amplitude and no 
 
 TEST_CASE("dither: periods follow f0·(1 ± deviation) and the mean frequency stays f0") {
   SwitchingSpec s = trapezoid(10.0, 200e3, 0.5, 20e-9);
-  s.dither = DitherSpec{DitherProfile::triangle, 0.06, 5e3};
+  s.dither = DitherSpec{DitherProfile::triangle, 0.06, 5e3, {}, {}};
   const double fs = 100e6;
   const Waveform w = synthesize_switch_node(s, fs, 4e-3);  // 20 modulation periods
   std::vector<double> rising_crossings;
@@ -217,8 +217,9 @@ TEST_CASE("reading [switching] converts 10-90 % edges and rejects unknown keys")
       "frequncy = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\nrise = \"8 ns\"\nfall = \"15 ns\"\n",
       "t.toml");
   TableReader typo_reader(typo, "t.toml", "switching");
+  // The misspelling is named where it is (issue 14), not reported as the missing key.
   CHECK_THROWS_WITH_AS((void)read_switching_section(typo_reader),
-                       "t.toml:1:1: missing key 'frequency' in [switching] (expected a frequency)", Error);
+                       "t.toml:1:1: unknown key 'frequncy' in [switching]; did you mean 'frequency'?", Error);
 
   const auto extra = parse_toml_text(
       "frequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\nrise = \"8 ns\"\nfall = \"15 ns\"\nrse = 1\n",

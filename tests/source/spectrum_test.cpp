@@ -340,6 +340,14 @@ TEST_CASE("errors: too few samples, too short a record for the window, unknown w
                        "record too short for the hann window: harmonics 2.5 bins apart, need at least 4", Error);
   CHECK_THROWS_WITH_AS((void)harmonic_table(spectrum, 10e3, 1e6),
                        "record too short: it covers 0.25 periods of the fundamental, expected at least one", Error);
+  // A fundamental above what the record can read (half the sample rate less the main lobe, Nyquist:
+  // common practice) is refused, never moved or answered with an empty table.
+  const Waveform long_record = sine_record(1.0, 100e3, 1e6, 1000);
+  const AmplitudeSpectrum long_spectrum = amplitude_spectrum(long_record, Window::hann, planner);
+  CHECK_THROWS_WITH_AS((void)harmonic_table(long_spectrum, 600e3, 1e6),
+                       "expected a fundamental of at most 497 kHz (half the record's 1 MHz sample rate, less the hann "
+                       "window's main lobe), found 600 kHz: no harmonic of it can be read",
+                       Error);
   CHECK_THROWS_WITH_AS((void)parse_window("kaiser"), "expected a window (rectangular, hann, flat-top), found \"kaiser\"", Error);
   CHECK(parse_window("flat-top") == Window::flat_top);
 }
@@ -414,6 +422,37 @@ TEST_CASE("spurcast spectrum --capture: CSV columns are the interface (docs/desi
   CHECK(f == doctest::Approx(100e3));
   const double tol_db = 0.05;
   CHECK(std::abs(level - volts_to_dbuv(2.0 * std::numbers::sqrt2 / pi)) < tol_db);
+
+  // The user's --fundamental is used as given: 50 kHz on this 100 kHz record lists 50 kHz,
+  // 100 kHz, ... (the odd multiples of 50 kHz read nothing), not a value moved onto the record.
+  const std::string half = std::string(SPURCAST_EXECUTABLE) + " spectrum --capture " + capture.string() +
+                           " --fundamental 50kHz --window rectangular --csv " + csv.string() + " > " +
+                           (dir / "stdout.txt").string();
+  REQUIRE(std::system(half.c_str()) == 0);
+  {
+    std::ifstream again(csv);
+    std::string line;
+    std::getline(again, line);
+    std::getline(again, line);
+    REQUIRE(std::sscanf(line.c_str(), "%d,%lf,%lf", &k, &f, &level) == 3);
+    CHECK(f == doctest::Approx(50e3));
+    std::getline(again, line);
+    REQUIRE(std::sscanf(line.c_str(), "%d,%lf,%lf", &k, &f, &level) == 3);
+    CHECK(k == 2);
+    CHECK(std::abs(level - volts_to_dbuv(2.0 * std::numbers::sqrt2 / pi)) < tol_db);
+  }
+  // Above what the record reads (10 MS/s: 5 MHz less 3 bins of 5 kHz, the Hann lobe): refused, exit 2.
+  const std::string above = std::string(SPURCAST_EXECUTABLE) + " spectrum --capture " + capture.string() +
+                            " --fundamental 6MHz 2> " + (dir / "stderr.txt").string();
+  const int above_status = std::system(above.c_str());
+  CHECK(WEXITSTATUS(above_status) == 2);
+  {
+    std::ifstream err(dir / "stderr.txt");
+    std::string message;
+    std::getline(err, message);
+    CHECK(message == "spurcast: error: expected a fundamental of at most 4.985 MHz (half the record's 10 MHz sample "
+                     "rate, less the hann window's main lobe), found 6 MHz: no harmonic of it can be read");
+  }
 
   const std::string bad = std::string(SPURCAST_EXECUTABLE) + " spectrum --capture " +
                           (std::string(SPURCAST_SOURCE_DIR) + "/tests/data/capture/nan.csv") + " 2> " + (dir / "stderr.txt").string();

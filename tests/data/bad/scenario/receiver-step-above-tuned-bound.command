@@ -1,0 +1,1 @@
+predict {input} -o {out}

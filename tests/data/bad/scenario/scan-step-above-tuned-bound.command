@@ -1,0 +1,1 @@
+scan {input} --band C --step 257Hz --csv {out}

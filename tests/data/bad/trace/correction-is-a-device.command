@@ -1,0 +1,1 @@
+compare {input} --limits cispr32-class-b-conducted --correction /dev/zero --csv {out}

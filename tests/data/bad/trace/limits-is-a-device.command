@@ -1,0 +1,1 @@
+compare {input} --limits /dev/zero --csv {out}

@@ -1,0 +1,1 @@
+compare side-trace.csv --limits {input} --csv {out}

@@ -1,0 +1,289 @@
+// The what-if server (core/output/whatif.hpp, whatif_server.hpp): started in-process on an ephemeral
+// loopback port and asked through cpp-httplib's client, as a browser or a script would. The answer to
+// an edit is checked against `spurcast predict` run on a copy of the scenario with the same value
+// written into the file; the security rules against requests a foreign page could send.
+#include <doctest/doctest.h>
+
+#include <cmath>
+#include <filesystem>
+#include <string>
+#include <thread>
+#include <unistd.h>
+#include <utility>
+#include <vector>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+#include "cli_support.hpp"
+#include "core/chain/scenario.hpp"
+#include "core/input/toml_reader.hpp"
+#include "core/output/whatif_server.hpp"
+
+// Last: <httplib.h> pulls in <resolv.h> and <signal.h>, whose macros (_res, si_value) clash with Eigen.
+#include <httplib.h>
+
+namespace {
+
+namespace fs = std::filesystem;
+using nlohmann::json;
+using spurcast::test::fresh_directory;
+using spurcast::test::read_text;
+using spurcast::test::run_cli;
+using spurcast::test::write_text;
+
+const std::string example_dir = std::string(SPURCAST_SOURCE_DIR) + "/examples";
+const std::string example = example_dir + "/greenhouse-buck.toml";
+// summary.json rounds dB to 0.01 (core/output/report.hpp): two writers of one value agree within it.
+constexpr double rounding_tolerance_db = 0.005 + 1e-9;
+
+/// A server on 127.0.0.1 with an ephemeral port, serving in a thread for the life of the object.
+struct RunningServer {
+  spurcast::WhatIfServer server{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir, spurcast::locate_shipped_data())};
+  int port = server.bind(0);
+  std::thread thread{[this] { server.listen(); }};
+  ~RunningServer() {
+    server.stop();
+    thread.join();
+  }
+  [[nodiscard]] httplib::Client client() const {
+    httplib::Client c("127.0.0.1", port);
+    c.set_read_timeout(60, 0);
+    return c;
+  }
+  [[nodiscard]] std::string host() const { return "127.0.0.1:" + std::to_string(port); }
+};
+
+/// `spurcast predict --json` on a copy of the example with `from` replaced by `to` in its text.
+json predict_edited(const std::vector<std::pair<std::string, std::string>>& edits, const std::string& name) {
+  const fs::path dir = fresh_directory("spurcast-whatif-", name);
+  std::string text = read_text(example);
+  for (const auto& [from, to] : edits) {
+    const auto at = text.find(from);
+    REQUIRE(at != std::string::npos);
+    text.replace(at, from.size(), to);
+  }
+  write_text(dir / "edited.toml", text);
+  // The limit files are named relative to the limits folder, so the copy needs nothing beside it.
+  const auto run = run_cli(dir, {"predict", "edited.toml", "-o", "report", "--json"}, dir);
+  REQUIRE_MESSAGE((run.exit_code == 0 || run.exit_code == 1), run.err);
+  return json::parse(run.out);
+}
+
+json error_of(const httplib::Result& result) {
+  REQUIRE(result);
+  CHECK(result->get_header_value("Content-Type") == "application/json");
+  const json body = json::parse(result->body);
+  REQUIRE(body.contains("error"));
+  return body["error"];
+}
+
+}  // namespace
+
+TEST_CASE("evaluate answers what predict gives for the scenario with the same value written in the file") {
+  RunningServer s;
+  httplib::Client client = s.client();
+  const auto result = client.Post("/api/evaluate", R"({"set": {"switching.frequency": "1.9 MHz", "coupling.parasitic_capacitance": "50 pF"}})",
+                                  "application/json");
+  REQUIRE(result);
+  REQUIRE(result->status == 200);
+  const json answer = json::parse(result->body);
+
+  // The same edit made by hand in a copy of the file, run through the CLI.
+  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""},
+                                        {"parasitic_capacitance = \"35 pF\"", "parasitic_capacitance = \"50 pF\""}},
+                                       "predict");
+
+  CHECK(answer["verdict"] == expected["verdict"]);
+  REQUIRE(answer["worst_margin_db"].size() == expected["worst_margin_db"].size());
+  REQUIRE(!expected["worst_margin_db"].empty());
+  for (const auto& [detector, margin] : expected["worst_margin_db"].items()) {
+    INFO(detector);
+    CHECK(std::abs(answer["worst_margin_db"][detector].get<double>() - margin.get<double>()) < rounding_tolerance_db);
+  }
+  CHECK(answer["worst"]["frequency_hz"] == expected["worst"]["frequency_hz"]);
+  REQUIRE(answer["bands"].size() == expected["bands"].size());
+  for (std::size_t i = 0; i < expected["bands"].size(); ++i) {
+    CHECK(answer["bands"][i]["name"] == expected["bands"][i]["name"]);
+    CHECK(answer["bands"][i]["verdict"] == expected["bands"][i]["verdict"]);
+  }
+  // The edit moved the answer: the unedited scenario's worst frequency is its 220 kHz fundamental.
+  const auto base = client.Post("/api/evaluate", "{}", "application/json");
+  REQUIRE(base);
+  CHECK(json::parse(base->body)["worst"]["frequency_hz"].get<double>() != doctest::Approx(1.9e6));
+}
+
+TEST_CASE("the page and the editable keys are served; the scenario download carries the edit") {
+  RunningServer s;
+  httplib::Client client = s.client();
+  // The page itself (core/output/whatif_page.cpp): served whole, inline, naming no other host.
+  const auto page = client.Get("/");
+  REQUIRE(page);
+  CHECK(page->status == 200);
+  CHECK(page->get_header_value("Content-Type") == "text/html; charset=utf-8");
+  CHECK(page->body.find("<title>spurcast what-if</title>") != std::string::npos);
+  // Nothing fetched from elsewhere: no address of another host in the page.
+  CHECK(page->body.find("http://") == std::string::npos);
+  CHECK(page->body.find("https://") == std::string::npos);
+
+  const auto scenario = client.Get("/api/scenario");
+  REQUIRE(scenario);
+  const json keys = json::parse(scenario->body)["keys"];
+  REQUIRE(!keys.empty());
+  CHECK(keys[0]["key"] == "switching.frequency");
+  CHECK(keys[0]["value"] == "220 kHz");
+  CHECK(keys[0]["unit"] == "Hz");
+  CHECK(keys[0]["si_value"].get<double>() == doctest::Approx(220e3));
+  bool filter_key = false;
+  for (const json& k : keys) {
+    if (k["key"] == "filter.3.inductance") filter_key = k["value"] == "22 uH";
+    CHECK(k["key"].get<std::string>().find("file") == std::string::npos);
+  }
+  CHECK(filter_key);
+
+  const auto saved = client.Post("/api/scenario.toml", R"({"set": {"filter.3.inductance": "47 uH"}})", "application/json");
+  REQUIRE(saved);
+  REQUIRE(saved->status == 200);
+  const spurcast::Scenario edited = spurcast::scenario_from_text(saved->body, "saved.toml", example_dir, spurcast::locate_shipped_data());
+  const spurcast::Scenario original = spurcast::load_scenario(example, spurcast::locate_shipped_data());
+  REQUIRE(edited.filters.size() == original.filters.size());
+  bool edited_stage = false;
+  for (const spurcast::FilterStage& stage : edited.filters) {
+    CHECK(stage.inductance_h != doctest::Approx(22e-6));
+    edited_stage = edited_stage || stage.inductance_h == doctest::Approx(47e-6);
+  }
+  CHECK(edited_stage);
+  CHECK(edited.switching->frequency_hz == doctest::Approx(original.switching->frequency_hz));
+}
+
+TEST_CASE("a foreign Host or Origin is refused (DNS rebinding)") {
+  RunningServer s;
+  httplib::Client client = s.client();
+  const std::string port = std::to_string(s.port);
+  const auto host = client.Get("/api/scenario", {{"Host", "attacker.example:" + port}});
+  REQUIRE(host);
+  CHECK(host->status == 403);
+  CHECK(error_of(host) == "refused: the Host header must be 127.0.0.1:" + port + " or localhost:" + port +
+                              ", found \"attacker.example:" + port + "\"");
+  // The right name with another port is foreign too.
+  const auto other_port = client.Get("/", {{"Host", "localhost:1"}});
+  REQUIRE(other_port);
+  CHECK(other_port->status == 403);
+
+  const auto origin = client.Post("/api/evaluate", {{"Origin", "http://attacker.example:" + port}}, "{}", "application/json");
+  REQUIRE(origin);
+  CHECK(origin->status == 403);
+  CHECK(error_of(origin) == "refused: the Origin must be http://127.0.0.1:" + port + " or http://localhost:" + port +
+                                ", found \"http://attacker.example:" + port + "\"");
+  // Our own origin, by either name, is served.
+  const auto own = client.Post("/api/evaluate", {{"Origin", "http://localhost:" + port}}, "{}", "application/json");
+  REQUIRE(own);
+  CHECK(own->status == 200);
+}
+
+TEST_CASE("an oversize body, malformed JSON, an unknown key, a bad value and a file key are JSON errors") {
+  RunningServer s;
+  httplib::Client client = s.client();
+
+  const std::string huge = R"({"set": {"switching.frequency": ")" + std::string(70 * 1024, '9') + R"( Hz"}})";
+  const auto oversize = client.Post("/api/evaluate", huge, "application/json");
+  REQUIRE(oversize);
+  CHECK(oversize->status == 413);
+  CHECK(error_of(oversize) == "request body over 65536 bytes");
+
+  const auto malformed = client.Post("/api/evaluate", R"({"set": {"switching.frequency": )", "application/json");
+  REQUIRE(malformed);
+  CHECK(malformed->status == 400);
+  CHECK(error_of(malformed) ==
+        "malformed JSON: [json.exception.parse_error.101] parse error at line 1, column 33: syntax error while parsing "
+        "value - unexpected end of input; expected '[', '{', or a literal");
+
+  const auto unknown = client.Post("/api/evaluate", R"({"set": {"switching.frequncy": "1 MHz"}})", "application/json");
+  REQUIRE(unknown);
+  CHECK(unknown->status == 400);
+  CHECK(error_of(unknown) == "'switching.frequncy': " + example +
+                                 ": unknown key 'frequncy' in [switching]; did you mean 'frequency'?");
+
+  const auto bad = client.Post("/api/evaluate", R"({"set": {"switching.rise": "fast"}})", "application/json");
+  REQUIRE(bad);
+  CHECK(bad->status == 400);
+  CHECK(error_of(bad) == "'switching.rise': expected a time (e.g. \"12 ns\"), found \"fast\"");
+
+  for (const char* key : {"limits.files", "capture.file", "broadcast.plan", "filter.1.elements"}) {
+    INFO(key);
+    const auto file = client.Post("/api/evaluate", std::string(R"({"set": {")") + key + R"(": "/etc/passwd"}})",
+                                  "application/json");
+    REQUIRE(file);
+    CHECK(file->status == 400);
+    CHECK(error_of(file) == std::string("'") + key +
+                                "': names a file; the what-if server takes no file or path from a request");
+  }
+
+  const auto extra = client.Post("/api/evaluate", R"({"set": {}, "write": "x.toml"})", "application/json");
+  REQUIRE(extra);
+  CHECK(extra->status == 400);
+  CHECK(error_of(extra) == "unknown request key 'write' (expected \"set\")");
+  // The server is still there after every refusal.
+  const auto after = client.Post("/api/evaluate", "{}", "application/json");
+  REQUIRE(after);
+  CHECK(after->status == 200);
+}
+
+TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
+  RunningServer s;
+  // 127.0.0.2 is the loopback interface too (127.0.0.0/8, RFC 1122 §3.2.1.3): a server bound to every
+  // address (0.0.0.0) answers there, one bound to 127.0.0.1 alone does not.
+  httplib::Client elsewhere("127.0.0.2", s.port);
+  elsewhere.set_connection_timeout(2, 0);
+  const auto refused = elsewhere.Get("/", {{"Host", s.host()}});
+  CHECK(!refused);
+  const auto served = s.client().Get("/", {{"Host", s.host()}});
+  REQUIRE(served);
+  CHECK(served->status == 200);
+  // A second server cannot take the same port (no SO_REUSEPORT sharing): the message names the address.
+  spurcast::WhatIfServer second{spurcast::WhatIfSession(spurcast::parse_toml_file(example, "scenario file"), example, example_dir, spurcast::locate_shipped_data())};
+  CHECK_THROWS_WITH_AS((void)second.bind(s.port),
+                       ("cannot listen on 127.0.0.1:" + std::to_string(s.port) + " (in use, or not allowed)").c_str(),
+                       spurcast::Error);
+}
+
+TEST_CASE("the page in a real browser shows what predict gives for a changed frequency") {
+  std::string chromium;
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) chromium = c;
+  }
+  if (chromium.empty()) {
+    MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
+    return;
+  }
+  RunningServer s;
+  const fs::path dir = fresh_directory("spurcast-whatif-", "browser");
+  fs::create_directories(dir / "profile");
+  // The page applies the link's change to its field, posts it and draws the answer; --dump-dom prints
+  // the document once the page's fetches are done (virtual time).
+  const std::string url = "http://127.0.0.1:" + std::to_string(s.port) + "/#switching.frequency=1.9%20MHz";
+  const std::string command = chromium +
+                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                              "--disable-background-networking --disable-component-update --disable-sync "
+                              "--virtual-time-budget=20000 --user-data-dir=" +
+                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
+                              spurcast::test::shell_quote(url) + " >" +
+                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
+  REQUIRE(std::system(command.c_str()) == 0);
+  const std::string dom = read_text(dir / "dom.html");
+  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""}}, "browser-predict");
+  REQUIRE(!expected["worst_margin_db"].empty());
+  for (const auto& [detector, margin] : expected["worst_margin_db"].items()) {
+    // The page shows margins to 0.1 dB.
+    const std::string cell = "data-detector=\"" + detector + "\">" + fmt::format("{:.1f}", margin.get<double>()) + "<";
+    INFO(cell);
+    CHECK(dom.find(cell) != std::string::npos);
+  }
+  for (const json& band : expected["bands"]) {
+    const std::string row = "data-band=\"" + band["name"].get<std::string>() + "\"><td>" +
+                            band["name"].get<std::string>() + "</td><td><span class=\"tag " +
+                            band["verdict"].get<std::string>() + "\">";
+    INFO(row);
+    CHECK(dom.find(row) != std::string::npos);
+  }
+}
