@@ -419,6 +419,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   if (p.source_kind == SourceKind::dithered) lines.dither = *scenario.switching->dither;
   p.reception = estimate_reception(bands_for(scenario.broadcast, scenario.data), lines, scenario.broadcast,
                                    p.computed_up_to_hz);
+  p.reception_assumptions = reception_assumptions(scenario.broadcast, setup, p.reception, battery);
   return p;
 }
 

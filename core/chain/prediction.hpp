@@ -92,6 +92,8 @@ struct Prediction {
   std::vector<FieldLine> field;
   std::vector<BandReception> reception;
   std::string radiation_convention;
+  /// What the broadcast estimate assumes, one line (reception_assumptions()).
+  std::string reception_assumptions;
   std::string setup_description;  ///< the LISN set-up the levels refer to
   std::vector<std::string> notes; ///< assumptions and warnings to show the user
   Verdict verdict = Verdict::no_limits;  ///< the margins' verdict (no_limits when no limit was given)

@@ -82,7 +82,7 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
   }
 
   if (!p.reception.empty()) {
-    out += "\nbroadcast bands:\n";
+    out += "\nbroadcast bands (" + p.reception_assumptions + "):\n";
     std::vector<std::vector<std::string>> rows;
     for (const BandReception& b : p.reception) {
       const std::string verdict_name = reception_verdict_name(b.verdict);

@@ -384,6 +384,7 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
     bands.push_back(band);
   }
   j["bands"] = bands;
+  j["broadcast_assumptions"] = p.reception_assumptions;
   nlohmann::ordered_json scans = nlohmann::ordered_json::array();
   for (const BandScan& scan : p.scans) {
     const BandParameters band = band_parameters(scan.band);
@@ -892,13 +893,9 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
 
   // 5. Broadcast bands.
   out += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
-  out += "<p>Estimated field of the harmonics at a receiver " + html(format_quantity(s.broadcast.distance_m, Dimension::length)) +
-         " from the product and its " +
-         html(format_quantity(s.supply.kind == SupplyKind::battery ? s.supply.lead_length_m : s.broadcast.cable_length_m,
-                              Dimension::length)) +
-         (s.supply.kind == SupplyKind::battery ? " battery leads (" : " supply cable (") + html(environment_name(s.broadcast.environment)) +
-         " environment, ITU region " + std::to_string(s.broadcast.region) +
-         "). <em>clear</em>: under the ambient man-made noise (ITU-R P.372) or the level the receiver rejects; "
+  out += "<p>Estimated field of the harmonics for " + html(p.reception_assumptions) + "; ITU region " +
+         std::to_string(s.broadcast.region) +
+         ". <em>clear</em>: under the ambient man-made noise (ITU-R P.372) or the level the receiver rejects; "
          "<em>watch</em>: above it, below the disturbance threshold; <em>noisy</em>: a weak station is likely "
          "disturbed. A ferrite rod (LW, MW) reads the magnetic field as its equivalent far field, "
          "&eta;<sub>0</sub>&middot;H; a whip reads the electric field.</p>\n";
@@ -1039,6 +1036,7 @@ std::vector<OutputFile> report_files(const Prediction& p) {
   files.push_back({"scan.csv", scan_csv(p)});
   files.push_back({"margins.csv", margins_csv(p.margins)});
   files.push_back({"bands.csv", bands_csv(p.reception)});
+  files.push_back({"channels.csv", channels_csv(p.reception)});
   for (const BandScan& scan : p.scans) {
     files.push_back({"scan-" + to_string(scan.band) + ".svg", spectrum_plot_svg(readings_plot(p, scan))});
   }

@@ -263,4 +263,51 @@ std::string bands_csv(const std::vector<BandReception>& results) {
   return csv;
 }
 
+std::string channels_csv(const std::vector<BandReception>& results) {
+  std::string csv =
+      "band,channel_hz,level_dbuvm,antenna,clear_below_dbuvm,noisy_above_dbuvm,verdict,lines,"
+      "strongest_line_offset_hz,tone,main_radiator,share_cable_cm,share_cable_dm,share_hot_loop\n";
+  for (const BandReception& result : results) {
+    for (const ChannelReception& c : result.channels) {
+      csv += csv_field(result.band.name) + "," + number(c.centre_hz, "%.0f") + "," + number(c.level_dbuvm, "%.2f") + "," +
+             antenna_name(result.antenna) + "," + number(c.clear_below_dbuvm, "%.2f") + "," +
+             number(c.noisy_above_dbuvm, "%.2f") + "," + reception_verdict_name(c.verdict) + "," +
+             std::to_string(c.line_count) + "," + number(c.strongest_line_hz - c.centre_hz, "%.0f") + "," +
+             (c.tone ? "yes" : "no") + "," + (c.dominant_radiator ? radiator_name(*c.dominant_radiator) : "");
+      for (const double share : c.radiator_share) csv += "," + (c.dominant_radiator ? number(share, "%.4f") : "");
+      csv += "\n";
+    }
+  }
+  return csv;
+}
+
+std::string reception_assumptions(const BroadcastSpec& spec, const RadiationSetup& setup,
+                                  const std::vector<BandReception>& results, bool battery_leads) {
+  std::string ferrite_bands, whip_bands;
+  for (const BandReception& result : results) {
+    std::string& list = result.antenna == AntennaKind::ferrite ? ferrite_bands : whip_bands;
+    list += (list.empty() ? "" : ", ") + result.band.name;
+  }
+  std::string text = "a portable radio " + format_quantity(spec.distance_m, Dimension::length) + " from the product";
+  if (whip_bands.empty()) {
+    text += "; every band heard on a ferrite rod (η0·H)";
+  } else if (ferrite_bands.empty()) {
+    text += "; every band heard on a whip (E)";
+  } else {
+    text += "; " + ferrite_bands + " heard on a ferrite rod (η0·H), the others on a whip (E)";
+  }
+  text += "; " + environment_name(spec.environment) + " man-made noise (ITU-R P.372)";
+  text += "; radiators: the " + format_quantity(setup.cable_length_m, Dimension::length) +
+          (battery_leads ? " battery leads" : " supply cable") + " (common and differential mode)";
+  if (setup.hot_loop_area_m2) {
+    char area[32];
+    std::snprintf(area, sizeof area, "%.3g cm\xC2\xB2", *setup.hot_loop_area_m2 * 1e4);
+    text += ", hot loop " + std::string(area);
+  } else {
+    text += ", no hot loop (no [board] hot_loop_area)";
+  }
+  text += setup.ground_reflection ? "; +6 dB ground reflection" : "; no ground reflection";
+  return text;
+}
+
 }  // namespace spurcast

@@ -144,6 +144,18 @@ inline constexpr std::size_t max_dithered_lines = std::size_t{1} << 23;
                                                                           const RadiationSetup& setup,
                                                                           const RadiatorCurrents& currents);
 
+/// Channels CSV (docs/design.md §4): `band,channel_hz,level_dbuvm,antenna,clear_below_dbuvm,
+/// noisy_above_dbuvm,verdict,lines,strongest_line_offset_hz,tone,main_radiator,share_cable_cm,
+/// share_cable_dm,share_hot_loop`, one row per channel that hears a line (every band, ascending):
+/// the strongest line's offset from the channel centre, `yes` when judged as a whistle, and each
+/// radiator's power share at the strongest line (empty when the lines did not come from radiators).
+[[nodiscard]] std::string channels_csv(const std::vector<BandReception>& results);
+
+/// One line saying what the estimate assumes: distance, each band's antenna, the environment, the
+/// radiators (cable or battery-lead length, hot loop or its absence) and the ground reflection.
+[[nodiscard]] std::string reception_assumptions(const BroadcastSpec& spec, const RadiationSetup& setup,
+                                                const std::vector<BandReception>& results, bool battery_leads);
+
 /// Bands CSV (docs/design.md §4): `band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit`,
 /// one row per band; worst_channel_hz and worst_level empty when no channel hears anything; region 0
 /// for a user band; unit "dBµV/m".

@@ -123,6 +123,10 @@ nlohmann::json check_report_folder(const fs::path& folder) {
   CHECK(lines_of(read_file(folder / "spectrum.csv"))[0] == "harmonic,frequency_hz,level_dbuv,line1_dbuv,line2_dbuv,dm_dbuv,cm_dbuv");
   CHECK(lines_of(read_file(folder / "margins.csv"))[0] == "frequency_hz,detector,reading_dbuv,limit_dbuv,margin_db,limit,unit");
   CHECK(lines_of(read_file(folder / "bands.csv"))[0] == "band,region,low_hz,high_hz,verdict,worst_channel_hz,worst_level,unit");
+  CHECK(lines_of(read_file(folder / "channels.csv"))[0] ==
+        "band,channel_hz,level_dbuvm,antenna,clear_below_dbuvm,noisy_above_dbuvm,verdict,lines,strongest_line_offset_hz,tone,"
+        "main_radiator,share_cable_cm,share_cable_dm,share_hot_loop");
+  CHECK(summary.at("broadcast_assumptions").get<std::string>().starts_with("a portable radio "));
   const std::vector<std::string> scan = lines_of(read_file(folder / "scan.csv"));
   // A battery supply has no LISN port to read: the scan holds its header only.
   const bool battery = summary.at("lisn_setup").get<std::string>().starts_with("battery supply");
@@ -214,7 +218,8 @@ TEST_CASE("predict on every example writes a whole report and exits with the doc
     CHECK(r.out.find("report written to " + out + "/") != std::string::npos);
     CHECK(r.out.find('\x1b') == std::string::npos);  // stdout is a file here: no colour
     if (!summary.at("worst").is_null()) CHECK(r.out.find("five worst frequencies:") != std::string::npos);
-    CHECK(r.out.find("broadcast bands:") != std::string::npos);
+    // The band list says what the estimate assumes (issue 15).
+    CHECK(r.out.find("broadcast bands (a portable radio ") != std::string::npos);
     // Nothing but the report folders in the working folder: no temporary sibling left.
     for (const auto& entry : fs::directory_iterator(work)) {
       CHECK(entry.path().filename().string().find(".tmp-") == std::string::npos);

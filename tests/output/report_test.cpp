@@ -289,7 +289,7 @@ TEST_CASE("the files of a report are byte-reproducible and summary.json comes la
   std::vector<std::string> names;
   for (const OutputFile& f : first) names.push_back(f.name);
   const std::vector<std::string> expected{"spectrum.csv", "source_spectrum.csv", "source_current_spectrum.csv",
-                                          "scan.csv", "margins.csv", "bands.csv", "scan-B.svg", "scan-C.svg",
+                                          "scan.csv", "margins.csv", "bands.csv", "channels.csv", "scan-B.svg", "scan-C.svg",
                                           "source.svg", "report.html", "summary.json"};
   CHECK(names == expected);
   CHECK(nlohmann::json::parse(first.back().content).at("files").get<std::vector<std::string>>() == expected);
