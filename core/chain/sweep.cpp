@@ -427,6 +427,10 @@ void fill_bands(SweepPoint& point, const std::vector<BandReception>& reception, 
       cell.worst_channel_hz = r.channels[*r.worst_channel].centre_hz;
       cell.worst_level_dbuvm = r.channels[*r.worst_channel].level_dbuvm;
     }
+    for (const ChannelReception& c : r.channels) {
+      const double headroom = c.clear_below_dbuvm - c.level_dbuvm;
+      if (!cell.clear_headroom_db || headroom < *cell.clear_headroom_db) cell.clear_headroom_db = headroom;
+    }
   }
 }
 
@@ -536,6 +540,164 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
   return point;
 }
 
+std::size_t band_index(const SweepResult& result, const std::string& name) {
+  return static_cast<std::size_t>(std::find(result.bands.begin(), result.bands.end(), name) - result.bands.begin());
+}
+
+/// " (harmonic k)" of the line nearest `frequency_hz` when the point has a switching frequency.
+std::string harmonic_text(double frequency_hz, double f0_hz) {
+  if (!(f0_hz > 0.0)) return "";
+  return fmt::format(" (harmonic {})", std::max(1L, std::lround(frequency_hz / f0_hz)));
+}
+
+/// Why `p` fails criterion `c` at its own value (nominal, then its drift), or "" when it meets it.
+std::string criterion_failure(const SweepResult& result, const SweepPoint& p, std::size_t c) {
+  if (p.error) return "the scenario refuses this value";
+  const WindowCriterion& criterion = result.criteria[c];
+  const bool nominal = c < p.point_meets.size() && p.point_meets[c];
+  const bool drift = c < p.drift_meets.size() && p.drift_meets[c];
+  const std::string drift_text = fmt::format("within +/-{:g} %", 100.0 * result.tolerance_fraction);
+  switch (criterion.kind) {
+    case WindowCriterion::Kind::band_clear: {
+      const std::size_t b = band_index(result, criterion.band);
+      if (b >= p.bands.size()) return "";
+      const BandPoint& band = p.bands[b];
+      if (!nominal && band.worst_channel_hz && band.worst_level_dbuvm) {
+        return fmt::format("{} channel {} {} at {:.1f} dBµV/m{}", criterion.band,
+                           format_quantity(*band.worst_channel_hz, Dimension::frequency, 4),
+                           reception_verdict_name(band.verdict), *band.worst_level_dbuvm,
+                           harmonic_text(*band.worst_channel_hz, p.switching_frequency_hz));
+      }
+      if (!nominal) return criterion.band + " " + reception_verdict_name(band.verdict);
+      return drift ? "" : "a harmonic drifting " + drift_text + " reaches a " + criterion.band + " channel";
+    }
+    case WindowCriterion::Kind::fundamental_outside:
+      if (nominal && drift) return "";
+      return fmt::format("fundamental {} inside band {}{}", format_quantity(p.switching_frequency_hz, Dimension::frequency, 4),
+                         criterion.band, nominal ? " " + drift_text : "");
+    case WindowCriterion::Kind::limits_met: {
+      if (nominal && drift) return "";
+      if (!nominal && p.worst_margin_db) {
+        const DetectorMarginPoint* worst = nullptr;
+        for (const DetectorMarginPoint& d : p.detectors) {
+          if (d.margin_db && (!worst || *d.margin_db < *worst->margin_db)) worst = &d;
+        }
+        if (worst) {
+          return fmt::format("{} margin {:.1f} dB at {}{}, under the {:g} dB guard", to_string(worst->detector),
+                             *worst->margin_db, format_quantity(worst->frequency_hz, Dimension::frequency, 4),
+                             harmonic_text(worst->frequency_hz, p.switching_frequency_hz), result.guard_db);
+        }
+      }
+      return nominal ? "a harmonic drifting " + drift_text + " comes within the guard of a limit line"
+                     : "limits not met (" + to_string(p.limits_verdict) + ")";
+    }
+    case WindowCriterion::Kind::all:
+      for (std::size_t o = 0; o < c; ++o) {
+        const std::string why = criterion_failure(result, p, o);
+        if (!why.empty()) return why;
+      }
+      return "";
+  }
+  return "";
+}
+
+/// A point's headroom for criterion c [dB] (SweepRecommendation), with what sets it.
+std::optional<std::pair<double, std::string>> point_headroom(const SweepResult& result, const SweepPoint& p,
+                                                             std::size_t c) {
+  std::optional<std::pair<double, std::string>> least;
+  const auto consider = [&](double value, const std::string& what) {
+    if (!least || value < least->first) least = std::make_pair(value, what);
+  };
+  const auto one = [&](const WindowCriterion& criterion) {
+    if (criterion.kind == WindowCriterion::Kind::limits_met && p.worst_margin_db) {
+      consider(*p.worst_margin_db - result.guard_db, "limits less the guard band");
+    } else if (criterion.kind == WindowCriterion::Kind::band_clear) {
+      const std::size_t b = band_index(result, criterion.band);
+      if (b < p.bands.size()) {
+        // No channel hears a line: unbounded headroom (the band is as quiet as it gets).
+        consider(p.bands[b].clear_headroom_db ? *p.bands[b].clear_headroom_db : std::numeric_limits<double>::infinity(),
+                 p.bands[b].clear_headroom_db ? criterion.band + " clear threshold"
+                                              : "no " + criterion.band + " channel hears a line");
+      }
+    }
+  };
+  if (result.criteria[c].kind == WindowCriterion::Kind::all) {
+    for (std::size_t o = 0; o < c; ++o) one(result.criteria[o]);
+  } else {
+    one(result.criteria[c]);
+  }
+  return least;
+}
+
+/// SweepRecommendation: over the windows of the last criterion.
+void recommend(SweepResult& result) {
+  if (result.criteria.empty()) return;
+  const std::size_t last = result.criteria.size() - 1;
+  const double tol = result.tolerance_fraction;
+  struct Candidate {
+    std::size_t point = 0, window = 0;
+    std::optional<std::pair<double, std::string>> headroom;
+    double distance_to_middle = 0.0;  ///< in points
+  };
+  std::optional<Candidate> best;
+  for (std::size_t wi = 0; wi < result.windows.size(); ++wi) {
+    const RobustWindow& w = result.windows[wi];
+    if (w.criterion != last) continue;
+    // The window's group: the points sharing its values of axes 2.., by first-axis value.
+    std::vector<std::size_t> group;
+    for (std::size_t i = 0; i < result.points.size(); ++i) {
+      const std::vector<double>& v = result.points[i].values;
+      if (std::equal(v.begin() + 1, v.end(), w.fixed_values.begin(), w.fixed_values.end())) group.push_back(i);
+    }
+    std::stable_sort(group.begin(), group.end(),
+                     [&](std::size_t a, std::size_t b) { return result.points[a].values[0] < result.points[b].values[0]; });
+    std::vector<std::size_t> inside;
+    for (const std::size_t i : group) {
+      const double v = result.points[i].values[0];
+      if (v >= w.from_value && v <= w.to_value) inside.push_back(i);
+    }
+    for (std::size_t n = 0; n < inside.size(); ++n) {
+      const double v = result.points[inside[n]].values[0];
+      const double lo = std::min(v * (1.0 - tol), v * (1.0 + tol));
+      const double hi = std::max(v * (1.0 - tol), v * (1.0 + tol));
+      Candidate candidate{inside[n], wi, std::nullopt,
+                          std::abs(static_cast<double>(n) - 0.5 * static_cast<double>(inside.size() - 1))};
+      for (const std::size_t j : group) {
+        const double u = result.points[j].values[0];
+        if (u < lo || u > hi) continue;
+        const auto h = point_headroom(result, result.points[j], last);
+        if (h && (!candidate.headroom || h->first < candidate.headroom->first)) candidate.headroom = h;
+      }
+      // Largest headroom first; on a tie (or with no level in the criterion) the wider window,
+      // then the point nearer the middle of its window.
+      bool better = !best;
+      if (best) {
+        const bool both_levelled = candidate.headroom && best->headroom;
+        const bool tie = both_levelled ? candidate.headroom->first == best->headroom->first ||
+                                             std::abs(candidate.headroom->first - best->headroom->first) <= 1e-9
+                                       : !candidate.headroom && !best->headroom;
+        if (!tie) {
+          better = candidate.headroom && (!best->headroom || candidate.headroom->first > best->headroom->first);
+        } else if (w.point_count != result.windows[best->window].point_count) {
+          better = w.point_count > result.windows[best->window].point_count;
+        } else {
+          better = candidate.distance_to_middle < best->distance_to_middle - 1e-9;
+        }
+      }
+      if (better) best = candidate;
+    }
+  }
+  if (!best) return;
+  SweepRecommendation r;
+  r.point = best->point;
+  r.window = best->window;
+  if (best->headroom) {
+    if (std::isfinite(best->headroom->first)) r.headroom_db = best->headroom->first;
+    r.headroom_to = best->headroom->second;
+  }
+  result.recommended = r;
+}
+
 /// Robustness on the grid and the windows, per group of points sharing the values of axes 2..
 void find_windows(SweepResult& result) {
   const std::size_t n0 = result.axes.front().values.size();
@@ -593,6 +755,28 @@ void find_windows(SweepResult& result) {
         w.first_point = order[i];
         w.last_point = order[j];
         w.point_count = j - i + 1;
+        w.open_low = i == 0;
+        w.open_high = j + 1 == n0;
+        // The edge's reason: the first point outside that fails on its own, else the nearest point
+        // within the tolerance beyond it that does.
+        const auto edge_reason = [&](std::size_t outside, bool downward) {
+          const double v = sorted_values[outside];
+          for (std::size_t k = outside;; downward ? --k : ++k) {
+            const double distance = std::abs(sorted_values[k] - v);
+            if (k != outside && distance > std::abs(v) * 2.0 * tol) break;
+            const std::string why = criterion_failure(result, result.points[order[k]], c);
+            if (!why.empty()) {
+              return k == outside ? fmt::format("at {}: {}", format_value(v, result.axes.front().dimension), why)
+                                  : fmt::format("at {}: within +/-{:g} % of {} where {}",
+                                                format_value(v, result.axes.front().dimension), 100.0 * tol,
+                                                format_value(sorted_values[k], result.axes.front().dimension), why);
+            }
+            if (downward ? k == 0 : k + 1 == n0) break;
+          }
+          return fmt::format("at {}: not robust", format_value(v, result.axes.front().dimension));
+        };
+        if (!w.open_low) w.low_edge = edge_reason(i - 1, true);
+        if (!w.open_high) w.high_edge = edge_reason(j + 1, false);
         result.windows.push_back(w);
         i = j + 1;
       }
@@ -600,6 +784,7 @@ void find_windows(SweepResult& result) {
   }
   std::stable_sort(result.windows.begin(), result.windows.end(),
                    [](const RobustWindow& a, const RobustWindow& b) { return a.criterion < b.criterion; });
+  recommend(result);
 }
 
 }  // namespace

@@ -161,6 +161,9 @@ struct BandPoint {
   std::size_t channels_hit = 0;                 ///< channels that hear at least one line
   std::optional<double> worst_channel_hz;       ///< the channel that sets the verdict
   std::optional<double> worst_level_dbuvm;      ///< its disturbance field [dBµV/m]
+  /// The smallest (clear threshold − level) over the channels heard [dB]: how far the band is from
+  /// losing `clear` (negative when a channel is not clear); nullopt when no channel hears a line.
+  std::optional<double> clear_headroom_db;
   ReceptionVerdict verdict = ReceptionVerdict::clear;
 };
 
@@ -190,6 +193,26 @@ struct RobustWindow {
   std::size_t first_point = 0;        ///< index into SweepResult::points
   std::size_t last_point = 0;
   std::size_t point_count = 0;
+  bool open_low = false;   ///< the window starts at the first swept value: it may reach further
+  bool open_high = false;  ///< the window ends at the last swept value
+  /// Why the window stops (the point just outside it): the part of the criterion that point fails,
+  /// e.g. "MW channel 1.602 MHz noisy at 24.3 dBµV/m (harmonic 7)"; empty for an open end.
+  std::string low_edge;
+  std::string high_edge;
+};
+
+/// The value the sweep recommends: inside a window of the last criterion, the point with the
+/// largest robust headroom, i.e. the smallest headroom over the points within ±tolerance of it,
+/// where a point's headroom is the smallest of its worst limit margin less the guard band and each
+/// criterion band's clear headroom (BandPoint::clear_headroom_db). Ties go to the point nearest the
+/// middle of its window.
+struct SweepRecommendation {
+  std::size_t point = 0;                ///< index into SweepResult::points
+  std::size_t window = 0;               ///< index into SweepResult::windows
+  std::optional<double> headroom_db;    ///< nullopt when unbounded or the criterion has no level in it
+  /// What sets it: "limits less the guard band", "MW clear threshold", or why it is unbounded ("no
+  /// MW channel hears a line"); empty when the criterion has no level in it.
+  std::string headroom_to;
 };
 
 struct SweepResult {
@@ -202,6 +225,7 @@ struct SweepResult {
   double guard_db = default_guard_db;
   std::vector<SweepPoint> points;             ///< the first axis fastest, then the second, ...
   std::vector<RobustWindow> windows;           ///< per criterion, in increasing first-axis order
+  std::optional<SweepRecommendation> recommended;  ///< nullopt when the last criterion has no window
   std::vector<std::string> notes;
   unsigned threads = 1;
   std::size_t invalid_points = 0;

@@ -640,6 +640,13 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
            number(std::max(2.0, x1 - x0 + 2.0)) + "\" height=\"" + number(layout.plot_bottom - layout.plot_top) +
            "\" fill=\"none\" stroke=\"#2f7a4a\" stroke-width=\"1.5\"/>\n";
   }
+  if (plot.recommended && *plot.recommended >= p_min && *plot.recommended <= p_max) {
+    const double x = x_of(*plot.recommended);
+    svg += "<line x1=\"" + number(x) + "\" y1=\"" + number(layout.plot_top) + "\" x2=\"" + number(x) + "\" y2=\"" +
+           number(layout.plot_bottom) + "\" stroke=\"#1d5c8c\" stroke-width=\"2\" stroke-dasharray=\"2 3\"/>\n";
+    placer.try_place("recommended " + format_quantity(*plot.recommended, plot.parameter_dimension, 4), x + 4.0,
+                     layout.plot_top + 14.0, span_font_px, TextAnchor::start, "fill=\"#1d5c8c\"");
+  }
   svg += "</svg>\n";
   return svg;
 }

@@ -155,6 +155,7 @@ struct SweepPlot {
   double guard_db = 6.0;
   std::vector<SweepBandRow> bands;
   std::vector<SweepWindow> clear_windows;
+  std::optional<double> recommended;      ///< the sweep's recommended value, marked and labelled
   double width_px = 960.0;
   double height_px = 460.0;
 };

@@ -91,7 +91,23 @@ std::string sweep_json(const SweepResult& result, const std::vector<std::string>
                             {"fixed_values", w.fixed_values},
                             {"from", w.from_value},
                             {"to", w.to_value},
-                            {"points", w.point_count}});
+                            {"points", w.point_count},
+                            {"open_low", w.open_low},
+                            {"open_high", w.open_high},
+                            {"low_edge", w.open_low ? ordered_json(nullptr) : ordered_json(w.low_edge)},
+                            {"high_edge", w.open_high ? ordered_json(nullptr) : ordered_json(w.high_edge)}});
+  }
+  if (result.recommended) {
+    const SweepRecommendation& r = *result.recommended;
+    ordered_json rec;
+    rec["value"] = result.points[r.point].values.front();
+    rec["values"] = result.points[r.point].values;
+    rec["margin_db"] = r.headroom_db ? ordered_json(*r.headroom_db) : ordered_json(nullptr);
+    rec["margin_to"] = r.headroom_to.empty() ? ordered_json(nullptr) : ordered_json(r.headroom_to);
+    rec["window"] = {{"from", result.windows[r.window].from_value}, {"to", result.windows[r.window].to_value}};
+    j["recommended"] = rec;
+  } else {
+    j["recommended"] = nullptr;
   }
   j["invalid_points"] = result.invalid_points;
   j["notes"] = result.notes;
@@ -179,8 +195,30 @@ std::string sweep_text(const SweepResult& result, const std::vector<std::string>
       text += fmt::format("  {:>12} to {:<12} {:>7} point{}{}\n", sweep_value_text(w.from_value, axis.dimension),
                           sweep_value_text(w.to_value, axis.dimension), w.point_count, w.point_count == 1 ? " " : "s",
                           fixed);
+      text += "      from: " + (w.open_low ? std::string("open (the swept range starts here)") : w.low_edge) + "\n";
+      text += "      to:   " + (w.open_high ? std::string("open (the swept range ends here)") : w.high_edge) + "\n";
     }
     if (!any) text += "  no window\n";
+  }
+  if (result.recommended) {
+    const SweepRecommendation& r = *result.recommended;
+    const SweepPoint& p = result.points[r.point];
+    std::string where;
+    for (std::size_t a = 0; a < result.axes.size() && a < p.values.size(); ++a) {
+      where += (a ? ", " : "") + result.axes[a].key + " = " + sweep_value_text(p.values[a], result.axes[a].dimension);
+    }
+    text += "\nrecommended: " + where;
+    if (r.headroom_db) {
+      text += fmt::format(" ({:.1f} dB of headroom to the {}{})", *r.headroom_db, r.headroom_to,
+                          result.tolerance_fraction > 0.0
+                              ? fmt::format(", the least over +/-{:g} %", 100.0 * result.tolerance_fraction)
+                              : std::string());
+    } else if (!r.headroom_to.empty()) {
+      text += " (" + r.headroom_to + ")";
+    }
+    text += "\n";
+  } else if (!result.criteria.empty()) {
+    text += "\nno recommendation: no window meets " + result.criteria.back().label() + "\n";
   }
   for (const std::string& note : result.notes) text += "note: " + note + "\n";
   for (const std::string& file : written) text += "wrote " + file + "\n";
@@ -218,6 +256,9 @@ std::string sweep_svg(const SweepResult& result, const std::string& title) {
     const std::size_t last = result.criteria.size() - 1;
     for (const RobustWindow& w : result.windows) {
       if (w.criterion == last && w.last_point < n) plot.clear_windows.push_back({w.from_value, w.to_value});
+    }
+    if (result.recommended && result.recommended->point < n) {
+      plot.recommended = result.points[result.recommended->point].values.front();
     }
   }
   return sweep_plot_svg(plot);

@@ -10,6 +10,8 @@
 //    same points, and the sweep's own scan path.
 #include <doctest/doctest.h>
 
+#include <nlohmann/json.hpp>
+
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -329,4 +331,75 @@ TEST_CASE("CLI: sweep writes its CSV and finds the MW window") {
   out << std::ifstream(folder / "out.txt").rdbuf();
   CHECK(out.str().find("MW clear:") != std::string::npos);
   fs::remove_all(folder);
+}
+
+TEST_CASE("window edges say why they stop; an end of the swept range is open") {
+  // The MW window of the loud converter starts at 1620 kHz (see above): the grid point below it,
+  // 1615 kHz, is itself heard by the top channel (1602 kHz, region 1) through its skirt, and noisy.
+  const SweepResult r = sweep_1d(loud_scenario(1), "switching.frequency=1.5MHz:2.5MHz:201", {"MW"}, 0.0);
+  const auto w = windows_of(r, 0);
+  REQUIRE(w.size() >= 1);
+  const RobustWindow& top = w.back();
+  CHECK_FALSE(top.open_low);
+  CHECK(top.open_high);
+  CHECK(top.high_edge.empty());
+  CAPTURE(top.low_edge);
+  CHECK(top.low_edge.starts_with("at 1.615 MHz: MW channel 1.602 MHz noisy at "));
+  CHECK(top.low_edge.ends_with(" dBµV/m (harmonic 1)"));
+  // Inside the window no MW channel hears a line: the headroom is unbounded, so the recommendation
+  // is the middle of the window, (1620 + 2500) / 2 = 2060 kHz, on the 5 kHz grid.
+  REQUIRE(r.recommended);
+  CHECK(std::abs(r.points[r.recommended->point].values[0] - 2.06e6) < tol_hz);
+  CHECK_FALSE(r.recommended->headroom_db);
+  CHECK(r.recommended->headroom_to == "no MW channel hears a line");
+  const std::string text = sweep_text(r, {});
+  CHECK(text.find("\nrecommended: switching.frequency = 2.06 MHz (no MW channel hears a line)\n") != std::string::npos);
+  CHECK(text.find("      to:   open (the swept range ends here)\n") != std::string::npos);
+}
+
+TEST_CASE("the recommended value has the largest headroom that holds over the tolerance") {
+  // A faint converter meets the limits everywhere in 0.2-2 MHz; the recommendation must be the
+  // point whose smallest (margin − guard) over the points within ±5 % is largest (recomputed here
+  // from the points themselves).
+  std::string text = loud_scenario(1);
+  text.replace(text.find("\"48 V\""), 6, "\"0.1 V\"");
+  text.replace(text.find("\"6 A\""), 5, "\"5 mA\"");
+  text.replace(text.find("\"100 pF\""), 8, "\"1 pF\"");
+  const toml::table table = table_of(text);
+  SweepOptions options;
+  options.axes.push_back(make_axis(table, parse_vary("switching.frequency=200kHz:2MHz:181")));
+  options.criteria.push_back(WindowCriterion{WindowCriterion::Kind::limits_met, ""});
+  options.tolerance_fraction = 0.05;
+  options.threads = 2;
+  const SweepResult r = run_sweep(table, "test.toml", ".", locate_shipped_data(), options);
+  REQUIRE(r.criteria.size() == 1);
+  REQUIRE(r.criteria[0].kind == WindowCriterion::Kind::limits_met);
+  REQUIRE(windows_of(r, 0).size() == 1);
+  REQUIRE(r.recommended);
+  double best = -1e9;
+  std::size_t best_point = r.points.size();
+  for (std::size_t i = 0; i < r.points.size(); ++i) {
+    if (!r.points[i].robust[0]) continue;
+    const double v = r.points[i].values[0];
+    double least = 1e9;
+    for (const SweepPoint& q : r.points) {
+      if (q.values[0] < v * 0.95 || q.values[0] > v * 1.05) continue;
+      REQUIRE(q.worst_margin_db);
+      least = std::min(least, *q.worst_margin_db - r.guard_db);
+    }
+    if (least > best) {
+      best = least;
+      best_point = i;
+    }
+  }
+  REQUIRE(best_point < r.points.size());
+  REQUIRE(r.recommended->headroom_db);
+  CHECK(*r.recommended->headroom_db == doctest::Approx(best).epsilon(1e-12));
+  CHECK(r.points[r.recommended->point].values[0] == doctest::Approx(r.points[best_point].values[0]));
+  CHECK(r.recommended->headroom_to == "limits less the guard band");
+  CHECK(*r.recommended->headroom_db > 0.0);
+  const nlohmann::json j = nlohmann::json::parse(sweep_json(r, {}));
+  CHECK(j.at("recommended").at("margin_db").get<double>() == doctest::Approx(best));
+  CHECK(j.at("windows").at(0).at("open_low").get<bool>());
+  CHECK(j.at("windows").at(0).at("low_edge").is_null());
 }
