@@ -100,6 +100,18 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
       });
     }
   }
+  // The receiver's own noise floor, as the prediction applies it (prediction.cpp): a real receiver
+  // reads its noise between the harmonics, not −400 dBµV (issue 14). The floor is a voltage at the
+  // receiver's input, so it holds the voltage readings (at the LISN port and at the source); a
+  // current is read through a probe whose transfer impedance is not modelled, so it has none.
+  if (result.quantity == Quantity::voltage) {
+    if (!plan.noise_floor_db) {
+      apply_noise_floor(result, scenario.receiver.noise_floor_dbuv.value_or(default_noise_floor_dbuv(plan.band)));
+    }
+  } else if (!result.noise_floor_db) {
+    notes.push_back("no receiver noise floor on current readings (the floor is a voltage at the receiver's input; "
+                    "a current probe's transfer impedance is not modelled)");
+  }
   result.notes.insert(result.notes.begin(), notes.begin(), notes.end());
   return result;
 }

@@ -43,8 +43,10 @@ struct ScanReport {
 /// each checked (step at most B6/2, spot frequencies inside the band) before any work.
 [[nodiscard]] std::vector<ScanPlan> scan_plans(const Scenario& scenario, const ScanRequest& request);
 
-/// Reads one plan at `at` (source | current | lisn; at the LISN the worse of the two lines). Error
-/// for a voltage capture at "current".
+/// Reads one plan at `at` (source | current | lisn; at the LISN the worse of the two lines). Voltage
+/// readings are held at the receiver's noise floor, the scenario's `[receiver] noise_floor` or
+/// default_noise_floor_dbuv(band), unless the plan sets its own (ScanResult::noise_floor_db says
+/// which); current readings have none (a note says why). Error for a voltage capture at "current".
 [[nodiscard]] ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPlan& plan);
 
 /// Every plan of the request, read in turn; `on_band` (if set) is called before each band is read,

@@ -1,5 +1,8 @@
 #include "core/output/scan_output.hpp"
 
+#include <algorithm>
+#include <optional>
+
 #include <fmt/format.h>
 #include <nlohmann/json.hpp>
 
@@ -10,8 +13,19 @@ namespace spurcast {
 
 namespace {
 
-nlohmann::json reading_json(const Reading& r) {
-  return {{"frequency_hz", r.frequency_hz}, {"peak", r.peak_db}, {"quasi_peak", r.quasi_peak_db}, {"average", r.average_db}};
+/// The detectors whose reading is the noise floor, joined by '+' ("" for none), as in the
+/// prediction's scan.csv (core/output/report.hpp).
+std::string at_floor_text(const Reading& r, const std::optional<double>& noise_floor_db) {
+  std::string text;
+  for (const Detector d : {Detector::peak, Detector::quasi_peak, Detector::average}) {
+    if (at_noise_floor(r.level_db(d), noise_floor_db)) text += (text.empty() ? "" : "+") + to_string(d);
+  }
+  return text;
+}
+
+nlohmann::json reading_json(const Reading& r, const std::optional<double>& noise_floor_db) {
+  return {{"frequency_hz", r.frequency_hz}, {"peak", r.peak_db},   {"quasi_peak", r.quasi_peak_db},
+          {"average", r.average_db},        {"at_floor", at_floor_text(r, noise_floor_db)}};
 }
 
 std::string point_name(const std::string& at) {
@@ -22,10 +36,11 @@ std::string point_name(const std::string& at) {
 
 std::string scan_csv(const ScanReport& report) {
   const std::string suffix = report.bands.empty() ? "dbuv" : level_suffix(report.bands.front().quantity);
-  std::string text = fmt::format("frequency_hz,peak_{0},quasi_peak_{0},average_{0}\n", suffix);
+  std::string text = fmt::format("frequency_hz,peak_{0},quasi_peak_{0},average_{0},at_floor\n", suffix);
   for (const ScanResult& result : report.bands) {
     for (const Reading& r : result.readings) {
-      text += fmt::format("{:.6g},{:.3f},{:.3f},{:.3f}\n", r.frequency_hz, r.peak_db, r.quasi_peak_db, r.average_db);
+      text += fmt::format("{:.6g},{:.3f},{:.3f},{:.3f},{}\n", r.frequency_hz, r.peak_db, r.quasi_peak_db, r.average_db,
+                          at_floor_text(r, result.noise_floor_db));
     }
   }
   return text;
@@ -42,6 +57,7 @@ std::string scan_json(const ScanReport& report, const std::vector<std::string>& 
     b["band"] = to_string(result.band);
     b["bandwidth_6db_hz"] = result.bandwidth_6db_hz;
     b["step_hz"] = result.step_hz;
+    b["noise_floor"] = result.noise_floor_db ? nlohmann::json(*result.noise_floor_db) : nlohmann::json(nullptr);
     nlohmann::json highest = nlohmann::json::object();
     for (const Detector d : report.detectors) {
       if (const auto best = highest_reading(result, d)) {
@@ -50,7 +66,7 @@ std::string scan_json(const ScanReport& report, const std::vector<std::string>& 
     }
     b["highest"] = highest;
     nlohmann::json readings = nlohmann::json::array();
-    for (const Reading& r : result.readings) readings.push_back(reading_json(r));
+    for (const Reading& r : result.readings) readings.push_back(reading_json(r, result.noise_floor_db));
     b["readings"] = readings;
     b["notes"] = result.notes;
     bands.push_back(b);
@@ -81,6 +97,13 @@ std::string scan_text(const ScanReport& report, bool colour, const std::vector<s
       rows.push_back({to_string(d), level_cell(best->level_db(d)), format_quantity(best->frequency_hz, Dimension::frequency, 6)});
     }
     out += format_columns(rows, {1}, "  ");
+    if (result.noise_floor_db) {
+      const auto at_floor = std::count_if(result.readings.begin(), result.readings.end(), [&](const Reading& r) {
+        return !at_floor_text(r, result.noise_floor_db).empty();
+      });
+      out += fmt::format("  receiver noise floor {}: {} of {} readings at the floor on some detector\n",
+                         level_cell(*result.noise_floor_db) + " " + unit, at_floor, result.readings.size());
+    }
     // The highest readings: local maxima of the peak trace (each line once), or every spot reading.
     const std::vector<Reading> listed = report.spot ? result.readings : peak_maxima(result, scan_text_listed_readings);
     if (!report.spot) out += fmt::format("  the {} highest peaks:\n", listed.size());

@@ -88,6 +88,168 @@ double piecewise_value(const std::vector<Breakpoint>& points, double period_s, d
   return last.value + (first.value - last.value) * (u - last.time_s) / span;
 }
 
+/// Slope at time t in [0, period) of the same waveform (of the segment that holds t).
+double piecewise_slope(const std::vector<Breakpoint>& points, double period_s, double t) {
+  const std::size_t n = points.size();
+  for (std::size_t i = 0; i + 1 < n; ++i) {
+    if (t < points[i + 1].time_s) {
+      if (t < points[i].time_s) break;
+      const double span = points[i + 1].time_s - points[i].time_s;
+      return span > 0.0 ? (points[i + 1].value - points[i].value) / span : 0.0;
+    }
+  }
+  const Breakpoint& last = points.back();
+  const Breakpoint& first = points.front();
+  const double span = first.time_s + period_s - last.time_s;
+  return span > 0.0 ? (first.value - last.value) / span : 0.0;
+}
+
+/// The band-limiting kernel of synthesized records, in units of the sample interval: a windowed
+/// sinc k(u) = sinc(u)·w(u/L), cutoff at half the sample rate, Kaiser window of half-length L
+/// samples, scaled to unit area (unit gain at DC). Kaiser's design formulas (Oppenheim & Schafer,
+/// Discrete-Time Signal Processing, Kaiser-window design, §7.5 of the 3rd ed., from memory):
+/// β = 0.1102·(A − 8.7) for A > 50 dB and length M = (A − 8)/(2.285·Δω); with A = 100 dB and the
+/// transition 0.4–0.6 of the sample rate (Δω = 0.4π) M = 32.0, so L = 17 samples.
+/// docs/references.md, other methods.
+constexpr double kernel_half_length = 17.0;
+constexpr double kernel_beta = 0.1102 * (band_limit_stopband_db - 8.7);
+/// Table points per sample interval: linear and Hermite interpolation between them is accurate to
+/// about 1e-7 of the step (R'' = k ≤ 1: Δ²/8 with Δ = 1/1024), far below the 1e-5 stopband.
+constexpr int kernel_grid = 1024;
+
+/// I0, the modified Bessel function of order 0, by its power series Σ ((x/2)^k / k!)² (terms
+/// fall fast for the x ≤ 11 of the window).
+double bessel_i0(double x) {
+  double term = 1.0;
+  double sum = 1.0;
+  const double q = 0.25 * x * x;
+  for (int k = 1; k < 200 && term > 1e-17 * sum; ++k) {
+    term *= q / (static_cast<double>(k) * static_cast<double>(k));
+    sum += term;
+  }
+  return sum;
+}
+
+/// (e^z − 1)/z and (e^z − 1 − z)/z², by their series near 0 where the direct forms cancel.
+cd phi1(cd z) {
+  if (std::abs(z) < 0.1) return 1.0 + z * (0.5 + z * (1.0 / 6.0 + z * (1.0 / 24.0 + z * (1.0 / 120.0 + z / 720.0))));
+  return (std::exp(z) - 1.0) / z;
+}
+cd phi2(cd z) {
+  if (std::abs(z) < 0.1) {
+    return 0.5 + z * (1.0 / 6.0 + z * (1.0 / 24.0 + z * (1.0 / 120.0 + z * (1.0 / 720.0 + z / 5040.0))));
+  }
+  return (std::exp(z) - 1.0 - z) / (z * z);
+}
+
+/// The band-limited record is the ideal waveform convolved with the kernel, then sampled: an
+/// ideal step becomes ∫k (a band-limited step), a ramp ∫k(s)(u − s)ds and a ringing tail
+/// Im ∫k(s)·e^{q(u−s)}ds. Each differs from the ideal only within ±L samples of its start (the
+/// ringing: after it, by a constant complex factor), so the record is the point-sampled waveform
+/// plus these residuals near each breakpoint (the technique of band-limited steps and ramps).
+class BandLimit {
+ public:
+  /// `ring_pole` = (−1/decay + j·2π·f_ring) × sample interval, or none without ringing.
+  explicit BandLimit(std::optional<cd> ring_pole) : ring_pole_(ring_pole) {
+    const auto n = static_cast<std::size_t>(2.0 * kernel_half_length * kernel_grid);
+    const double du = 1.0 / kernel_grid;
+    const auto kernel = [](double u) {
+      const double r = u / kernel_half_length;
+      const double window = bessel_i0(kernel_beta * std::sqrt(std::max(0.0, 1.0 - r * r))) / bessel_i0(kernel_beta);
+      const double x = std::numbers::pi * u;
+      return (std::fabs(x) < 1e-12 ? 1.0 : std::sin(x) / x) * window;
+    };
+    k_.resize(n + 1);
+    step_.assign(n + 1, 0.0);
+    first_moment_.assign(n + 1, 0.0);
+    for (std::size_t i = 0; i <= n; ++i) k_[i] = kernel(u_at(i));
+    // Cumulative integrals by Simpson's rule on each table interval (with its midpoint).
+    for (std::size_t i = 0; i < n; ++i) {
+      const double u = u_at(i);
+      const double mid = u + 0.5 * du;
+      const double k_mid = kernel(mid);
+      step_[i + 1] = step_[i] + du / 6.0 * (k_[i] + 4.0 * k_mid + k_[i + 1]);
+      first_moment_[i + 1] = first_moment_[i] + du / 6.0 * (u * k_[i] + 4.0 * mid * k_mid + (u + du) * k_[i + 1]);
+    }
+    // Unit area, so the band-limited step settles at 1 and the ramp's residual ends at 0.
+    const double area = step_[n];
+    for (std::size_t i = 0; i <= n; ++i) {
+      k_[i] /= area;
+      step_[i] /= area;
+      first_moment_[i] /= area;
+    }
+    if (ring_pole_) {
+      // D(u) = ∫_{−L}^{u} k(s)·e^{q(u−s)} ds obeys D' = k + q·D; stepped exactly for k linear
+      // on each interval (|e^{qΔ}| ≤ 1, so no growth for any decay).
+      const cd q = *ring_pole_;
+      const cd decay = std::exp(q * du);
+      const cd g1 = du * phi1(q * du);
+      const cd g2 = du * du * phi2(q * du);
+      ring_.assign(n + 1, 0.0);
+      for (std::size_t i = 0; i < n; ++i) {
+        const double slope = (k_[i + 1] - k_[i]) / du;
+        // ∫_0^Δ (k_i + slope·v)·e^{q(Δ−v)} dv with ∫_0^Δ e^{q(Δ−v)} dv = Δ·φ1(qΔ) and
+        // ∫_0^Δ v·e^{q(Δ−v)} dv = Δ²·φ2(qΔ).
+        ring_[i + 1] = decay * ring_[i] + k_[i] * g1 + slope * g2;
+      }
+    }
+  }
+
+  /// Band-limited unit step minus the ideal one (1 from u = 0 on), u in samples.
+  [[nodiscard]] double step_residual(double u) const {
+    if (u <= -kernel_half_length || u >= kernel_half_length) return 0.0;
+    return hermite(step_, k_, u) - (u >= 0.0 ? 1.0 : 0.0);
+  }
+  /// Band-limited unit ramp minus the ideal one (u from u = 0 on), in samples.
+  [[nodiscard]] double ramp_residual(double u) const {
+    if (u <= -kernel_half_length || u >= kernel_half_length) return 0.0;
+    // u·∫k − ∫s·k: derivative ∫k, both tabulated.
+    const std::size_t i = index_at(u);
+    const double d = u - u_at(i);
+    const double du = 1.0 / kernel_grid;
+    const auto value = [&](std::size_t j) { return u_at(j) * step_[j] - first_moment_[j]; };
+    return hermite_segment(value(i), value(i + 1), step_[i], step_[i + 1], d, du) - std::max(u, 0.0);
+  }
+  /// The band-limited ringing tail e^{q·u} (from u = 0 on; its imaginary part is the tail of
+  /// RingingSpec), u in samples; 0 before −L.
+  [[nodiscard]] cd tail(double u) const {
+    if (u <= -kernel_half_length) return 0.0;
+    const cd q = *ring_pole_;
+    if (u >= kernel_half_length) return std::exp(q * (u - kernel_half_length)) * ring_.back();
+    const std::size_t i = index_at(u);
+    const double d = u - u_at(i);
+    const double slope = (k_[i + 1] - k_[i]) * kernel_grid;
+    return std::exp(q * d) * ring_[i] + k_[i] * d * phi1(q * d) + slope * d * d * phi2(q * d);
+  }
+
+ private:
+  [[nodiscard]] static double u_at(std::size_t i) {
+    return -kernel_half_length + static_cast<double>(i) / kernel_grid;
+  }
+  [[nodiscard]] std::size_t index_at(double u) const {
+    const auto i = static_cast<std::size_t>((u + kernel_half_length) * kernel_grid);
+    return std::min(i, k_.size() - 2);
+  }
+  /// Cubic Hermite interpolation on one interval of length h from values and derivatives.
+  [[nodiscard]] static double hermite_segment(double y0, double y1, double d0, double d1, double t, double h) {
+    const double s = t / h;
+    const double s2 = s * s;
+    const double s3 = s2 * s;
+    return (2.0 * s3 - 3.0 * s2 + 1.0) * y0 + (s3 - 2.0 * s2 + s) * h * d0 + (-2.0 * s3 + 3.0 * s2) * y1 +
+           (s3 - s2) * h * d1;
+  }
+  [[nodiscard]] double hermite(const std::vector<double>& y, const std::vector<double>& dy, double u) const {
+    const std::size_t i = index_at(u);
+    return hermite_segment(y[i], y[i + 1], dy[i], dy[i + 1], u - u_at(i), 1.0 / kernel_grid);
+  }
+
+  std::optional<cd> ring_pole_;
+  std::vector<double> k_;             ///< kernel on the grid
+  std::vector<double> step_;          ///< ∫_{−L}^{u} k
+  std::vector<double> first_moment_;  ///< ∫_{−L}^{u} s·k(s) ds
+  std::vector<cd> ring_;              ///< D(u)
+};
+
 Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringing,
                     Quantity quantity, double sample_rate_hz, double duration_s) {
   if (!(sample_rate_hz > 0.0) || !std::isfinite(sample_rate_hz)) {
@@ -120,48 +282,182 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
   waveform.sample_rate_hz = sample_rate_hz;
   waveform.samples.assign(count, 0.0);
 
+  const double dt = 1.0 / sample_rate_hz;
+  const double record_s = static_cast<double>(count) * dt;
   const bool ringing = with_ringing && spec.ringing && spec.ringing->relative_amplitude > 0.0;
   const double ring_amplitude = ringing ? spec.ringing->relative_amplitude * amplitude : 0.0;
-  const double ring_omega = ringing ? two_pi * spec.ringing->frequency_hz : 0.0;
-  const double ring_alpha = ringing ? 1.0 / spec.ringing->decay_s : 0.0;
-  // A tail is negligible after 40 decay times (e^-40 ≈ 4e-18).
-  const double ring_span_s = ringing ? 40.0 * spec.ringing->decay_s : 0.0;
-  struct Edge {
-    double time_s;
-    double sign;
-  };
-  std::deque<Edge> edges;
+  const cd ring_pole_per_s = ringing ? cd(-1.0 / spec.ringing->decay_s, two_pi * spec.ringing->frequency_hz) : cd(0.0);
+  const BandLimit band_limit(ringing ? std::optional<cd>(ring_pole_per_s * dt) : std::nullopt);
+  // A tail is negligible 40 decay times after its start (e^-40 ≈ 4e-18), and the kernel reaches
+  // L samples either side of a breakpoint.
+  const double tail_s = ringing ? 40.0 * spec.ringing->decay_s : 0.0;
+  const double kernel_span_s = kernel_half_length * dt;
 
-  const double dt = 1.0 / sample_rate_hz;
-  std::size_t index = 0;
-  double cycle_start_s = 0.0;
-  while (index < count) {
+  // The receiver takes the record as one period of a periodic signal (receiver.hpp), so the
+  // record is made the band-limited samples of that periodic signal: before t = 0 it continues
+  // with the record's end, and after its last sample with its start. Where the two meet (a
+  // dithered record holds whole modulation periods but rarely whole switching cycles) the
+  // periodic signal steps from the end's value and slope to the start's, and the end's ringing
+  // is cut off: those are breakpoints like any other, band-limited the same way, so nothing of
+  // the join folds either.
+  //
+  // Breakpoints are kept as (cycle start, offset in the cycle), and every comparison with a
+  // sample time is made on t − cycle start, so the point-sampled value and the residuals agree
+  // on which side of a jump a sample falls.
+  struct Kink {  // a jump and a change of slope at start_s + offset_s
+    double start_s;
+    double offset_s;
+    double jump;
+    double slope_change_per_s;
+  };
+  struct Tail {  // a ringing tail Im(coefficient·e^{p·τ}) from start_s + offset_s on
+    double start_s;
+    double offset_s;
+    cd coefficient;
+  };
+  struct Cycle {
+    double start_s;
+    double period_s;
+    std::vector<Breakpoint> points;
+  };
+  const auto period_at = [&](double start_s) {
     double frequency_hz = spec.frequency_hz;
     // The controller's oscillator sets each period from the modulation at the cycle start.
-    if (spec.dither) frequency_hz *= 1.0 + spec.dither->deviation_fraction * dither_profile(*spec.dither, cycle_start_s);
-    const double period_s = 1.0 / frequency_hz;
-    const auto points = breakpoints_for_period(spec, amplitude, period_s);
+    if (spec.dither) frequency_hz *= 1.0 + spec.dither->deviation_fraction * dither_profile(*spec.dither, start_s);
+    return 1.0 / frequency_hz;
+  };
+  std::deque<Kink> kinks;
+  std::deque<Tail> tails;
+  /// The breakpoints and ringing starts of the cycle at `start_s` (its own time base) that fall
+  /// within [from_s, to_s), placed `shift_s` later.
+  const auto add_breakpoints = [&](double start_s, double period_s, double from_s, double to_s, double shift_s) {
+    const std::vector<Breakpoint> p = breakpoints_for_period(spec, amplitude, period_s);
+    const auto kink = [&](double offset_s, double jump, double slope_change_per_s) {
+      const double t = start_s + offset_s;
+      if (t >= from_s && t < to_s) kinks.push_back({start_s + shift_s, offset_s, jump, slope_change_per_s});
+    };
+    // The trapezoid 0 → A → A → 0: ramps (slope changes at both ends) or, for a zero edge, a jump.
+    if (spec.rise_s > 0.0) {
+      kink(p[0].time_s, 0.0, amplitude / spec.rise_s);
+      kink(p[1].time_s, 0.0, -amplitude / spec.rise_s);
+    } else {
+      kink(p[0].time_s, amplitude, 0.0);
+    }
+    if (spec.fall_s > 0.0) {
+      kink(p[2].time_s, 0.0, -amplitude / spec.fall_s);
+      kink(p[3].time_s, 0.0, amplitude / spec.fall_s);
+    } else {
+      kink(p[2].time_s, -amplitude, 0.0);
+    }
     if (ringing) {
       const EdgeEnds ends = edge_ends(spec, period_s);
-      edges.push_back({cycle_start_s + ends.rising_end_s, 1.0});
-      edges.push_back({cycle_start_s + ends.falling_end_s, -1.0});
-    }
-    const double cycle_end_s = cycle_start_s + period_s;
-    for (; index < count; ++index) {
-      const double t = static_cast<double>(index) * dt;
-      if (t >= cycle_end_s) break;
-      double value = piecewise_value(points, period_s, t - cycle_start_s);
-      if (ringing) {
-        while (!edges.empty() && t - edges.front().time_s > ring_span_s) edges.pop_front();
-        for (const Edge& edge : edges) {
-          const double since = t - edge.time_s;
-          if (since <= 0.0) continue;
-          value += edge.sign * ring_amplitude * std::exp(-ring_alpha * since) * std::sin(ring_omega * since);
-        }
+      for (const auto& [offset_s, sign] : {std::pair{ends.rising_end_s, 1.0}, std::pair{ends.falling_end_s, -1.0}}) {
+        const double t = start_s + offset_s;
+        if (t >= from_s && t < to_s) tails.push_back({start_s + shift_s, offset_s, cd(sign * ring_amplitude)});
       }
-      waveform.samples[index] = value;
     }
-    cycle_start_s = cycle_end_s;
+  };
+
+  // One pass over the cycle starts (no samples): the cycles that reach into the record's last
+  // kernel span and tail, and the value and slope of the trapezoid at its end.
+  const double first_period_s = period_at(0.0);
+  const double end_window_s = std::max(0.0, record_s - kernel_span_s - tail_s);
+  std::vector<std::pair<double, double>> end_cycles;  // (start, period)
+  {
+    double start_s = 0.0;
+    while (start_s < record_s) {
+      const double period_s = period_at(start_s);
+      if (start_s + period_s > end_window_s - period_s) end_cycles.emplace_back(start_s, period_s);
+      start_s += period_s;
+    }
+  }
+  const auto& [last_start_s, last_period_s] = end_cycles.back();
+  const std::vector<Breakpoint> last_points = breakpoints_for_period(spec, amplitude, last_period_s);
+  const double end_value = piecewise_value(last_points, last_period_s, record_s - last_start_s);
+  const double end_slope_per_s = piecewise_slope(last_points, last_period_s, record_s - last_start_s);
+  // Ringing tails alive at the record's end, and those of the cycle before t = 0 (with the first
+  // cycle's period, so a record of whole undithered periods joins seamlessly), as complex
+  // amplitudes at the join.
+  std::vector<cd> end_tails;
+  std::vector<cd> previous_tails;
+  if (ringing) {
+    for (const auto& [start_s, period_s] : end_cycles) {
+      const EdgeEnds ends = edge_ends(spec, period_s);
+      for (const auto& [offset_s, sign] : {std::pair{ends.rising_end_s, 1.0}, std::pair{ends.falling_end_s, -1.0}}) {
+        const double age_s = record_s - (start_s + offset_s);
+        if (age_s > 0.0 && age_s < tail_s) end_tails.push_back(sign * ring_amplitude * std::exp(ring_pole_per_s * age_s));
+      }
+    }
+    const EdgeEnds ends = edge_ends(spec, first_period_s);
+    for (const auto& [offset_s, sign] : {std::pair{ends.rising_end_s, 1.0}, std::pair{ends.falling_end_s, -1.0}}) {
+      const double age_s = first_period_s - offset_s;
+      if (age_s > 0.0 && age_s < tail_s) previous_tails.push_back(sign * ring_amplitude * std::exp(ring_pole_per_s * age_s));
+    }
+  }
+  /// The join at `at_s` (0 or the record's end): the trapezoid steps from the end's value and
+  /// slope to the start's off state (0, flat), the end's tails stop and the previous cycle's go on.
+  const auto add_join = [&](double at_s) {
+    kinks.push_back({at_s, 0.0, -end_value, -end_slope_per_s});
+    for (const cd c : end_tails) tails.push_back({at_s, 0.0, -c});
+    for (const cd c : previous_tails) tails.push_back({at_s, 0.0, c});
+  };
+  /// The record's first cycles (those within the kernel span of its start) placed `shift_s` later.
+  const auto add_start_cycles = [&](double shift_s) {
+    double start_s = 0.0;
+    while (start_s < kernel_span_s && start_s < record_s) {
+      const double period_s = period_at(start_s);
+      add_breakpoints(start_s, period_s, 0.0, record_s, shift_s);
+      start_s += period_s;
+    }
+  };
+
+  // Before t = 0: the record's end, placed one record earlier, then the join.
+  for (const auto& [start_s, period_s] : end_cycles) {
+    add_breakpoints(start_s, period_s, end_window_s - kernel_span_s, record_s, -record_s);
+  }
+  add_join(0.0);
+
+  std::deque<Cycle> cycles;
+  double next_start_s = 0.0;
+  bool wrapped = false;
+  for (std::size_t index = 0; index < count; ++index) {
+    const double t = static_cast<double>(index) * dt;
+    // Cycles up to t + L samples (their breakpoints reach back through the kernel); past the
+    // record's end, the join and the record's start.
+    while (!wrapped) {
+      if (next_start_s >= record_s) {
+        if (record_s <= t + kernel_span_s) {
+          add_join(record_s);
+          add_start_cycles(record_s);
+          wrapped = true;
+        }
+        break;
+      }
+      if (next_start_s > t + kernel_span_s) break;
+      const double period_s = period_at(next_start_s);
+      cycles.push_back({next_start_s, period_s, breakpoints_for_period(spec, amplitude, period_s)});
+      add_breakpoints(next_start_s, period_s, 0.0, record_s, 0.0);
+      next_start_s += period_s;
+    }
+    while (cycles.size() > 1 && t - cycles.front().start_s >= cycles.front().period_s) cycles.pop_front();
+    while (!kinks.empty() && (t - kinks.front().start_s) - kinks.front().offset_s >= kernel_span_s) kinks.pop_front();
+    while (!tails.empty() && (t - tails.front().start_s) - tails.front().offset_s > kernel_span_s + tail_s) {
+      tails.pop_front();
+    }
+    const Cycle& cycle = cycles.front();
+    double value = piecewise_value(cycle.points, cycle.period_s, t - cycle.start_s);
+    for (const Kink& kink : kinks) {
+      const double u = ((t - kink.start_s) - kink.offset_s) / dt;
+      if (u <= -kernel_half_length) break;  // later breakpoints are later still
+      if (kink.jump != 0.0) value += kink.jump * band_limit.step_residual(u);
+      if (kink.slope_change_per_s != 0.0) value += kink.slope_change_per_s * dt * band_limit.ramp_residual(u);
+    }
+    for (const Tail& tail : tails) {
+      const double u = ((t - tail.start_s) - tail.offset_s) / dt;
+      if (u <= -kernel_half_length) break;
+      value += (tail.coefficient * band_limit.tail(u)).imag();
+    }
+    waveform.samples[index] = value;
   }
   return waveform;
 }

@@ -132,9 +132,25 @@ struct TrapezoidCorners {
 [[nodiscard]] double trapezoid_envelope_rms(const SwitchingSpec& spec, double amplitude,
                                             double frequency_hz);
 
+/// The synthesized records are band-limited before sampling (issue 14: point-sampled records put
+/// the 45–50 MHz harmonics at 25–30 MHz in band B): the ideal waveform is convolved with a
+/// Kaiser-windowed sinc cut off at half the sample rate, flat within ±band_limit_passband_ripple
+/// up to band_limit_passband_fraction of the sample rate and at least band_limit_stopband_db down
+/// from band_limit_stopband_fraction of it, so nothing above 0.6·fs folds below 0.4·fs. The
+/// receiver samples at 2.5× the highest frequency it reads, which puts its whole passband at
+/// 0.4·fs. 100 dB (judgement): a ringing resonance may lift the harmonics that fold by some 40 dB
+/// over those they land on, and a fold 60 dB below a line changes its reading by under 0.01 dB.
+inline constexpr double band_limit_stopband_db = 100.0;
+inline constexpr double band_limit_passband_fraction = 0.4;
+inline constexpr double band_limit_stopband_fraction = 0.6;
+/// Linear passband deviation of the kernel, 1e-5 (Kaiser: δ = 10^(−A/20)), 0.0001 dB.
+inline constexpr double band_limit_passband_ripple = 1e-5;
+
 /// Samples of the switch-node voltage (with ringing and dither) at sample_rate_hz for duration_s,
-/// starting at t = 0 at a rising edge. The waveform is point-sampled: choose a sample rate well
-/// above the highest frequency of interest (the trapezoid falls at 40 dB/decade above f2).
+/// starting at t = 0 at a rising edge (the cycle before it taken with the first cycle's period),
+/// band-limited as above: the exact samples of the waveform filtered by the kernel, computed as the
+/// point-sampled waveform plus the kernel's residual of each step, ramp and ringing start within
+/// ±17 samples of it. Same memory as the record; no oversampling.
 [[nodiscard]] Waveform synthesize_switch_node(const SwitchingSpec& spec, double sample_rate_hz,
                                               double duration_s);
 /// Samples of the pulsed input current (with dither, no ringing).

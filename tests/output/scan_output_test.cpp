@@ -1,5 +1,5 @@
 // Tests of core/output/scan_output: the scan CSV columns are the interface names of docs/design.md §4
-// (frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv; dbua for a current), its values read back at
+// (frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor; dbua for a current), its values read back at
 // the written resolution, the JSON parses with nlohmann::json and holds the same numbers and the
 // highest reading per detector, and the text lists each line of the peak trace once.
 #include <doctest/doctest.h>
@@ -52,7 +52,7 @@ TEST_CASE("scan_csv: interface columns and values read back at the written resol
   std::istringstream in(scan_csv(report));
   std::string line;
   REQUIRE(std::getline(in, line));
-  CHECK(line == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv");
+  CHECK(line == "frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv,at_floor");
   for (const Reading& r : report.bands[0].readings) {
     REQUIRE(std::getline(in, line));
     std::istringstream cells(line);
@@ -68,7 +68,27 @@ TEST_CASE("scan_csv: interface columns and values read back at the written resol
   CHECK_FALSE(std::getline(in, line));
   ScanReport current = report;
   current.bands[0].quantity = Quantity::current;
-  CHECK(scan_csv(current).rfind("frequency_hz,peak_dbua,quasi_peak_dbua,average_dbua\n", 0) == 0);
+  CHECK(scan_csv(current).rfind("frequency_hz,peak_dbua,quasi_peak_dbua,average_dbua,at_floor\n", 0) == 0);
+}
+
+TEST_CASE("scan_csv and scan_json: at_floor names the detectors held at the band's noise floor") {
+  ScanReport report = example_report();
+  apply_noise_floor(report.bands[0], 39.0);  // at or above every peak but the last one's 39.0
+  std::istringstream in(scan_csv(report));
+  std::string line;
+  REQUIRE(std::getline(in, line));
+  std::vector<std::string> at_floor;
+  while (std::getline(in, line)) at_floor.push_back(line.substr(line.rfind(',') + 1));
+  // Peaks 40.12, 58.99, 44.5, 61.0, 39.0; quasi-peak 2.5 dB and average 9.75 dB lower.
+  const std::vector<std::string> expected{"quasi-peak+average", "", "average", "", "peak+quasi-peak+average"};
+  CHECK(at_floor == expected);
+  const nlohmann::json j = nlohmann::json::parse(scan_json(report, {}));
+  CHECK(std::abs(j["bands"][0]["noise_floor"].get<double>() - 39.0) < csv_level_resolution_db);
+  CHECK(j["bands"][0]["readings"][4]["at_floor"] == "peak+quasi-peak+average");
+  CHECK(j["bands"][0]["readings"][1]["at_floor"] == "");
+  CHECK(scan_text(report, false, {}).find("receiver noise floor 39.00 dB\xC2\xB5V: 3 of 5 readings at the floor") !=
+        std::string::npos);
+  CHECK(nlohmann::json::parse(scan_json(example_report(), {}))["bands"][0]["noise_floor"].is_null());
 }
 
 TEST_CASE("scan_json: parses, holds the readings and the highest reading per detector") {
