@@ -259,7 +259,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   const std::optional<double> step_hz = options.step_hz ? options.step_hz : scenario.receiver.step_hz;
   const double top_hz = highest_frequency_hz(bands);
 
-  const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn);
+  const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn, scenario.converter);
   const bool battery = scenario.supply.kind == SupplyKind::battery;
   p.setup_description = battery ? "battery supply: no LISN; " + format_quantity(scenario.supply.lead_length_m, Dimension::length) +
                                       " leads " + format_quantity(scenario.supply.lead_spacing_m, Dimension::length) + " apart"

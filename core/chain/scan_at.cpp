@@ -48,7 +48,7 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
   const double top_hz = band.stop_hz + 2.0 * band.bandwidth_6db_hz;
   std::vector<std::string> notes;
   std::optional<ConductedModel> model;
-  if (at == "lisn") model.emplace(scenario.coupling, scenario.filters, scenario.lisn);
+  if (at == "lisn") model.emplace(scenario.coupling, scenario.filters, scenario.lisn, scenario.converter);
 
   auto scan_two_lines = [&](auto&& scan_line) {
     std::optional<ScanResult> line2;

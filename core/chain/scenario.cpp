@@ -10,7 +10,8 @@ namespace spurcast {
 const std::vector<std::string>& scenario_sections() {
   static const std::vector<std::string> sections{"title",  "description", "switching", "capture",
                                                  "coupling", "filter",    "lisn",      "receiver",
-                                                 "limits", "broadcast", "supply",   "board"};
+                                                 "limits", "broadcast", "supply",   "board",
+                                                 "converter"};
   return sections;
 }
 
@@ -42,6 +43,24 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
     TableReader reader(*section, file, "coupling");
     scenario.coupling = read_coupling_section(reader);
     scenario.has_coupling = true;
+  }
+  if (const toml::table* section = top.optional_table("converter")) {
+    TableReader reader(*section, file, "converter");
+    scenario.converter = read_converter_section(reader);
+    const ConverterSpec& converter = scenario.converter;
+    if (converter.inductor_ripple_a && !scenario.switching) {
+      throw Error(converter.ripple_where, "'inductor_ripple' shapes the described input current: it needs [switching]");
+    }
+    if (scenario.switching) {
+      // The source stage knows the input current's shape, not the topology (docs/design.md §5).
+      SwitchingSpec& spec = *scenario.switching;
+      const bool boost = converter.topology == Topology::boost || converter.topology == Topology::boost_pfc;
+      spec.input_current_shape = boost ? InputCurrentShape::triangular : InputCurrentShape::pulsed;
+      spec.current_ripple_a = converter.inductor_ripple_a.value_or(0.0);
+      if (const auto problem = switching_problem(spec)) {
+        throw Error(problem->key == "inductor_ripple" ? converter.ripple_where : converter.where, problem->message);
+      }
+    }
   }
   int index = 0;
   for (const toml::table* stage : top.table_array("filter")) {

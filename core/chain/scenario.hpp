@@ -18,6 +18,7 @@
 #include "core/radio/product.hpp"
 #include "core/source/capture.hpp"
 #include "core/coupling/conducted.hpp"
+#include "core/coupling/converter.hpp"
 #include "core/coupling/filter.hpp"
 #include "core/compliance/limits.hpp"
 #include "core/coupling/lisn.hpp"
@@ -36,6 +37,7 @@ struct Scenario {
   std::optional<CaptureSpec> capture;      ///< [capture]: a captured waveform instead
   CouplingSpec coupling;                   ///< [coupling]
   bool has_coupling = false;               ///< whether [coupling] was given
+  ConverterSpec converter;                 ///< [converter] (buck when absent); its ripple is in switching
   std::vector<FilterStage> filters;        ///< [[filter]], listed from the LISN side
   LisnSpec lisn;                           ///< [lisn]
   ReceiverSpec receiver;                   ///< [receiver]

@@ -87,7 +87,7 @@ SpectrumResult sampled_result(Capture capture, FftPlanner& planner, const Spectr
     result.quantity = capture.waveform.quantity;
     result.rows = rows_from_table(sampled_table(std::move(capture.waveform), window, planner, settings.threads, f0_hz, max_frequency_hz, result));
   } else {
-    const ConductedModel model(scenario->coupling, scenario->filters, scenario->lisn);
+    const ConductedModel model(scenario->coupling, scenario->filters, scenario->lisn, scenario->converter);
     Waveform source_v;
     Waveform source_i;
     (is_current ? source_i : source_v) = capture.waveform;
@@ -148,7 +148,7 @@ SpectrumResult described_result(const Scenario& scenario, const std::string& at,
     }
     return result;
   }
-  const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn);
+  const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn, scenario.converter);
   const ConductedResult conducted =
       conduct(switch_node_spectrum(spec, max_frequency_hz), input_current_spectrum(spec, max_frequency_hz), model);
   result.what = "LISN receiver port (described source)";

@@ -480,7 +480,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
       point.method = "lines";
       point.switching_frequency_hz = scenario.switching->frequency_hz;
       std::optional<ConductedModel> own_model;
-      if (!ctx.shared_model) own_model.emplace(scenario.coupling, scenario.filters, scenario.lisn);
+      if (!ctx.shared_model) own_model.emplace(scenario.coupling, scenario.filters, scenario.lisn, scenario.converter);
       const LinesOutcome outcome = evaluate_lines(scenario, own_model ? *own_model : *ctx.model, bands, ctx);
       fill_margins(point, outcome.margins, ctx);
       fill_bands(point, outcome.reception, ctx);
@@ -969,10 +969,12 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   for (const SweepAxis& axis : options.axes) {
     const std::string section = key_parts(axis.key).front();
     if (section == "limits") ctx.reread_limits = true;
-    if (section == "coupling" || section == "filter" || section == "lisn") ctx.shared_model = false;
+    if (section == "coupling" || section == "filter" || section == "lisn" || section == "converter") {
+      ctx.shared_model = false;
+    }
     if (section == "broadcast") ctx.shared_bands = false;
   }
-  if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn);
+  if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn, ctx.base.converter);
   ctx.bands = bands_for(ctx.base.broadcast, ctx.base.data);
   for (const Band& band : ctx.bands) ctx.channel_centres.push_back(band.channel_centres_hz());
 

@@ -45,7 +45,8 @@ struct Built {
   std::vector<Probe> probes;
 };
 
-Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>& filters, const LisnSpec& lisn) {
+Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>& filters, const LisnSpec& lisn,
+                    const ConverterSpec& converter) {
   Built built;
   Network& net = built.network;
   // EUT-side line nodes and the LISN terminals; a 0 V source between them is the ammeter of the
@@ -73,6 +74,21 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
   if (coupling.parasitic_capacitance_f > 0.0) {
     net.add_capacitor(switch_node, Network::ground, coupling.parasitic_capacitance_f, 0.0, 0.0, "parasitic capacitance");
   }
+  if (converter.topology == Topology::flyback) {
+    // The isolation barrier (header): the transformer's interwinding capacitance from the primary's
+    // switched end into the secondary, whose earth capacitance closes the common-mode loop.
+    const NodeId secondary = net.node("secondary");
+    net.add_capacitor(switch_node, secondary, converter.interwinding_capacitance_f, 0.0, 0.0,
+                      "interwinding capacitance");
+    if (converter.secondary_capacitance_f > 0.0) {
+      net.add_capacitor(secondary, Network::ground, converter.secondary_capacitance_f, 0.0, 0.0,
+                        "secondary capacitance");
+    }
+    if (converter.y_capacitance_f > 0.0) {
+      net.add_capacitor(secondary, converter_negative, converter.y_capacitance_f, 0.0, 0.0, "Y capacitor");
+    }
+    net.add_resistor(secondary, converter_negative, barrier_resistance_ohm, "barrier insulation");
+  }
   // Sources 2, 3: ammeters. With one network, line 2's "ammeter" is the bond of the return to the
   // reference ground at the equipment.
   const ElementId ammeter1 = net.add_voltage_source(terminal1, line1, "line 1 ammeter");
@@ -85,11 +101,11 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
 }
 
 NetworkSolver make_solver(const CouplingSpec& coupling, const std::vector<FilterStage>& filters,
-                          const LisnSpec& lisn, std::vector<Probe>& probes) {
+                          const LisnSpec& lisn, const ConverterSpec& converter, std::vector<Probe>& probes) {
   if (lisn.lines != 1 && lisn.lines != 2) {
     throw Error("expected 1 or 2 LISN lines, found " + std::to_string(lisn.lines));
   }
-  Built built = build_network(coupling, filters, lisn);
+  Built built = build_network(coupling, filters, lisn, converter);
   probes = built.probes;
   try {
     return NetworkSolver(std::move(built.network));
@@ -111,8 +127,12 @@ NetworkSolver make_solver(const CouplingSpec& coupling, const std::vector<Filter
 }  // namespace
 
 ConductedModel::ConductedModel(const CouplingSpec& coupling, const std::vector<FilterStage>& filters,
-                               const LisnSpec& lisn)
-    : coupling_(coupling), lisn_(lisn), probes_(), solver_(make_solver(coupling, filters, lisn, probes_)) {}
+                               const LisnSpec& lisn, const ConverterSpec& converter)
+    : coupling_(coupling),
+      converter_(converter),
+      lisn_(lisn),
+      probes_(),
+      solver_(make_solver(coupling, filters, lisn, converter, probes_)) {}
 
 std::string ConductedModel::setup_description() const {
   const bool cispr25 = lisn_.model == LisnModel::v_network_5uh;
@@ -136,6 +156,22 @@ std::string ConductedModel::setup_description() const {
   } else {
     text += "; practical networks with coupling capacitor and 1 k\xCE\xA9 discharge resistor (part values "
             "from memory): the port reads the terminal voltage less the voltage division factor";
+  }
+  // Nothing added for a buck: its description is the one every earlier result carries.
+  switch (converter_.topology) {
+    case Topology::buck: break;
+    case Topology::boost:
+      text += "; boost converter: the input capacitor supplies the inductor's triangular ripple";
+      break;
+    case Topology::boost_pfc:
+      text += "; boost PFC stage taken at the crest of the mains cycle (the mains gating of the switching "
+              "current is not modelled)";
+      break;
+    case Topology::flyback:
+      text += "; flyback converter: the drain swing drives the transformer's interwinding capacitance into the "
+              "secondary and its capacitance to earth";
+      if (converter_.y_capacitance_f > 0.0) text += ", with a Y capacitor across the barrier";
+      break;
   }
   return text;
 }

@@ -14,6 +14,12 @@
 ///  - common mode: the switch-node voltage V_sw (a LineSpectrum in V, referred to conv−) drives the
 ///    parasitic capacitance to the reference ground; that current returns through the LISNs, which
 ///    a CM source sees in parallel.
+/// A flyback ([converter] topology = "flyback", converter.hpp) adds the paths across its isolation
+/// barrier: switch node ── interwinding C ── secondary; secondary ── secondary C ── reference ground;
+/// secondary ── Y capacitor ∥ barrier_resistance_ohm ── conv−. The drain swing then drives common-mode
+/// current through the transformer into the secondary's earth capacitance, returning through the
+/// LISNs, and the Y capacitor shunts part of it back to the primary. Other topologies use the circuit
+/// above; they differ in the input current's shape (SwitchingSpec::input_current_shape).
 /// Superposition holds (linear network): both sources are solved at once with unit amplitude and the
 /// responses are weighted by the source phasors.
 ///
@@ -25,6 +31,7 @@
 #include <string>
 #include <vector>
 
+#include "core/coupling/converter.hpp"
 #include "core/coupling/filter.hpp"
 #include "core/coupling/lisn.hpp"
 #include "core/coupling/network.hpp"
@@ -51,12 +58,15 @@ struct CouplingSpec {
 class ConductedModel {
  public:
   /// Builds LISN(s) + filter stages (from the LISN side) + converter input capacitor + the DM and CM
-  /// sources. Throws Error if a filter stage is invalid or the network has a floating node.
-  ConductedModel(const CouplingSpec& coupling, const std::vector<FilterStage>& filters, const LisnSpec& lisn);
+  /// sources, and the topology's own paths (`converter`, buck by default). Throws Error if a filter
+  /// stage is invalid or the network has a floating node.
+  ConductedModel(const CouplingSpec& coupling, const std::vector<FilterStage>& filters, const LisnSpec& lisn,
+                 const ConverterSpec& converter = ConverterSpec{});
 
   [[nodiscard]] const NetworkSolver& solver() const noexcept { return solver_; }
   [[nodiscard]] const LisnSpec& lisn() const noexcept { return lisn_; }
   [[nodiscard]] const CouplingSpec& coupling() const noexcept { return coupling_; }
+  [[nodiscard]] const ConverterSpec& converter() const noexcept { return converter_; }
   /// Number of LISN ports (1 or 2).
   [[nodiscard]] int line_count() const noexcept { return lisn_.lines; }
   /// A human-readable description of the measurement set-up for the report, e.g.
@@ -73,6 +83,7 @@ class ConductedModel {
 
  private:
   CouplingSpec coupling_;
+  ConverterSpec converter_;
   LisnSpec lisn_;
   std::vector<Probe> probes_;
   NetworkSolver solver_;

@@ -65,6 +65,71 @@ std::vector<Breakpoint> breakpoints_for_period(const SwitchingSpec& spec, double
           {fall_start_s + spec.fall_s, 0.0}};
 }
 
+/// One period of the input current (input_current_breakpoints, source.hpp).
+std::vector<Breakpoint> current_breakpoints_for_period(const SwitchingSpec& spec, double period_s) {
+  const double ripple = spec.current_ripple_a;
+  const double on_start_s = spec.rise_s / 2.0;
+  const double on_end_s = on_start_s + spec.duty * period_s;
+  if (spec.input_current_shape == InputCurrentShape::triangular) {
+    // Boost inductor current in continuous conduction: rises by the ripple while the switch is on,
+    // falls back while it is off (Erickson & Maksimović, Fundamentals of Power Electronics, 2nd
+    // ed., §2.2); the mean is current_a.
+    // Its minimum sits at the cycle start (where the switch begins to turn on), so that cycles of
+    // different lengths (dither) meet at the same value.
+    return {{0.0, spec.current_a - ripple / 2.0}, {spec.duty * period_s, spec.current_a + ripple / 2.0}};
+  }
+  if (ripple == 0.0) return breakpoints_for_period(spec, spec.current_a, period_s);
+  // The pulse follows the inductor (or magnetising) current's ramp i(t) through (on_start,
+  // I − ΔI/2) and (on_end, I + ΔI/2) between the edges (Erickson & Maksimović §2.2, Fig. 2.10);
+  // the edges ramp from and to zero with the switch node's timing.
+  const auto ramp = [&](double t) { return spec.current_a - ripple / 2.0 + ripple * (t - on_start_s) / (on_end_s - on_start_s); };
+  const double fall_start_s = on_end_s - spec.fall_s / 2.0;
+  return {{0.0, 0.0}, {spec.rise_s, ramp(spec.rise_s)}, {fall_start_s, ramp(fall_start_s)}, {fall_start_s + spec.fall_s, 0.0}};
+}
+
+/// A period of the voltage (trapezoid of `amplitude`) or of the input current.
+std::vector<Breakpoint> period_breakpoints(const SwitchingSpec& spec, Quantity quantity, double amplitude,
+                                           double period_s) {
+  if (quantity == Quantity::current) return current_breakpoints_for_period(spec, period_s);
+  return breakpoints_for_period(spec, amplitude, period_s);
+}
+
+/// A jump and a change of slope of a periodic piecewise-linear waveform at time_s in [0, period).
+struct PeriodicKink {
+  double time_s;
+  double jump;
+  double slope_change_per_s;
+};
+/// The kinks of the waveform through `points` (sorted, within one period; coincident times make a
+/// jump), the last segment joining the last point to the first one a period later: as in
+/// piecewise_linear_series.
+std::vector<PeriodicKink> periodic_kinks(const std::vector<Breakpoint>& points, double period_s) {
+  struct Node {
+    double time_s, in, out;
+  };
+  std::vector<Node> nodes;
+  for (const Breakpoint& p : points) {
+    if (!nodes.empty() && p.time_s - nodes.back().time_s <= 1e-15 * period_s) {
+      nodes.back().out = p.value;
+    } else {
+      nodes.push_back({p.time_s, p.value, p.value});
+    }
+  }
+  const std::size_t n = nodes.size();
+  std::vector<double> slope(n);
+  for (std::size_t g = 0; g < n; ++g) {
+    const Node& a = nodes[g];
+    const Node& b = nodes[(g + 1) % n];
+    const double span = (g + 1 < n ? b.time_s : b.time_s + period_s) - a.time_s;
+    slope[g] = span > 0.0 ? (b.in - a.out) / span : 0.0;
+  }
+  std::vector<PeriodicKink> kinks;
+  for (std::size_t g = 0; g < n; ++g) {
+    kinks.push_back({nodes[g].time_s, nodes[g].out - nodes[g].in, slope[g] - slope[(g + n - 1) % n]});
+  }
+  return kinks;
+}
+
 /// Value at time t in [0, period) of the periodic piecewise-linear waveform through `points`.
 double piecewise_value(const std::vector<Breakpoint>& points, double period_s, double t) {
   // The waveform holds points[0].value before the first breakpoint when points[0].time_s > 0
@@ -284,6 +349,9 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
 
   const double dt = 1.0 / sample_rate_hz;
   const double record_s = static_cast<double>(count) * dt;
+  // The switch-node trapezoid, or an input current whose shape [converter] changed (source.hpp).
+  const bool is_trapezoid = quantity == Quantity::voltage || (spec.input_current_shape == InputCurrentShape::pulsed &&
+                                                              spec.current_ripple_a == 0.0);
   const bool ringing = with_ringing && spec.ringing && spec.ringing->relative_amplitude > 0.0;
   const double ring_amplitude = ringing ? spec.ringing->relative_amplitude * amplitude : 0.0;
   const cd ring_pole_per_s = ringing ? cd(-1.0 / spec.ringing->decay_s, two_pi * spec.ringing->frequency_hz) : cd(0.0);
@@ -331,11 +399,16 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
   /// The breakpoints and ringing starts of the cycle at `start_s` (its own time base) that fall
   /// within [from_s, to_s), placed `shift_s` later.
   const auto add_breakpoints = [&](double start_s, double period_s, double from_s, double to_s, double shift_s) {
-    const std::vector<Breakpoint> p = breakpoints_for_period(spec, amplitude, period_s);
+    const std::vector<Breakpoint> p = period_breakpoints(spec, quantity, amplitude, period_s);
     const auto kink = [&](double offset_s, double jump, double slope_change_per_s) {
       const double t = start_s + offset_s;
       if (t >= from_s && t < to_s) kinks.push_back({start_s + shift_s, offset_s, jump, slope_change_per_s});
     };
+    if (!is_trapezoid) {
+      // Another input-current shape ([converter]): every node's jump and change of slope.
+      for (const PeriodicKink& k : periodic_kinks(p, period_s)) kink(k.time_s, k.jump, k.slope_change_per_s);
+      return;
+    }
     // The trapezoid 0 → A → A → 0: ramps (slope changes at both ends) or, for a zero edge, a jump.
     if (spec.rise_s > 0.0) {
       kink(p[0].time_s, 0.0, amplitude / spec.rise_s);
@@ -372,9 +445,14 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
     }
   }
   const auto& [last_start_s, last_period_s] = end_cycles.back();
-  const std::vector<Breakpoint> last_points = breakpoints_for_period(spec, amplitude, last_period_s);
+  const std::vector<Breakpoint> last_points = period_breakpoints(spec, quantity, amplitude, last_period_s);
   const double end_value = piecewise_value(last_points, last_period_s, record_s - last_start_s);
   const double end_slope_per_s = piecewise_slope(last_points, last_period_s, record_s - last_start_s);
+  // The state just before the first cycle's first breakpoint: the trapezoid's off state (0, flat);
+  // another input-current shape's wrap segment at t = 0 (a boost's falling ripple).
+  const std::vector<Breakpoint> first_points = period_breakpoints(spec, quantity, amplitude, first_period_s);
+  const double start_value = is_trapezoid ? 0.0 : first_points.front().value;
+  const double start_slope_per_s = is_trapezoid ? 0.0 : piecewise_slope(first_points, first_period_s, first_period_s);
   // Ringing tails alive at the record's end, and those of the cycle before t = 0 (with the first
   // cycle's period, so a record of whole undithered periods joins seamlessly), as complex
   // amplitudes at the join.
@@ -397,7 +475,7 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
   /// The join at `at_s` (0 or the record's end): the trapezoid steps from the end's value and
   /// slope to the start's off state (0, flat), the end's tails stop and the previous cycle's go on.
   const auto add_join = [&](double at_s) {
-    kinks.push_back({at_s, 0.0, -end_value, -end_slope_per_s});
+    kinks.push_back({at_s, 0.0, start_value - end_value, start_slope_per_s - end_slope_per_s});
     for (const cd c : end_tails) tails.push_back({at_s, 0.0, -c});
     for (const cd c : previous_tails) tails.push_back({at_s, 0.0, c});
   };
@@ -435,7 +513,7 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
       }
       if (next_start_s > t + kernel_span_s) break;
       const double period_s = period_at(next_start_s);
-      cycles.push_back({next_start_s, period_s, breakpoints_for_period(spec, amplitude, period_s)});
+      cycles.push_back({next_start_s, period_s, period_breakpoints(spec, quantity, amplitude, period_s)});
       add_breakpoints(next_start_s, period_s, 0.0, record_s, 0.0);
       next_start_s += period_s;
     }
@@ -479,7 +557,7 @@ LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude, boo
   const auto count = static_cast<std::size_t>(count_real);
   const double period_s = spec.period_s();
   LineSpectrum spectrum =
-      piecewise_linear_series(breakpoints_for_period(spec, amplitude, period_s), period_s, count, quantity);
+      piecewise_linear_series(period_breakpoints(spec, quantity, amplitude, period_s), period_s, count, quantity);
   if (with_ringing && spec.ringing && spec.ringing->relative_amplitude > 0.0) {
     const double a = spec.ringing->relative_amplitude * amplitude;
     const EdgeEnds ends = edge_ends(spec, period_s);
@@ -523,6 +601,13 @@ std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
     return problem("current", "expected a current of at most " + format_quantity(max_current_a, Dimension::current) +
                                   " (beyond any power converter; larger currents overflow the levels), found " +
                                   found_text(spec.current_a, Dimension::current, "A"));
+  }
+  // A pulse's ramp and a continuous triangle both stay at or above zero (continuous conduction).
+  if (!(spec.current_ripple_a >= 0.0 && spec.current_ripple_a <= 2.0 * spec.current_a * (1.0 + 1e-12))) {
+    return problem("inductor_ripple", "expected an inductor ripple from 0 to twice the current (" +
+                                          format_quantity(2.0 * spec.current_a, Dimension::current) +
+                                          ", continuous conduction), found " +
+                                          found_text(spec.current_ripple_a, Dimension::current, "A"));
   }
   if (spec.rise_s < 0.0 || spec.fall_s < 0.0) {
     return problem(spec.rise_s < 0.0 ? "rise" : "fall", "rise and fall times must not be negative");
@@ -698,6 +783,11 @@ LineSpectrum piecewise_linear_series(const std::vector<Breakpoint>& points, doub
 std::vector<Breakpoint> trapezoid_breakpoints(const SwitchingSpec& spec, double amplitude) {
   validate_switching(spec);
   return breakpoints_for_period(spec, amplitude, spec.period_s());
+}
+
+std::vector<Breakpoint> input_current_breakpoints(const SwitchingSpec& spec) {
+  validate_switching(spec);
+  return current_breakpoints_for_period(spec, spec.period_s());
 }
 
 LineSpectrum switch_node_spectrum(const SwitchingSpec& spec, double max_frequency_hz) {

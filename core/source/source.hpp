@@ -62,11 +62,21 @@ inline constexpr std::size_t max_harmonic_count = std::size_t{1} << 20;
 /// dither rate must be at least sample rate / 2^23 (8.9 Hz in band B).
 inline constexpr std::size_t max_record_samples = std::size_t{1} << 23;
 
+/// The shape of the input current the switching cell draws from the input capacitor
+/// (docs/design.md §5, [converter]):
+///  - pulsed: zero in the off time; in the on time a ramp of current_ripple_a peak to peak centred on
+///    current_a (buck input current, flyback primary current; a flat top without ripple);
+///  - triangular: the continuous inductor current of a boost, current_a (DC) plus a triangle of
+///    current_ripple_a peak to peak rising during the on time and falling during the off time.
+enum class InputCurrentShape { pulsed, triangular };
+
 struct SwitchingSpec {
   double frequency_hz = 0.0;  ///< switching frequency f0 [Hz] > 0
   double duty = 0.5;          ///< pulse width at 50 % / period, in (0, 1)
   double amplitude_v = 0.0;   ///< switch-node swing [V] in [0, max_amplitude_v] (drives the common-mode path)
   double current_a = 0.0;     ///< pulsed input current [A] in [0, max_current_a] (drives the differential-mode path)
+  InputCurrentShape input_current_shape = InputCurrentShape::pulsed;  ///< set from [converter]
+  double current_ripple_a = 0.0;  ///< peak-to-peak ripple of the input current [A], in [0, 2·current_a]
   double rise_s = 0.0;        ///< 0–100 % rise time [s] ≥ 0
   double fall_s = 0.0;        ///< 0–100 % fall time [s] ≥ 0
   std::optional<RingingSpec> ringing;
@@ -115,7 +125,14 @@ struct Breakpoint {
 /// max_frequency_hz. Dither is ignored here (a dithered source has no line spectrum at f0; use
 /// synthesize_* and the time-domain receiver).
 [[nodiscard]] LineSpectrum switch_node_spectrum(const SwitchingSpec& spec, double max_frequency_hz);
-/// Exact harmonics of the pulsed input current (trapezoid of current_a, same timing, no ringing).
+/// The breakpoints of one period of the input current (input_current_shape, see there): the edges
+/// of a pulsed current have the switch node's timing (50 % points at rise/2 and rise/2 + duty·T);
+/// a triangular current has its minimum at the cycle start and its maximum duty·T later. Without
+/// ripple a pulsed current is exactly trapezoid_breakpoints(spec, current_a).
+[[nodiscard]] std::vector<Breakpoint> input_current_breakpoints(const SwitchingSpec& spec);
+
+/// Exact harmonics of the input current (input_current_breakpoints: a trapezoid of current_a with
+/// the switch node's timing unless [converter] says otherwise; no ringing).
 [[nodiscard]] LineSpectrum input_current_spectrum(const SwitchingSpec& spec, double max_frequency_hz);
 
 /// Paul's corner frequencies of the trapezoid bound: f1 = 1/(π·τ) with τ = duty·T, and
@@ -153,7 +170,7 @@ inline constexpr double band_limit_passband_ripple = 1e-5;
 /// ±17 samples of it. Same memory as the record; no oversampling.
 [[nodiscard]] Waveform synthesize_switch_node(const SwitchingSpec& spec, double sample_rate_hz,
                                               double duration_s);
-/// Samples of the pulsed input current (with dither, no ringing).
+/// Samples of the input current (input_current_breakpoints' shape, with dither, no ringing).
 [[nodiscard]] Waveform synthesize_input_current(const SwitchingSpec& spec, double sample_rate_hz,
                                                 double duration_s);
 
