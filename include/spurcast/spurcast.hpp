@@ -21,6 +21,7 @@
 #include "core/source/spectrum.hpp"
 #include "core/source/waveform.hpp"
 #include "core/coupling/conducted.hpp"
+#include "core/coupling/converter.hpp"
 #include "core/coupling/filter.hpp"
 #include "core/coupling/lisn.hpp"
 #include "core/coupling/network.hpp"
