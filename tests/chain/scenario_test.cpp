@@ -83,3 +83,29 @@ TEST_CASE("a wrong unit inside a section points at the value") {
 TEST_CASE("a missing file is a clear error") {
   CHECK_THROWS_WITH_AS((void)load_scenario("/nonexistent/s.toml", locate_shipped_data()), "/nonexistent/s.toml: cannot open the scenario file (no such file or directory)", Error);
 }
+
+TEST_CASE("[converter] sets the input current's shape; its ripple is checked at its own key") {
+  const std::string boost = std::string(minimal_switching) + "[converter]\ntopology = \"boost\"\ninductor_ripple = \"2 A\"\n";
+  const Scenario s = scenario_from_text(boost, "b.toml", ".", locate_shipped_data());
+  REQUIRE(s.switching);
+  CHECK(s.converter.topology == Topology::boost);
+  CHECK(s.switching->input_current_shape == InputCurrentShape::triangular);
+  CHECK(s.switching->current_ripple_a == doctest::Approx(2.0));
+  const Scenario plain = scenario_from_text(minimal_switching, "p.toml", ".", locate_shipped_data());
+  CHECK(plain.converter.topology == Topology::buck);
+  CHECK(plain.switching->input_current_shape == InputCurrentShape::pulsed);
+  CHECK(plain.switching->current_ripple_a == 0.0);
+
+  // 6 A of current: a ripple of 13 A peak to peak would take the current below zero.
+  const std::string too_large = std::string(minimal_switching) + "[converter]\ninductor_ripple = \"13 A\"\n";
+  CHECK_THROWS_WITH_AS((void)scenario_from_text(too_large, "r.toml", ".", locate_shipped_data()),
+                       "r.toml:9:19: expected an inductor ripple from 0 to twice the current (12 A, continuous "
+                       "conduction), found 13 A",
+                       Error);
+  const std::string captured =
+      "[capture]\nfile = \"captures/scope-switch-node.csv\"\ncolumn = 2\nquantity = \"voltage\"\n"
+      "[converter]\ninductor_ripple = \"1 A\"\n";
+  CHECK_THROWS_WITH_AS((void)scenario_from_text(captured, "c.toml", source_dir + "/examples", locate_shipped_data()),
+                       "c.toml:6:19: 'inductor_ripple' shapes the described input current: it needs [switching]",
+                       Error);
+}
