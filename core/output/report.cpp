@@ -9,6 +9,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "core/coupling/converter.hpp"
 #include "core/input/error.hpp"
 #include "core/source/source.hpp"
 #include "core/input/units.hpp"
@@ -226,7 +227,9 @@ std::string source_spectrum_csv(const Prediction& p) {
 
 std::string source_current_spectrum_csv(const Prediction& p) {
   const std::optional<SwitchingSpec>& spec = p.scenario.switching;
-  return line_spectrum_csv(p.input_current_a, spec, spec ? spec->current_a : 0.0);
+  // The trapezoid's envelope bounds only a flat-topped pulse: not a boost's triangle or a ramped top.
+  const bool trapezoid = spec && spec->input_current_shape == InputCurrentShape::pulsed && spec->current_ripple_a == 0.0;
+  return line_spectrum_csv(p.input_current_a, trapezoid ? spec : std::nullopt, spec ? spec->current_a : 0.0);
 }
 
 namespace {
@@ -455,6 +458,21 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   add("coupling", "input capacitor ESL", q(s.coupling.input_esl_h, Dimension::inductance) + coupling_note);
   add("coupling", "parasitic capacitance (switch node to ground)",
       q(s.coupling.parasitic_capacitance_f, Dimension::capacitance) + coupling_note);
+  // Listed only when given: a scenario without [converter] keeps the listing it always had.
+  const ConverterSpec& cv = s.converter;
+  if (cv.topology != Topology::buck || cv.inductor_ripple_a) {
+    add("converter", "topology", topology_name(cv.topology));
+    add("converter", "inductor ripple (peak to peak)",
+        cv.inductor_ripple_a ? q(*cv.inductor_ripple_a, Dimension::current) : "none (flat-topped pulse)");
+    if (cv.topology == Topology::boost_pfc) add("converter", "mains-cycle gating", "not modelled (crest of the mains cycle)");
+    if (cv.topology == Topology::flyback) {
+      add("converter", "interwinding capacitance", q(cv.interwinding_capacitance_f, Dimension::capacitance));
+      add("converter", "secondary capacitance to earth", q(cv.secondary_capacitance_f, Dimension::capacitance));
+      add("converter", "Y capacitor across the barrier",
+          cv.y_capacitance_f > 0.0 ? q(cv.y_capacitance_f, Dimension::capacitance) : "none");
+      add("converter", "barrier insulation resistance", q(barrier_resistance_ohm, Dimension::resistance) + " (common practice)");
+    }
+  }
   if (s.filters.empty()) add("filter", "stages", "none");
   for (std::size_t i = 0; i < s.filters.size(); ++i) {
     const FilterStage& f = s.filters[i];

@@ -34,7 +34,8 @@ namespace spurcast {
 /// trapezoid without ringing, core/source/source.hpp trapezoid_envelope_rms; a ringing source's lines
 /// exceed it) for a described source.
 [[nodiscard]] std::string source_spectrum_csv(const Prediction& prediction);
-/// source_current_spectrum.csv: the input-current lines, `level_dbua` and `envelope_dbua`.
+/// source_current_spectrum.csv: the input-current lines, `level_dbua` and `envelope_dbua` (the latter
+/// only for a flat-topped pulse: not for a boost's triangular ripple or a ramped top, [converter]).
 [[nodiscard]] std::string source_current_spectrum_csv(const Prediction& prediction);
 /// scan.csv: the worst-of-lines readings of every band in one ascending list; at a frequency shared
 /// by two bands (30 MHz) the lower band's reading is kept (CISPR 16-1-1: 30 MHz belongs to band B).
