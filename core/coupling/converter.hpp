@@ -40,14 +40,14 @@ inline constexpr double barrier_resistance_ohm = 100e6;
 
 struct ConverterSpec {
   Topology topology = Topology::buck;
-  /// Peak-to-peak ripple of the inductor (flyback: magnetising) current [A], ≥ 0; nullopt: not given
-  /// (buck and flyback then have a flat-topped pulse, as without [converter]).
+  /// Peak-to-peak ripple of the inductor (flyback: magnetising) current [A], ≥ 0; nullopt: not
+  /// given (buck and flyback then have a flat-topped pulse, as without [converter]).
   std::optional<double> inductor_ripple_a;
   double interwinding_capacitance_f = 0.0;  ///< flyback: primary switch node to secondary [F], > 0
-  double secondary_capacitance_f = 0.0;     ///< flyback: secondary (output, cable) to earth [F], ≥ 0
-  double y_capacitance_f = 0.0;             ///< flyback: secondary to primary return [F], ≥ 0 (0: none)
-  SourcePosition ripple_where;              ///< of `inductor_ripple` (for messages), may be empty
-  SourcePosition where;                     ///< of the [converter] table, may be empty
+  double secondary_capacitance_f = 0.0;  ///< flyback: secondary (output, cable) to earth [F], ≥ 0
+  double y_capacitance_f = 0.0;  ///< flyback: secondary to primary return [F], ≥ 0 (0: none)
+  SourcePosition ripple_where;   ///< of `inductor_ripple` (for messages), may be empty
+  SourcePosition where;          ///< of the [converter] table, may be empty
 };
 
 /// Reads [converter]: topology (default "buck"); inductor_ripple (required for boost and boost-pfc,

@@ -1,8 +1,10 @@
-// The converter topologies ([converter], docs/design.md §5): the [converter] reader and the flyback's
-// paths across the isolation barrier. External check: the closed-form capacitive divider of the
-// common-mode loop, written out by hand below (series and parallel impedances, Kirchhoff's laws),
-// with the LISN's defined impedance 50 Ω ∥ (5 Ω + jω·50 µH) (docs/references.md §2.2 [D]) and the two
-// networks in parallel for a common-mode source (docs/references.md §2.3 [D]).
+// The converter topologies ([converter], docs/design.md §5): the [converter] reader and the
+// flyback's paths across the isolation barrier. External check: the closed-form capacitive divider
+// of the common-mode loop, written out by hand below (series and parallel impedances, Kirchhoff's
+// laws), with the LISN's defined impedance 50 Ω ∥ (5 Ω + jω·50 µH) (docs/references.md §2.2 [D])
+// and the two networks in parallel for a common-mode source (docs/references.md §2.3 [D]).
+#include "core/coupling/converter.hpp"
+
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -10,7 +12,6 @@
 #include <string>
 
 #include "core/coupling/conducted.hpp"
-#include "core/coupling/converter.hpp"
 #include "core/input/error.hpp"
 #include "core/input/toml_reader.hpp"
 
@@ -61,7 +62,9 @@ double divider(double f, double c_iw, double c_sec, double c_y) {
 
 }  // namespace
 
-TEST_CASE("flyback: the common-mode level through the interwinding capacitance is the capacitive divider") {
+TEST_CASE(
+    "flyback: the common-mode level through the interwinding capacitance is the capacitive "
+    "divider") {
   ConverterSpec flyback;
   flyback.topology = Topology::flyback;
   flyback.interwinding_capacitance_f = 20e-12;
@@ -73,7 +76,8 @@ TEST_CASE("flyback: the common-mode level through the interwinding capacitance i
   // the barrier changes nothing at four digits), so |V_port/V_sw| = 24.63/9545.3 = 2.580e-3
   // (−51.77 dB).
   const TransferFunctions at_1mhz = transfer_at(model, {1e6});
-  CHECK(std::abs(20.0 * std::log10(std::abs(at_1mhz.port1_per_switch_node[0])) + 51.77) <= hand_figure_tol_db);
+  CHECK(std::abs(20.0 * std::log10(std::abs(at_1mhz.port1_per_switch_node[0])) + 51.77) <=
+        hand_figure_tol_db);
   const std::vector<double> f{150e3, 1e6, 5e6, 30e6};
   const TransferFunctions h = transfer_at(model, f);
   for (std::size_t n = 0; n < f.size(); ++n) {
@@ -91,7 +95,9 @@ TEST_CASE("flyback: the common-mode level through the interwinding capacitance i
     const double expected = divider(f[n], 20e-12, 100e-12, 1e-9);
     CHECK(std::abs(std::abs(hy.port1_per_switch_node[n]) - expected) <= divider_rel_tol * expected);
   }
-  CHECK(20.0 * std::log10(std::abs(at_1mhz.port1_per_switch_node[0]) / std::abs(hy.port1_per_switch_node[1])) > 19.0);
+  CHECK(20.0 * std::log10(std::abs(at_1mhz.port1_per_switch_node[0]) /
+                          std::abs(hy.port1_per_switch_node[1])) >
+        19.0);
 }
 
 TEST_CASE("a buck, boost or boost-pfc has no barrier: the model is today's") {
@@ -99,8 +105,10 @@ TEST_CASE("a buck, boost or boost-pfc has no barrier: the model is today's") {
     ConverterSpec converter;
     converter.topology = t;
     CouplingSpec coupling;
-    const ConductedModel with(coupling, {}, LisnSpec{}, converter), without(coupling, {}, LisnSpec{});
-    const TransferFunctions a = transfer_at(with, {150e3, 3e6}), b = transfer_at(without, {150e3, 3e6});
+    const ConductedModel with(coupling, {}, LisnSpec{}, converter),
+        without(coupling, {}, LisnSpec{});
+    const TransferFunctions a = transfer_at(with, {150e3, 3e6}),
+                            b = transfer_at(without, {150e3, 3e6});
     for (std::size_t n = 0; n < 2; ++n) {
       CHECK(a.port1_per_switch_node[n] == b.port1_per_switch_node[n]);
       CHECK(a.port1_per_input_current_ohm[n] == b.port1_per_input_current_ohm[n]);
@@ -117,20 +125,25 @@ TEST_CASE("[converter] reader: topology, its own keys, and the keys of another t
   REQUIRE(boost.inductor_ripple_a);
   CHECK(*boost.inductor_ripple_a == doctest::Approx(1.5));
   const ConverterSpec flyback = read_converter(
-      "topology = \"flyback\"\ninterwinding_capacitance = \"30 pF\"\nsecondary_capacitance = \"150 pF\"\n");
+      "topology = \"flyback\"\ninterwinding_capacitance = \"30 pF\"\nsecondary_capacitance = \"150 "
+      "pF\"\n");
   CHECK(flyback.interwinding_capacitance_f == doctest::Approx(30e-12));
   CHECK(flyback.secondary_capacitance_f == doctest::Approx(150e-12));
   CHECK(flyback.y_capacitance_f == 0.0);
 
-  CHECK_THROWS_WITH_AS(read_converter("topology = \"boost\"\ninductor_ripple = \"1 A\"\ny_capacitance = \"1 nF\"\n"),
-                       "c.toml:3:17: 'y_capacitance' belongs to topology flyback, not boost", Error);
-  CHECK_THROWS_WITH_AS(read_converter("secondary_capacitance = \"1 nF\"\n"),
-                       "c.toml:1:25: 'secondary_capacitance' belongs to topology flyback, not buck", Error);
-  CHECK_THROWS_WITH_AS(read_converter("topology = \"sepic\"\n"),
-                       "c.toml:1:12: expected one of buck, boost, boost-pfc or flyback, found \"sepic\"", Error);
-  CHECK_THROWS_AS(read_converter("topology = \"boost-pfc\"\n"), Error);  // a boost needs its ripple
-  CHECK_THROWS_AS(read_converter("topology = \"flyback\"\nsecondary_capacitance = \"1 nF\"\n"), Error);
   CHECK_THROWS_WITH_AS(
-      read_converter("topology = \"flyback\"\ninterwinding_capacitance = \"0 pF\"\nsecondary_capacitance = \"1 nF\"\n"),
-      "c.toml:2:28: expected a capacitance > 0, found 0 F", Error);
+      read_converter("topology = \"boost\"\ninductor_ripple = \"1 A\"\ny_capacitance = \"1 nF\"\n"),
+      "c.toml:3:17: 'y_capacitance' belongs to topology flyback, not boost", Error);
+  CHECK_THROWS_WITH_AS(read_converter("secondary_capacitance = \"1 nF\"\n"),
+                       "c.toml:1:25: 'secondary_capacitance' belongs to topology flyback, not buck",
+                       Error);
+  CHECK_THROWS_WITH_AS(
+      read_converter("topology = \"sepic\"\n"),
+      "c.toml:1:12: expected one of buck, boost, boost-pfc or flyback, found \"sepic\"", Error);
+  CHECK_THROWS_AS(read_converter("topology = \"boost-pfc\"\n"), Error);  // a boost needs its ripple
+  CHECK_THROWS_AS(read_converter("topology = \"flyback\"\nsecondary_capacitance = \"1 nF\"\n"),
+                  Error);
+  CHECK_THROWS_WITH_AS(read_converter("topology = \"flyback\"\ninterwinding_capacitance = \"0 "
+                                      "pF\"\nsecondary_capacitance = \"1 nF\"\n"),
+                       "c.toml:2:28: expected a capacitance > 0, found 0 F", Error);
 }

@@ -1,10 +1,13 @@
-// The input current's shape per converter topology ([converter], docs/design.md §5). External checks:
-//  - Erickson & Maksimović, Fundamentals of Power Electronics, 2nd ed., Eq. (10.1): the buck's pulsed
+// The input current's shape per converter topology ([converter], docs/design.md §5). External
+// checks:
+//  - Erickson & Maksimović, Fundamentals of Power Electronics, 2nd ed., Eq. (10.1): the buck's
+//  pulsed
 //    input current (ideal edges, flat top) has the one-sided peak harmonics (2I/(kπ))·sin(kπD);
 //  - the triangular inductor ripple of a boost, ΔI peak to peak rising over D·T: one-sided peak
 //    harmonics ΔI·|sin(πnD)|/(π²n²D(1−D)) (the same book's series of a triangle wave; the two-sided
 //    coefficient is half of it);
-//  - numpy's FFT (via /usr/bin/python3) of the same piecewise-linear waveform sampled by numpy itself
+//  - numpy's FFT (via /usr/bin/python3) of the same piecewise-linear waveform sampled by numpy
+//  itself
 //    (np.interp through the breakpoints), for the boost triangle and for a buck with a ramped top.
 #include <doctest/doctest.h>
 
@@ -43,14 +46,17 @@ SwitchingSpec base_spec() {
 }
 
 /// One-sided peak amplitude of harmonic k (1-based) of a line spectrum.
-double peak(const LineSpectrum& s, std::size_t k) { return std::sqrt(2.0) * std::abs(s.harmonics[k - 1]); }
+double peak(const LineSpectrum& s, std::size_t k) {
+  return std::sqrt(2.0) * std::abs(s.harmonics[k - 1]);
+}
 
 /// numpy's one-sided peak amplitudes |X[k]|·2/N, k = 1..count, of the periodic waveform through the
 /// breakpoints, sampled by np.interp at 2^16 points per period; empty when numpy is missing.
-std::vector<double> numpy_harmonics(const std::vector<Breakpoint>& points, double period_s, int count,
-                                    const std::string& name) {
+std::vector<double> numpy_harmonics(const std::vector<Breakpoint>& points, double period_s,
+                                    int count, const std::string& name) {
   const char* python = std::filesystem::exists("/usr/bin/python3") ? "/usr/bin/python3" : "python3";
-  if (std::system((std::string(python) + " -c \"import numpy\" > /dev/null 2>&1").c_str()) != 0) return {};
+  if (std::system((std::string(python) + " -c \"import numpy\" > /dev/null 2>&1").c_str()) != 0)
+    return {};
   const auto dir = std::filesystem::temp_directory_path() / ("spurcast_input_current_" + name);
   std::filesystem::create_directories(dir);
   std::ostringstream xs, ys;
@@ -84,13 +90,16 @@ std::vector<double> numpy_harmonics(const std::vector<Breakpoint>& points, doubl
 
 }  // namespace
 
-TEST_CASE("buck input current without ripple: Erickson & Maksimovic Eq. (10.1), (2I/(k pi)) sin(k pi D)") {
+TEST_CASE(
+    "buck input current without ripple: Erickson & Maksimovic Eq. (10.1), (2I/(k pi)) sin(k pi "
+    "D)") {
   const SwitchingSpec s = base_spec();
   const LineSpectrum i = input_current_spectrum(s, 50 * s.frequency_hz);
   REQUIRE(i.harmonics.size() == 50);
   CHECK(std::abs(i.dc - s.current_a * s.duty) <= dc_tol_a);
   for (std::size_t k = 1; k <= 50; ++k) {
-    const double expected = 2.0 * s.current_a / (static_cast<double>(k) * pi) * std::abs(std::sin(k * pi * s.duty));
+    const double expected =
+        2.0 * s.current_a / (static_cast<double>(k) * pi) * std::abs(std::sin(k * pi * s.duty));
     CHECK(std::abs(peak(i, k) - expected) <= closed_form_tol_a);
   }
   // Without ripple the pulse is exactly the switch node's trapezoid (what every scenario without
@@ -107,7 +116,8 @@ TEST_CASE("buck input current without ripple: Erickson & Maksimovic Eq. (10.1), 
   }
 }
 
-TEST_CASE("boost input current: the triangular ripple's series dI |sin(pi n D)| / (pi^2 n^2 D (1 - D))") {
+TEST_CASE(
+    "boost input current: the triangular ripple's series dI |sin(pi n D)| / (pi^2 n^2 D (1 - D))") {
   SwitchingSpec s = base_spec();
   s.input_current_shape = InputCurrentShape::triangular;
   s.current_ripple_a = 1.5;
@@ -117,8 +127,8 @@ TEST_CASE("boost input current: the triangular ripple's series dI |sin(pi n D)| 
   CHECK(std::abs(i.dc - s.current_a) <= dc_tol_a);  // the DC is the inductor current, not I·D
   for (std::size_t n = 1; n <= 60; ++n) {
     const double nd = static_cast<double>(n);
-    const double expected =
-        s.current_ripple_a * std::abs(std::sin(pi * nd * s.duty)) / (pi * pi * nd * nd * s.duty * (1.0 - s.duty));
+    const double expected = s.current_ripple_a * std::abs(std::sin(pi * nd * s.duty)) /
+                            (pi * pi * nd * nd * s.duty * (1.0 - s.duty));
     CHECK(std::abs(peak(i, n) - expected) <= closed_form_tol_a);
   }
   // The issue's figures: against the trapezoid of the same current the ripple is far below it at
@@ -159,7 +169,9 @@ TEST_CASE("buck or flyback primary current with a ramped top: the series against
   for (std::size_t n = 1; n <= 40; ++n) CHECK(std::abs(peak(i, n) - numpy[n - 1]) <= numpy_tol_a);
 }
 
-TEST_CASE("the sampled input current has the topology's shape (its mean: I for a boost, about I·D for a buck)") {
+TEST_CASE(
+    "the sampled input current has the topology's shape (its mean: I for a boost, about I·D for a "
+    "buck)") {
   SwitchingSpec s = base_spec();
   s.rise_s = 20e-9;
   s.fall_s = 20e-9;
@@ -169,14 +181,16 @@ TEST_CASE("the sampled input current has the topology's shape (its mean: I for a
   const Waveform boost = synthesize_input_current(s, 100e6, 10 * s.period_s());
   double sum = 0.0;
   for (const double v : boost.samples) sum += v;
-  CHECK(sum / static_cast<double>(boost.samples.size()) == doctest::Approx(s.current_a).epsilon(1e-3));
+  CHECK(sum / static_cast<double>(boost.samples.size()) ==
+        doctest::Approx(s.current_a).epsilon(1e-3));
 }
 
 TEST_CASE("an inductor ripple beyond twice the current is refused (continuous conduction)") {
   SwitchingSpec s = base_spec();
   s.current_ripple_a = 9.0;
-  CHECK_THROWS_WITH_AS(validate_switching(s),
-                       "expected an inductor ripple from 0 to twice the current (8 A, continuous conduction), "
-                       "found 9 A",
-                       Error);
+  CHECK_THROWS_WITH_AS(
+      validate_switching(s),
+      "expected an inductor ripple from 0 to twice the current (8 A, continuous conduction), "
+      "found 9 A",
+      Error);
 }
