@@ -11,6 +11,7 @@
 #include "core/input/error.hpp"
 #include "core/input/input_file.hpp"
 #include "core/input/shipped_data.hpp"
+#include "core/input/text.hpp"
 #include "core/input/toml.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"

@@ -1,0 +1,17 @@
+#pragma once
+/// Small text helpers shared by the readers and the what-if handler: byte-level checks and the
+/// spelling of user text inside one-line error messages.
+#include <cstddef>
+#include <optional>
+#include <string_view>
+
+namespace spurcast {
+
+/// The byte offset at which the first ill-formed UTF-8 sequence of `text` starts, or nullopt when
+/// all of `text` is well-formed UTF-8. Well-formed means the byte sequences of the Unicode
+/// Standard, Table 3-7, from memory (no overlong forms, no surrogates U+D800..U+DFFF, nothing above
+/// U+10FFFF); a sequence cut short by the end of `text` is ill-formed at its lead byte. Example:
+/// first_invalid_utf8_offset("l\x99mits") == 1.
+[[nodiscard]] std::optional<std::size_t> first_invalid_utf8_offset(std::string_view text);
+
+}  // namespace spurcast
