@@ -1,5 +1,8 @@
 #include "core/input/text.hpp"
 
+#include <cctype>
+#include <cstdio>
+
 namespace spurcast {
 
 std::optional<std::size_t> first_invalid_utf8_offset(std::string_view text) {
@@ -47,6 +50,28 @@ std::optional<std::size_t> first_invalid_utf8_offset(std::string_view text) {
     i += length;
   }
   return std::nullopt;
+}
+
+std::string ascii_lower(std::string_view text) {
+  std::string out(text);
+  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+std::string quoted_for_message(std::string_view text, std::size_t max_bytes) {
+  std::string out;
+  for (const char c : text.substr(0, max_bytes)) {
+    const auto u = static_cast<unsigned char>(c);
+    if (u >= 0x20 && u < 0x7f) {
+      out += c;
+    } else {
+      char buffer[8];
+      std::snprintf(buffer, sizeof buffer, "\\x%02x", u);
+      out += buffer;
+    }
+  }
+  if (text.size() > max_bytes) out += "...";
+  return "'" + out + "'";
 }
 
 }  // namespace spurcast

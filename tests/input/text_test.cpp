@@ -86,7 +86,8 @@ TEST_CASE("first_invalid_utf8_offset agrees with Python's decoder on pseudo-rand
       "        b.decode('utf-8')\n"
       "        print(-1)\n"
       "    except UnicodeDecodeError as e:\n"
-      "        print(e.start)\n";
+      "        print(e.start)\n"
+      "    print('x' + b.lower().hex())\n";  // x: an empty string still gives a word
   spurcast::test::write_text(dir / "check.py", script);
   const std::string command = std::string(python) + " " + (dir / "check.py").string() + " " +
                               (dir / "cases.txt").string() + " > " + (dir / "python.txt").string();
@@ -95,9 +96,15 @@ TEST_CASE("first_invalid_utf8_offset agrees with Python's decoder on pseudo-rand
   int invalid = 0;
   for (const std::string& s : cases) {
     long expected = 0;
-    REQUIRE(static_cast<bool>(answers >> expected));
+    std::string lower_hex;
+    REQUIRE(static_cast<bool>(answers >> expected >> lower_hex));
     const std::optional<std::size_t> got = first_invalid_utf8_offset(s);
     INFO("case of ", s.size(), " bytes");
+    // bytes.lower() changes only the ASCII letters A-Z, as ascii_lower() does.
+    std::string lower_bytes_hex;
+    for (const char c : spurcast::ascii_lower(s))
+      lower_bytes_hex += fmt::format("{:02x}", static_cast<unsigned char>(c));
+    CHECK("x" + lower_bytes_hex == lower_hex);
     if (expected < 0) {
       CHECK(got == std::nullopt);
     } else {
@@ -109,4 +116,16 @@ TEST_CASE("first_invalid_utf8_offset agrees with Python's decoder on pseudo-rand
   // Both kinds were exercised.
   CHECK(invalid > 200);
   CHECK(invalid < 1800);
+}
+
+TEST_CASE(
+    "quoted_for_message: C-style \\xNN escapes for every byte outside printable ASCII (common "
+    "practice)") {
+  using spurcast::quoted_for_message;
+  CHECK(quoted_for_message("L1", 24) == "'L1'");
+  CHECK(quoted_for_message("L\t1", 24) == "'L\\x091'");
+  CHECK(quoted_for_message("\xc2\xb5H", 24) == "'\\xc2\\xb5H'");
+  CHECK(quoted_for_message(std::string_view("a\0b", 3), 24) == "'a\\x00b'");
+  CHECK(quoted_for_message("0123456789abcdefghijklmnop", 20) == "'0123456789abcdefghij...'");
+  CHECK(quoted_for_message("0123456789abcdefghij", 20) == "'0123456789abcdefghij'");
 }
