@@ -109,6 +109,10 @@ json parse_request_json(const std::string& text, const char* what) {
     return json::parse(text);
   } catch (const json::parse_error& e) {
     throw Error(std::string("malformed JSON: ") + e.what());
+  } catch (const json::exception& e) {
+    // Also out_of_range 406, a number beyond double range ("21e308"), which parse() does not
+    // count as a parse error.
+    throw Error(std::string("malformed JSON: ") + e.what());
   }
 }
 

@@ -244,6 +244,11 @@ TEST_CASE("a body that is not UTF-8 is a 400 naming the first bad byte, never a 
   REQUIRE(cut);
   CHECK(cut->status == 400);
   CHECK(error_of(cut) == "expected UTF-8 text in the request body, found byte 0xe2 at byte offset 35 that is not valid UTF-8");
+  // A number beyond double range is nlohmann's out_of_range 406, not a parse_error: also a 400.
+  const auto huge = client.Post("/api/evaluate", R"({"set": {"switching.frequency": 21e308}})", "application/json");
+  REQUIRE(huge);
+  CHECK(huge->status == 400);
+  CHECK(error_of(huge) == "malformed JSON: [json.exception.out_of_range.406] number overflow parsing '21e308'");
 }
 
 TEST_CASE("request text that is not UTF-8 is echoed in an error with U+FFFD in place of the bad bytes") {
