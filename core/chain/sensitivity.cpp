@@ -3,13 +3,10 @@
 #include <fmt/format.h>
 
 #include <algorithm>
-#include <atomic>
 #include <cmath>
 #include <cstdlib>
-#include <exception>
-#include <mutex>
-#include <thread>
 
+#include "core/chain/parallel.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/chain/sweep.hpp"
 #include "core/input/error.hpp"
@@ -210,38 +207,18 @@ SensitivityResult run_sensitivity(const toml::table& table, const std::string& f
   result.threads =
       static_cast<unsigned>(std::max<std::size_t>(1, std::min<std::size_t>(threads, total)));
 
-  std::atomic<std::size_t> next{0};
-  std::exception_ptr failure;
-  std::mutex failure_mutex;
-  auto worker = [&] {
+  parallel_for_each_index(total, result.threads, [&](std::size_t i) {
+    const SensitivityKey& key = result.keys[i];
+    toml::table changed = table;
+    set_scenario_key(changed, key.key, key.value_si * (1.0 + sensitivity_step_fraction),
+                     key.dimension);
     try {
-      for (std::size_t i = next++; i < total; i = next++) {
-        const SensitivityKey& key = result.keys[i];
-        toml::table changed = table;
-        set_scenario_key(changed, key.key, key.value_si * (1.0 + sensitivity_step_fraction),
-                         key.dimension);
-        try {
-          const Prediction p = predict(scenario_from_table(changed, file, directory, data));
-          per_key[i] = read_changes(p, result.targets, i);
-        } catch (const Error& e) {
-          errors[i] = e.what();  // the changed scenario is invalid: reported per key, not fatal
-        }
-      }
-    } catch (...) {
-      const std::lock_guard lock(failure_mutex);
-      if (!failure) failure = std::current_exception();
-      next = total;
+      const Prediction p = predict(scenario_from_table(changed, file, directory, data));
+      per_key[i] = read_changes(p, result.targets, i);
+    } catch (const Error& e) {
+      errors[i] = e.what();  // the changed scenario is invalid: reported per key, not fatal
     }
-  };
-  if (result.threads <= 1) {
-    worker();
-  } else {
-    std::vector<std::thread> pool;
-    pool.reserve(result.threads);
-    for (unsigned t = 0; t < result.threads; ++t) pool.emplace_back(worker);
-    for (std::thread& t : pool) t.join();
-  }
-  if (failure) std::rethrow_exception(failure);
+  });
 
   for (std::size_t i = 0; i < total; ++i) {
     if (errors[i]) {

@@ -38,7 +38,6 @@ struct SpectrumResult {
   Quantity quantity = Quantity::voltage;
   double fundamental_hz = 0.0;  ///< [Hz] the harmonics sit at its multiples
   bool fundamental_estimated = false;            ///< estimated from the record (none was given)
-  std::optional<double> nominal_fundamental_hz;  ///< [Hz] unused: a given fundamental is used as given
   std::optional<std::string> window;             ///< sampled records only
   std::optional<Capture> capture;                ///< sampled records: the capture without its samples
   std::size_t capture_samples = 0;

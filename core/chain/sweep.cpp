@@ -1,13 +1,10 @@
 #include "core/chain/sweep.hpp"
 
 #include <algorithm>
-#include <atomic>
 #include <charconv>
 #include <cmath>
-#include <exception>
 #include <limits>
 #include <map>
-#include <mutex>
 #include <thread>
 
 #include <fmt/format.h>
@@ -17,6 +14,7 @@
 #include "core/input/error.hpp"
 #include "core/radio/radiated.hpp"
 #include "core/receiver/receiver.hpp"
+#include "core/chain/parallel.hpp"
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/radio/reception.hpp"
@@ -1037,27 +1035,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   const unsigned threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   result.threads = static_cast<unsigned>(std::min<std::size_t>(threads, total));
   result.points.resize(total);
-  std::atomic<std::size_t> next{0};
-  std::exception_ptr failure;
-  std::mutex failure_mutex;
-  auto worker = [&] {
-    try {
-      for (std::size_t i = next++; i < total; i = next++) result.points[i] = evaluate_point(ctx, grid[i]);
-    } catch (...) {
-      const std::lock_guard lock(failure_mutex);
-      if (!failure) failure = std::current_exception();
-      next = total;
-    }
-  };
-  if (result.threads <= 1) {
-    worker();
-  } else {
-    std::vector<std::thread> pool;
-    pool.reserve(result.threads);
-    for (unsigned t = 0; t < result.threads; ++t) pool.emplace_back(worker);
-    for (std::thread& t : pool) t.join();
-  }
-  if (failure) std::rethrow_exception(failure);
+  parallel_for_each_index(total, result.threads, [&](std::size_t i) { result.points[i] = evaluate_point(ctx, grid[i]); });
 
   for (const SweepPoint& p : result.points) {
     if (p.error) ++result.invalid_points;

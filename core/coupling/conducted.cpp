@@ -1,6 +1,5 @@
 #include "core/coupling/conducted.hpp"
 
-#include <cstdlib>
 
 #include <fftw3.h>
 
@@ -107,21 +106,9 @@ NetworkSolver make_solver(const CouplingSpec& coupling, const std::vector<Filter
   }
   Built built = build_network(coupling, filters, lisn, converter);
   probes = built.probes;
-  try {
-    return NetworkSolver(std::move(built.network));
-  } catch (const Error& e) {
-    // A node of stage N is named "filterN.<node>" (add_filter_stage): a netlist's "no DC path"
-    // goes to that [[filter]] table's position (issue 14: it had none).
-    const std::string& message = e.message();
-    const std::size_t at = message.find("'filter");
-    if (e.where().file.empty() && at != std::string::npos) {
-      const std::size_t index = std::strtoul(message.c_str() + at + 7, nullptr, 10);
-      if (index >= 1 && index <= filters.size() && !filters[index - 1].where.file.empty()) {
-        throw Error(filters[index - 1].where, message);
-      }
-    }
-    throw;
-  }
+  // Errors point at the [[filter]] table (or netlist element) of the part to blame: each part
+  // carries its position (add_filter_stage, Element::where).
+  return NetworkSolver(std::move(built.network));
 }
 
 }  // namespace

@@ -333,6 +333,14 @@ void shunt_capacitor(Network& network, const FilterStage& stage, LinePair at, do
 }  // namespace
 
 LinePair add_filter_stage(Network& network, const FilterStage& stage, LinePair lisn_side, const std::string& prefix) {
+  // The stage's parts carry its [[filter]] table's position (a netlist element its own), so a solve
+  // that fails on one of them points there; the parts added after the stage are built in again.
+  struct OriginScope {
+    Network& network;
+    SourcePosition previous;
+    ~OriginScope() { network.set_origin(previous); }
+  } scope{network, network.origin()};
+  network.set_origin(stage.where);
   try {
     switch (stage.kind) {
       case FilterKind::lc: {
@@ -395,6 +403,7 @@ LinePair add_filter_stage(Network& network, const FilterStage& stage, LinePair l
         for (std::size_t i = 0; i < stage.elements.size(); ++i) {
           const NetlistElement& e = stage.elements[i];
           const std::string name = prefix + ".element" + std::to_string(i + 1);
+          network.set_origin(e.where.file.empty() ? stage.where : e.where);
           try {
             switch (e.type) {
               case 'R': network.add_resistor(node(e.from), node(e.to), e.value, name); break;

@@ -145,7 +145,8 @@ struct LinePair {
 /// Places `stage` in `network` with its LISN side on `lisn_side` and returns its converter-side
 /// pair (new nodes where the stage has series parts, the same nodes where a line passes straight
 /// through). Internal nodes are named `prefix` + "." + name. Throws Error at the stage's position if
-/// the network rejects a value.
+/// the network rejects a value. The parts it adds carry the stage's position (a netlist element's own) as
+/// Element::where, so a failed solve can point at them.
 LinePair add_filter_stage(Network& network, const FilterStage& stage, LinePair lisn_side, const std::string& prefix);
 
 }  // namespace spurcast

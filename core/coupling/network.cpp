@@ -6,6 +6,8 @@
 #include <numeric>
 #include <utility>
 
+#include <fmt/format.h>
+
 #include "core/input/error.hpp"
 #include "core/input/units.hpp"
 
@@ -123,12 +125,13 @@ ElementId Network::push(Element element) {
   if (element.kind == ElementKind::voltage_source || element.kind == ElementKind::current_source) {
     element.source_index = static_cast<int>(source_count_++);
   }
+  element.where = origin_;
   elements_.push_back(std::move(element));
   return static_cast<ElementId>(elements_.size() - 1);
 }
 
 ElementId Network::add_resistor(NodeId a, NodeId b, double resistance_ohm, std::string name) {
-  Element e{ElementKind::resistor, {a, b, 0, 0}, resistance_ohm, 0, 0, 0, 0, std::move(name), -1, nullptr};
+  Element e{ElementKind::resistor, {a, b, 0, 0}, resistance_ohm, 0, 0, 0, 0, std::move(name), -1, nullptr, {}};
   const std::string who = label(e, elements_.size());
   check_positive(resistance_ohm, Dimension::resistance, "a resistance", who);
   return push(std::move(e));
@@ -136,7 +139,7 @@ ElementId Network::add_resistor(NodeId a, NodeId b, double resistance_ohm, std::
 
 ElementId Network::add_inductor(NodeId a, NodeId b, double inductance_h, double series_resistance_ohm,
                                 std::string name) {
-  Element e{ElementKind::inductor, {a, b, 0, 0}, inductance_h, series_resistance_ohm, 0, 0, 0, std::move(name), -1, nullptr};
+  Element e{ElementKind::inductor, {a, b, 0, 0}, inductance_h, series_resistance_ohm, 0, 0, 0, std::move(name), -1, nullptr, {}};
   const std::string who = label(e, elements_.size());
   check_positive(inductance_h, Dimension::inductance, "an inductance", who);
   check_non_negative(series_resistance_ohm, Dimension::resistance, "a series resistance", who);
@@ -145,7 +148,7 @@ ElementId Network::add_inductor(NodeId a, NodeId b, double inductance_h, double 
 
 ElementId Network::add_capacitor(NodeId a, NodeId b, double capacitance_f, double esr_ohm, double esl_h,
                                  std::string name) {
-  Element e{ElementKind::capacitor, {a, b, 0, 0}, capacitance_f, esr_ohm, esl_h, 0, 0, std::move(name), -1, nullptr};
+  Element e{ElementKind::capacitor, {a, b, 0, 0}, capacitance_f, esr_ohm, esl_h, 0, 0, std::move(name), -1, nullptr, {}};
   const std::string who = label(e, elements_.size());
   check_positive(capacitance_f, Dimension::capacitance, "a capacitance", who);
   check_non_negative(esr_ohm, Dimension::resistance, "an ESR", who);
@@ -156,7 +159,7 @@ ElementId Network::add_capacitor(NodeId a, NodeId b, double capacitance_f, doubl
 ElementId Network::add_coupled_inductors(NodeId a1, NodeId b1, NodeId a2, NodeId b2, double l1_h, double l2_h,
                                          double coupling_factor, double r1_ohm, double r2_ohm, std::string name) {
   Element e{ElementKind::coupled_inductors, {a1, b1, a2, b2}, l1_h, l2_h, coupling_factor, r1_ohm, r2_ohm,
-            std::move(name), -1, nullptr};
+            std::move(name), -1, nullptr, {}};
   const std::string who = label(e, elements_.size());
   check_positive(l1_h, Dimension::inductance, "an inductance", who);
   check_positive(l2_h, Dimension::inductance, "an inductance", who);
@@ -172,14 +175,14 @@ ElementId Network::add_coupled_inductors(NodeId a1, NodeId b1, NodeId a2, NodeId
 ElementId Network::add_tabulated(NodeId a, NodeId b, std::shared_ptr<const TabulatedAdmittance> table,
                                  std::string name) {
   if (!table || table->port_count() != 1) throw Error("expected a one-port measured part");
-  Element e{ElementKind::tabulated, {a, b, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, std::move(table)};
+  Element e{ElementKind::tabulated, {a, b, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, std::move(table), {}};
   return push(std::move(e));
 }
 
 ElementId Network::add_tabulated_two_port(NodeId a1, NodeId b1, NodeId a2, NodeId b2,
                                           std::shared_ptr<const TabulatedAdmittance> table, std::string name) {
   if (!table || table->port_count() != 2) throw Error("expected a two-port measured part");
-  Element e{ElementKind::tabulated, {a1, b1, a2, b2}, 0, 0, 0, 0, 0, std::move(name), -1, std::move(table)};
+  Element e{ElementKind::tabulated, {a1, b1, a2, b2}, 0, 0, 0, 0, 0, std::move(name), -1, std::move(table), {}};
   return push(std::move(e));
 }
 
@@ -207,11 +210,11 @@ void Network::check_tabulated_range(double frequency_hz) const {
 }
 
 ElementId Network::add_voltage_source(NodeId plus, NodeId minus, std::string name) {
-  return push(Element{ElementKind::voltage_source, {plus, minus, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, nullptr});
+  return push(Element{ElementKind::voltage_source, {plus, minus, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, nullptr, {}});
 }
 
 ElementId Network::add_current_source(NodeId from, NodeId to, std::string name) {
-  return push(Element{ElementKind::current_source, {from, to, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, nullptr});
+  return push(Element{ElementKind::current_source, {from, to, 0, 0}, 0, 0, 0, 0, 0, std::move(name), -1, nullptr, {}});
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -250,8 +253,8 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
       case ElementKind::voltage_source:
         dc.join(e.nodes[0], e.nodes[1]);
         if (!sources.join(e.nodes[0], e.nodes[1])) {
-          throw Error(label(e, i) + " closes a loop of voltage sources at node '" +
-                      network_.node_name(e.nodes[0]) + "'");
+          throw Error(e.where, label(e, i) + " closes a loop of voltage sources at node '" +
+                                   network_.node_name(e.nodes[0]) + "'");
         }
         break;
       case ElementKind::capacitor:
@@ -262,7 +265,7 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
     const std::string& name = network_.node_name(static_cast<NodeId>(n));
     if (!touched[n]) throw Error("node '" + name + "' is not connected to any element");
     if (dc.find(static_cast<int>(n)) != dc.find(0)) {
-      throw Error("node '" + name + "' has no DC path to the reference ground");
+      throw Error(where_of_node(static_cast<NodeId>(n)), "node '" + name + "' has no DC path to the reference ground");
     }
   }
 
@@ -525,6 +528,64 @@ void NetworkSolver::element_admittances(double omega, std::vector<cd>& admittanc
   }
 }
 
+SourcePosition NetworkSolver::where_of_node(NodeId node) const {
+  for (const Element& e : network_.elements()) {
+    if (!e.where.file.empty() && std::find(e.nodes.begin(), e.nodes.end(), node) != e.nodes.end()) return e.where;
+  }
+  return {};
+}
+
+Error NetworkSolver::singular_error(double frequency_hz, const std::vector<cd>& admittance) const {
+  const auto& elements = network_.elements();
+  const std::string head = "the network is singular at " + format_quantity(frequency_hz, Dimension::frequency) + ": ";
+  // 1. An element whose admittance is too large (or not finite) swamps the system.
+  int worst = -1;
+  double worst_s = 0.0;
+  for (const Stamp& stamp : stamps_) {
+    if (stamp.slot < 0) continue;
+    const double y = std::abs(admittance[static_cast<std::size_t>(stamp.slot)]);
+    const double magnitude = std::isfinite(y) ? y : std::numeric_limits<double>::infinity();
+    if (worst < 0 || magnitude > worst_s) {
+      worst = stamp.element;
+      worst_s = magnitude;
+    }
+  }
+  if (worst >= 0 && worst_s > singular_admittance_s) {
+    const Element& e = elements[static_cast<std::size_t>(worst)];
+    const std::string size = std::isfinite(worst_s) ? "with an admittance of " + fmt::format("{:.3g} S", worst_s)
+                                                    : std::string("whose admittance overflows");
+    return Error(e.where, head + "expected element values a solve can take, found " + kind_word(e.kind) + " '" +
+                              e.name + "' " + size + " there (check its value)");
+  }
+  // 2. A node whose admittances cancel (a lossless parallel resonance) has an empty row: the
+  //    smallest |sum of Y| relative to the sum of |Y| among the node rows of the diagonal.
+  const int node_rows = static_cast<int>(network_.node_count()) - 1;
+  std::vector<cd> sum(static_cast<std::size_t>(std::max(node_rows, 0)), cd(0.0, 0.0));
+  std::vector<double> total(sum.size(), 0.0);
+  for (const Stamp& stamp : stamps_) {
+    if (stamp.slot < 0 || stamp.row != stamp.col || stamp.row >= node_rows) continue;
+    const cd y = admittance[static_cast<std::size_t>(stamp.slot)];
+    sum[static_cast<std::size_t>(stamp.row)] += stamp.sign * y;
+    total[static_cast<std::size_t>(stamp.row)] += std::abs(y);
+  }
+  int node_row = -1;
+  double smallest = 1e-9;  // relative size of the sum below which the admittances cancel (judgement)
+  for (int r = 0; r < node_rows; ++r) {
+    const auto i = static_cast<std::size_t>(r);
+    if (total[i] > 0.0 && std::abs(sum[i]) <= smallest * total[i]) {
+      smallest = std::abs(sum[i]) / total[i];
+      node_row = r;
+    }
+  }
+  if (node_row >= 0) {
+    const NodeId node = node_row + 1;
+    return Error(where_of_node(node), head + "expected every node to have a path to ground at that frequency, found node '" +
+                            network_.node_name(node) +
+                            "' whose admittances cancel (a lossless resonance: give its parts a resistance)");
+  }
+  return Error(head + "expected every node to have a path to ground at that frequency (check the element values)");
+}
+
 void NetworkSolver::fill(double omega, Eigen::MatrixXcd& matrix, std::vector<cd>& admittance) const {
   element_admittances(omega, admittance);
   matrix.setZero();
@@ -640,9 +701,7 @@ Transfer NetworkSolver::transfer(const std::vector<double>& frequency_hz, const 
       fill(omega, matrix, admittance);
       lu.compute(matrix);
       solution.noalias() = lu.solve(rhs);
-      if (!solution.allFinite()) {
-        throw Error("network is singular at " + format_quantity(frequency_hz[fi], Dimension::frequency));
-      }
+      if (!solution.allFinite()) throw singular_error(frequency_hz[fi], admittance);
     } else if (n == 0) {
       element_admittances(omega, admittance);
     }

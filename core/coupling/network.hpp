@@ -27,6 +27,8 @@
 #include <string>
 #include <vector>
 
+#include "core/input/error.hpp"
+
 namespace spurcast {
 
 using NodeId = int;     ///< 0 is the reference ground
@@ -65,6 +67,7 @@ struct Element {
   std::string name;  ///< for messages ("" allowed)
   int source_index = -1;  ///< for sources: position among the sources (order of addition)
   std::shared_ptr<const TabulatedAdmittance> table;  ///< tabulated only
+  SourcePosition where;  ///< where an input file describes it (Network::set_origin; empty for built-in parts)
 };
 
 /// A netlist with named nodes. Node 0 is the reference ground, named "0"; the names "gnd" and
@@ -114,6 +117,11 @@ class Network {
   /// Drives the source's phasor from `from` through the source into `to`.
   ElementId add_current_source(NodeId from, NodeId to, std::string name = "");
 
+  /// Elements added from now on carry `where` (the input-file position they were read from), so a
+  /// solve that fails because of one of them can point at it; {} for built-in parts (the default).
+  void set_origin(SourcePosition where) { origin_ = std::move(where); }
+  [[nodiscard]] const SourcePosition& origin() const noexcept { return origin_; }
+
   [[nodiscard]] const std::vector<Element>& elements() const noexcept { return elements_; }
   [[nodiscard]] std::size_t source_count() const noexcept { return source_count_; }
 
@@ -123,6 +131,7 @@ class Network {
   std::vector<std::string> node_names_;
   std::vector<Element> elements_;
   std::size_t source_count_ = 0;
+  SourcePosition origin_;
 };
 
 /// Something to observe in the solution: a node-voltage difference or an element's current.
@@ -154,6 +163,10 @@ struct Transfer {
   }
 };
 
+/// An element admittance beyond which a failed solve blames the element [S] (judgement: a real
+/// filter part is below 1e6 S; 1e100 S is far beyond any part and still well inside double range).
+inline constexpr double singular_admittance_s = 1e100;
+
 /// How NetworkSolver::transfer factorises the system at each frequency.
 enum class SolveMethod {
   /// LU on the matrix permuted once into a fill-reducing order (Markowitz, on the structure), with
@@ -170,8 +183,8 @@ class NetworkSolver {
  public:
   /// Checks that every node has a DC path to the ground (through resistors, inductors, windings or
   /// voltage sources; capacitors and current sources are not DC paths) and that voltage sources form
-  /// no loop, so the system is regular. Throws Error, e.g.
-  /// "node 'mid' has no DC path to the reference ground".
+  /// no loop, so the system is regular. Throws Error, at the position of an element at the node
+  /// (Element::where) when one has it, e.g. "node 'mid' has no DC path to the reference ground".
   explicit NetworkSolver(Network network);
 
   [[nodiscard]] const Network& network() const noexcept { return network_; }
@@ -179,7 +192,11 @@ class NetworkSolver {
   [[nodiscard]] std::size_t system_size() const noexcept { return size_; }
 
   /// Every probe's response to every source alone, at each frequency (each > 0, finite).
-  /// Throws Error "network is singular at <f>" if a solve fails (non-finite result).
+  /// Throws Error if a solve fails (non-finite result), at the position of the element to blame
+  /// (Element::where) and naming it: the element with an admittance too large to solve with
+  /// (> singular_admittance_s), else the node whose admittances cancel (a lossless resonance), e.g.
+  /// "f.toml:10:1: the network is singular at 28.84 MHz: expected element values a solve can take,
+  /// found element 'filter1.element1' with an admittance of 1.8e+308 S there (check its value)".
   [[nodiscard]] Transfer transfer(const std::vector<double>& frequency_hz, const std::vector<Probe>& probes,
                                   SolveMethod method = SolveMethod::automatic) const;
 
@@ -199,6 +216,9 @@ class NetworkSolver {
     double sign;
   };
   void fill(double omega, Eigen::MatrixXcd& matrix, std::vector<std::complex<double>>& admittance) const;
+  /// The position of the first element at `node` that has one ({} when none has).
+  [[nodiscard]] SourcePosition where_of_node(NodeId node) const;
+  [[nodiscard]] Error singular_error(double frequency_hz, const std::vector<std::complex<double>>& admittance) const;
   void element_admittances(double omega, std::vector<std::complex<double>>& admittance) const;
   [[nodiscard]] int unknown_of(NodeId node) const { return node - 1; }
   void prepare_sparse();

@@ -3,13 +3,13 @@
 #include <algorithm>
 #include <cctype>
 #include <cmath>
-#include <cstdio>
 #include <fstream>
 #include <map>
 #include <sstream>
 
 #include "core/input/error.hpp"
 #include "core/input/input_file.hpp"
+#include "core/input/text.hpp"
 
 namespace spurcast {
 
@@ -27,28 +27,8 @@ struct Card {
   std::vector<Token> tokens;
 };
 
-std::string lower(std::string_view text) {
-  std::string out(text);
-  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
-  return out;
-}
-
 /// Shows a name in a message: printable ASCII as is, anything else escaped, at most 24 characters.
-std::string shown(std::string_view text) {
-  std::string out;
-  for (const char c : text.substr(0, 24)) {
-    const auto u = static_cast<unsigned char>(c);
-    if (u >= 0x20 && u < 0x7f) {
-      out += c;
-    } else {
-      char buffer[8];
-      std::snprintf(buffer, sizeof buffer, "\\x%02x", u);
-      out += buffer;
-    }
-  }
-  if (text.size() > 24) out += "...";
-  return "'" + out + "'";
-}
+std::string shown(std::string_view text) { return quoted_for_message(text, 24); }
 
 const char* const pin_port[5] = {"in+", "in-", "out+", "out-", "ground"};
 const char* const pin_role[5] = {"LISN-side +", "LISN-side -", "converter-side +",
@@ -81,7 +61,7 @@ bool parse_spice_value(std::string_view text, double& value) {
         number += text[i++];
     }
   }
-  const std::string suffix = lower(text.substr(i));
+  const std::string suffix = ascii_lower(text.substr(i));
   for (const char c : suffix) {
     if (!std::isalpha(static_cast<unsigned char>(c))) return false;
   }
@@ -170,7 +150,7 @@ std::vector<NetlistElement> parse_spice_subcircuit(std::string_view text, const 
       }
       const std::string_view word = line.substr(begin, i - begin);
       tokens.push_back(
-          Token{lower(word), std::string(word), line_number, static_cast<int>(begin + 1)});
+          Token{ascii_lower(word), std::string(word), line_number, static_cast<int>(begin + 1)});
     }
     if (continuation) {
       if (cards.empty()) {
@@ -189,7 +169,7 @@ std::vector<NetlistElement> parse_spice_subcircuit(std::string_view text, const 
     Token header;
   };
   std::map<std::string, Parsed> found;
-  const std::string wanted = lower(subckt);
+  const std::string wanted = ascii_lower(subckt);
   bool in_subckt = false;
   bool ended = false;
   std::string current;

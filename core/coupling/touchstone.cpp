@@ -3,14 +3,13 @@
 #include <fast_float/fast_float.h>
 
 #include <algorithm>
-#include <cctype>
 #include <cmath>
-#include <cstdio>
 #include <fstream>
 #include <sstream>
 
 #include "core/input/error.hpp"
 #include "core/input/input_file.hpp"
+#include "core/input/text.hpp"
 #include "core/input/units.hpp"
 
 namespace spurcast {
@@ -27,28 +26,8 @@ struct Token {
   int column = 0;
 };
 
-std::string lower(std::string_view text) {
-  std::string out(text);
-  for (char& c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
-  return out;
-}
-
 /// Shows a token in a message: printable ASCII as is, anything else escaped, at most 20 characters.
-std::string shown(std::string_view text) {
-  std::string out;
-  for (const char c : text.substr(0, 20)) {
-    const auto u = static_cast<unsigned char>(c);
-    if (u >= 0x20 && u < 0x7f) {
-      out += c;
-    } else {
-      char buffer[8];
-      std::snprintf(buffer, sizeof buffer, "\\x%02x", u);
-      out += buffer;
-    }
-  }
-  if (text.size() > 20) out += "...";
-  return "'" + out + "'";
-}
+std::string shown(std::string_view text) { return quoted_for_message(text, 20); }
 
 bool parse_number(std::string_view text, double& value) {
   std::string_view body = text;
@@ -157,7 +136,7 @@ std::shared_ptr<const TouchstoneData> parse_touchstone(std::string_view text,
       }
       options.insert(options.end(), tokens.begin() + 1, tokens.end());
       for (std::size_t k = 0; k < options.size(); ++k) {
-        const std::string word = lower(options[k].text);
+        const std::string word = ascii_lower(options[k].text);
         if (word == "hz") {
           unit_hz = 1.0;
         } else if (word == "khz") {
@@ -260,7 +239,7 @@ std::shared_ptr<const TouchstoneData> parse_touchstone(std::string_view text,
 }
 
 int touchstone_ports(const std::string& path) {
-  const std::string l = lower(path);
+  const std::string l = ascii_lower(path);
   auto ends = [&](const char* suffix) {
     const std::string s(suffix);
     return l.size() >= s.size() && l.compare(l.size() - s.size(), s.size(), s) == 0;

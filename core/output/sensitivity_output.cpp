@@ -18,9 +18,10 @@ constexpr double shown_resolution_db = 0.005;
 
 std::string frequency_text(double hz) { return format_quantity(hz, Dimension::frequency, 4); }
 
+/// The unit of `value_si`: a fraction ("25 %") is given as its plain ratio (0.25), so it has no
+/// unit, like a plain number; "%" would misread 0.25 as a quarter of a percent.
 std::string unit_of(const SensitivityKey& key) {
-  if (key.dimension == Dimension::number) return "";
-  if (key.dimension == Dimension::fraction) return "1";
+  if (key.dimension == Dimension::number || key.dimension == Dimension::fraction) return "";
   return unit_symbol(key.dimension);
 }
 
@@ -153,8 +154,8 @@ std::string sensitivity_text(const SensitivityResult& result) {
   }
   out += "\n";
   for (const std::string& note : result.notes) out += "note: " + note + "\n";
-  out += fmt::format("{} keys, {} predictions on {} threads\n", result.keys.size(),
-                     result.keys.size() + 1, result.threads);
+  out += fmt::format("{} keys, {} predictions on {} thread{}\n", result.keys.size(),
+                     result.keys.size() + 1, result.threads, result.threads == 1 ? "" : "s");
   return out;
 }
 

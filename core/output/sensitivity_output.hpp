@@ -10,7 +10,8 @@
 namespace spurcast {
 
 /// JSON: `scenario`, `step_percent`, `targets` (what each figure is a change of), `sensitivities`
-/// per target, ranked by magnitude (objects with `key`, `value` as written, `value_si`, `unit`,
+/// per target, ranked by magnitude (objects with `key`, `value` as written, `value_si`, `unit` of
+/// `value_si` ("" for a plain number and for a fraction, whose `value_si` is the ratio: 0.25 for "25 %"),
 /// `frequency_hz`, `detector` or `band`, `db_per_10_percent` (null when there is no reading there
 /// after the change, with `note`), `worst_frequency_after_hz` and `worst_level_after` (null unless
 /// the worst reading moved)), `invalid` (key, value, message), `skipped` (key, reason), `threads`,

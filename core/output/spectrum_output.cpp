@@ -36,7 +36,6 @@ nlohmann::json json_of(const SpectrumResult& result) {
                      {"fundamental_estimated", result.fundamental_estimated},
                      {"harmonics", harmonics},
                      {"notes", result.notes}};
-  if (result.nominal_fundamental_hz) out["nominal_fundamental_hz"] = *result.nominal_fundamental_hz;
   if (result.window) out["window"] = *result.window;
   if (result.capture) {
     const Capture& c = *result.capture;
@@ -80,9 +79,6 @@ std::string spectrum_text(const SpectrumResult& result, std::size_t top) {
   out << "spectrum of the " << result.what << "\n";
   out << "fundamental: " << format_quantity(result.fundamental_hz, Dimension::frequency, 7);
   if (result.fundamental_estimated) out << " (estimated from the record)";
-  if (result.nominal_fundamental_hz && !result.fundamental_estimated) {
-    out << " (nominal " << format_quantity(*result.nominal_fundamental_hz, Dimension::frequency, 7) << ", refined on the record)";
-  }
   out << "\n";
   if (result.capture) {
     const Capture& c = *result.capture;

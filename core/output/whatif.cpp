@@ -13,6 +13,7 @@
 #include "core/chain/scenario.hpp"
 #include "core/chain/sweep.hpp"
 #include "core/input/error.hpp"
+#include "core/input/text.hpp"
 #include "core/input/units.hpp"
 #include "core/output/report.hpp"
 
@@ -68,7 +69,9 @@ void add_key(std::vector<WhatIfKey>& keys, const toml::table& table, const std::
 WhatIfResponse json_error(int status, const std::string& message) {
   WhatIfResponse r;
   r.status = status;
-  r.body = json{{"error", message}}.dump() + "\n";
+  // A message may echo request text (a Host, a path, a value cut at 200 bytes) that is not UTF-8:
+  // such bytes become U+FFFD instead of making dump() throw (nlohmann type_error 316).
+  r.body = json{{"error", message}}.dump(-1, ' ', false, json::error_handler_t::replace) + "\n";
   return r;
 }
 
@@ -94,14 +97,28 @@ class EvaluationSlot {
   bool admitted_ = false;
 };
 
-/// The "set" object of a request body; throws Error with a message for the client.
-std::string set_object_of(const std::string& body) {
-  json request;
+/// `text` parsed as JSON; throws Error for text that is not UTF-8 (naming the offset of the first
+/// bad byte, since nlohmann's own message would quote the byte itself) or not JSON (RFC 8259 §8.1:
+/// JSON text exchanged between systems is UTF-8; from memory).
+json parse_request_json(const std::string& text, const char* what) {
+  if (const auto bad = first_invalid_utf8_offset(text)) {
+    throw Error(fmt::format("expected UTF-8 text in the {}, found byte 0x{:02x} at byte offset {} that is not valid UTF-8",
+                            what, static_cast<unsigned char>(text[*bad]), *bad));
+  }
   try {
-    request = json::parse(body);
+    return json::parse(text);
   } catch (const json::parse_error& e) {
     throw Error(std::string("malformed JSON: ") + e.what());
+  } catch (const json::exception& e) {
+    // Also out_of_range 406, a number beyond double range ("21e308"), which parse() does not
+    // count as a parse error.
+    throw Error(std::string("malformed JSON: ") + e.what());
   }
+}
+
+/// The "set" object of a request body; throws Error with a message for the client.
+std::string set_object_of(const std::string& body) {
+  const json request = parse_request_json(body, "request body");
   if (!request.is_object()) throw Error("expected a JSON object such as {\"set\": {\"switching.frequency\": \"1.9 MHz\"}}");
   for (const auto& [name, value] : request.items()) {
     (void)value;
@@ -162,7 +179,8 @@ std::vector<WhatIfKey> whatif_keys(const toml::table& table) {
 toml::table whatif_apply(const toml::table& table, const std::string& file, const std::string& directory,
                          const ShippedData& data,
                          const std::string& set_object_json) {
-  const json set = json::parse(set_object_json);
+  const json set = parse_request_json(set_object_json, "\"set\" object");
+  if (!set.is_object()) throw Error("expected \"set\" to be an object of scenario keys and values");
   toml::table edited = table;
   for (const auto& [key, value] : set.items()) {
     const std::string named = "'" + key + "': ";

@@ -73,7 +73,7 @@ struct WhatIfKey {
 /// key part "file", "files", "plan", "path", "netlist" or "elements"): refused in a request.
 [[nodiscard]] bool whatif_key_names_file(const std::string& key);
 
-/// Applies `set` (a JSON object text {"key": value, ...}) to a copy of `table`: a string value is a
+/// Applies `set` (a JSON object text {"key": value, ...}; Error when it is not UTF-8 JSON) to a copy of `table`: a string value is a
 /// quantity in the key's unit (or one of a choice key's names), a number is taken in SI base units.
 /// Each key is checked by re-reading the scenario after it is set. Errors name the key:
 /// `'switching.frequency': expected a frequency (e.g. "220 kHz"), found "fast"`.

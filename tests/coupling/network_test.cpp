@@ -371,3 +371,43 @@ TEST_CASE("the sparse threshold-pivoting path agrees with the dense PartialPivLU
     }
   }
 }
+
+TEST_CASE("a failed solve names the element or node to blame, at its input-file position") {
+  // An admittance beyond double range (2*pi * 30 MHz * 1e300 F > 1.8e308, IEEE 754 binary64's
+  // largest value) makes the solution non-finite: the capacitor is named.
+  {
+    Network net;
+    const NodeId in = net.node("in");
+    net.add_current_source(Network::ground, in);
+    net.add_resistor(in, Network::ground, 50.0, "R1");
+    net.set_origin({"f.toml", 3, 5});
+    net.add_capacitor(in, Network::ground, 1e300, 0.0, 0.0, "C1");
+    const NetworkSolver solver(net);
+    CHECK_THROWS_WITH_AS((void)solver.transfer({30e6}, {Probe::voltage(in)}),
+                         "f.toml:3:5: the network is singular at 30 MHz: expected element values a solve can take, "
+                         "found capacitor 'C1' whose admittance overflows there (check its value)",
+                         Error);
+  }
+  // A lossless parallel LC whose admittances cancel exactly at the solve frequency (1/(wL) == wC
+  // in binary64 for these values, checked with Python's floats) leaves its node an empty row.
+  {
+    const double l = 1e-6, c = 2.533029591058445e-08, f = 1e6;
+    REQUIRE(omega(f) * c == (omega(f) * l) / ((omega(f) * l) * (omega(f) * l)));
+    Network net;
+    const NodeId in = net.node("in"), tank = net.node("tank");
+    net.add_current_source(Network::ground, in);
+    net.add_resistor(in, Network::ground, 50.0);
+    net.set_origin({"f.toml", 7, 1});
+    net.add_inductor(tank, Network::ground, l, 0.0, "L1");
+    net.add_capacitor(tank, Network::ground, c, 0.0, 0.0, "C1");
+    net.set_origin({});
+    const NetworkSolver solver(net);
+    CHECK_THROWS_WITH_AS((void)solver.transfer({f}, {Probe::voltage(in)}, SolveMethod::dense),
+                         "f.toml:7:1: the network is singular at 1 MHz: expected every node to have a path to ground "
+                         "at that frequency, found node 'tank' whose admittances cancel (a lossless resonance: give "
+                         "its parts a resistance)",
+                         Error);
+    // Off resonance the same network solves.
+    CHECK(std::isfinite(std::abs(solver.transfer({1.1e6}, {Probe::voltage(in)}).at(0, 0, 0))));
+  }
+}

@@ -4,7 +4,8 @@
 #   tests/fuzz/run.sh [--no-merge] BUILD_DIR SECONDS [TARGET...]
 #
 # BUILD_DIR is a folder configured with -DSPURCAST_FUZZ=ON (clang); the targets are built there if
-# needed. TARGET is a loader name (units, scenario, limits, bands, capture, trace, touchstone, spice) or all of them by
+# needed. TARGET is a loader name (units, scenario, limits, bands, capture, trace, touchstone, spice) or whatif (the
+# what-if request handler), or all of them by
 # default. For each target the inputs of tests/data/fuzz-regressions/<target>/ are replayed first (its
 # open/ subfolder holds reproducers of bugs not fixed yet: not replayed), then the target runs for
 # SECONDS from tests/fuzz/corpus/<target>/ (plus a scratch folder in BUILD_DIR); afterwards the

@@ -86,3 +86,20 @@ TEST_CASE("sensitivity text: one ranked line per key and reading") {
         std::string::npos);
   CHECK(text.find("lisn.lines  an integer: a count or a choice") != std::string::npos);
 }
+
+TEST_CASE("sensitivity text counts threads in the singular for one") {
+  SensitivityResult one = example();
+  one.threads = 1;
+  CHECK(sensitivity_text(one).find("3 keys, 4 predictions on 1 thread\n") != std::string::npos);
+  CHECK(sensitivity_text(example()).find("3 keys, 4 predictions on 2 threads\n") != std::string::npos);
+}
+
+TEST_CASE("sensitivity JSON: a fraction's value_si is the plain ratio, so it carries no unit") {
+  SensitivityResult r = example();
+  r.keys[0] = {"switching.ringing.amplitude", "35 %", 0.35, Dimension::fraction};
+  const nlohmann::json j = nlohmann::json::parse(sensitivity_json(r));
+  const nlohmann::json& first = j.at("sensitivities")[0];
+  CHECK(first.at("value") == "35 %");
+  CHECK(first.at("value_si").get<double>() == doctest::Approx(0.35).epsilon(exact_copy));
+  CHECK(first.at("unit") == "");
+}

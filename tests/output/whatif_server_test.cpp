@@ -229,6 +229,52 @@ TEST_CASE("an oversize body, malformed JSON, an unknown key, a bad value and a f
   CHECK(after->status == 200);
 }
 
+TEST_CASE("a body that is not UTF-8 is a 400 naming the first bad byte, never a 500") {
+  RunningServer s;
+  httplib::Client client = s.client();
+  // The byte 0x99 stands at offset 11: {"set": {"l is 11 bytes. nlohmann's own parse error would
+  // quote the byte, and dumping that message threw (type_error 316), which became a 500.
+  const std::string body = "{\"set\": {\"l\x99mits.files\": \"x\"}}";
+  const auto answer = client.Post("/api/evaluate", body, "application/json");
+  REQUIRE(answer);
+  CHECK(answer->status == 400);
+  CHECK(error_of(answer) == "expected UTF-8 text in the request body, found byte 0x99 at byte offset 11 that is not valid UTF-8");
+  // A UTF-8 sequence cut short (the lead byte of a 3-byte sequence followed by a quote) counts at its lead byte.
+  const auto cut = client.Post("/api/scenario.toml", "{\"set\": {\"switching.frequency\": \"1 \xe2\x82\"}}", "application/json");
+  REQUIRE(cut);
+  CHECK(cut->status == 400);
+  CHECK(error_of(cut) == "expected UTF-8 text in the request body, found byte 0xe2 at byte offset 35 that is not valid UTF-8");
+  // A number beyond double range is nlohmann's out_of_range 406, not a parse_error: also a 400.
+  const auto huge = client.Post("/api/evaluate", R"({"set": {"switching.frequency": 21e308}})", "application/json");
+  REQUIRE(huge);
+  CHECK(huge->status == 400);
+  CHECK(error_of(huge) == "malformed JSON: [json.exception.out_of_range.406] number overflow parsing '21e308'");
+}
+
+TEST_CASE("request text that is not UTF-8 is echoed in an error with U+FFFD in place of the bad bytes") {
+  spurcast::WhatIfSession session(spurcast::parse_toml_file(example, "scenario file"), example, example_dir,
+                                  spurcast::locate_shipped_data());
+  session.set_port(8470);
+  const auto answer = [&](const std::string& path, const std::string& host) {
+    const spurcast::WhatIfResponse r = session.handle({"GET", path, host, std::nullopt, ""});
+    CHECK(r.content_type == "application/json");
+    return std::pair{r.status, json::parse(r.body).at("error").get<std::string>()};
+  };
+  const std::string replacement = "\xef\xbf\xbd";  // U+FFFD in UTF-8
+  CHECK(answer("/no\xffwhere", "127.0.0.1:8470") == std::pair{404, "no such page: /no" + replacement + "where"});
+  CHECK(answer("/", "h\xc3:8470") ==
+        std::pair{403, "refused: the Host header must be 127.0.0.1:8470 or localhost:8470, found \"h" + replacement + ":8470\""});
+  // whatif_apply, called as a library function, refuses the same text with an Error rather than
+  // nlohmann's parse_error.
+  CHECK_THROWS_WITH_AS((void)spurcast::whatif_apply(spurcast::parse_toml_file(example, "scenario file"), example,
+                                                    example_dir, spurcast::locate_shipped_data(), "{\"\xed\xa0\x80\": 1}"),
+                       "expected UTF-8 text in the \"set\" object, found byte 0xed at byte offset 2 that is not valid UTF-8",
+                       spurcast::Error);
+  CHECK_THROWS_WITH_AS((void)spurcast::whatif_apply(spurcast::parse_toml_file(example, "scenario file"), example,
+                                                    example_dir, spurcast::locate_shipped_data(), "[1]"),
+                       "expected \"set\" to be an object of scenario keys and values", spurcast::Error);
+}
+
 TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
   RunningServer s;
   // 127.0.0.2 is the loopback interface too (127.0.0.0/8, RFC 1122 §3.2.1.3): a server bound to every

@@ -1,0 +1,27 @@
+#pragma once
+/// Small text helpers shared by the readers and the what-if handler: byte-level checks and the
+/// spelling of user text inside one-line error messages.
+#include <cstddef>
+#include <optional>
+#include <string>
+#include <string_view>
+
+namespace spurcast {
+
+/// The byte offset at which the first ill-formed UTF-8 sequence of `text` starts, or nullopt when
+/// all of `text` is well-formed UTF-8. Well-formed means the byte sequences of the Unicode
+/// Standard, Table 3-7, from memory (no overlong forms, no surrogates U+D800..U+DFFF, nothing above
+/// U+10FFFF); a sequence cut short by the end of `text` is ill-formed at its lead byte. Example:
+/// first_invalid_utf8_offset("l\x99mits") == 1.
+[[nodiscard]] std::optional<std::size_t> first_invalid_utf8_offset(std::string_view text);
+
+/// `text` with the ASCII letters A-Z in lower case; every other byte (UTF-8 included) as it is.
+/// Example: ascii_lower("10uH .SUBCKT") == "10uh .subckt".
+[[nodiscard]] std::string ascii_lower(std::string_view text);
+
+/// `text` as a file reader's message shows a name or token: in single quotes, printable ASCII as
+/// is, every other byte as \xNN, cut after `max_bytes` bytes with "..." appended. Example:
+/// quoted_for_message("L\t1", 24) == "'L\\x091'".
+[[nodiscard]] std::string quoted_for_message(std::string_view text, std::size_t max_bytes);
+
+}  // namespace spurcast
