@@ -40,6 +40,7 @@
 #include "core/radio/product.hpp"
 #include "core/radio/radiated.hpp"
 #include "core/radio/reception.hpp"
+#include "core/chain/contributors.hpp"
 #include "core/chain/prediction.hpp"
 #include "core/chain/scan_at.hpp"
 #include "core/chain/scenario.hpp"
