@@ -77,8 +77,8 @@ toml::table dm_stage(const Plan& plan) {
   elements.push_back(inductor("in+", "out+"));
   elements.push_back(inductor("in-", "out-"));
   elements.push_back(toml::table{{"type", "C"},
-                                 {"from", "out+"},
-                                 {"to", "out-"},
+                                 {"from", "in+"},
+                                 {"to", "in-"},
                                  {"value", q(plan.dm_c_f, Dimension::capacitance)},
                                  {"esr", q(capacitor_esr_ohm, Dimension::resistance)},
                                  {"esl", q(capacitor_esl_h, Dimension::inductance)}});
@@ -156,7 +156,9 @@ void damp(Plan& plan, const Scenario& base, const FilterDesignOptions& options, 
   const double target = check.input_resistance_ohm * std::pow(10.0, -options.stability_margin_db / 20.0);
   DampedLc lc;
   lc.inductance_h = 2.0 * plan.dm_l_each_h;  // one inductor in each line: the loop sees both
-  lc.capacitance_f = plan.dm_c_f;
+  // The proposed inductors resonate with the converter's own input capacitor (the section's capacitor
+  // sits on the LISN side, where Erickson's ideal source shorts it).
+  lc.capacitance_f = base.coupling.input_capacitance_f;
   lc.inductor_resistance_ohm = 2.0 * dm_inductor_dcr_ohm(plan.dm_l_each_h);
   double peak = peak_output_impedance_ohm(lc);
   if (peak > target) {
@@ -180,7 +182,7 @@ void damp(Plan& plan, const Scenario& base, const FilterDesignOptions& options, 
   }
   check.peak_output_impedance_ohm = peak;
   check.margin_db = 20.0 * std::log10(check.input_resistance_ohm / peak);
-  check.note = "the proposed differential-mode section's output impedance, its LISN side shorted, against |Z_in| = "
+  check.note = "the proposed inductors with the converter's input capacitor, the LISN side shorted, against |Z_in| = "
                "V_in,min²/P_out";
 }
 
@@ -227,9 +229,11 @@ double cl_insertion_loss_db(const ClSection& s, const NoiseSource& source, doubl
   cd yl = 1.0 / cd(s.inductor_resistance_ohm, w * s.inductance_h) + cd(0.0, w * s.winding_capacitance_f);
   if (s.core_loss_resistance_ohm > 0.0) yl += 1.0 / s.core_loss_resistance_ohm;
   const cd zl = 1.0 / yl;
+  // Without the section the load sees the source directly; with it, the inductor in series and the
+  // capacitor across the load.
   const cd without = load_ohm / (zs + load_ohm);
-  const cd zth = zs * zc / (zs + zc);
-  const cd with = zc / (zs + zc) * load_ohm / (zth + zl + load_ohm);
+  const cd zp = zc * load_ohm / (zc + load_ohm);
+  const cd with = zp / (zs + zl + zp);
   return 20.0 * std::log10(std::abs(without) / std::abs(with));
 }
 
@@ -482,14 +486,14 @@ FilterDesign design_filter(const toml::table& table, const std::string& file, co
                                 format_quantity(srf_hz(plan.dm_l_each_h, inductor_winding_capacitance_f), Dimension::frequency, 3) +
                                 "), core loss " + q(core_loss_ohm, Dimension::resistance),
                             dcr, current, 2.0 * current * current * dcr});
-    design.parts.push_back({stage_name(index), "DM capacitor (across the lines)", plan.dm_c_f, q(plan.dm_c_f, Dimension::capacitance),
+    design.parts.push_back({stage_name(index), "DM capacitor (across the lines, LISN side)", plan.dm_c_f, q(plan.dm_c_f, Dimension::capacitance),
                             "ESR " + q(capacitor_esr_ohm, Dimension::resistance) + ", ESL " + q(capacitor_esl_h, Dimension::inductance) +
                                 " (self-resonance " + format_quantity(srf_hz(capacitor_esl_h, plan.dm_c_f), Dimension::frequency, 3) + ")",
                             0.0, 0.0, 0.0});
     if (plan.damping_c_f > 0.0) {
       design.parts.push_back({stage_name(index), "damping resistor (in series with the damping capacitor)", plan.damping_r_ohm,
                               q(plan.damping_r_ohm, Dimension::resistance), "ideal", plan.damping_r_ohm, 0.0, 0.0});
-      design.parts.push_back({stage_name(index), "damping capacitor (across the DM capacitor, through the resistor)", plan.damping_c_f,
+      design.parts.push_back({stage_name(index), "damping capacitor (across the converter's input, through the resistor)", plan.damping_c_f,
                               q(plan.damping_c_f, Dimension::capacitance), "ESL " + q(capacitor_esl_h, Dimension::inductance),
                               0.0, 0.0, 0.0});
     }
@@ -502,7 +506,7 @@ FilterDesign design_filter(const toml::table& table, const std::string& file, co
   std::ostringstream text;
   text << filter_design_header << " from " << file << (met ? "" : " (the limits are NOT met: see its report)") << "\n"
        << "# new stages: " << (plan.cm ? "a common-mode choke" : "") << (plan.cm && plan.y_f > 0.0 ? " and Y capacitors (LISN side)" : "")
-       << (plan.cm && plan.dm ? "; " : "") << (plan.dm ? "a differential-mode LC section (converter side)" : "")
+       << (plan.cm && plan.dm ? "; " : "") << (plan.dm ? "a differential-mode C-L section (converter side)" : "")
        << (!plan.cm && !plan.dm ? "none (the scenario already meets its limits with the guard)" : "") << "\n"
        << toml::toml_formatter{proposed} << "\n";
   design.scenario_toml = text.str();

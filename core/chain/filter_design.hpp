@@ -10,12 +10,14 @@
 ///    with the mode levels of the strongest line there (core/chain/contributors.hpp): each mode must
 ///    come 6.02 dB under the target, so that their sum, V1 = V_CM + V_DM in any phase, cannot exceed
 ///    it: DM required = V_DM − (limit − guard − 6.02 dB), likewise CM;
-///  - differential mode: an LC section with an inductor in each line (balanced: no mode conversion)
-///    and a capacitor across the lines at the converter side, sized first with the closed-form
+///  - differential mode: a C–L section, a capacitor across the lines on the LISN side and an
+///    inductor in each line toward the converter (balanced: no mode conversion), the arrangement of
+///    the Würth Elektronik example (docs/references.md §9.3), sized first with the closed-form
 ///    insertion loss between the converter's input capacitor and the two LISN ports in series
-///    (100 Ω, docs/references.md §2.3), then grown while predict() shows a DM shortfall; damped by
-///    R in series with C_b across the capacitor when Middlebrook's criterion asks for it
-///    (core/coupling/input_stability.hpp, Erickson and Maksimović ch. 10 optimal damping);
+///    (100 Ω, docs/references.md §2.3), then grown while predict() shows a DM shortfall; the
+///    inductors resonate with the converter's input capacitor, so when Middlebrook's criterion asks
+///    for it R in series with C_b goes across the converter side (core/coupling/input_stability.hpp,
+///    Erickson and Maksimović ch. 10 optimal damping);
 ///  - common mode: a choke with Y capacitors on its converter side, on the LISN side of the existing
 ///    stages; the Y capacitance per line (with the scenario's own Y capacitors) is kept within the
 ///    [safety] touch-current limit (core/compliance/touch_current.hpp), the choke grows up to 47 mH.
@@ -45,8 +47,8 @@ struct AttenuationPoint {
 };
 
 /// A C–L section between a noise source of impedance C_s + ESR_s + ESL_s and a resistive load: the
-/// capacitor (with ESR, ESL) across the source side, the inductor (DC resistance, winding
-/// capacitance, core-loss resistance in parallel) in series toward the load.
+/// inductor (DC resistance, winding capacitance, core-loss resistance in parallel) in series from
+/// the source, the capacitor (with ESR, ESL) across the load.
 struct ClSection {
   double inductance_h = 0.0;
   double inductor_resistance_ohm = 0.0;
@@ -66,11 +68,11 @@ struct NoiseSource {
                                           double frequency_hz);
 
 /// Sizes a C–L section: starting at 100 nH and 1 µF, the capacitor and the inductor grow in turn along
-/// E6 (up to `max_inductance_h`, `max_capacitance_f`) until the insertion loss meets every point,
-/// and at 200 points per decade from the lowest point up to `check_to_hz` it is not below the
-/// requirement interpolated at the nearest point (so a self-resonance cannot undo it). Parasitics
-/// of each part follow `parasitics` (scaled per value, see filter_design.cpp). nullopt when the
-/// largest values do not meet it.
+/// E6 (up to `max_inductance_h`, `max_capacitance_f`) until the insertion loss meets every point
+/// (the planner passes every frequency that needs attenuation across the band, so a part's
+/// self-resonance inside it is seen). With `with_parasitics` the parts carry the planner's assumed
+/// parasitics (filter_design.cpp); otherwise they are ideal. nullopt when the largest values do not
+/// meet it.
 [[nodiscard]] std::optional<ClSection> size_cl_section(const std::vector<AttenuationPoint>& required,
                                                        const NoiseSource& source, double load_ohm,
                                                        double max_inductance_h, double max_capacitance_f,
