@@ -31,6 +31,17 @@ TEST_CASE("design-filter writes a scenario that predict passes") {
   CHECK(run_cli(dir, {"design-filter", "buck.toml", "-o", "new.toml"}, dir).exit_code == 0);
 }
 
+TEST_CASE("design-filter exits 1 and names the binding constraint when no filter meets the limits") {
+  const fs::path dir = fresh_directory("spurcast-design-filter-", "binding");
+  std::string scenario = read_text(fs::path(SPURCAST_SOURCE_DIR) / "examples/greenhouse-buck.toml");
+  scenario += "\n[safety]\ntouch_current = \"0.1 mA\"\n";
+  write_text(dir / "buck.toml", scenario);
+  const RunResult r = run_cli(dir, {"design-filter", "buck.toml", "-o", "new.toml"}, dir);
+  CHECK(r.exit_code == 1);
+  CHECK(r.out.find("not met: common mode: the CM choke is at the largest part considered (47 mH per winding)") !=
+        std::string::npos);
+}
+
 TEST_CASE("design-filter never replaces a file it did not write") {
   const fs::path dir = fresh_directory("spurcast-design-filter-", "foreign");
   fs::copy_file(fs::path(SPURCAST_SOURCE_DIR) / "examples/greenhouse-buck.toml", dir / "buck.toml");
