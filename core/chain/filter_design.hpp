@@ -7,20 +7,22 @@
 ///
 /// Method:
 ///  - required attenuation at each conducted reading: reading − (limit − guard). Split into modes
-///    with the mode levels of the strongest line there (core/chain/contributors.hpp): each mode must
-///    come 6.02 dB under the target, so that their sum, V1 = V_CM + V_DM in any phase, cannot exceed
-///    it: DM required = V_DM − (limit − guard − 6.02 dB), likewise CM;
+///    with the mode levels of the strongest line there (core/chain/contributors.hpp): each mode
+///    must come 6.02 dB under the target, so that their sum, V1 = V_CM + V_DM in any phase, cannot
+///    exceed it: DM required = V_DM − (limit − guard − 6.02 dB), likewise CM;
 ///  - differential mode: a C–L section, a capacitor across the lines on the LISN side and an
 ///    inductor in each line toward the converter (balanced: no mode conversion), the arrangement of
 ///    the Würth Elektronik example (docs/references.md §9.3), sized first with the closed-form
 ///    insertion loss between the converter's input capacitor and the two LISN ports in series
 ///    (100 Ω, docs/references.md §2.3), then grown while predict() shows a DM shortfall; the
 ///    inductors resonate with the converter's input capacitor, so when Middlebrook's criterion asks
-///    for it R in series with C_b goes across the converter side (core/coupling/input_stability.hpp,
-///    Erickson and Maksimović ch. 10 optimal damping);
-///  - common mode: a choke with Y capacitors on its converter side, on the LISN side of the existing
+///    for it R in series with C_b goes across the converter side
+///    (core/coupling/input_stability.hpp, Erickson and Maksimović ch. 10 optimal damping);
+///  - common mode: a choke with Y capacitors on its converter side, on the LISN side of the
+///  existing
 ///    stages; the Y capacitance per line (with the scenario's own Y capacitors) is kept within the
-///    [safety] touch-current limit (core/compliance/touch_current.hpp), the choke grows up to 47 mH.
+///    [safety] touch-current limit (core/compliance/touch_current.hpp), the choke grows up to 47
+///    mH.
 #include <optional>
 #include <string>
 #include <vector>
@@ -64,19 +66,18 @@ struct NoiseSource {
   double esl_h = 0.0;
 };
 /// Insertion loss [dB]: the load voltage without the section over the load voltage with it.
-[[nodiscard]] double cl_insertion_loss_db(const ClSection& section, const NoiseSource& source, double load_ohm,
-                                          double frequency_hz);
+[[nodiscard]] double cl_insertion_loss_db(const ClSection& section, const NoiseSource& source,
+                                          double load_ohm, double frequency_hz);
 
-/// Sizes a C–L section: starting at 100 nH and 1 µF, the capacitor and the inductor grow in turn along
-/// E6 (up to `max_inductance_h`, `max_capacitance_f`) until the insertion loss meets every point
-/// (the planner passes every frequency that needs attenuation across the band, so a part's
+/// Sizes a C–L section: starting at 100 nH and 1 µF, the capacitor and the inductor grow in turn
+/// along E6 (up to `max_inductance_h`, `max_capacitance_f`) until the insertion loss meets every
+/// point (the planner passes every frequency that needs attenuation across the band, so a part's
 /// self-resonance inside it is seen). With `with_parasitics` the parts carry the planner's assumed
 /// parasitics (filter_design.cpp); otherwise they are ideal. nullopt when the largest values do not
 /// meet it.
-[[nodiscard]] std::optional<ClSection> size_cl_section(const std::vector<AttenuationPoint>& required,
-                                                       const NoiseSource& source, double load_ohm,
-                                                       double max_inductance_h, double max_capacitance_f,
-                                                       bool with_parasitics);
+[[nodiscard]] std::optional<ClSection> size_cl_section(
+    const std::vector<AttenuationPoint>& required, const NoiseSource& source, double load_ohm,
+    double max_inductance_h, double max_capacitance_f, bool with_parasitics);
 
 /// Attenuation needed at one conducted reading.
 struct RequiredAttenuation {
@@ -92,24 +93,25 @@ struct RequiredAttenuation {
 /// One proposed part.
 struct ProposedPart {
   std::string stage;   ///< "filter 1", ... (its index in NEW.toml)
-  std::string role;    ///< "CM choke (each winding)", "Y capacitor (each line)", "DM inductor (each line)", ...
+  std::string role;    ///< "CM choke (each winding)", "Y capacitor (each line)", "DM inductor (each
+                       ///< line)", ...
   double value = 0.0;  ///< [H], [F] or [Ω]
   std::string value_text;
-  std::string parasitics;        ///< what is assumed, with the self-resonance where there is one
+  std::string parasitics;  ///< what is assumed, with the self-resonance where there is one
   double dc_resistance_ohm = 0.0;
-  double current_a = 0.0;        ///< the DC (mean input) current it carries [A]; 0 for shunt parts
-  double loss_w = 0.0;           ///< I²·R_dc of the part (both windings / lines where two) [W]
+  double current_a = 0.0;  ///< the DC (mean input) current it carries [A]; 0 for shunt parts
+  double loss_w = 0.0;     ///< I²·R_dc of the part (both windings / lines where two) [W]
 };
 
 /// Middlebrook's criterion for the proposed DM section.
 struct StabilityCheck {
   bool computed = false;
-  std::string note;                      ///< why not computed, or what was checked
-  double input_resistance_ohm = 0.0;     ///< |Z_in| = V_in,min²/P_out
+  std::string note;                   ///< why not computed, or what was checked
+  double input_resistance_ohm = 0.0;  ///< |Z_in| = V_in,min²/P_out
   double peak_output_impedance_ohm = 0.0;
-  double margin_db = 0.0;                ///< 20·log10(|Z_in| / peak)
+  double margin_db = 0.0;  ///< 20·log10(|Z_in| / peak)
   double required_margin_db = 0.0;
-  bool damped = false;                   ///< an R–C_b branch was added
+  bool damped = false;  ///< an R–C_b branch was added
 };
 
 struct FilterDesignOptions {
@@ -123,20 +125,20 @@ struct FilterDesign {
   double guard_db = 0.0;
   std::vector<RequiredAttenuation> required;
   std::vector<ProposedPart> parts;
-  double y_capacitance_per_line_f = 0.0;   ///< in NEW.toml, all Y stages together [F]
+  double y_capacitance_per_line_f = 0.0;  ///< in NEW.toml, all Y stages together [F]
   double existing_y_capacitance_per_line_f = 0.0;
-  double max_y_capacitance_f = 0.0;        ///< the touch-current limit [F]
+  double max_y_capacitance_f = 0.0;  ///< the touch-current limit [F]
   SafetySpec safety;
   StabilityCheck stability;
   Verdict verdict_before = Verdict::no_limits;
   Verdict verdict_after = Verdict::no_limits;
-  std::vector<DetectorMargin> before;      ///< worst margin per detector, scenario as given
-  std::vector<DetectorMargin> after;       ///< the same with the proposed stages (full predict)
-  bool met = false;                        ///< every conducted reading ≥ guard below its line after
-  std::string binding;                     ///< when not met: the constraint that binds and by how much
-  std::size_t predictions = 0;             ///< predict() runs made
+  std::vector<DetectorMargin> before;  ///< worst margin per detector, scenario as given
+  std::vector<DetectorMargin> after;   ///< the same with the proposed stages (full predict)
+  bool met = false;                    ///< every conducted reading ≥ guard below its line after
+  std::string binding;                 ///< when not met: the constraint that binds and by how much
+  std::size_t predictions = 0;         ///< predict() runs made
   std::vector<std::string> notes;
-  std::string scenario_toml;               ///< NEW.toml: the scenario with the proposed stages
+  std::string scenario_toml;  ///< NEW.toml: the scenario with the proposed stages
 };
 
 /// Plans the filter for the scenario `table` (read as scenario_from_table would). Throws Error

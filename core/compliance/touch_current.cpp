@@ -14,7 +14,8 @@ SafetySpec read_safety_section(TableReader& reader) {
   auto read = [&](std::string_view key, Dimension dimension, double fallback) {
     const double value = reader.quantity_or(key, dimension, fallback);
     if (!(std::isfinite(value) && value > 0.0)) {
-      reader.fail(key, "expected " + dimension_name(dimension) + " > 0, found " + format_quantity(value, dimension));
+      reader.fail(key, "expected " + dimension_name(dimension) + " > 0, found " +
+                           format_quantity(value, dimension));
     }
     return value;
   };

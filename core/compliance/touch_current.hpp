@@ -11,9 +11,9 @@ struct SafetySpec {
   /// [A] the allowed touch (earth-leakage) current; 0.5 mA is a common limit for hand-held class I
   /// equipment (from memory, docs/references.md §9.6: verify against the product's standard).
   double touch_current_a = 0.5e-3;
-  double mains_voltage_v = 230.0;     ///< [V] RMS line to earth (from memory: the European nominal)
-  double mains_frequency_hz = 50.0;   ///< [Hz] (from memory: the European nominal)
-  bool given = false;                 ///< whether the scenario had a [safety] section
+  double mains_voltage_v = 230.0;    ///< [V] RMS line to earth (from memory: the European nominal)
+  double mains_frequency_hz = 50.0;  ///< [Hz] (from memory: the European nominal)
+  bool given = false;                ///< whether the scenario had a [safety] section
 };
 
 /// Reads [safety]: touch_current, mains_voltage, mains_frequency (each optional, > 0).

@@ -20,10 +20,13 @@ ConverterPowerSpec read_converter_power(TableReader& reader) {
   spec.min_input_voltage_v = reader.required_quantity("min_input_voltage", Dimension::voltage);
   spec.output_power_w = reader.required_quantity("output_power", Dimension::power);
   if (!(std::isfinite(spec.min_input_voltage_v) && spec.min_input_voltage_v > 0.0)) {
-    reader.fail("min_input_voltage", "expected a voltage > 0, found " + format_quantity(spec.min_input_voltage_v, Dimension::voltage));
+    reader.fail("min_input_voltage",
+                "expected a voltage > 0, found " +
+                    format_quantity(spec.min_input_voltage_v, Dimension::voltage));
   }
   if (!(std::isfinite(spec.output_power_w) && spec.output_power_w > 0.0)) {
-    reader.fail("output_power", "expected a power > 0, found " + format_quantity(spec.output_power_w, Dimension::power));
+    reader.fail("output_power", "expected a power > 0, found " +
+                                    format_quantity(spec.output_power_w, Dimension::power));
   }
   spec.given = true;
   return spec;
@@ -39,7 +42,8 @@ double output_impedance_ohm(const DampedLc& lc, double f) {
   const cd y_l = 1.0 / cd(lc.inductor_resistance_ohm, w * lc.inductance_h);
   const cd y_c(0.0, w * lc.capacitance_f);
   cd y_d = 0.0;
-  if (lc.damping_capacitance_f > 0.0) y_d = 1.0 / cd(lc.damping_resistance_ohm, -1.0 / (w * lc.damping_capacitance_f));
+  if (lc.damping_capacitance_f > 0.0)
+    y_d = 1.0 / cd(lc.damping_resistance_ohm, -1.0 / (w * lc.damping_capacitance_f));
   return std::abs(1.0 / (y_l + y_c + y_d));
 }
 
@@ -57,7 +61,10 @@ double peak_output_impedance_ohm(const DampedLc& lc) {
   const double g = (std::sqrt(5.0) - 1.0) / 2.0;
   for (int i = 0; i < 80; ++i) {
     const double x1 = b - g * (b - a), x2 = a + g * (b - a);
-    if (output_impedance_ohm(lc, std::exp(x1)) > output_impedance_ohm(lc, std::exp(x2))) b = x2; else a = x1;
+    if (output_impedance_ohm(lc, std::exp(x1)) > output_impedance_ohm(lc, std::exp(x2)))
+      b = x2;
+    else
+      a = x1;
   }
   return std::max(best, output_impedance_ohm(lc, std::exp((a + b) / 2.0)));
 }

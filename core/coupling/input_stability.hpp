@@ -33,17 +33,17 @@ struct ConverterPowerSpec {
 
 /// A single LC section with optional parallel R–C_b damping across its capacitor.
 struct DampedLc {
-  double inductance_h = 0.0;       ///< the series inductance seen by a DM current (loop inductance)
+  double inductance_h = 0.0;  ///< the series inductance seen by a DM current (loop inductance)
   double capacitance_f = 0.0;
-  double damping_resistance_ohm = 0.0;   ///< 0 with damping_capacitance_f = 0: undamped
+  double damping_resistance_ohm = 0.0;  ///< 0 with damping_capacitance_f = 0: undamped
   double damping_capacitance_f = 0.0;
   double inductor_resistance_ohm = 0.0;  ///< series (DC) resistance of the loop
 };
 
 /// |Z_o(f)| of the section seen from its capacitor side with its input shorted [Ω].
 [[nodiscard]] double output_impedance_ohm(const DampedLc& lc, double frequency_hz);
-/// The peak of |Z_o| over 1 Hz–100 MHz (a log grid of 400 points per decade refined by golden-section
-/// search around the largest) [Ω].
+/// The peak of |Z_o| over 1 Hz–100 MHz (a log grid of 400 points per decade refined by
+/// golden-section search around the largest) [Ω].
 [[nodiscard]] double peak_output_impedance_ohm(const DampedLc& lc);
 
 /// Erickson's optimal damping for C_b = n·C: the resistance and the peak output impedance.
@@ -51,9 +51,11 @@ struct OptimalDamping {
   double resistance_ohm = 0.0;
   double peak_output_impedance_ohm = 0.0;
 };
-[[nodiscard]] OptimalDamping optimal_parallel_damping(double inductance_h, double capacitance_f, double n);
+[[nodiscard]] OptimalDamping optimal_parallel_damping(double inductance_h, double capacitance_f,
+                                                      double n);
 
 /// The smallest n (C_b/C) whose optimal peak R0·√(2(2 + n))/n is at most `target_ohm`.
-[[nodiscard]] double damping_ratio_for_peak(double inductance_h, double capacitance_f, double target_ohm);
+[[nodiscard]] double damping_ratio_for_peak(double inductance_h, double capacitance_f,
+                                            double target_ohm);
 
 }  // namespace spurcast

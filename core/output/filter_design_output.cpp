@@ -3,7 +3,6 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
-
 #include <nlohmann/json.hpp>
 
 #include "core/input/units.hpp"
@@ -28,7 +27,8 @@ nlohmann::ordered_json margins_json(Verdict verdict, const std::vector<DetectorM
   nlohmann::ordered_json j;
   j["verdict"] = to_string(verdict);
   nlohmann::ordered_json worst = nlohmann::ordered_json::object();
-  for (const DetectorMargin& d : margins) worst[to_string(d.detector)] = rounded(d.worst.margin_db, 2);
+  for (const DetectorMargin& d : margins)
+    worst[to_string(d.detector)] = rounded(d.worst.margin_db, 2);
   j["worst_margin_db"] = worst;
   return j;
 }
@@ -36,8 +36,8 @@ nlohmann::ordered_json margins_json(Verdict verdict, const std::vector<DetectorM
 std::string margins_text(const std::vector<DetectorMargin>& margins) {
   std::string out;
   for (const DetectorMargin& d : margins) {
-    out += (out.empty() ? "" : ", ") + to_string(d.detector) + " " + db_text(d.worst.margin_db) + " at " +
-           format_quantity(d.worst.frequency_hz, Dimension::frequency, 5);
+    out += (out.empty() ? "" : ", ") + to_string(d.detector) + " " + db_text(d.worst.margin_db) +
+           " at " + format_quantity(d.worst.frequency_hz, Dimension::frequency, 5);
   }
   return out.empty() ? "no margin computed" : out;
 }
@@ -101,7 +101,8 @@ std::string filter_design_json(const FilterDesign& d, const std::string& output_
 std::string filter_design_text(const FilterDesign& d, const std::string& output_path) {
   std::string out;
   out += "before: " + to_string(d.verdict_before) + " (" + margins_text(d.before) + ")\n";
-  out += "after:  " + to_string(d.verdict_after) + " (" + margins_text(d.after) + "), guard " + db_text(d.guard_db) + "\n";
+  out += "after:  " + to_string(d.verdict_after) + " (" + margins_text(d.after) + "), guard " +
+         db_text(d.guard_db) + "\n";
   if (!d.required.empty()) {
     std::vector<const RequiredAttenuation*> order;
     for (const RequiredAttenuation& r : d.required) order.push_back(&r);
@@ -110,8 +111,9 @@ std::string filter_design_text(const FilterDesign& d, const std::string& output_
     out += "\nrequired attenuation (reading - (limit - guard)), largest first:\n";
     std::vector<std::vector<std::string>> rows{{"frequency", "detector", "total", "DM", "CM"}};
     for (std::size_t i = 0; i < order.size() && i < 10; ++i) {
-      rows.push_back({format_quantity(order[i]->frequency_hz, Dimension::frequency, 5), order[i]->detector,
-                      db_text(order[i]->required_db), db_text(order[i]->dm_required_db), db_text(order[i]->cm_required_db)});
+      rows.push_back({format_quantity(order[i]->frequency_hz, Dimension::frequency, 5),
+                      order[i]->detector, db_text(order[i]->required_db),
+                      db_text(order[i]->dm_required_db), db_text(order[i]->cm_required_db)});
     }
     out += format_columns(rows, {0, 2, 3, 4});
     if (order.size() > 10) out += "  (" + std::to_string(order.size() - 10) + " more in --json)\n";
@@ -123,21 +125,25 @@ std::string filter_design_text(const FilterDesign& d, const std::string& output_
       if (p.dc_resistance_ohm > 0.0 && p.current_a > 0.0) {
         char buffer[96];
         std::snprintf(buffer, sizeof buffer, "; %.3g A DC, %.3g W", p.current_a, p.loss_w);
-        out += "; DC resistance " + format_quantity(p.dc_resistance_ohm, Dimension::resistance, 3) + buffer;
+        out += "; DC resistance " + format_quantity(p.dc_resistance_ohm, Dimension::resistance, 3) +
+               buffer;
       }
       out += "\n";
     }
   }
-  out += "\nY capacitance per line: " + format_quantity(d.y_capacitance_per_line_f, Dimension::capacitance) +
-         " (limit " + format_quantity(d.max_y_capacitance_f, Dimension::capacitance) + " = " +
+  out += "\nY capacitance per line: " +
+         format_quantity(d.y_capacitance_per_line_f, Dimension::capacitance) + " (limit " +
+         format_quantity(d.max_y_capacitance_f, Dimension::capacitance) + " = " +
          format_quantity(d.safety.touch_current_a, Dimension::current) + " / (2π · " +
          format_quantity(d.safety.mains_frequency_hz, Dimension::frequency) + " · " +
          format_quantity(d.safety.mains_voltage_v, Dimension::voltage) + "))\n";
   const StabilityCheck& s = d.stability;
   if (s.computed) {
-    out += "stability (Middlebrook): peak output impedance " + format_quantity(s.peak_output_impedance_ohm, Dimension::resistance) +
-           " against |Z_in| " + format_quantity(s.input_resistance_ohm, Dimension::resistance) + ": margin " +
-           db_text(s.margin_db) + " (asked " + db_text(s.required_margin_db) + ")" + (s.damped ? ", R-C damped" : "") + "\n";
+    out += "stability (Middlebrook): peak output impedance " +
+           format_quantity(s.peak_output_impedance_ohm, Dimension::resistance) +
+           " against |Z_in| " + format_quantity(s.input_resistance_ohm, Dimension::resistance) +
+           ": margin " + db_text(s.margin_db) + " (asked " + db_text(s.required_margin_db) + ")" +
+           (s.damped ? ", R-C damped" : "") + "\n";
   } else {
     out += "stability (Middlebrook): " + s.note + "\n";
   }
@@ -145,7 +151,8 @@ std::string filter_design_text(const FilterDesign& d, const std::string& output_
   if (d.met) {
     out += "\nwrote " + output_path + ": predict it to see the limits met with the guard\n";
   } else {
-    out += "\nnot met: " + d.binding + "\nwrote " + output_path + " with the largest filter considered\n";
+    out += "\nnot met: " + d.binding + "\nwrote " + output_path +
+           " with the largest filter considered\n";
   }
   return out;
 }

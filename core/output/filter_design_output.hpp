@@ -2,7 +2,8 @@
 /// The writers of a FilterDesign (core/chain/filter_design.hpp): the terminal text and JSON.
 ///
 /// Example:
-///   std::cout << (json ? filter_design_json(design, "new.toml") : filter_design_text(design, "new.toml"));
+///   std::cout << (json ? filter_design_json(design, "new.toml") : filter_design_text(design,
+///   "new.toml"));
 #include <string>
 
 #include "core/chain/filter_design.hpp"
@@ -17,10 +18,13 @@ namespace spurcast {
 /// mains_voltage_v, mains_frequency_hz, given), `stability` (computed, note, input_resistance_ohm,
 /// peak_output_impedance_ohm, margin_db, required_margin_db, damped; numbers null when not
 /// computed), `predictions`, `notes`.
-[[nodiscard]] std::string filter_design_json(const FilterDesign& design, const std::string& output_path);
+[[nodiscard]] std::string filter_design_json(const FilterDesign& design,
+                                             const std::string& output_path);
 
 /// The terminal text: before and after, the required attenuation (the ten largest), the parts, the
-/// Y capacitance against its limit, the stability check, and what binds when the limits are not met.
-[[nodiscard]] std::string filter_design_text(const FilterDesign& design, const std::string& output_path);
+/// Y capacitance against its limit, the stability check, and what binds when the limits are not
+/// met.
+[[nodiscard]] std::string filter_design_text(const FilterDesign& design,
+                                             const std::string& output_path);
 
 }  // namespace spurcast

@@ -31,15 +31,16 @@ TEST_CASE("design-filter writes a scenario that predict passes") {
   CHECK(run_cli(dir, {"design-filter", "buck.toml", "-o", "new.toml"}, dir).exit_code == 0);
 }
 
-TEST_CASE("design-filter exits 1 and names the binding constraint when no filter meets the limits") {
+TEST_CASE(
+    "design-filter exits 1 and names the binding constraint when no filter meets the limits") {
   const fs::path dir = fresh_directory("spurcast-design-filter-", "binding");
   std::string scenario = read_text(fs::path(SPURCAST_SOURCE_DIR) / "examples/greenhouse-buck.toml");
   scenario += "\n[safety]\ntouch_current = \"0.1 mA\"\n";
   write_text(dir / "buck.toml", scenario);
   const RunResult r = run_cli(dir, {"design-filter", "buck.toml", "-o", "new.toml"}, dir);
   CHECK(r.exit_code == 1);
-  CHECK(r.out.find("not met: common mode: the CM choke is at the largest part considered (47 mH per winding)") !=
-        std::string::npos);
+  CHECK(r.out.find("not met: common mode: the CM choke is at the largest part considered (47 mH "
+                   "per winding)") != std::string::npos);
 }
 
 TEST_CASE("design-filter never replaces a file it did not write") {
@@ -48,15 +49,21 @@ TEST_CASE("design-filter never replaces a file it did not write") {
   write_text(dir / "mine.toml", "# my notes\n");
   const RunResult r = run_cli(dir, {"design-filter", "buck.toml", "-o", "mine.toml"}, dir);
   CHECK(r.exit_code == 3);
-  CHECK(r.err == "spurcast: error: refusing to replace mine.toml: spurcast design-filter did not write it\n");
+  CHECK(
+      r.err ==
+      "spurcast: error: refusing to replace mine.toml: spurcast design-filter did not write it\n");
   CHECK(read_text(dir / "mine.toml") == "# my notes\n");
 }
 
 TEST_CASE("design-filter on a scenario without limits: one line, exit 2, nothing written") {
   const fs::path dir = fresh_directory("spurcast-design-filter-", "nolimits");
-  write_text(dir / "s.toml", "[switching]\nfrequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\nrise = \"12 ns\"\nfall = \"15 ns\"\n");
+  write_text(dir / "s.toml",
+             "[switching]\nfrequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = "
+             "\"6 A\"\nrise = \"12 ns\"\nfall = \"15 ns\"\n");
   const RunResult r = run_cli(dir, {"design-filter", "s.toml", "-o", "new.toml"}, dir);
   CHECK(r.exit_code == 2);
-  CHECK(r.err == "spurcast: error: s.toml: design-filter needs limit lines to design against: give [limits] files\n");
+  CHECK(r.err ==
+        "spurcast: error: s.toml: design-filter needs limit lines to design against: give [limits] "
+        "files\n");
   CHECK_FALSE(fs::exists(dir / "new.toml"));
 }
