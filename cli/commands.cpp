@@ -18,6 +18,7 @@ void register_commands(CLI::App& app, CommandList& commands) {
   setup_scan(app, commands);
   setup_spectrum(app, commands);
   setup_sensitivity(app, commands);
+  setup_design_filter(app, commands);
   setup_serve(app, commands);
 }
 

@@ -40,6 +40,7 @@ void setup_demo(CLI::App& app, CommandList& commands);
 void setup_bands(CLI::App& app, CommandList& commands);
 void setup_scan(CLI::App& app, CommandList& commands);
 void setup_sensitivity(CLI::App& app, CommandList& commands);
+void setup_design_filter(CLI::App& app, CommandList& commands);
 void setup_serve(CLI::App& app, CommandList& commands);
 
 }  // namespace spurcast::cli

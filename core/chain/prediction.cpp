@@ -252,6 +252,31 @@ std::string to_string(SourceKind kind) {
   return "described";
 }
 
+double receiver_bandwidth_at(const Prediction& p, double frequency_hz) {
+  for (const BandScan& scan : p.scans) {
+    const BandParameters band = band_parameters(scan.band);
+    if (frequency_hz >= band.start_hz && frequency_hz <= band.stop_hz) return band.bandwidth_6db_hz;
+  }
+  return 9e3;
+}
+
+std::vector<WorstFrequency> worst_frequencies(const Prediction& p, std::size_t count) {
+  std::vector<const MarginRow*> order;
+  for (const MarginRow& row : p.margins.rows) order.push_back(&row);
+  std::stable_sort(order.begin(), order.end(),
+                   [](const MarginRow* a, const MarginRow* b) { return a->margin_db < b->margin_db; });
+  std::vector<WorstFrequency> kept;
+  for (const MarginRow* row : order) {
+    if (kept.size() >= count) break;
+    const double separation = receiver_bandwidth_at(p, row->frequency_hz);
+    const bool near = std::any_of(kept.begin(), kept.end(), [&](const WorstFrequency& k) {
+      return std::abs(k.row.frequency_hz - row->frequency_hz) < separation;
+    });
+    if (!near) kept.push_back({*row, separation});
+  }
+  return kept;
+}
+
 Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   Prediction p;
   p.scenario = scenario;
@@ -269,6 +294,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     const BandParameters range = band_parameters(band);
     for (const Resonance& r : find_resonances(model, range.start_hz, range.stop_hz, resonance_note_min_q)) {
       p.notes.push_back(resonance_note(r));
+      p.resonances.push_back(r);
     }
   }
 
@@ -391,6 +417,17 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   margin_options.unread = unread_ranges(p, bands, options.skip_scans, top_hz);
   p.margins = compare_with_limits(readings, scenario.limits.sets, margin_options);
   p.verdict = p.margins.verdict;
+  // What makes each of the worst LISN-port readings (the five the terminal lists).
+  if (p.conducted && !options.skip_scans) {
+    std::vector<double> frequencies, bandwidths;
+    for (const WorstFrequency& w : worst_frequencies(p, 5)) {
+      if (w.row.quantity != LimitQuantity::conducted_voltage) continue;
+      frequencies.push_back(w.row.frequency_hz);
+      bandwidths.push_back(w.separation_hz);
+    }
+    p.contributors = contributors_at(scenario, *p.conducted, p.switch_node_v, p.input_current_a, p.resonances,
+                                     frequencies, bandwidths);
+  }
   if (battery) {
     p.notes.push_back("battery supply: no LISN, no conducted limits apply; the leads carry the differential-mode "
                       "loop current and a common-mode current returned through the product's self-capacitance");

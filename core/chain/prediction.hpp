@@ -10,6 +10,7 @@
 #include <string>
 #include <vector>
 
+#include "core/chain/contributors.hpp"
 #include "core/coupling/conducted.hpp"
 #include "core/compliance/margins.hpp"
 #include "core/receiver/receiver.hpp"
@@ -96,6 +97,11 @@ struct Prediction {
   std::string reception_assumptions;
   std::string setup_description;  ///< the LISN set-up the levels refer to
   std::vector<std::string> notes; ///< assumptions and warnings to show the user
+  /// The conducted model's resonances inside the receiver bands (Q ≥ resonance_note_min_q).
+  std::vector<Resonance> resonances;
+  /// What makes each of the worst conducted readings (worst_frequencies(…, 5), LISN-port readings
+  /// only), in the same order (core/chain/contributors.hpp).
+  std::vector<Contributor> contributors;
   Verdict verdict = Verdict::no_limits;  ///< the margins' verdict (no_limits when no limit was given)
 };
 
@@ -125,6 +131,20 @@ struct Prediction {
                                                  const LineSpectrum& input_current_a,
                                                  const std::vector<std::size_t>& harmonics,
                                                  const ConductedResult* conducted);
+
+/// The receiver's 6 dB bandwidth of the band of `prediction.scans` holding `frequency_hz` (9 kHz when
+/// none does: band B's).
+[[nodiscard]] double receiver_bandwidth_at(const Prediction& prediction, double frequency_hz);
+
+/// A reading that stands out: the smallest margin at one frequency.
+struct WorstFrequency {
+  MarginRow row;
+  double separation_hz = 0.0;  ///< the thinning distance used (the band's 6 dB bandwidth) [Hz]
+};
+/// The `count` smallest margins at distinct frequencies: rows sorted by margin, each kept only when
+/// it is at least one receiver bandwidth (B6 of its band) away from the rows already kept, so one
+/// emission does not fill the list with its neighbouring scan points.
+[[nodiscard]] std::vector<WorstFrequency> worst_frequencies(const Prediction& prediction, std::size_t count);
 
 /// Runs the chain. Throws Error on inconsistent input (e.g. a capture too slow for the band).
 [[nodiscard]] Prediction predict(const Scenario& scenario, const PredictionOptions& options = {});

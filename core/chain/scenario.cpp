@@ -11,7 +11,7 @@ const std::vector<std::string>& scenario_sections() {
   static const std::vector<std::string> sections{"title",  "description", "switching", "capture",
                                                  "coupling", "filter",    "lisn",      "receiver",
                                                  "limits", "broadcast", "supply",   "board",
-                                                 "converter"};
+                                                 "converter", "safety"};
   return sections;
 }
 
@@ -90,6 +90,14 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
   if (const toml::table* section = top.optional_table("board")) {
     TableReader reader(*section, file, "board");
     scenario.board = read_board_section(reader);
+  }
+  if (const toml::table* section = top.optional_table("converter")) {
+    TableReader reader(*section, file, "converter");
+    scenario.converter_power = read_converter_power(reader);
+  }
+  if (const toml::table* section = top.optional_table("safety")) {
+    TableReader reader(*section, file, "safety");
+    scenario.safety = read_safety_section(reader);
   }
   if (scenario.supply.kind == SupplyKind::battery) {
     // No network and no limit: a battery product has no conducted measurement to compare.

@@ -21,6 +21,8 @@
 #include "core/coupling/converter.hpp"
 #include "core/coupling/filter.hpp"
 #include "core/compliance/limits.hpp"
+#include "core/compliance/touch_current.hpp"
+#include "core/coupling/input_stability.hpp"
 #include "core/coupling/lisn.hpp"
 #include "core/receiver/receiver.hpp"
 #include "core/source/source.hpp"
@@ -45,6 +47,8 @@ struct Scenario {
   BroadcastSpec broadcast;                 ///< [broadcast]
   SupplySpec supply;                       ///< [supply]
   BoardSpec board;                         ///< [board]
+  ConverterPowerSpec converter_power;      ///< [converter] min_input_voltage, output_power
+  SafetySpec safety;                       ///< [safety] (defaults when absent; safety.given says)
 };
 
 /// The top-level keys a scenario may hold.

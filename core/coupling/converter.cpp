@@ -39,8 +39,9 @@ ConverterSpec read_converter_section(TableReader& reader) {
       reader.fail(key, std::string("'") + key + "' belongs to topology flyback, not " + name);
     }
   }
+  // min_input_voltage and output_power are read by read_converter_power (core/coupling/input_stability.hpp).
   reader.finish({"topology", "inductor_ripple", "interwinding_capacitance", "secondary_capacitance",
-                 "y_capacitance"});
+                 "y_capacitance", "min_input_voltage", "output_power"});
   auto checked = [&](std::string_view key, Dimension dimension, double value,
                      bool strictly_positive) {
     if (!(std::isfinite(value) && (strictly_positive ? value > 0.0 : value >= 0.0))) {

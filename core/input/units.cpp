@@ -54,6 +54,7 @@ std::vector<std::string_view> spellings(Dimension d) {
     case Dimension::level_dbuv: return {"dB\xC2\xB5V", "dBuV", "dB\xCE\xBCV"};
     case Dimension::level_dbua: return {"dB\xC2\xB5" "A", "dBuA", "dB\xCE\xBC" "A"};
     case Dimension::level_dbuvm: return {"dB\xC2\xB5V/m", "dBuV/m", "dB\xCE\xBCV/m"};
+    case Dimension::power: return {"W"};
     case Dimension::number: return {};
   }
   return {};
@@ -74,6 +75,7 @@ std::string example(Dimension d) {
     case Dimension::level_dbuv: return "\"60 dBuV\"";
     case Dimension::level_dbua: return "\"20 dBuA\"";
     case Dimension::level_dbuvm: return "\"40 dBuV/m\"";
+    case Dimension::power: return "\"60 W\"";
     case Dimension::number: return "0.25";
   }
   return "";
@@ -109,6 +111,7 @@ std::string dimension_name(Dimension d) {
     case Dimension::level_dbuv: return "a level in dBuV";
     case Dimension::level_dbua: return "a level in dBuA";
     case Dimension::level_dbuvm: return "a field strength in dBuV/m";
+    case Dimension::power: return "a power";
     case Dimension::number: return "a number";
   }
   return "a quantity";

@@ -21,6 +21,7 @@ enum class Dimension {
   level_dbuv,   ///< dBµV (also "dBuV")
   level_dbua,   ///< dBµA (also "dBuA")
   level_dbuvm,  ///< dBµV/m (also "dBuV/m")
+  power,        ///< W
   number,       ///< a plain number, no unit accepted
 };
 

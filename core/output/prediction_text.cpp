@@ -80,6 +80,10 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
     }
     out += format_columns(rows, {0, 2, 3, 4});
   }
+  if (!p.contributors.empty()) {
+    out += "\nwhat makes them (LISN-port mode shares at the strongest line):\n";
+    for (const Contributor& c : p.contributors) out += "  " + contributor_line(c) + "\n";
+  }
 
   if (!p.reception.empty()) {
     out += "\nbroadcast bands (" + p.reception_assumptions + "):\n";

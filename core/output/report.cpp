@@ -75,13 +75,6 @@ std::string signed_db(double value_db, int decimals = 1) {
 std::string frequency_quantity(double frequency_hz) { return format_quantity(frequency_hz, Dimension::frequency, 5); }
 
 /// The 6 dB bandwidth of the scan holding `frequency_hz` (9 kHz when no scan holds it).
-double bandwidth_at(const Prediction& p, double frequency_hz) {
-  for (const BandScan& scan : p.scans) {
-    const BandParameters band = band_parameters(scan.band);
-    if (frequency_hz >= band.start_hz && frequency_hz <= band.stop_hz) return band.bandwidth_6db_hz;
-  }
-  return 9e3;
-}
 
 std::string lisn_circuit_name(LisnCircuit circuit) {
   return circuit == LisnCircuit::ideal ? "ideal" : "practical";
@@ -265,22 +258,6 @@ std::string scan_csv(const Prediction& p) {
   return csv;
 }
 
-std::vector<WorstFrequency> worst_frequencies(const Prediction& p, std::size_t count) {
-  std::vector<const MarginRow*> order;
-  for (const MarginRow& row : p.margins.rows) order.push_back(&row);
-  std::stable_sort(order.begin(), order.end(),
-                   [](const MarginRow* a, const MarginRow* b) { return a->margin_db < b->margin_db; });
-  std::vector<WorstFrequency> kept;
-  for (const MarginRow* row : order) {
-    if (kept.size() >= count) break;
-    const double separation = bandwidth_at(p, row->frequency_hz);
-    const bool near = std::any_of(kept.begin(), kept.end(), [&](const WorstFrequency& k) {
-      return std::abs(k.row.frequency_hz - row->frequency_hz) < separation;
-    });
-    if (!near) kept.push_back({*row, separation});
-  }
-  return kept;
-}
 
 // ---------------------------------------------------------------------------------------------
 // summary.json
@@ -351,6 +328,24 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
     worst_list.push_back(row);
   }
   j["worst_frequencies"] = worst_list;
+  nlohmann::ordered_json contributors = nlohmann::ordered_json::array();
+  for (const Contributor& c : p.contributors) {
+    nlohmann::ordered_json item;
+    item["frequency_hz"] = rounded(c.frequency_hz, 1);
+    item["harmonic"] = c.harmonic;
+    item["harmonic_hz"] = rounded(c.harmonic_hz, 1);
+    item["dm_share"] = rounded(c.dm_share, 4);
+    item["cm_share"] = rounded(c.cm_share, 4);
+    item["dm_dbuv"] = rounded(c.dm_dbuv, 2);
+    item["cm_dbuv"] = rounded(c.cm_dbuv, 2);
+    item["dm_to_cm_fraction"] = rounded(c.dm_to_cm_fraction, 4);
+    item["cm_to_dm_fraction"] = rounded(c.cm_to_dm_fraction, 4);
+    item["conversion"] = c.conversion.empty() ? nlohmann::ordered_json() : nlohmann::ordered_json(c.conversion);
+    item["source"] = c.source;
+    item["path"] = c.path;
+    contributors.push_back(item);
+  }
+  j["contributors"] = contributors;
   const std::optional<double> u = uncertainty_for(p);
   j["uncertainty_db"] = u ? nlohmann::ordered_json(rounded(*u, 2)) : nlohmann::ordered_json();
   nlohmann::ordered_json limits = nlohmann::ordered_json::array();
@@ -904,6 +899,20 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     }
     out += "</table>\n";
     out += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
+    if (!p.contributors.empty()) {
+      // Mode shares at the LISN ports, V_DM = (V1 − V2)/2, V_CM = (V1 + V2)/2 (docs/references.md §2.3).
+      out += "<h3>What makes them</h3>\n<table><tr><th>frequency</th><th>DM share</th><th>CM share</th>"
+             "<th>source</th><th>controlled by</th></tr>\n";
+      for (const Contributor& c : p.contributors) {
+        char dm[16], cm[16];
+        std::snprintf(dm, sizeof dm, "%.0f %%", 100.0 * c.dm_share);
+        std::snprintf(cm, sizeof cm, "%.0f %%", 100.0 * c.cm_share);
+        out += "<tr><td class=\"num\">" + html(format_quantity(c.frequency_hz, Dimension::frequency, 5)) +
+               "</td><td class=\"num\">" + dm + "</td><td class=\"num\">" + cm + "</td><td>" + html(c.source) +
+               "</td><td>" + html(c.path) + (c.conversion.empty() ? "" : "; " + html(c.conversion)) + "</td></tr>\n";
+      }
+      out += "</table>\n";
+    }
   } else {
     out += "<p>No reading was compared with a limit line.</p>\n";
   }

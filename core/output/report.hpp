@@ -43,15 +43,7 @@ namespace spurcast {
 /// ("peak+quasi-peak+average", "average", ... or empty).
 [[nodiscard]] std::string scan_csv(const Prediction& prediction);
 
-/// A reading that stands out: the smallest margin at one frequency.
-struct WorstFrequency {
-  MarginRow row;
-  double separation_hz = 0.0;  ///< the thinning distance used (the band's 6 dB bandwidth) [Hz]
-};
-/// The `count` smallest margins at distinct frequencies: rows sorted by margin, each kept only when
-/// it is at least one receiver bandwidth (B6 of its band) away from the rows already kept, so one
-/// emission does not fill the list with its neighbouring scan points.
-[[nodiscard]] std::vector<WorstFrequency> worst_frequencies(const Prediction& prediction, std::size_t count);
+// worst_frequencies() and WorstFrequency: core/chain/prediction.hpp.
 
 /// summary.json (docs/design.md §4): keys verdict, worst_margin_db {detector: dB} (per limit-line
 /// detector), bands [{name, region, verdict, ...}], files, plus title, scenario, source, guard_db,
