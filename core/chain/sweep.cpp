@@ -178,6 +178,9 @@ struct Context {
   bool reread_limits = false;   ///< a limits. key varies
   bool shared_model = true;     ///< no coupling./filter./lisn. key varies
   bool shared_bands = true;     ///< no broadcast. key varies
+  /// The cable fields per ampere over the bands, when the radiation set-up is the same at every
+  /// point (no broadcast., supply. or board. key varies): the fields are interpolated from it.
+  std::optional<CableFieldTable> cable_table;
   std::optional<ConductedModel> model;
   std::vector<Band> bands;
   std::vector<std::vector<double>> channel_centres;  ///< per band of `bands`
@@ -336,7 +339,8 @@ LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& mode
   }
   if (scenario.supply.kind == SupplyKind::battery) currents = radiator_currents(scenario, v_sw, i_in, band_ks, nullptr);
   const ReceiverLines heard = receiver_lines(
-      radiated_field(radiation_setup(scenario.broadcast, scenario.supply, scenario.board), currents));
+      ctx.cable_table ? radiated_field(ctx.cable_table->setup(), currents, *ctx.cable_table)
+                      : radiated_field(radiation_setup(scenario.broadcast, scenario.supply, scenario.board), currents));
   out.reception = estimate_reception(bands, heard, scenario.broadcast);
 
   // Drift of the lines across the channels, analytically: a channel hears each line whose range
@@ -964,6 +968,7 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   ctx.directory = directory;
   ctx.options = &options;
   ctx.base = scenario_from_table(table, file, directory, data);
+  bool shared_radiation = true;
   for (const SweepAxis& axis : options.axes) {
     const std::string section = key_parts(axis.key).front();
     if (section == "limits") ctx.reread_limits = true;
@@ -971,10 +976,25 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
       ctx.shared_model = false;
     }
     if (section == "broadcast") ctx.shared_bands = false;
+    if (section == "broadcast" || section == "supply" || section == "board") shared_radiation = false;
   }
   if (ctx.shared_model) ctx.model.emplace(ctx.base.coupling, ctx.base.filters, ctx.base.lisn, ctx.base.converter);
   ctx.bands = bands_for(ctx.base.broadcast, ctx.base.data);
   for (const Band& band : ctx.bands) ctx.channel_centres.push_back(band.channel_centres_hz());
+  if (shared_radiation && !ctx.bands.empty()) {
+    // Every line the reception estimate keeps (see evaluate_lines: within a bandwidth of a band,
+    // widened by the drift tolerance), with a 1 % margin.
+    const double tol = options.tolerance_fraction;
+    double low = std::numeric_limits<double>::infinity(), high = 0.0;
+    for (const Band& b : ctx.bands) {
+      low = std::min(low, (b.low_hz - b.bandwidth_hz) / (1.0 + tol));
+      high = std::max(high, (b.high_hz + b.bandwidth_hz) / (1.0 - tol));
+    }
+    if (low > 0.0 && high > low) {
+      ctx.cable_table.emplace(radiation_setup(ctx.base.broadcast, ctx.base.supply, ctx.base.board), 0.99 * low,
+                              1.01 * high);
+    }
+  }
 
   SweepResult result;
   result.axes = options.axes;

@@ -235,12 +235,20 @@ std::string radiator_name(Radiator radiator) {
   return "cable CM";
 }
 
-std::vector<FieldLine> radiated_field(const RadiationSetup& setup,
-                                      const RadiatorCurrents& currents) {
+namespace {
+
+void check_setup(const RadiationSetup& setup) {
   require_positive(setup.distance_m, "distance");
   require_positive(setup.cable_length_m, "cable length");
   require_positive(setup.cable_spacing_m, "cable spacing");
   if (setup.hot_loop_area_m2) require_positive(*setup.hot_loop_area_m2, "hot loop area");
+}
+
+/// The loop of radiated_field(), the cable fields per ampere from `cable_per_ampere(f)`.
+template <typename CableFields>
+std::vector<FieldLine> radiate(const RadiationSetup& setup, const RadiatorCurrents& currents,
+                               const CableFields& cable_per_ampere) {
+  check_setup(setup);
   const std::size_t count = currents.frequency_hz.size();
   for (const std::vector<double>* v :
        {&currents.cable_cm_per_conductor_a, &currents.cable_dm_a, &currents.hot_loop_a}) {
@@ -263,13 +271,12 @@ std::vector<FieldLine> radiated_field(const RadiationSetup& setup,
     line.near_field = setup.distance_m < lambda / (2.0 * std::numbers::pi);
     line.cable_electrically_long = setup.cable_length_m > lambda / 10.0;
     std::array<FieldMagnitude, radiator_count> fields{};
-    if (!currents.cable_cm_per_conductor_a.empty() && currents.cable_cm_per_conductor_a[i] != 0.0) {
-      fields[0] = cable_cm_field(f, currents.cable_cm_per_conductor_a[i], setup.cable_length_m,
-                                 setup.distance_m);
-    }
-    if (!currents.cable_dm_a.empty() && currents.cable_dm_a[i] != 0.0) {
-      fields[1] = cable_dm_field(f, currents.cable_dm_a[i], setup.cable_length_m,
-                                 setup.cable_spacing_m, setup.distance_m);
+    const double cm_a = currents.cable_cm_per_conductor_a.empty() ? 0.0 : std::abs(currents.cable_cm_per_conductor_a[i]);
+    const double dm_a = currents.cable_dm_a.empty() ? 0.0 : std::abs(currents.cable_dm_a[i]);
+    if (cm_a != 0.0 || dm_a != 0.0) {
+      const std::array<FieldMagnitude, 2> unit = cable_per_ampere(f, cm_a != 0.0, dm_a != 0.0);
+      fields[0] = {unit[0].e_v_per_m * cm_a, unit[0].h_a_per_m * cm_a};
+      fields[1] = {unit[1].e_v_per_m * dm_a, unit[1].h_a_per_m * dm_a};
     }
     if (setup.hot_loop_area_m2 && !currents.hot_loop_a.empty() && currents.hot_loop_a[i] != 0.0) {
       fields[2] = small_loop_worst(f, std::abs(currents.hot_loop_a[i]) * *setup.hot_loop_area_m2,
@@ -289,6 +296,64 @@ std::vector<FieldLine> radiated_field(const RadiationSetup& setup,
     lines.push_back(line);
   }
   return lines;
+}
+
+/// The exact cable fields per ampere (the fields are linear in the current).
+std::array<FieldMagnitude, 2> exact_cable_per_ampere(const RadiationSetup& setup, double f, bool cm, bool dm) {
+  std::array<FieldMagnitude, 2> unit{};
+  if (cm) unit[0] = cable_cm_field(f, 1.0, setup.cable_length_m, setup.distance_m);
+  if (dm) unit[1] = cable_dm_field(f, 1.0, setup.cable_length_m, setup.cable_spacing_m, setup.distance_m);
+  return unit;
+}
+
+/// ln of a field magnitude, held above a floor far under any level of interest (1e-30 V/m).
+double log_field(double value) { return std::log(std::max(value, 1e-30)); }
+
+}  // namespace
+
+std::vector<FieldLine> radiated_field(const RadiationSetup& setup,
+                                      const RadiatorCurrents& currents) {
+  return radiate(setup, currents,
+                 [&](double f, bool cm, bool dm) { return exact_cable_per_ampere(setup, f, cm, dm); });
+}
+
+CableFieldTable::CableFieldTable(const RadiationSetup& setup, double low_hz, double high_hz, double points_per_decade)
+    : setup_(setup) {
+  check_setup(setup);
+  require_positive(low_hz, "table frequency");
+  if (!(high_hz > low_hz) || !(points_per_decade > 0.0)) throw Error("expected a table range low < high");
+  log_low_ = std::log(low_hz);
+  log_step_ = std::log(10.0) / points_per_decade;
+  const auto points = static_cast<std::size_t>(std::ceil((std::log(high_hz) - log_low_) / log_step_)) + 1;
+  log_fields_.reserve(points);
+  for (std::size_t i = 0; i < points; ++i) {
+    const double f = std::exp(log_low_ + log_step_ * static_cast<double>(i));
+    const std::array<FieldMagnitude, 2> unit = exact_cable_per_ampere(setup, f, true, true);
+    log_fields_.push_back({log_field(unit[0].e_v_per_m), log_field(unit[0].h_a_per_m), log_field(unit[1].e_v_per_m),
+                           log_field(unit[1].h_a_per_m)});
+  }
+}
+
+bool CableFieldTable::covers(double frequency_hz) const {
+  if (!(frequency_hz > 0.0) || log_fields_.size() < 2) return false;
+  const double x = (std::log(frequency_hz) - log_low_) / log_step_;
+  return x >= 0.0 && x <= static_cast<double>(log_fields_.size() - 1);
+}
+
+std::array<FieldMagnitude, 2> CableFieldTable::per_ampere(double frequency_hz) const {
+  const double x = (std::log(frequency_hz) - log_low_) / log_step_;
+  const auto i = std::min(static_cast<std::size_t>(std::max(x, 0.0)), log_fields_.size() - 2);
+  const double w = x - static_cast<double>(i);
+  std::array<double, 4> v{};
+  for (std::size_t k = 0; k < 4; ++k) v[k] = std::exp((1.0 - w) * log_fields_[i][k] + w * log_fields_[i + 1][k]);
+  return {FieldMagnitude{v[0], v[1]}, FieldMagnitude{v[2], v[3]}};
+}
+
+std::vector<FieldLine> radiated_field(const RadiationSetup& setup, const RadiatorCurrents& currents,
+                                      const CableFieldTable& table) {
+  return radiate(setup, currents, [&](double f, bool cm, bool dm) {
+    return table.covers(f) ? table.per_ampere(f) : exact_cable_per_ampere(setup, f, cm, dm);
+  });
 }
 
 std::string radiation_convention(const RadiationSetup& setup) {

@@ -174,6 +174,34 @@ struct FieldLine {
 [[nodiscard]] std::vector<FieldLine> radiated_field(const RadiationSetup& setup,
                                                     const RadiatorCurrents& currents);
 
+/// The cable radiators' fields per ampere (CM per conductor ampere, DM loop ampere) of one setup,
+/// tabulated on a log-spaced frequency grid of `points_per_decade`, so that a sweep re-radiating
+/// thousands of lines at new frequencies interpolates instead of summing the segments again. The
+/// fields are linear in the current; their magnitudes are smooth in frequency on the scale of
+/// c/L and c/r (tens of MHz for a metre-long cable at metres), and ln|E|, ln|H| are interpolated
+/// linearly in ln f: tests/radio/radiated_test.cpp bounds the error against the exact sum.
+class CableFieldTable {
+ public:
+  /// Throws Error on a non-positive geometry or an empty range.
+  CableFieldTable(const RadiationSetup& setup, double low_hz, double high_hz, double points_per_decade = 2000.0);
+  [[nodiscard]] bool covers(double frequency_hz) const;
+  /// {CM field per conductor ampere, DM field per loop ampere} at a covered frequency.
+  [[nodiscard]] std::array<FieldMagnitude, 2> per_ampere(double frequency_hz) const;
+  [[nodiscard]] const RadiationSetup& setup() const { return setup_; }
+
+ private:
+  RadiationSetup setup_;
+  double log_low_ = 0.0;
+  double log_step_ = 0.0;
+  /// Per grid point: ln of |E| and |H| per ampere, CM then DM (ln of a tiny floor for none).
+  std::vector<std::array<double, 4>> log_fields_;
+};
+
+/// radiated_field() with the cable radiators read from `table` where it covers the frequency (the
+/// exact sum elsewhere); the hot loop, in closed form, stays exact. `setup` must be the table's.
+[[nodiscard]] std::vector<FieldLine> radiated_field(const RadiationSetup& setup, const RadiatorCurrents& currents,
+                                                    const CableFieldTable& table);
+
 /// One paragraph for the report saying which method, geometry and convention the estimate uses.
 [[nodiscard]] std::string radiation_convention(const RadiationSetup& setup);
 
