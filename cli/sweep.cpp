@@ -9,6 +9,7 @@
 #include <vector>
 
 #include "cli/commands.hpp"
+#include "cli/terminal.hpp"
 #include "core/input/error.hpp"
 #include "core/output/output_dir.hpp"
 #include "core/output/sweep_output.hpp"
@@ -56,7 +57,14 @@ int run_sweep_command(const Options& options) {
   sweep.threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   sweep.exact_lines = !options.scan;
 
-  const SweepResult result = run_sweep(table, options.scenario_file, directory, locate_shipped_data(), sweep);
+  // Progress on stderr when it is a terminal (a dithered source's point takes about a second).
+  Progress progress;
+  sweep.on_point_done = [&progress](std::size_t done, std::size_t total) {
+    progress.show("sweeping: " + std::to_string(done) + " of " + std::to_string(total) + " points",
+                  static_cast<double>(done) / static_cast<double>(total));
+  };
+  SweepResult result = run_sweep(table, options.scenario_file, directory, locate_shipped_data(), sweep);
+  progress.clear();
 
   // The CSV and the plot appear together or not at all (core/output/output_dir.hpp).
   std::vector<std::string> written;

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <limits>
 #include <map>
+#include <mutex>
 #include <thread>
 
 #include <fmt/format.h>
@@ -1055,7 +1056,15 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
   const unsigned threads = options.threads ? options.threads : sweep_thread_count(std::getenv("SPURCAST_THREADS"));
   result.threads = static_cast<unsigned>(std::min<std::size_t>(threads, total));
   result.points.resize(total);
-  parallel_for_each_index(total, result.threads, [&](std::size_t i) { result.points[i] = evaluate_point(ctx, grid[i]); });
+  std::mutex progress_mutex;
+  std::size_t done = 0;
+  parallel_for_each_index(total, result.threads, [&](std::size_t i) {
+    result.points[i] = evaluate_point(ctx, grid[i]);
+    if (options.on_point_done) {
+      const std::lock_guard lock(progress_mutex);
+      options.on_point_done(++done, total);
+    }
+  });
 
   for (const SweepPoint& p : result.points) {
     if (p.error) ++result.invalid_points;

@@ -34,6 +34,7 @@
 ///                                        locate_shipped_data(), options);
 ///   for (const RobustWindow& w : result.windows) ... w.from_value, w.to_value ...
 #include <cstddef>
+#include <functional>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -130,6 +131,9 @@ struct SweepOptions {
   /// false: every point goes through predict() with its scans (the slow path, for checks).
   bool exact_lines = true;
   PredictionOptions prediction;  ///< for the scan path (skip_scans is ignored)
+  /// Called after each point with (points done, points in all), one call at a time (serialised
+  /// across the worker threads), for a progress display; may be empty.
+  std::function<void(std::size_t, std::size_t)> on_point_done;
 };
 
 /// The threads to use: `environment_value` (SPURCAST_THREADS) when it is a positive integer,

@@ -403,3 +403,20 @@ TEST_CASE("the recommended value has the largest headroom that holds over the to
   CHECK(j.at("windows").at(0).at("open_low").get<bool>());
   CHECK(j.at("windows").at(0).at("low_edge").is_null());
 }
+
+TEST_CASE("progress: one call per point, serialised, counting up to the total") {
+  const toml::table table = table_of(loud_scenario(1));
+  SweepOptions options;
+  options.axes.push_back(make_axis(table, parse_vary("switching.frequency=1MHz:2MHz:37")));
+  options.threads = 2;
+  std::vector<std::size_t> seen;
+  std::size_t total_seen = 0;
+  options.on_point_done = [&](std::size_t done, std::size_t total) {
+    seen.push_back(done);  // no lock here: the sweep serialises the calls
+    total_seen = total;
+  };
+  (void)run_sweep(table, "test.toml", ".", locate_shipped_data(), options);
+  REQUIRE(seen.size() == 37);
+  CHECK(total_seen == 37);
+  for (std::size_t i = 0; i < seen.size(); ++i) CHECK(seen[i] == i + 1);
+}
