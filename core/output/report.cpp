@@ -418,7 +418,11 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
     add("switching", "frequency", q(w.frequency_hz, Dimension::frequency));
     add("switching", "duty", q(w.duty, Dimension::fraction));
     add("switching", "amplitude (switch-node swing)", q(w.amplitude_v, Dimension::voltage));
-    add("switching", "current (pulsed input current)", q(w.current_a, Dimension::current));
+    // For a boost the input current is continuous: `current` is its DC value (core/source/source.hpp).
+    add("switching",
+        w.input_current_shape == InputCurrentShape::triangular ? "current (DC input current, triangular ripple on it)"
+                                                              : "current (pulsed input current)",
+        q(w.current_a, Dimension::current));
     add("switching", "rise (0-100 %)", q(w.rise_s, Dimension::time));
     add("switching", "fall (0-100 %)", q(w.fall_s, Dimension::time));
     if (w.ringing) {

@@ -18,6 +18,7 @@
 
 #include "core/compliance/limits.hpp"
 #include "core/output/report.hpp"
+#include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/source/source.hpp"
 
@@ -358,4 +359,35 @@ TEST_CASE("the source plot labels the plain trapezoid's envelope and marks the r
   REQUIRE(ringing.markers.size() == 1);
   CHECK(ringing.markers[0].label == fmt_excess(largest_db));
   CHECK(ringing.marker_legend == "largest excess over the envelope");
+}
+
+TEST_CASE("the inputs name [switching] current by what it is: pulsed for a buck, DC for a boost") {
+  // A boost's input current is DC plus the triangular inductor ripple (Erickson & Maksimović, ch. 2):
+  // `current` is its DC value, not a pulse.
+  const std::string base = R"(title = "t"
+[switching]
+frequency = "100 kHz"
+duty = 0.4
+amplitude = "400 V"
+current = "2 A"
+rise = "20 ns"
+fall = "20 ns"
+[coupling]
+input_capacitance = "1 uF"
+parasitic_capacitance = "20 pF"
+[lisn]
+model = "v-network-50uH"
+lines = 2
+)";
+  const auto html_of = [](const std::string& text) {
+    for (const OutputFile& f : report_files(predict(scenario_from_text(text, "t.toml", ".", locate_shipped_data())))) {
+      if (f.name == "report.html") return f.content;
+    }
+    return std::string();
+  };
+  const std::string buck = html_of(base);
+  CHECK(buck.find("current (pulsed input current)") != std::string::npos);
+  const std::string boost = html_of(base + "[converter]\ntopology = \"boost\"\ninductor_ripple = \"1 A\"\n");
+  CHECK(boost.find("current (DC input current, triangular ripple on it)") != std::string::npos);
+  CHECK(boost.find("current (pulsed input current)") == std::string::npos);
 }
