@@ -278,27 +278,33 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
     if (r == Network::ground || c == Network::ground) return;
     stamps_.push_back(Stamp{unknown_of(r), unknown_of(c), element, slot, sign});
   };
+  // A two-port's 2×2 admittance: i_w = Σ_v Y_wv·v_v with v_1 = V(a1) − V(b1), v_2 = V(a2) − V(b2);
+  // i_w leaves a_w and enters b_w.
+  const auto stamp_two_port = [&](std::size_t i) {
+    const Element& e = elements[i];
+    const int id = static_cast<int>(i);
+    const int first = static_cast<int>(admittance_slots_);
+    admittance_slots_ += 4;
+    slot_of_element_[i] = first;
+    for (int w = 0; w < 2; ++w) {
+      for (int v = 0; v < 2; ++v) {
+        const int slot = first + 2 * w + v;
+        const NodeId aw = e.nodes[static_cast<std::size_t>(2 * w)], bw = e.nodes[static_cast<std::size_t>(2 * w + 1)];
+        const NodeId av = e.nodes[static_cast<std::size_t>(2 * v)], bv = e.nodes[static_cast<std::size_t>(2 * v + 1)];
+        add(aw, av, id, slot, +1.0);
+        add(aw, bv, id, slot, -1.0);
+        add(bw, av, id, slot, -1.0);
+        add(bw, bv, id, slot, +1.0);
+      }
+    }
+  };
   for (std::size_t i = 0; i < elements.size(); ++i) {
     const Element& e = elements[i];
     const int id = static_cast<int>(i);
     switch (e.kind) {
       case ElementKind::tabulated:
         if (e.table->port_count() == 2) {
-          // The same 2×2 admittance stamp as a coupled pair (below).
-          const int first = static_cast<int>(admittance_slots_);
-          admittance_slots_ += 4;
-          slot_of_element_[i] = first;
-          for (int w = 0; w < 2; ++w) {
-            for (int v = 0; v < 2; ++v) {
-              const int slot = first + 2 * w + v;
-              const NodeId aw = e.nodes[static_cast<std::size_t>(2 * w)], bw = e.nodes[static_cast<std::size_t>(2 * w + 1)];
-              const NodeId av = e.nodes[static_cast<std::size_t>(2 * v)], bv = e.nodes[static_cast<std::size_t>(2 * v + 1)];
-              add(aw, av, id, slot, +1.0);
-              add(aw, bv, id, slot, -1.0);
-              add(bw, av, id, slot, -1.0);
-              add(bw, bv, id, slot, +1.0);
-            }
-          }
+          stamp_two_port(i);  // the same 2×2 admittance stamp as a coupled pair (below)
           break;
         }
         [[fallthrough]];
@@ -313,24 +319,9 @@ NetworkSolver::NetworkSolver(Network network) : network_(std::move(network)) {
         add(e.nodes[1], e.nodes[0], id, slot, -1.0);
         break;
       }
-      case ElementKind::coupled_inductors: {
-        // i_w = Σ_v Y_wv·v_v with v_1 = V(a1) − V(b1), v_2 = V(a2) − V(b2); i_w leaves a_w, enters b_w.
-        const int first = static_cast<int>(admittance_slots_);
-        admittance_slots_ += 4;
-        slot_of_element_[i] = first;
-        for (int w = 0; w < 2; ++w) {
-          for (int v = 0; v < 2; ++v) {
-            const int slot = first + 2 * w + v;
-            const NodeId aw = e.nodes[static_cast<std::size_t>(2 * w)], bw = e.nodes[static_cast<std::size_t>(2 * w + 1)];
-            const NodeId av = e.nodes[static_cast<std::size_t>(2 * v)], bv = e.nodes[static_cast<std::size_t>(2 * v + 1)];
-            add(aw, av, id, slot, +1.0);
-            add(aw, bv, id, slot, -1.0);
-            add(bw, av, id, slot, -1.0);
-            add(bw, bv, id, slot, +1.0);
-          }
-        }
+      case ElementKind::coupled_inductors:
+        stamp_two_port(i);
         break;
-      }
       case ElementKind::voltage_source: {
         const int row = voltage_rows_start + voltage_sources++;
         voltage_source_row_[static_cast<std::size_t>(e.source_index)] = row;

@@ -103,11 +103,15 @@ struct PeriodicKink {
 /// The kinks of the waveform through `points` (sorted, within one period; coincident times make a
 /// jump), the last segment joining the last point to the first one a period later: as in
 /// piecewise_linear_series.
-std::vector<PeriodicKink> periodic_kinks(const std::vector<Breakpoint>& points, double period_s) {
-  struct Node {
-    double time_s, in, out;
-  };
-  std::vector<Node> nodes;
+/// Breakpoints grouped by time: coincident times make one node with an entry and an exit value (a
+/// jump). Segment g runs from node g (its exit value) to node g+1 (its entry value), wrapping.
+struct PeriodicNode {
+  double time_s;
+  double in;
+  double out;
+};
+std::vector<PeriodicNode> periodic_nodes(const std::vector<Breakpoint>& points, double period_s) {
+  std::vector<PeriodicNode> nodes;
   for (const Breakpoint& p : points) {
     if (!nodes.empty() && p.time_s - nodes.back().time_s <= 1e-15 * period_s) {
       nodes.back().out = p.value;
@@ -115,11 +119,16 @@ std::vector<PeriodicKink> periodic_kinks(const std::vector<Breakpoint>& points, 
       nodes.push_back({p.time_s, p.value, p.value});
     }
   }
+  return nodes;
+}
+
+std::vector<PeriodicKink> periodic_kinks(const std::vector<Breakpoint>& points, double period_s) {
+  const std::vector<PeriodicNode> nodes = periodic_nodes(points, period_s);
   const std::size_t n = nodes.size();
   std::vector<double> slope(n);
   for (std::size_t g = 0; g < n; ++g) {
-    const Node& a = nodes[g];
-    const Node& b = nodes[(g + 1) % n];
+    const PeriodicNode& a = nodes[g];
+    const PeriodicNode& b = nodes[(g + 1) % n];
     const double span = (g + 1 < n ? b.time_s : b.time_s + period_s) - a.time_s;
     slope[g] = span > 0.0 ? (b.in - a.out) / span : 0.0;
   }
@@ -725,27 +734,13 @@ LineSpectrum piecewise_linear_series(const std::vector<Breakpoint>& points, doub
       throw Error("breakpoints must be sorted within one period");
     }
   }
-  // Group coincident times into one node with an entry and an exit value (a jump).
-  struct Node {
-    double time_s;
-    double in;
-    double out;
-  };
-  std::vector<Node> nodes;
-  for (const Breakpoint& p : points) {
-    if (!nodes.empty() && p.time_s - nodes.back().time_s <= 1e-15 * period_s) {
-      nodes.back().out = p.value;
-    } else {
-      nodes.push_back({p.time_s, p.value, p.value});
-    }
-  }
+  const std::vector<PeriodicNode> nodes = periodic_nodes(points, period_s);
   const std::size_t n = nodes.size();
-  // Segment g runs from node g (its exit value) to node g+1 (its entry value), wrapping.
   std::vector<double> slope(n);
   double area = 0.0;
   for (std::size_t g = 0; g < n; ++g) {
-    const Node& a = nodes[g];
-    const Node& b = nodes[(g + 1) % n];
+    const PeriodicNode& a = nodes[g];
+    const PeriodicNode& b = nodes[(g + 1) % n];
     const double span = (g + 1 < n ? b.time_s : b.time_s + period_s) - a.time_s;
     if (span <= 0.0) {
       throw Error("breakpoints span less than a period");
