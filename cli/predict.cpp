@@ -1,11 +1,14 @@
-// spurcast predict SCENARIO.toml [-o DIR] [--json]: the whole chain, written as a report folder.
+// spurcast predict SCENARIO.toml [-o DIR] [--json] [--explain-at FREQ]...: the whole chain, written as a report folder.
 #include <memory>
 #include <string>
+#include <vector>
 
 #include "cli/commands.hpp"
 #include "cli/terminal.hpp"
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
+#include "core/input/error.hpp"
+#include "core/input/units.hpp"
 #include "core/output/output_dir.hpp"
 
 namespace spurcast::cli {
@@ -16,9 +19,18 @@ struct Options {
   std::string scenario;
   std::string output = "spurcast-report";
   bool json = false;
+  std::vector<std::string> explain_at;
 };
 
 int run_predict(const Options& options) {
+  PredictionOptions prediction_options;
+  for (const std::string& text : options.explain_at) {
+    try {
+      prediction_options.explain_at_hz.push_back(parse_quantity(text, Dimension::frequency));
+    } catch (const Error& e) {
+      throw Error(std::string("--explain-at: ") + e.what());
+    }
+  }
   Prediction prediction;
   {
     Progress progress;
@@ -26,7 +38,7 @@ int run_predict(const Options& options) {
     const Scenario scenario = load_scenario(options.scenario, locate_shipped_data());
     check_output_folder(options.output);  // refuse a folder that is not ours before the long part
     progress.show("predicting (source, conducted path, receiver scans, bands)");
-    prediction = predict(scenario);
+    prediction = predict(scenario, prediction_options);
   }
   return write_report_and_summarise(prediction, options.output, options.json);
 }
@@ -41,6 +53,10 @@ void setup_predict(CLI::App& app, CommandList& commands) {
   sub->add_option("-o,--output", options->output, "report folder (replaced only if spurcast wrote it)")
       ->capture_default_str();
   sub->add_flag("--json", options->json, "print summary.json instead of the text summary");
+  sub->add_option("--explain-at", options->explain_at,
+                  "also show what makes the reading at this frequency (DM/CM shares, source term, controlling path), "
+                  "e.g. 1.2MHz; repeatable, inside the computed band")
+      ->allow_extra_args(false);
   sub->footer("exit codes: 0 every limit met, 1 a limit exceeded or a margin under the guard band, 2 bad input, 3 the report could not be written");
   commands.push_back(Command{sub, [options] { return run_predict(*options); }});
 }

@@ -277,6 +277,39 @@ std::vector<WorstFrequency> worst_frequencies(const Prediction& p, std::size_t c
   return kept;
 }
 
+namespace {
+
+/// Each requested frequency must lie inside one of `bands` and at or below `top_hz` (the highest
+/// frequency the source's lines reach), on a supply with a LISN.
+void check_explain_at(const std::vector<double>& frequencies_hz, const std::vector<CisprBand>& bands, bool battery,
+                      double top_hz) {
+  if (frequencies_hz.empty()) return;
+  if (battery) {
+    throw Error("explain-at: expected a supply with a LISN, found a battery supply (no conducted reading to explain)");
+  }
+  std::string ranges;
+  for (const CisprBand band : bands) {
+    const BandParameters range = band_parameters(band);
+    const double stop = std::min(range.stop_hz, top_hz);
+    ranges += (ranges.empty() ? "" : ", ") + std::string("band ") + to_string(band) + " " +
+              format_quantity(range.start_hz, Dimension::frequency) + " - " +
+              format_quantity(stop, Dimension::frequency);
+  }
+  for (const double f : frequencies_hz) {
+    const bool inside = std::any_of(bands.begin(), bands.end(), [&](CisprBand band) {
+      const BandParameters range = band_parameters(band);
+      return std::isfinite(f) && f >= range.start_hz && f <= std::min(range.stop_hz, top_hz);
+    });
+    if (!inside) {
+      throw Error("explain-at: expected a frequency inside the computed band" + std::string(bands.size() > 1 ? "s" : "") +
+                  " (" + (ranges.empty() ? std::string("none") : ranges) + "), found " +
+                  format_quantity(f, Dimension::frequency));
+    }
+  }
+}
+
+}  // namespace
+
 Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   Prediction p;
   p.scenario = scenario;
@@ -290,6 +323,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
                                       " leads " + format_quantity(scenario.supply.lead_spacing_m, Dimension::length) + " apart"
                                 : model.setup_description();
   const bool two_lines = model.line_count() == 2;
+  check_explain_at(options.explain_at_hz, bands, battery, top_hz);
   for (const CisprBand band : bands) {
     const BandParameters range = band_parameters(band);
     for (const Resonance& r : find_resonances(model, range.start_hz, range.stop_hz, resonance_note_min_q)) {
@@ -427,6 +461,15 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     }
     p.contributors = contributors_at(scenario, *p.conducted, p.switch_node_v, p.input_current_a, p.resonances,
                                      frequencies, bandwidths);
+  }
+  if (!options.explain_at_hz.empty()) {
+    // A capture's lines stop at its Nyquist frequency: above it nothing was computed.
+    check_explain_at(options.explain_at_hz, bands, battery, p.computed_up_to_hz);
+    if (!p.conducted) throw Error("explain-at: expected a conducted prediction, found none (no source lines)");
+    std::vector<double> bandwidths;
+    for (const double f : options.explain_at_hz) bandwidths.push_back(receiver_bandwidth_at(p, f));
+    p.contributors_requested = contributors_at(scenario, *p.conducted, p.switch_node_v, p.input_current_a,
+                                               p.resonances, options.explain_at_hz, bandwidths);
   }
   if (battery) {
     p.notes.push_back("battery supply: no LISN, no conducted limits apply; the leads carry the differential-mode "

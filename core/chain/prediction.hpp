@@ -36,6 +36,10 @@ struct PredictionOptions {
   double record_duration_s = 0.0;
   /// Skip the receiver scans (the sweep's margins-only mode reads the lines directly).
   bool skip_scans = false;
+  /// [Hz] frequencies whose contributors are asked for (`predict --explain-at`), in the order
+  /// given; each must lie inside a receiver band of the conducted prediction that was computed
+  /// (otherwise predict() throws Error before the long part).
+  std::vector<double> explain_at_hz;
 };
 
 /// The readings of one CISPR band at the LISN port(s).
@@ -102,6 +106,9 @@ struct Prediction {
   /// What makes each of the worst conducted readings (worst_frequencies(…, 5), LISN-port readings
   /// only), in the same order (core/chain/contributors.hpp).
   std::vector<Contributor> contributors;
+  /// The contributors at PredictionOptions::explain_at_hz, in that order (separate from the worst
+  /// readings' list).
+  std::vector<Contributor> contributors_requested;
   Verdict verdict = Verdict::no_limits;  ///< the margins' verdict (no_limits when no limit was given)
 };
 

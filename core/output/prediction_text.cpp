@@ -84,6 +84,10 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
     out += "\nwhat makes them (LISN-port mode shares at the strongest line):\n";
     for (const Contributor& c : p.contributors) out += "  " + contributor_line(c) + "\n";
   }
+  if (!p.contributors_requested.empty()) {
+    out += "\nat the frequencies asked for (LISN-port mode shares at the strongest line):\n";
+    for (const Contributor& c : p.contributors_requested) out += "  " + contributor_line(c) + "\n";
+  }
 
   if (!p.reception.empty()) {
     out += "\nbroadcast bands (" + p.reception_assumptions + "):\n";

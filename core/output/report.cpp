@@ -264,6 +264,28 @@ std::string scan_csv(const Prediction& p) {
 
 namespace {
 
+/// The contributors as summary.json lists them (core/chain/contributors.hpp).
+nlohmann::ordered_json contributors_json(const std::vector<Contributor>& list) {
+  nlohmann::ordered_json contributors = nlohmann::ordered_json::array();
+  for (const Contributor& c : list) {
+    nlohmann::ordered_json item;
+    item["frequency_hz"] = rounded(c.frequency_hz, 1);
+    item["harmonic"] = c.harmonic;
+    item["harmonic_hz"] = rounded(c.harmonic_hz, 1);
+    item["dm_share"] = rounded(c.dm_share, 4);
+    item["cm_share"] = rounded(c.cm_share, 4);
+    item["dm_dbuv"] = rounded(c.dm_dbuv, 2);
+    item["cm_dbuv"] = rounded(c.cm_dbuv, 2);
+    item["dm_to_cm_fraction"] = rounded(c.dm_to_cm_fraction, 4);
+    item["cm_to_dm_fraction"] = rounded(c.cm_to_dm_fraction, 4);
+    item["conversion"] = c.conversion.empty() ? nlohmann::ordered_json() : nlohmann::ordered_json(c.conversion);
+    item["source"] = c.source;
+    item["path"] = c.path;
+    contributors.push_back(item);
+  }
+  return contributors;
+}
+
 nlohmann::ordered_json margin_row_json(const MarginRow& row, double guard_db) {
   nlohmann::ordered_json j;
   j["frequency_hz"] = rounded(row.frequency_hz, 1);
@@ -328,24 +350,8 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
     worst_list.push_back(row);
   }
   j["worst_frequencies"] = worst_list;
-  nlohmann::ordered_json contributors = nlohmann::ordered_json::array();
-  for (const Contributor& c : p.contributors) {
-    nlohmann::ordered_json item;
-    item["frequency_hz"] = rounded(c.frequency_hz, 1);
-    item["harmonic"] = c.harmonic;
-    item["harmonic_hz"] = rounded(c.harmonic_hz, 1);
-    item["dm_share"] = rounded(c.dm_share, 4);
-    item["cm_share"] = rounded(c.cm_share, 4);
-    item["dm_dbuv"] = rounded(c.dm_dbuv, 2);
-    item["cm_dbuv"] = rounded(c.cm_dbuv, 2);
-    item["dm_to_cm_fraction"] = rounded(c.dm_to_cm_fraction, 4);
-    item["cm_to_dm_fraction"] = rounded(c.cm_to_dm_fraction, 4);
-    item["conversion"] = c.conversion.empty() ? nlohmann::ordered_json() : nlohmann::ordered_json(c.conversion);
-    item["source"] = c.source;
-    item["path"] = c.path;
-    contributors.push_back(item);
-  }
-  j["contributors"] = contributors;
+  j["contributors"] = contributors_json(p.contributors);
+  j["contributors_requested"] = contributors_json(p.contributors_requested);
   const std::optional<double> u = uncertainty_for(p);
   j["uncertainty_db"] = u ? nlohmann::ordered_json(rounded(*u, 2)) : nlohmann::ordered_json();
   nlohmann::ordered_json limits = nlohmann::ordered_json::array();
@@ -807,6 +813,21 @@ footer { color: var(--soft); font-size: 12px; text-align:center; margin-top: 24p
 
 std::string tag(const std::string& text) { return "<span class=\"tag " + html(text) + "\">" + html(text) + "</span>"; }
 
+/// Mode shares at the LISN ports, V_DM = (V1 − V2)/2, V_CM = (V1 + V2)/2 (docs/references.md §2.3).
+std::string contributors_table(const std::vector<Contributor>& list) {
+  std::string out = "<table><tr><th>frequency</th><th>DM share</th><th>CM share</th>"
+                    "<th>source</th><th>controlled by</th></tr>\n";
+  for (const Contributor& c : list) {
+    char dm[16], cm[16];
+    std::snprintf(dm, sizeof dm, "%.0f %%", 100.0 * c.dm_share);
+    std::snprintf(cm, sizeof cm, "%.0f %%", 100.0 * c.cm_share);
+    out += "<tr><td class=\"num\">" + html(format_quantity(c.frequency_hz, Dimension::frequency, 5)) +
+           "</td><td class=\"num\">" + dm + "</td><td class=\"num\">" + cm + "</td><td>" + html(c.source) +
+           "</td><td>" + html(c.path) + (c.conversion.empty() ? "" : "; " + html(c.conversion)) + "</td></tr>\n";
+  }
+  return out + "</table>\n";
+}
+
 std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>& rows) {
   std::string out = "<table>\n<tr><th>frequency</th><th>detector</th><th>reading</th><th>limit</th><th>margin</th>"
                     "<th>U<sub>cispr</sub></th><th>line</th><th>verdict</th></tr>\n";
@@ -903,22 +924,14 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     }
     out += "</table>\n";
     out += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
-    if (!p.contributors.empty()) {
-      // Mode shares at the LISN ports, V_DM = (V1 − V2)/2, V_CM = (V1 + V2)/2 (docs/references.md §2.3).
-      out += "<h3>What makes them</h3>\n<table><tr><th>frequency</th><th>DM share</th><th>CM share</th>"
-             "<th>source</th><th>controlled by</th></tr>\n";
-      for (const Contributor& c : p.contributors) {
-        char dm[16], cm[16];
-        std::snprintf(dm, sizeof dm, "%.0f %%", 100.0 * c.dm_share);
-        std::snprintf(cm, sizeof cm, "%.0f %%", 100.0 * c.cm_share);
-        out += "<tr><td class=\"num\">" + html(format_quantity(c.frequency_hz, Dimension::frequency, 5)) +
-               "</td><td class=\"num\">" + dm + "</td><td class=\"num\">" + cm + "</td><td>" + html(c.source) +
-               "</td><td>" + html(c.path) + (c.conversion.empty() ? "" : "; " + html(c.conversion)) + "</td></tr>\n";
-      }
-      out += "</table>\n";
-    }
+    if (!p.contributors.empty()) out += "<h3>What makes them</h3>\n" + contributors_table(p.contributors);
   } else {
     out += "<p>No reading was compared with a limit line.</p>\n";
+  }
+  if (!p.contributors_requested.empty()) {
+    out += "<h3 id=\"explained\">At the frequencies asked for</h3>\n<p>The make-up of the strongest line within the "
+           "receiver bandwidth of each frequency given with <code>--explain-at</code>.</p>\n" +
+           contributors_table(p.contributors_requested);
   }
   out += "</section>\n";
 

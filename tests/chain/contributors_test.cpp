@@ -146,3 +146,44 @@ TEST_CASE("predict fills the contributors of the five worst LISN-port readings")
       contributors_at(s, *p.conducted, p.switch_node_v, p.input_current_a, {}, {1e6}, {}),
       "contributors: expected one bandwidth per frequency, found 0 for 1", Error);
 }
+
+TEST_CASE("contributors at a requested frequency against the closed-form CM and DM dividers") {
+  // predict() with explain_at: the shares at 3 MHz (harmonic 3 of 1 MHz) must be those of Paul's
+  // decomposition of the closed-form port voltages driven by the prediction's own source lines.
+  const Scenario s = simple_scenario();
+  PredictionOptions options;
+  options.explain_at_hz = {3e6, 1.2e6};
+  const Prediction p = predict(s, options);
+  REQUIRE(p.contributors_requested.size() == 2);
+  const Contributor& c = p.contributors_requested[0];
+  CHECK(c.frequency_hz == doctest::Approx(3e6));
+  CHECK(c.harmonic == 3);
+  REQUIRE(p.input_current_a.harmonics.size() >= 3);
+  REQUIRE(p.switch_node_v.harmonics.size() >= 3);
+  const auto [v1, v2] =
+      closed_form_ports(3e6, p.input_current_a.harmonics[2], p.switch_node_v.harmonics[2]);
+  const cd dm = (v1 - v2) / 2.0, cm = (v1 + v2) / 2.0;
+  const double dm_share = std::norm(dm) / (std::norm(dm) + std::norm(cm));
+  CHECK(c.dm_share == doctest::Approx(dm_share).epsilon(share_tolerance));
+  CHECK(c.cm_share == doctest::Approx(1.0 - dm_share).epsilon(share_tolerance));
+  CHECK(c.dm_dbuv == doctest::Approx(volts_to_dbuv(std::abs(dm))).epsilon(level_tolerance_db));
+  CHECK(c.cm_dbuv == doctest::Approx(volts_to_dbuv(std::abs(cm))).epsilon(level_tolerance_db));
+  // 1.2 MHz has no line within the 9 kHz bandwidth: the nearest line, harmonic 1, is explained.
+  CHECK(p.contributors_requested[1].harmonic == 1);
+  CHECK(p.contributors_requested[1].frequency_hz == doctest::Approx(1.2e6));
+}
+
+TEST_CASE("a requested frequency outside the computed band is refused") {
+  const Scenario s = simple_scenario();
+  PredictionOptions options;
+  options.explain_at_hz = {50e6};
+  CHECK_THROWS_WITH_AS(static_cast<void>(predict(s, options)),
+                       "explain-at: expected a frequency inside the computed band (band B 150 kHz "
+                       "- 30 MHz), found 50 MHz",
+                       Error);
+  options.explain_at_hz = {100e3};
+  CHECK_THROWS_WITH_AS(static_cast<void>(predict(s, options)),
+                       "explain-at: expected a frequency inside the computed band (band B 150 kHz "
+                       "- 30 MHz), found 100 kHz",
+                       Error);
+}
