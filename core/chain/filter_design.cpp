@@ -31,13 +31,17 @@ constexpr double dm_capacitor_min_f = 1e-6,
                  dm_capacitor_max_f = 47e-6;               ///< judgement, film / ceramic bank
 constexpr double damping_capacitor_max_f = 2.2e-3;         ///< judgement, an electrolytic
 constexpr double choke_min_h = 1e-3, choke_max_h = 47e-3;  ///< judgement, per winding
-constexpr double choke_coupling = 0.99;                    ///< judgement: leakage 2 % of L
-constexpr double y_capacitor_min_f = 470e-12;              ///< judgement
+/// The smallest second (high-frequency) choke considered, per winding (judgement).
+constexpr double second_choke_min_h = 10e-6;
+/// Winding capacitance model (judgement, filter_design.hpp): 10 pF at 10 mH, as √L, at least 2 pF.
+constexpr double choke_reference_capacitance_f = 10e-12, choke_reference_inductance_h = 10e-3;
+constexpr double choke_min_winding_capacitance_f = 2e-12;
+constexpr double choke_coupling = 0.99;        ///< judgement: leakage 2 % of L
+constexpr double y_capacitor_min_f = 470e-12;  ///< judgement
 constexpr double capacitor_esr_ohm = default_capacitor_esr_ohm;
 constexpr double capacitor_esl_h = default_capacitor_esl_h;
 constexpr double y_capacitor_esl_h = 3e-9;  ///< judgement: a leaded Y2 disc or film part
 constexpr double inductor_winding_capacitance_f = default_inductor_winding_capacitance_f;
-constexpr double choke_winding_capacitance_f = default_choke_winding_capacitance_f;
 constexpr double choke_interwinding_capacitance_f = default_choke_interwinding_capacitance_f;
 constexpr double core_loss_ohm = default_core_loss_resistance_ohm;
 
@@ -51,6 +55,16 @@ double srf_hz(double l, double c) { return 1.0 / (2.0 * std::numbers::pi * std::
 
 std::string q(double value, Dimension d) { return format_quantity(value, d, 6); }
 
+/// The largest E6 choke inductance in [low_h, high_h] that self-resonates at or above `floor_hz`;
+/// 0 when none does.
+double largest_choke_resonating_above(double floor_hz, double low_h, double high_h) {
+  double best = 0.0;
+  for (double l = e6_at_or_above(low_h); l <= high_h * (1.0 + relative_tolerance); l = e6_next(l)) {
+    if (choke_self_resonance_hz(l) >= floor_hz * (1.0 - relative_tolerance)) best = l;
+  }
+  return best;
+}
+
 struct Plan {
   bool dm = false;
   double dm_l_each_h = 0.0;
@@ -60,6 +74,7 @@ struct Plan {
   double damping_c_f = 0.0;
   bool cm = false;
   double choke_h = 0.0;
+  double choke2_h = 0.0;  ///< the second, high-frequency choke (LISN side); 0: none
   double y_f = 0.0;
 };
 
@@ -98,13 +113,13 @@ toml::table dm_stage(const Plan& plan) {
   return toml::table{{"kind", "netlist"}, {"elements", elements}};
 }
 
-toml::table choke_stage(const Plan& plan) {
+toml::table choke_stage(double inductance_h) {
   return toml::table{
       {"kind", "common-mode-choke"},
-      {"inductance", q(plan.choke_h, Dimension::inductance)},
+      {"inductance", q(inductance_h, Dimension::inductance)},
       {"coupling", choke_coupling},
-      {"winding_resistance", q(choke_dcr_ohm(plan.choke_h), Dimension::resistance)},
-      {"winding_capacitance", q(choke_winding_capacitance_f, Dimension::capacitance)},
+      {"winding_resistance", q(choke_dcr_ohm(inductance_h), Dimension::resistance)},
+      {"winding_capacitance", q(choke_winding_capacitance_f(inductance_h), Dimension::capacitance)},
       {"interwinding_capacitance", q(choke_interwinding_capacitance_f, Dimension::capacitance)},
       {"core_loss_resistance", q(core_loss_ohm, Dimension::resistance)}};
 }
@@ -122,7 +137,8 @@ toml::table with_stages(const toml::table& table, const Plan& plan) {
   toml::table out = table;
   toml::array stages;
   if (plan.cm) {
-    stages.push_back(choke_stage(plan));
+    if (plan.choke2_h > 0.0) stages.push_back(choke_stage(plan.choke2_h));
+    stages.push_back(choke_stage(plan.choke_h));
     if (plan.y_f > 0.0) stages.push_back(y_stage(plan));
   }
   if (const toml::array* existing = table["filter"].as_array()) {
@@ -207,6 +223,16 @@ std::string short_text(const Shortfall& s) {
 }
 
 }  // namespace
+
+double choke_winding_capacitance_f(double inductance_h) {
+  return std::max(
+      choke_min_winding_capacitance_f,
+      choke_reference_capacitance_f * std::sqrt(inductance_h / choke_reference_inductance_h));
+}
+
+double choke_self_resonance_hz(double inductance_h) {
+  return srf_hz(inductance_h, choke_winding_capacitance_f(inductance_h));
+}
 
 const std::vector<double>& e6_mantissas() {
   static const std::vector<double> values{1.0, 1.5, 2.2, 3.3, 4.7, 6.8};
@@ -401,6 +427,7 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
     after = predict(scenario_from_table(proposed, file, directory, data));
     ++design.predictions;
     Shortfall dm_short, cm_short;
+    double cm_worst_hz = 0.0;  // the line frequency of the largest common-mode shortfall now
     std::vector<double> f_fail, b_fail;
     std::vector<const MarginRow*> failing;
     for (const MarginRow& row : after.margins.rows) {
@@ -417,29 +444,73 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
     const auto c = contributors_at(now, *after.conducted, after.switch_node_v,
                                    after.input_current_a, after.resonances, f_fail, b_fail);
     for (std::size_t i = 0; i < failing.size(); ++i) {
-      Shortfall& s = c[i].cm_share >= c[i].dm_share ? cm_short : dm_short;
+      const bool cm = c[i].cm_share >= c[i].dm_share;
+      Shortfall& s = cm ? cm_short : dm_short;
       const double db = guard - failing[i]->margin_db;
-      if (db > s.db) s = {db, failing[i]->frequency_hz, to_string(failing[i]->reading_detector)};
+      if (db > s.db) {
+        s = {db, failing[i]->frequency_hz, to_string(failing[i]->reading_detector)};
+        if (cm) cm_worst_hz = c[i].harmonic_hz;
+      }
+    }
+    // More L helps only below the choke's self-resonance: the worst common-mode shortfall must
+    // stay under it.
+    const double floor_hz = cm_worst_hz;
+    if (plan.cm && cm_short.db > 0.0) {
+      design.cm_shortfall_top_hz = std::max(design.cm_shortfall_top_hz, cm_worst_hz);
     }
     bool grew = false;
     std::vector<std::string> bound;
     if (cm_short.db > 0.0) {
+      const double y_largest =
+          y_room >= y_capacitor_min_f ? e6_at_or_below(y_room) : 0.0;  // within touch current
+      const double next = e6_next(plan.choke_h);
+      const bool choke_room = next <= choke_max_h * (1.0 + relative_tolerance);
+      const bool above = !options.choke_by_self_resonance ||
+                         choke_self_resonance_hz(next) >= floor_hz * (1.0 - relative_tolerance);
       if (!plan.cm) {
         start_cm(), grew = true;
-      } else if (e6_next(plan.choke_h) <= choke_max_h * (1.0 + relative_tolerance)) {
-        plan.choke_h = e6_next(plan.choke_h), grew = true;
+      } else if (choke_room && above) {
+        plan.choke_h = next, grew = true;
+      } else if (options.choke_by_self_resonance && plan.y_f < y_largest) {
+        plan.y_f = plan.y_f > 0.0 ? std::min(e6_next(plan.y_f), y_largest) : y_largest;
+        grew = true;
+      } else if (options.choke_by_self_resonance && plan.choke2_h <= 0.0 &&
+                 largest_choke_resonating_above(floor_hz, second_choke_min_h, plan.choke_h) > 0.0) {
+        // A second choke, small enough to resonate above the shortfall, in series (LISN side).
+        plan.choke2_h = largest_choke_resonating_above(floor_hz, second_choke_min_h, plan.choke_h);
+        grew = true;
+      } else if (options.choke_by_self_resonance && plan.choke2_h > 0.0 &&
+                 e6_next(plan.choke2_h) <= plan.choke_h * (1.0 + relative_tolerance) &&
+                 choke_self_resonance_hz(e6_next(plan.choke2_h)) >=
+                     floor_hz * (1.0 - relative_tolerance)) {
+        plan.choke2_h = e6_next(plan.choke2_h), grew = true;
       } else {
-        bound.push_back("common mode: the CM choke is at the largest part considered (" +
-                        format_quantity(choke_max_h, Dimension::inductance) +
-                        " per winding) and the Y capacitance at " +
-                        format_quantity(design.existing_y_capacitance_per_line_f + plan.y_f,
-                                        Dimension::capacitance) +
-                        " per line against the touch-current limit of " +
-                        format_quantity(design.max_y_capacitance_f, Dimension::capacitance) + " (" +
-                        format_quantity(base.safety.touch_current_a, Dimension::current) + " at " +
-                        format_quantity(base.safety.mains_voltage_v, Dimension::voltage) + ", " +
-                        format_quantity(base.safety.mains_frequency_hz, Dimension::frequency) +
-                        "): " + short_text(cm_short));
+        const std::string y_text =
+            "the Y capacitance at " +
+            format_quantity(design.existing_y_capacitance_per_line_f + plan.y_f,
+                            Dimension::capacitance) +
+            " per line against the touch-current limit of " +
+            format_quantity(design.max_y_capacitance_f, Dimension::capacitance) + " (" +
+            format_quantity(base.safety.touch_current_a, Dimension::current) + " at " +
+            format_quantity(base.safety.mains_voltage_v, Dimension::voltage) + ", " +
+            format_quantity(base.safety.mains_frequency_hz, Dimension::frequency) + ")";
+        if (!choke_room) {
+          bound.push_back("common mode: the CM choke is at the largest part considered (" +
+                          format_quantity(choke_max_h, Dimension::inductance) +
+                          " per winding) and " + y_text + ": " + short_text(cm_short));
+        } else {
+          bound.push_back(
+              "common mode: a larger choke would self-resonate below " +
+              format_quantity(floor_hz, Dimension::frequency, 4) +
+              ", where the common-mode shortfall is largest (" +
+              format_quantity(next, Dimension::inductance) + " with " +
+              format_quantity(choke_winding_capacitance_f(next), Dimension::capacitance, 3) + ": " +
+              format_quantity(choke_self_resonance_hz(next), Dimension::frequency, 3) +
+              "), the second choke likewise (" +
+              (plan.choke2_h > 0.0 ? format_quantity(plan.choke2_h, Dimension::inductance)
+                                   : std::string("none fits")) +
+              "), and " + y_text + ": " + short_text(cm_short));
+        }
       }
     }
     if (dm_short.db > 0.0) {
@@ -498,21 +569,34 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
   std::size_t index = 1;
   auto stage_name = [&](std::size_t i) { return "filter " + std::to_string(i); };
   if (plan.cm) {
-    const double dcr = choke_dcr_ohm(plan.choke_h);
-    design.parts.push_back(
-        {stage_name(index), "CM choke (each winding)", plan.choke_h,
-         q(plan.choke_h, Dimension::inductance),
-         "coupling 0.99 (leakage " +
-             format_quantity(plan.choke_h * (1.0 - choke_coupling * choke_coupling),
-                             Dimension::inductance, 3) +
-             "), winding capacitance " + q(choke_winding_capacitance_f, Dimension::capacitance) +
-             " (self-resonance " +
-             format_quantity(srf_hz(plan.choke_h, choke_winding_capacitance_f),
-                             Dimension::frequency, 3) +
-             "), interwinding " + q(choke_interwinding_capacitance_f, Dimension::capacitance) +
-             ", core loss " + q(core_loss_ohm, Dimension::resistance),
-         dcr, current, 2.0 * current * current * dcr});
-    ++index;
+    auto choke_part = [&](double l_h, const std::string& role) {
+      const double dcr = choke_dcr_ohm(l_h);
+      const double cw = choke_winding_capacitance_f(l_h);
+      ProposedPart part{stage_name(index),
+                        role,
+                        l_h,
+                        q(l_h, Dimension::inductance),
+                        "coupling 0.99 (leakage " +
+                            format_quantity(l_h * (1.0 - choke_coupling * choke_coupling),
+                                            Dimension::inductance, 3) +
+                            "), winding capacitance " +
+                            format_quantity(cw, Dimension::capacitance, 3) + " (self-resonance " +
+                            format_quantity(choke_self_resonance_hz(l_h), Dimension::frequency, 3) +
+                            "), interwinding " +
+                            q(choke_interwinding_capacitance_f, Dimension::capacitance) +
+                            ", core loss " + q(core_loss_ohm, Dimension::resistance),
+                        dcr,
+                        current,
+                        2.0 * current * current * dcr};
+      part.winding_capacitance_f = cw;
+      part.self_resonance_hz = choke_self_resonance_hz(l_h);
+      design.parts.push_back(part);
+      ++index;
+    };
+    if (plan.choke2_h > 0.0) {
+      choke_part(plan.choke2_h, "second CM choke (each winding, LISN side)");
+    }
+    choke_part(plan.choke_h, "CM choke (each winding)");
     if (plan.y_f > 0.0) {
       design.parts.push_back(
           {stage_name(index), "Y capacitor (each line)", plan.y_f,
@@ -521,6 +605,7 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
                q(y_capacitor_esl_h, Dimension::inductance) + " (self-resonance " +
                format_quantity(srf_hz(y_capacitor_esl_h, plan.y_f), Dimension::frequency, 3) + ")",
            0.0, 0.0, 0.0});
+      design.parts.back().self_resonance_hz = srf_hz(y_capacitor_esl_h, plan.y_f);
       ++index;
     }
   }
@@ -536,6 +621,9 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
                              Dimension::frequency, 3) +
              "), core loss " + q(core_loss_ohm, Dimension::resistance),
          dcr, current, 2.0 * current * current * dcr});
+    design.parts.back().winding_capacitance_f = inductor_winding_capacitance_f;
+    design.parts.back().self_resonance_hz =
+        srf_hz(plan.dm_l_each_h, inductor_winding_capacitance_f);
     design.parts.push_back(
         {stage_name(index), "DM capacitor (across the lines, LISN side)", plan.dm_c_f,
          q(plan.dm_c_f, Dimension::capacitance),
@@ -543,6 +631,7 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
              q(capacitor_esl_h, Dimension::inductance) + " (self-resonance " +
              format_quantity(srf_hz(capacitor_esl_h, plan.dm_c_f), Dimension::frequency, 3) + ")",
          0.0, 0.0, 0.0});
+    design.parts.back().self_resonance_hz = srf_hz(capacitor_esl_h, plan.dm_c_f);
     if (plan.damping_c_f > 0.0) {
       design.parts.push_back({stage_name(index),
                               "damping resistor (in series with the damping capacitor)",
@@ -553,6 +642,7 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
            "damping capacitor (across the converter's input, through the resistor)",
            plan.damping_c_f, q(plan.damping_c_f, Dimension::capacitance),
            "ESL " + q(capacitor_esl_h, Dimension::inductance), 0.0, 0.0, 0.0});
+      design.parts.back().self_resonance_hz = srf_hz(capacitor_esl_h, plan.damping_c_f);
     }
   }
   design.y_capacitance_per_line_f =
@@ -566,7 +656,8 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
   std::ostringstream text;
   text << filter_design_header << " from " << file
        << (met ? "" : " (the limits are NOT met: see its report)") << "\n"
-       << "# new stages: " << (plan.cm ? "a common-mode choke" : "")
+       << "# new stages: "
+       << (plan.cm ? (plan.choke2_h > 0.0 ? "two common-mode chokes" : "a common-mode choke") : "")
        << (plan.cm && plan.y_f > 0.0 ? " and Y capacitors (LISN side)" : "")
        << (plan.cm && plan.dm ? "; " : "")
        << (plan.dm ? "a differential-mode C-L section (converter side)" : "")

@@ -22,7 +22,14 @@
 ///  existing
 ///    stages; the Y capacitance per line (with the scenario's own Y capacitors) is kept within the
 ///    [safety] touch-current limit (core/compliance/touch_current.hpp), the choke grows up to 47
-///    mH.
+///    mH, but only while its self-resonance 1/(2π√(L·C_w)) (with the winding capacitance C_w of
+///    choke_winding_capacitance_f, which grows with L) stays at or above the frequency of the
+///    largest common-mode shortfall: above its self-resonance a choke is a capacitor, and more L
+///    (more turns, more C_w) lowers its impedance there. When growth would cross that line the
+///    planner adds Y capacitance if the touch-current limit leaves room, else a second choke in
+///    series on the LISN side, no larger than the first and chosen by the same rule (a choke pair,
+///    the smaller one still inductive where the larger one has turned capacitive: common
+///    practice), else it names the binding constraint.
 #include <optional>
 #include <string>
 #include <vector>
@@ -41,6 +48,14 @@ namespace spurcast {
 [[nodiscard]] double e6_at_or_below(double value);
 /// The next E6 value above `value`.
 [[nodiscard]] double e6_next(double value);
+
+/// Winding self-capacitance the planner assumes for a CM choke of `inductance_h` per winding
+/// (judgement, no source: 10 pF at 10 mH, a typical figure for a sectioned toroidal choke, growing
+/// as √L because the turn count grows as √L on one core size and a longer, more layered winding
+/// has more capacitance across it; never below 2 pF, the pins and pads).
+[[nodiscard]] double choke_winding_capacitance_f(double inductance_h);
+/// The self-resonance 1/(2π√(L·C_w)) of such a choke [Hz].
+[[nodiscard]] double choke_self_resonance_hz(double inductance_h);
 
 /// A required insertion loss at one frequency.
 struct AttenuationPoint {
@@ -101,6 +116,8 @@ struct ProposedPart {
   double dc_resistance_ohm = 0.0;
   double current_a = 0.0;  ///< the DC (mean input) current it carries [A]; 0 for shunt parts
   double loss_w = 0.0;     ///< I²·R_dc of the part (both windings / lines where two) [W]
+  double winding_capacitance_f = 0.0;  ///< inductors: the assumed winding capacitance [F]
+  double self_resonance_hz = 0.0;      ///< 1/(2π√(L·C)) with C_w or ESL; 0 for a resistor [Hz]
 };
 
 /// Middlebrook's criterion for the proposed DM section.
@@ -119,6 +136,9 @@ struct FilterDesignOptions {
   /// phase close to the unfiltered converter's).
   double stability_margin_db = 6.0;
   std::size_t max_iterations = 60;
+  /// Keep each choke's self-resonance at or above the common-mode shortfalls (see above). false:
+  /// grow the choke on inductance alone, one stage (kept to show what that gives: tests).
+  bool choke_by_self_resonance = true;
 };
 
 struct FilterDesign {
@@ -137,6 +157,10 @@ struct FilterDesign {
   bool met = false;                    ///< every conducted reading ≥ guard below its line after
   std::string binding;                 ///< when not met: the constraint that binds and by how much
   std::size_t predictions = 0;         ///< predict() runs made
+  /// [Hz] the highest line frequency at which the largest common-mode shortfall lay while the
+  /// chokes were chosen (0: none); with choke_by_self_resonance a choke grows or is added only
+  /// when its self-resonance stays at or above that iteration's largest shortfall.
+  double cm_shortfall_top_hz = 0.0;
   std::vector<std::string> notes;
   std::string scenario_toml;  ///< NEW.toml: the scenario with the proposed stages
 };

@@ -72,9 +72,15 @@ std::string filter_design_json(const FilterDesign& d, const std::string& output_
                      {"parasitics", p.parasitics},
                      {"dc_resistance_ohm", p.dc_resistance_ohm},
                      {"current_a", p.current_a},
-                     {"loss_w", p.loss_w}});
+                     {"loss_w", p.loss_w},
+                     {"self_resonance_hz", p.self_resonance_hz > 0.0
+                                               ? nlohmann::ordered_json(p.self_resonance_hz)
+                                               : nlohmann::ordered_json()}});
   }
   j["parts"] = parts;
+  j["cm_shortfall_top_hz"] = d.cm_shortfall_top_hz > 0.0
+                                 ? nlohmann::ordered_json(d.cm_shortfall_top_hz)
+                                 : nlohmann::ordered_json();
   j["y_capacitance_per_line_f"] = d.y_capacitance_per_line_f;
   j["existing_y_capacitance_per_line_f"] = d.existing_y_capacitance_per_line_f;
   j["max_y_capacitance_f"] = d.max_y_capacitance_f;
