@@ -167,14 +167,11 @@ void damp(Plan& plan, const Scenario& base, const FilterDesignOptions& options,
   check = {};
   check.required_margin_db = options.stability_margin_db;
   plan.damping_r_ohm = plan.damping_c_f = 0.0;
-  if (!plan.dm) {
-    check.note = "not computed: no differential-mode section was proposed";
-    return;
-  }
   if (!base.converter_power.given) {
     check.note = "not computed: give [converter] min_input_voltage and output_power";
     return;
   }
+  if (!plan.dm) return;  // nothing to damp; the whole network is checked after the plan
   check.computed = true;
   check.input_resistance_ohm = negative_input_resistance_ohm(base.converter_power);
   const double target =
@@ -213,6 +210,25 @@ void damp(Plan& plan, const Scenario& base, const FilterDesignOptions& options,
       "the proposed inductors with the converter's input capacitor, the LISN side shorted, against "
       "|Z_in| = "
       "V_in,min²/P_out";
+}
+
+/// Middlebrook on the whole input network of `scenario` as the converter sees it: |Z_o| peak by
+/// the network solve (core/coupling/input_stability.hpp) against |Z_in| = V_in,min²/P_out.
+void whole_network_check(const Scenario& scenario, StabilityCheck& check) {
+  const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn,
+                             scenario.converter);
+  const NetworkImpedancePeak peak = peak_converter_side_impedance(model);
+  check.computed = true;
+  check.input_resistance_ohm = negative_input_resistance_ohm(scenario.converter_power);
+  check.peak_output_impedance_ohm = peak.impedance_ohm;
+  check.peak_frequency_hz = peak.frequency_hz;
+  check.margin_db = 20.0 * std::log10(check.input_resistance_ohm / peak.impedance_ohm);
+  check.note = "the whole input network as the converter sees it (the LISN, " +
+               std::to_string(scenario.filters.size()) +
+               " filter stage(s) and the input capacitor; network solve " +
+               format_quantity(peak.from_hz, Dimension::frequency) + " - " +
+               format_quantity(peak.to_hz, Dimension::frequency) +
+               ") against |Z_in| = V_in,min²/P_out";
 }
 
 std::string short_text(const Shortfall& s) {
@@ -539,16 +555,58 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
     design.binding =
         "the planner stopped after " + std::to_string(options.max_iterations) + " predictions";
   }
+  // Middlebrook on the whole input network the converter sees (LISN, every stage, the input
+  // capacitor): C_b grows along E6 (with Erickson's optimal R for it) while the margin is short.
+  if (base.converter_power.given) {
+    whole_network_check(scenario_from_table(proposed, file, directory, data), design.stability);
+    bool damping_changed = false;
+    while (plan.dm && design.stability.margin_db < design.stability.required_margin_db) {
+      const double c_in = base.coupling.input_capacitance_f;
+      const double cb = plan.damping_c_f > 0.0 ? e6_next(plan.damping_c_f) : e6_at_or_above(c_in);
+      if (cb > damping_capacitor_max_f * (1.0 + relative_tolerance)) break;
+      plan.damping_c_f = cb;
+      plan.damping_r_ohm = e6_at_or_above(
+          optimal_parallel_damping(2.0 * plan.dm_l_each_h, c_in, cb / c_in).resistance_ohm);
+      design.stability.damped = damping_changed = true;
+      proposed = with_stages(table, plan);
+      whole_network_check(scenario_from_table(proposed, file, directory, data), design.stability);
+    }
+    if (damping_changed) {
+      // The damping changes the filter: predict again, so "after" is what NEW.toml gives.
+      after = predict(scenario_from_table(proposed, file, directory, data));
+      ++design.predictions;
+      const bool still_met = std::none_of(
+          after.margins.rows.begin(), after.margins.rows.end(), [&](const MarginRow& row) {
+            return row.quantity == LimitQuantity::conducted_voltage && row.margin_db < guard;
+          });
+      if (met && !still_met) {
+        met = false;
+        design.binding =
+            "the damping the whole network needs for stability costs attenuation: a "
+            "conducted reading is under the guard again";
+      }
+    }
+  }
   if (design.stability.computed &&
       design.stability.margin_db < design.stability.required_margin_db) {
     char buffer[96];
     std::snprintf(buffer, sizeof buffer, "%.2f dB under the %.1f dB asked",
                   design.stability.required_margin_db - design.stability.margin_db,
                   design.stability.required_margin_db);
-    design.binding += std::string(design.binding.empty() ? "" : "; ") +
-                      "stability: the damping capacitor is at the largest considered (" +
-                      format_quantity(damping_capacitor_max_f, Dimension::capacitance) +
-                      "): Middlebrook margin " + buffer;
+    const std::string where =
+        " (the whole input network peaks at " +
+        format_quantity(design.stability.peak_output_impedance_ohm, Dimension::resistance) +
+        " at " + format_quantity(design.stability.peak_frequency_hz, Dimension::frequency) +
+        " against |Z_in| = " +
+        format_quantity(design.stability.input_resistance_ohm, Dimension::resistance) + ")";
+    design.binding +=
+        std::string(design.binding.empty() ? "" : "; ") +
+        (plan.dm ? "stability: the damping capacitor is at the largest considered (" +
+                       format_quantity(damping_capacitor_max_f, Dimension::capacitance) +
+                       "): Middlebrook margin " + buffer + where
+                 : std::string("stability: no differential-mode section to damp was proposed: "
+                               "Middlebrook margin ") +
+                       buffer + where);
     met = false;
   }
   design.met = met;

@@ -17,7 +17,9 @@
 ///    (100 Ω, docs/references.md §2.3), then grown while predict() shows a DM shortfall; the
 ///    inductors resonate with the converter's input capacitor, so when Middlebrook's criterion asks
 ///    for it R in series with C_b goes across the converter side
-///    (core/coupling/input_stability.hpp, Erickson and Maksimović ch. 10 optimal damping);
+///    (core/coupling/input_stability.hpp, Erickson and Maksimović ch. 10 optimal damping), sized
+///    on the section alone, then checked (and C_b grown along E6 where needed) on the whole input
+///    network the converter sees: LISN, every stage and the input capacitor, solved over frequency;
 ///  - common mode: a choke with Y capacitors on its converter side, on the LISN side of the
 ///  existing
 ///    stages; the Y capacitance per line (with the scenario's own Y capacitors) is kept within the
@@ -120,12 +122,15 @@ struct ProposedPart {
   double self_resonance_hz = 0.0;      ///< 1/(2π√(L·C)) with C_w or ESL; 0 for a resistor [Hz]
 };
 
-/// Middlebrook's criterion for the proposed DM section.
+/// Middlebrook's criterion for the whole input network as the converter sees it (LISN, every
+/// filter stage, existing and proposed, and the input capacitor; network solve,
+/// core/coupling/input_stability.hpp peak_converter_side_impedance).
 struct StabilityCheck {
   bool computed = false;
   std::string note;                   ///< why not computed, or what was checked
   double input_resistance_ohm = 0.0;  ///< |Z_in| = V_in,min²/P_out
   double peak_output_impedance_ohm = 0.0;
+  double peak_frequency_hz = 0.0;  ///< where |Z_o| peaks (the worst frequency)
   double margin_db = 0.0;  ///< 20·log10(|Z_in| / peak)
   double required_margin_db = 0.0;
   bool damped = false;  ///< an R–C_b branch was added

@@ -42,6 +42,7 @@ namespace {
 struct Built {
   Network network;
   std::vector<Probe> probes;
+  Probe converter_terminals;  ///< V(conv+) − V(conv−)
 };
 
 Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>& filters, const LisnSpec& lisn,
@@ -65,6 +66,7 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
   const NodeId converter_negative = side.negative;
   net.add_capacitor(converter_positive, converter_negative, coupling.input_capacitance_f, coupling.input_esr_ohm,
                     coupling.input_esl_h, "input capacitor");
+  built.converter_terminals = Probe::voltage(converter_positive, converter_negative);
   // Source 0: the pulsed input current, drawn from conv+ by the switch and returned into conv−.
   net.add_current_source(converter_positive, converter_negative, "input current");
   // Source 1: the switch-node voltage referred to conv−, driving the parasitic capacitance to ground.
@@ -100,12 +102,14 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
 }
 
 NetworkSolver make_solver(const CouplingSpec& coupling, const std::vector<FilterStage>& filters,
-                          const LisnSpec& lisn, const ConverterSpec& converter, std::vector<Probe>& probes) {
+                          const LisnSpec& lisn, const ConverterSpec& converter, std::vector<Probe>& probes,
+                          Probe& converter_terminals) {
   if (lisn.lines != 1 && lisn.lines != 2) {
     throw Error("expected 1 or 2 LISN lines, found " + std::to_string(lisn.lines));
   }
   Built built = build_network(coupling, filters, lisn, converter);
   probes = built.probes;
+  converter_terminals = built.converter_terminals;
   // Errors point at the [[filter]] table (or netlist element) of the part to blame: each part
   // carries its position (add_filter_stage, Element::where).
   return NetworkSolver(std::move(built.network));
@@ -119,7 +123,7 @@ ConductedModel::ConductedModel(const CouplingSpec& coupling, const std::vector<F
       converter_(converter),
       lisn_(lisn),
       probes_(),
-      solver_(make_solver(coupling, filters, lisn, converter, probes_)) {}
+      solver_(make_solver(coupling, filters, lisn, converter, probes_, converter_terminals_)) {}
 
 std::string ConductedModel::setup_description() const {
   const bool cispr25 = lisn_.model == LisnModel::v_network_5uh;

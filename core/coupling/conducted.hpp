@@ -80,12 +80,16 @@ class ConductedModel {
   // Source indices in the solver's Transfer.
   static constexpr int source_input_current = 0;  ///< the DM current source [A]
   static constexpr int source_switch_node = 1;    ///< the CM switch-node voltage source [V]
+  /// The voltage across the converter's input terminals, V(conv+) − V(conv−), where the input
+  /// current source is drawn (after every filter stage and the input capacitor).
+  [[nodiscard]] const Probe& converter_terminals() const noexcept { return converter_terminals_; }
 
  private:
   CouplingSpec coupling_;
   ConverterSpec converter_;
   LisnSpec lisn_;
   std::vector<Probe> probes_;
+  Probe converter_terminals_;
   NetworkSolver solver_;
 };
 

@@ -1,5 +1,6 @@
 #include "core/coupling/input_stability.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <complex>
 #include <numbers>
@@ -80,6 +81,51 @@ double damping_ratio_for_peak(double l, double c, double target_ohm) {
   const double r0sq = l / c;
   const double t2 = target_ohm * target_ohm;
   return (2.0 * r0sq + std::sqrt(4.0 * r0sq * r0sq + 16.0 * t2 * r0sq)) / (2.0 * t2);
+}
+
+std::vector<double> converter_side_impedance_ohm(const ConductedModel& model,
+                                                 const std::vector<double>& frequency_hz) {
+  const Transfer t = model.solver().transfer(frequency_hz, {model.converter_terminals()});
+  std::vector<double> out(frequency_hz.size());
+  const auto source = static_cast<std::size_t>(ConductedModel::source_input_current);
+  for (std::size_t i = 0; i < frequency_hz.size(); ++i) out[i] = std::abs(t.at(i, 0, source));
+  return out;
+}
+
+NetworkImpedancePeak peak_converter_side_impedance(const ConductedModel& model) {
+  constexpr int per_decade = 200;
+  const std::array<double, 2> measured = model.solver().network().tabulated_range();
+  NetworkImpedancePeak peak;
+  peak.from_hz = std::max(1.0, measured[0]);
+  peak.to_hz = std::min(100e6, measured[1]);
+  if (!(peak.to_hz > peak.from_hz)) return peak;
+  const double decades = std::log10(peak.to_hz / peak.from_hz);
+  const int n = std::max(2, static_cast<int>(std::ceil(decades * per_decade)) + 1);
+  std::vector<double> grid(static_cast<std::size_t>(n));
+  for (int i = 0; i < n; ++i) {
+    grid[static_cast<std::size_t>(i)] =
+        std::min(peak.to_hz, peak.from_hz * std::pow(10.0, decades * i / (n - 1)));
+  }
+  const std::vector<double> z = converter_side_impedance_ohm(model, grid);
+  const auto best = static_cast<std::size_t>(std::max_element(z.begin(), z.end()) - z.begin());
+  peak.frequency_hz = grid[best];
+  peak.impedance_ohm = z[best];
+  // Golden-section refinement between the neighbouring grid points.
+  double a = std::log(grid[best > 0 ? best - 1 : 0]),
+         b = std::log(grid[std::min(best + 1, grid.size() - 1)]);
+  const double g = (std::sqrt(5.0) - 1.0) / 2.0;
+  auto at = [&](double x) { return converter_side_impedance_ohm(model, {std::exp(x)})[0]; };
+  for (int i = 0; i < 60 && b - a > 1e-9; ++i) {
+    const double x1 = b - g * (b - a), x2 = a + g * (b - a);
+    if (at(x1) > at(x2))
+      b = x2;
+    else
+      a = x1;
+  }
+  const double f = std::exp((a + b) / 2.0);
+  const double zf = at(std::log(f));
+  if (zf > peak.impedance_ohm) peak.impedance_ohm = zf, peak.frequency_hz = f;
+  return peak;
 }
 
 }  // namespace spurcast

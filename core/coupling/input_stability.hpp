@@ -11,6 +11,7 @@
 ///    R0·√(2(2 + n))/n.
 #include <vector>
 
+#include "core/coupling/conducted.hpp"
 #include "core/input/toml_reader.hpp"
 
 namespace spurcast {
@@ -57,5 +58,25 @@ struct OptimalDamping {
 /// The smallest n (C_b/C) whose optimal peak R0·√(2(2 + n))/n is at most `target_ohm`.
 [[nodiscard]] double damping_ratio_for_peak(double inductance_h, double capacitance_f,
                                             double target_ohm);
+
+/// Middlebrook over the whole input network as the converter sees it: the LISN(s), every filter
+/// stage and the converter's input capacitor (the planner's convention: the filter's inductors
+/// resonate with it), solved by the network solver (core/coupling/network.hpp). The switch-node
+/// source is taken as shorted (an ideal voltage source at rest) and the common-mode parts stay in
+/// place.
+struct NetworkImpedancePeak {
+  double frequency_hz = 0.0;          ///< where |Z_o| is largest
+  double impedance_ohm = 0.0;         ///< max |Z_o| [Ω]
+  double from_hz = 0.0, to_hz = 0.0;  ///< the range searched [Hz]
+};
+
+/// |Z_o(f)| = |V(conv+) − V(conv−)| per ampere of the input current [Ω], at each frequency (> 0,
+/// inside the range of any measured part).
+[[nodiscard]] std::vector<double> converter_side_impedance_ohm(
+    const ConductedModel& model, const std::vector<double>& frequency_hz);
+
+/// The peak of |Z_o| over 1 Hz–100 MHz (narrowed to the range every measured part covers): a log
+/// grid of 200 points per decade refined by golden-section search around the largest.
+[[nodiscard]] NetworkImpedancePeak peak_converter_side_impedance(const ConductedModel& model);
 
 }  // namespace spurcast

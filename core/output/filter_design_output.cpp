@@ -96,6 +96,7 @@ std::string filter_design_json(const FilterDesign& d, const std::string& output_
                     {"note", s.note},
                     {"input_resistance_ohm", number(s.input_resistance_ohm, 4)},
                     {"peak_output_impedance_ohm", number(s.peak_output_impedance_ohm, 4)},
+                    {"peak_frequency_hz", number(s.peak_frequency_hz, 1)},
                     {"margin_db", number(s.margin_db, 2)},
                     {"required_margin_db", rounded(s.required_margin_db, 2)},
                     {"damped", s.damped}};
@@ -145,8 +146,11 @@ std::string filter_design_text(const FilterDesign& d, const std::string& output_
          format_quantity(d.safety.mains_voltage_v, Dimension::voltage) + "))\n";
   const StabilityCheck& s = d.stability;
   if (s.computed) {
-    out += "stability (Middlebrook): peak output impedance " +
+    out += "stability (Middlebrook, the whole input network): peak output impedance " +
            format_quantity(s.peak_output_impedance_ohm, Dimension::resistance) +
+           (s.peak_frequency_hz > 0.0
+                ? " at " + format_quantity(s.peak_frequency_hz, Dimension::frequency)
+                : std::string()) +
            " against |Z_in| " + format_quantity(s.input_resistance_ohm, Dimension::resistance) +
            ": margin " + db_text(s.margin_db) + " (asked " + db_text(s.required_margin_db) + ")" +
            (s.damped ? ", R-C damped" : "") + "\n";

@@ -2,12 +2,16 @@
 // Electronics, 2nd ed., ch. 10, from memory; docs/references.md §9.6): the converter's negative
 // input resistance V²/P; the optimal R–C_b parallel damping R_opt = R0·√((2 + n)(4 + 3n)/(2n²(4 +
 // n))) with the peak output impedance R0·√(2(2 + n))/n; and the undamped section's peak L/(C·R_s)
-// (a parallel resonance with series loss R_s: Q = R0/R_s, peak Q·R0, common practice).
+// (a parallel resonance with series loss R_s: Q = R0/R_s, peak Q·R0, common practice); and the
+// whole input network's output impedance against its closed form for an LC section between the
+// converter and two CISPR 16-1-2 V-networks.
 #include "core/coupling/input_stability.hpp"
 
 #include <doctest/doctest.h>
 
 #include <cmath>
+#include <complex>
+#include <numbers>
 
 #include "core/chain/scenario.hpp"
 #include "core/input/error.hpp"
@@ -76,4 +80,57 @@ TEST_CASE("Erickson's optimal parallel damping: the formulas and the minimum the
   // The n that meets a target peak, back through the formula.
   const double n = damping_ratio_for_peak(l_h, c_f, 2.0);
   CHECK(optimal_parallel_damping(l_h, c_f, n).peak_output_impedance_ohm == doctest::Approx(2.0));
+}
+
+TEST_CASE("Middlebrook over the whole input network: an LC section and the LISNs, closed form") {
+  // The converter sees, between its input terminals: its input capacitor C_in, the section's
+  // capacitor C, and through the section's inductor (L + R_L, positive line) the two LISNs in
+  // series, each 50 Ω ∥ (5 Ω + jω·50 µH) (CISPR 16-1-2 V-network, docs/references.md §2.1):
+  //   Z_o = 1 / (jω(C + C_in) + 1 / (R_L + jωL + 2·Z_LISN)).
+  // Written out here (nodal analysis by hand), its peak found on a dense grid.
+  // 2 mH and 1 µF + 1 µF: R0 = 31.6 Ω, well above the LISNs' 9.1 Ω at low frequency, so the
+  // resonance, not the LISNs' resistance, sets the peak.
+  constexpr double section_l_h = 2e-3, section_c_f = 1e-6, c_in_f = 1e-6, r_l_ohm = 0.05;
+  CouplingSpec coupling;
+  coupling.input_capacitance_f = c_in_f;
+  coupling.input_esr_ohm = 0.0;
+  coupling.input_esl_h = 0.0;
+  coupling.parasitic_capacitance_f = 0.0;
+  FilterStage lc;
+  lc.kind = FilterKind::lc;
+  lc.lines = FilterLines::positive;
+  lc.inductance_h = section_l_h;
+  lc.inductor_resistance_ohm = r_l_ohm;
+  lc.converter_side_capacitance_f = section_c_f;
+  const ConductedModel model(coupling, {lc}, LisnSpec{});
+  auto closed_form = [&](double f) {
+    using cd = std::complex<double>;
+    const double w = 2.0 * std::numbers::pi * f;
+    const cd lisn = 1.0 / (1.0 / 50.0 + 1.0 / cd(5.0, w * 50e-6));
+    const cd series = cd(r_l_ohm, w * section_l_h) + 2.0 * lisn;
+    return std::abs(1.0 / (cd(0.0, w * (section_c_f + c_in_f)) + 1.0 / series));
+  };
+  for (const double f : {10.0, 1e3, 2.5e3, 100e3, 1e6, 10e6}) {
+    CHECK(converter_side_impedance_ohm(model, {f})[0] ==
+          doctest::Approx(closed_form(f)).epsilon(impedance_relative_tolerance));
+  }
+  double peak = 0.0, peak_f = 0.0;
+  for (int i = 0; i <= 80000; ++i) {
+    const double f = std::pow(10.0, i / 10000.0);  // 1 Hz – 100 MHz
+    if (closed_form(f) > peak) peak = closed_form(f), peak_f = f;
+  }
+  const NetworkImpedancePeak found = peak_converter_side_impedance(model);
+  CHECK(found.impedance_ohm == doctest::Approx(peak).epsilon(impedance_relative_tolerance));
+  CHECK(found.frequency_hz == doctest::Approx(peak_f).epsilon(0.01));
+  // The resonance of L with C + C_in, damped by the LISNs: near 1/(2π√(L(C + C_in))) = 2.52 kHz.
+  CHECK(found.frequency_hz ==
+        doctest::Approx(1.0 / (2.0 * std::numbers::pi * std::sqrt(section_l_h * (section_c_f + c_in_f))))
+            .epsilon(0.05));
+  // Middlebrook margin against 24 V, 50 W: |Z_in| = 11.52 Ω.
+  ConverterPowerSpec converter;
+  converter.min_input_voltage_v = 24.0;
+  converter.output_power_w = 50.0;
+  const double margin_db =
+      20.0 * std::log10(negative_input_resistance_ohm(converter) / found.impedance_ohm);
+  CHECK(margin_db == doctest::Approx(20.0 * std::log10(11.52 / peak)).epsilon(1e-3));
 }
