@@ -1,5 +1,5 @@
-// spurcast design-filter SCENARIO.toml -o NEW.toml [--json]: proposes input-filter stages that meet
-// the scenario's limits with the guard band, and writes the scenario with them.
+// spurcast design-filter SCENARIO.toml -o NEW.toml [--json] [--report DIR]: proposes input-filter
+// stages that meet the scenario's limits with the guard band, and writes the scenario with them.
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -14,6 +14,7 @@
 #include "core/input/toml_reader.hpp"
 #include "core/output/filter_design_output.hpp"
 #include "core/output/output_dir.hpp"
+#include "core/output/report.hpp"
 
 namespace spurcast::cli {
 
@@ -23,6 +24,7 @@ struct Options {
   std::string scenario_file;
   std::string output;
   bool json = false;
+  std::string report;  ///< report folder of NEW.toml with the before readings ("" = none)
 };
 
 int run_design_filter_command(const Options& options) {
@@ -41,6 +43,8 @@ int run_design_filter_command(const Options& options) {
                         ": spurcast design-filter did not write it");
     }
   }
+  // Refuse a report folder that is not ours before the long part.
+  if (!options.report.empty()) check_output_folder(options.report);
   const toml::table table = parse_toml_file(options.scenario_file, "scenario file");
   const fs::path folder = fs::path(options.scenario_file).parent_path();
   FilterDesign design;
@@ -51,8 +55,16 @@ int run_design_filter_command(const Options& options) {
                            locate_shipped_data());
   }
   write_file_atomically(options.output, design.scenario_toml);
+  if (!options.report.empty()) {
+    write_output_directory(options.report,
+                           report_files(*design.after_prediction, &*design.before_prediction));
+  }
   std::cout << (options.json ? filter_design_json(design, options.output)
                              : filter_design_text(design, options.output));
+  if (!options.report.empty() && !options.json) {
+    std::cout << "wrote the report of " << options.output << " with the readings before in "
+              << options.report << "/report.html\n";
+  }
   return design.met ? exit_ok : exit_limit_exceeded;
 }
 
@@ -70,6 +82,10 @@ void setup_design_filter(CLI::App& app, CommandList& commands) {
                   "the new scenario file (replaced only if design-filter wrote it)")
       ->required();
   sub->add_flag("--json", options->json, "print JSON instead of text");
+  sub->add_option("--report", options->report,
+                  "also write the report folder of the new scenario, with the readings before the "
+                  "filter on its plots and a before/after margin table (replaced only if spurcast "
+                  "wrote it)");
   sub->footer(
       "exit codes: 0 the limits are met with the guard, 1 no filter within the constraints meets "
       "them "

@@ -610,6 +610,8 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
     met = false;
   }
   design.met = met;
+  design.before_prediction = before;
+  design.after_prediction = after;
   design.verdict_after = after.verdict;
   design.after = after.margins.worst_per_detector;
 

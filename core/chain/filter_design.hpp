@@ -131,7 +131,7 @@ struct StabilityCheck {
   double input_resistance_ohm = 0.0;  ///< |Z_in| = V_in,min²/P_out
   double peak_output_impedance_ohm = 0.0;
   double peak_frequency_hz = 0.0;  ///< where |Z_o| peaks (the worst frequency)
-  double margin_db = 0.0;  ///< 20·log10(|Z_in| / peak)
+  double margin_db = 0.0;          ///< 20·log10(|Z_in| / peak)
   double required_margin_db = 0.0;
   bool damped = false;  ///< an R–C_b branch was added
 };
@@ -168,6 +168,10 @@ struct FilterDesign {
   double cm_shortfall_top_hz = 0.0;
   std::vector<std::string> notes;
   std::string scenario_toml;  ///< NEW.toml: the scenario with the proposed stages
+  /// The full predictions of the scenario as given and of NEW.toml (for the before/after report,
+  /// core/output/report.hpp report_files(after, &before)).
+  std::optional<Prediction> before_prediction;
+  std::optional<Prediction> after_prediction;
 };
 
 /// Plans the filter for the scenario `table` (read as scenario_from_table would). Throws Error

@@ -48,6 +48,24 @@ std::string detector_colour(Detector detector) {
   }
   return peak_colour;
 }
+/// The "before" readings (design-filter --report): lighter tints of the detector colours, our own.
+std::string before_colour(Detector detector) {
+  switch (detector) {
+    case Detector::peak: return "#9fb7c9";
+    case Detector::quasi_peak: return "#c9a98f";
+    case Detector::average: return "#a9c4a0";
+  }
+  return "#9fb7c9";
+}
+
+/// The scan of `band` in `before`, or null.
+const BandScan* before_scan(const Prediction& before, CisprBand band) {
+  for (const BandScan& scan : before.scans) {
+    if (scan.band == band) return &scan;
+  }
+  return nullptr;
+}
+
 std::string detector_dash(Detector detector) {
   switch (detector) {
     case Detector::peak: return "2 3";
@@ -616,7 +634,7 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
 // ---------------------------------------------------------------------------------------------
 // Plots.
 
-SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
+SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const BandScan* before) {
   const BandParameters band = band_parameters(scan.band);
   SpectrumPlot plot;
   plot.title = "Receiver readings at the LISN, CISPR band " + to_string(scan.band) + " (worst of the lines)";
@@ -633,6 +651,21 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan) {
     // Drawn widest first: where the detectors agree (a steady line) all three stay visible.
     trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
     plot.traces.push_back(std::move(trace));
+  }
+  if (before) {
+    // The readings before the change: light, dashed, under the same detector names.
+    std::vector<double> bf;
+    for (const Reading& r : before->worst.readings) bf.push_back(r.frequency_hz);
+    for (Detector d : p.scenario.receiver.detectors) {
+      PlotTrace trace;
+      trace.label = "before: " + to_string(d);
+      trace.frequency_hz = bf;
+      for (const Reading& r : before->worst.readings) trace.level.push_back(r.level_db(d));
+      trace.colour = before_colour(d);
+      trace.dash = "5 3";
+      trace.width_px = 1.1;
+      plot.traces.push_back(std::move(trace));
+    }
   }
   if (scan.worst.noise_floor_db) {
     // The receiver's noise floor: a detector trace lying on this line read only the floor there.
@@ -847,7 +880,7 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
 
 }  // namespace
 
-std::string report_html(const Prediction& p, const std::vector<std::string>& files) {
+std::string report_html(const Prediction& p, const std::vector<std::string>& files, const Prediction* before) {
   const Scenario& s = p.scenario;
   std::string verdict = to_string(p.verdict);
   std::replace(verdict.begin(), verdict.end(), ' ', '-');  // a CSS class ("no-limits")
@@ -884,10 +917,14 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   out += "<section id=\"plots\">\n<h2>Plots</h2>\n";
   int figure = 1;
   for (const BandScan& scan : p.scans) {
-    out += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan)) + "<figcaption>Figure " + std::to_string(figure++) +
+    const BandScan* earlier = before ? before_scan(*before, scan.band) : nullptr;
+    out += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan, earlier)) + "<figcaption>Figure " +
+           std::to_string(figure++) +
            ". Peak, quasi-peak and average readings of a CISPR 16-1-1 receiver at the LISN port (the higher of the "
            "lines at each frequency) against the limit lines; broadcast bands shaded; the worst readings marked with "
-           "their margin to the line of their detector.</figcaption>\n</figure>\n";
+           "their margin to the line of their detector" +
+           (earlier ? std::string("; dashed and light: the readings before the change") : std::string()) +
+           ".</figcaption>\n</figure>\n";
   }
   out += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
          ". Harmonic lines of the source (RMS)" +
@@ -912,6 +949,25 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
            " were not compared (no line for their detector, or outside the lines' frequencies)";
   }
   out += ".</p>\n";
+  if (before) {
+    // Worst margin per limit-line detector, before and after the change (same lines, same guard).
+    out += "<h3 id=\"before-after\">Before and after</h3>\n<table>\n<tr><th>line detector</th><th>before</th>"
+           "<th>at</th><th>after</th><th>at</th><th>change</th></tr>\n";
+    for (const DetectorMargin& a : p.margins.worst_per_detector) {
+      const DetectorMargin* b = nullptr;
+      for (const DetectorMargin& d : before->margins.worst_per_detector) {
+        if (d.detector == a.detector) b = &d;
+      }
+      out += "<tr><td>" + html(to_string(a.detector)) + "</td><td class=\"num\">" +
+             (b ? html(signed_db(b->worst.margin_db, 2)) : std::string("not computed")) + "</td><td class=\"num\">" +
+             (b ? html(frequency_quantity(b->worst.frequency_hz)) : std::string()) + "</td><td class=\"num\">" +
+             html(signed_db(a.worst.margin_db, 2)) + "</td><td class=\"num\">" +
+             html(frequency_quantity(a.worst.frequency_hz)) + "</td><td class=\"num\">" +
+             (b ? html(signed_db(a.worst.margin_db - b->worst.margin_db, 2)) : std::string()) + "</td></tr>\n";
+    }
+    out += "</table>\n<p>Before: " + html(verdict_word(before->verdict)) + "; after: " + html(verdict_word(p.verdict)) +
+           ".</p>\n";
+  }
   if (!p.margins.worst_per_detector.empty()) {
     out += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
            "<th>at</th><th>reading</th><th>line</th><th>comparisons</th></tr>\n";
@@ -1070,7 +1126,7 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   return out;
 }
 
-std::vector<OutputFile> report_files(const Prediction& p) {
+std::vector<OutputFile> report_files(const Prediction& p, const Prediction* before) {
   std::vector<OutputFile> files;
   files.push_back({"spectrum.csv", lisn_spectrum_csv(p)});
   files.push_back({"source_spectrum.csv", source_spectrum_csv(p)});
@@ -1082,14 +1138,15 @@ std::vector<OutputFile> report_files(const Prediction& p) {
   files.push_back({"bands.csv", bands_csv(p.reception)});
   files.push_back({"channels.csv", channels_csv(p.reception)});
   for (const BandScan& scan : p.scans) {
-    files.push_back({"scan-" + to_string(scan.band) + ".svg", spectrum_plot_svg(readings_plot(p, scan))});
+    files.push_back({"scan-" + to_string(scan.band) + ".svg",
+                     spectrum_plot_svg(readings_plot(p, scan, before ? before_scan(*before, scan.band) : nullptr))});
   }
   files.push_back({"source.svg", spectrum_plot_svg(source_plot(p))});
   std::vector<std::string> names;
   for (const OutputFile& f : files) names.push_back(f.name);
   names.push_back("report.html");
   names.push_back("summary.json");
-  files.push_back({"report.html", report_html(p, names)});
+  files.push_back({"report.html", report_html(p, names, before)});
   files.push_back({"summary.json", summary_json(p, names)});
   return files;
 }

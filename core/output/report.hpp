@@ -77,18 +77,26 @@ struct ScenarioInput {
 
 /// The receiver plot of one band: peak / quasi-peak / average against the limit lines, broadcast
 /// bands shaded, the three worst readings of the band marked with their margin.
-[[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan);
+/// With `before` (the same band read for the scenario before a change, design-filter --report),
+/// its readings are drawn too, light and dashed, labelled "before".
+[[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan,
+                                         const BandScan* before = nullptr);
 /// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with the plain
 /// trapezoid's envelope for a described source, and the harmonics above it (ringing) marked.
 [[nodiscard]] SpectrumPlot source_plot(const Prediction& prediction);
 
 /// The report page. `files` are the names written beside it (listed at the end).
-[[nodiscard]] std::string report_html(const Prediction& prediction, const std::vector<std::string>& files);
+/// With `before` (the prediction of the scenario before a change, e.g. the filter design-filter
+/// proposed), the plots carry its readings too and the margins section opens with a before/after
+/// table of the worst margin per limit-line detector (id "before-after").
+[[nodiscard]] std::string report_html(const Prediction& prediction, const std::vector<std::string>& files,
+                                      const Prediction* before = nullptr);
 
 /// The titles of the report's sections, in order (each is an <h2> with an id; tests check them).
 [[nodiscard]] const std::vector<std::string>& report_section_ids();
 
-/// Every file of the report folder, summary.json last.
-[[nodiscard]] std::vector<OutputFile> report_files(const Prediction& prediction);
+/// Every file of the report folder, summary.json last; `before` as for report_html (the SVG files
+/// carry its readings too).
+[[nodiscard]] std::vector<OutputFile> report_files(const Prediction& prediction, const Prediction* before = nullptr);
 
 }  // namespace spurcast

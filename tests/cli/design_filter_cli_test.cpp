@@ -4,6 +4,7 @@
 // max_y_capacitance_f, stability.margin_db.
 #include <doctest/doctest.h>
 
+#include <cstdlib>
 #include <nlohmann/json.hpp>
 #include <string>
 
@@ -70,4 +71,50 @@ TEST_CASE("design-filter on a scenario without limits: one line, exit 2, nothing
         "spurcast: error: s.toml: design-filter needs limit lines to design against: give [limits] "
         "files\n");
   CHECK_FALSE(fs::exists(dir / "new.toml"));
+}
+
+TEST_CASE("design-filter --report writes the new scenario's report with the readings before") {
+  // External check: the page parsed by Debian's Python html.parser and every inline SVG by
+  // xml.etree (tests/data/report/check_report.py).
+  const fs::path dir = fresh_directory("spurcast-design-filter-", "report");
+  write_text(dir / "buck.toml",
+             read_text(fs::path(SPURCAST_SOURCE_DIR) / "examples/greenhouse-buck.toml"));
+  const RunResult r =
+      run_cli(dir, {"design-filter", "buck.toml", "-o", "new.toml", "--report", "rep"}, dir);
+  CHECK(r.exit_code == 0);
+  CHECK(r.out.find("wrote the report of new.toml with the readings before in rep/report.html") !=
+        std::string::npos);
+  const std::string html = read_text(dir / "rep" / "report.html");
+  // The before/after margin table: the example fails its average line by 7.16 dB before.
+  CHECK(html.find("<h3 id=\"before-after\">Before and after</h3>") != std::string::npos);
+  CHECK(html.find("<td class=\"num\">\xE2\x88\x92"
+                  "7.16 dB</td>") != std::string::npos);
+  CHECK(html.find("<p>Before: FAIL; after: PASS.</p>") != std::string::npos);
+  // The before traces on the plot, in the page and in the SVG file.
+  CHECK(html.find("before: average") != std::string::npos);
+  CHECK(read_text(dir / "rep" / "scan-B.svg").find("before: quasi-peak") != std::string::npos);
+  const std::string check =
+      "/usr/bin/python3 " +
+      shell_quote(std::string(SPURCAST_SOURCE_DIR) + "/tests/data/report/check_report.py") +
+      " html " + shell_quote((dir / "rep" / "report.html").string()) + " >/dev/null";
+  CHECK(std::system(check.c_str()) == 0);
+  // The report of NEW.toml is what predict makes of it: the same worst margins.
+  const RunResult p = run_cli(dir, {"predict", "new.toml", "-o", "plain", "--json"}, dir);
+  CHECK(p.exit_code == 0);
+  const auto summary = nlohmann::json::parse(p.out);
+  const auto reported = nlohmann::json::parse(read_text(dir / "rep" / "summary.json"));
+  CHECK(summary["worst_margin_db"] == reported["worst_margin_db"]);
+}
+
+TEST_CASE("design-filter --report never replaces a folder it did not write") {
+  const fs::path dir = fresh_directory("spurcast-design-filter-", "report-foreign");
+  write_text(dir / "buck.toml",
+             read_text(fs::path(SPURCAST_SOURCE_DIR) / "examples/greenhouse-buck.toml"));
+  fs::create_directories(dir / "mine");
+  write_text(dir / "mine" / "notes.txt", "my notes\n");
+  const RunResult r =
+      run_cli(dir, {"design-filter", "buck.toml", "-o", "new.toml", "--report", "mine"}, dir);
+  CHECK(r.exit_code == 3);
+  CHECK(read_text(dir / "mine" / "notes.txt") == "my notes\n");
+  CHECK(!fs::exists(dir / "new.toml"));
 }
