@@ -222,6 +222,8 @@ void whole_network_check(const Scenario& scenario, StabilityCheck& check) {
   check.input_resistance_ohm = negative_input_resistance_ohm(scenario.converter_power);
   check.peak_output_impedance_ohm = peak.impedance_ohm;
   check.peak_frequency_hz = peak.frequency_hz;
+  // Within one grid step (1/200 decade) of the lowest frequency searched.
+  check.resistive_floor = peak.frequency_hz <= peak.from_hz * std::pow(10.0, 1.0 / 200.0);
   check.margin_db = 20.0 * std::log10(check.input_resistance_ohm / peak.impedance_ohm);
   check.note = "the whole input network as the converter sees it (the LISN, " +
                std::to_string(scenario.filters.size()) +
@@ -560,7 +562,8 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
   if (base.converter_power.given) {
     whole_network_check(scenario_from_table(proposed, file, directory, data), design.stability);
     bool damping_changed = false;
-    while (plan.dm && design.stability.margin_db < design.stability.required_margin_db) {
+    while (plan.dm && !design.stability.resistive_floor &&
+           design.stability.margin_db < design.stability.required_margin_db) {
       const double c_in = base.coupling.input_capacitance_f;
       const double cb = plan.damping_c_f > 0.0 ? e6_next(plan.damping_c_f) : e6_at_or_above(c_in);
       if (cb > damping_capacitor_max_f * (1.0 + relative_tolerance)) break;
@@ -601,12 +604,17 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
         format_quantity(design.stability.input_resistance_ohm, Dimension::resistance) + ")";
     design.binding +=
         std::string(design.binding.empty() ? "" : "; ") +
-        (plan.dm ? "stability: the damping capacitor is at the largest considered (" +
-                       format_quantity(damping_capacitor_max_f, Dimension::capacitance) +
-                       "): Middlebrook margin " + buffer + where
-                 : std::string("stability: no differential-mode section to damp was proposed: "
-                               "Middlebrook margin ") +
-                       buffer + where);
+        (design.stability.resistive_floor
+             ? std::string("stability: the input network's resistance at low frequency (the "
+                           "LISNs' and the series parts'), which no damping lowers, is too high "
+                           "for this converter's power: Middlebrook margin ") +
+                   buffer + where
+         : plan.dm ? "stability: the damping capacitor is at the largest considered (" +
+                         format_quantity(damping_capacitor_max_f, Dimension::capacitance) +
+                         "): Middlebrook margin " + buffer + where
+                   : std::string("stability: no differential-mode section to damp was proposed: "
+                                 "Middlebrook margin ") +
+                         buffer + where);
     met = false;
   }
   design.met = met;

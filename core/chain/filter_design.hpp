@@ -131,7 +131,10 @@ struct StabilityCheck {
   double input_resistance_ohm = 0.0;  ///< |Z_in| = V_in,min²/P_out
   double peak_output_impedance_ohm = 0.0;
   double peak_frequency_hz = 0.0;  ///< where |Z_o| peaks (the worst frequency)
-  double margin_db = 0.0;          ///< 20·log10(|Z_in| / peak)
+  /// The peak lies at the lowest frequency searched: it is the network's resistance there (the
+  /// LISNs' and the series parts'), which no damping lowers.
+  bool resistive_floor = false;
+  double margin_db = 0.0;  ///< 20·log10(|Z_in| / peak)
   double required_margin_db = 0.0;
   bool damped = false;  ///< an R–C_b branch was added
 };

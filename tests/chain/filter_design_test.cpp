@@ -184,3 +184,23 @@ TEST_CASE("a scenario without limit lines is refused") {
       "nolimits.toml: design-filter needs limit lines to design against: give [limits] files",
       Error);
 }
+
+TEST_CASE("Middlebrook on the whole network: the LISNs' resistance is a floor no damping lowers") {
+  // 36 V and 200 W: |Z_in| = 36²/200 = 6.48 Ω, under the two V-networks' low-frequency resistance
+  // in series, 2·(50 Ω ∥ 5 Ω) = 9.09 Ω (docs/references.md §2.1): the criterion cannot be met.
+  toml::table table = greenhouse_with("0.5 mA", "");
+  table.insert_or_assign("converter",
+                         toml::table{{"min_input_voltage", "36 V"}, {"output_power", "200 W"}});
+  const FilterDesign d = plan_greenhouse(table);
+  REQUIRE(d.stability.computed);
+  CHECK(d.stability.input_resistance_ohm == doctest::Approx(6.48).epsilon(1e-12));
+  CHECK(d.stability.resistive_floor);
+  CHECK(d.stability.peak_output_impedance_ohm >= 2.0 * (50.0 * 5.0 / 55.0));
+  CHECK(d.stability.margin_db ==
+        doctest::Approx(20.0 * std::log10(6.48 / d.stability.peak_output_impedance_ohm))
+            .epsilon(1e-9));
+  CHECK_FALSE(d.met);
+  CHECK(d.binding.find("stability: the input network's resistance at low frequency (the LISNs' "
+                       "and the series parts'), which no damping lowers, is too high for this "
+                       "converter's power: Middlebrook margin ") == 0);
+}
