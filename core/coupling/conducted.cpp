@@ -54,9 +54,9 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
   const NodeId line1 = net.node("line1");
   const NodeId line2 = net.node("line2");
   const NodeId terminal1 = net.node("lisn1");
-  const LisnNodes lisn1 = add_lisn(net, terminal1, lisn.model, lisn.circuit, "lisn1");
+  const LisnNodes lisn1 = add_lisn(net, terminal1, lisn, "lisn1");
   LisnNodes lisn2;
-  if (lisn.lines == 2) lisn2 = add_lisn(net, net.node("lisn2"), lisn.model, lisn.circuit, "lisn2");
+  if (lisn.lines == 2) lisn2 = add_lisn(net, net.node("lisn2"), lisn, "lisn2");
 
   LinePair side{line1, line2};
   for (std::size_t i = 0; i < filters.size(); ++i) {
@@ -128,8 +128,9 @@ ConductedModel::ConductedModel(const CouplingSpec& coupling, const std::vector<F
 std::string ConductedModel::setup_description() const {
   const bool cispr25 = lisn_.model == LisnModel::v_network_5uh;
   const std::string network = cispr25 ? "CISPR 25 artificial network" : "CISPR 16-1-2 V-network";
-  const std::string impedance = cispr25 ? "50 \xCE\xA9 \xE2\x88\xA5 (5 \xC2\xB5H + 1 \xCE\xA9)"
-                                        : "50 \xCE\xA9 \xE2\x88\xA5 (50 \xC2\xB5H + 5 \xCE\xA9)";
+  const std::string impedance = lisn_.measured ? "impedance measured in " + lisn_.file
+                                : cispr25       ? "50 \xCE\xA9 \xE2\x88\xA5 (5 \xC2\xB5H + 1 \xCE\xA9)"
+                                                : "50 \xCE\xA9 \xE2\x88\xA5 (50 \xC2\xB5H + 5 \xCE\xA9)";
   std::string text;
   if (lisn_.lines == 2) {
     text = "two " + network + "s, " + impedance + " (one per supply line, to the reference ground); the differential-mode "
@@ -141,7 +142,10 @@ std::string ConductedModel::setup_description() const {
            "than with one network per line), and common-mode current returning through the bond is not "
            "measured";
   }
-  if (lisn_.circuit == LisnCircuit::ideal) {
+  if (lisn_.measured) {
+    text += "; measured networks: the receiver port is the equipment terminal, the impedance interpolated "
+            "between the file's points and never extrapolated beyond them";
+  } else if (lisn_.circuit == LisnCircuit::ideal) {
     text += "; ideal networks: the receiver port is the equipment terminal, as read after the "
             "voltage-division-factor correction";
   } else {

@@ -44,25 +44,6 @@ double optional_positive(TableReader& reader, std::string_view key, Dimension di
   return positive(reader, key, dimension);
 }
 
-/// The Touchstone file named by `key`, relative to the scenario file's folder, with `ports` ports.
-std::shared_ptr<const TouchstoneData> read_touchstone(TableReader& reader, std::string_view key, int ports,
-                                                     std::string& file) {
-  file = reader.required_string(key);
-  std::filesystem::path path(file);
-  if (path.is_relative()) path = std::filesystem::path(reader.file()).parent_path() / path;
-  int found = 0;
-  try {
-    found = touchstone_ports(path.string());
-  } catch (const Error& error) {
-    reader.fail(key, error.message());
-  }
-  if (found != ports) {
-    reader.fail(key, std::string("expected a ") + (ports == 1 ? ".s1p (one-port)" : ".s2p (two-port)") +
-                         " file, found '" + file + "'");
-  }
-  return load_touchstone(path.string());
-}
-
 /// A parasitic ≥ 0 with a default (recorded in `defaulted` when used).
 double parasitic(TableReader& reader, std::string_view key, Dimension dimension, double fallback,
                  std::vector<std::string>& defaulted) {
@@ -144,7 +125,7 @@ NetlistElement read_netlist_element(const toml::table& table, const std::string&
       element.value = positive(reader, "value", Dimension::capacitance);
       read_capacitor_parasitics(reader, "esr", "esl", element.esr_ohm, element.esl_h, element.defaulted);
       break;
-    case 'T': element.touchstone = read_touchstone(reader, "file", 1, element.file); break;
+    case 'T': element.touchstone = read_touchstone_file(reader, "file", 1, element.file); break;
     default:
       element.from_2 = node_name("from_2");
       element.to_2 = node_name("to_2");
@@ -258,7 +239,7 @@ FilterStage read_filter_stage(TableReader& reader) {
   } else if (kind == "touchstone") {
     stage.kind = FilterKind::touchstone;
     reader.finish({"kind", "file"});
-    stage.touchstone = read_touchstone(reader, "file", 2, stage.file);
+    stage.touchstone = read_touchstone_file(reader, "file", 2, stage.file);
   } else if (kind == "spice") {
     stage.kind = FilterKind::spice;
     reader.finish({"kind", "file", "subckt"});

@@ -20,7 +20,11 @@ LisnSpec read_lisn_section(TableReader& reader) {
   if (auto circuit = reader.optional_choice("circuit", {"ideal", "practical"})) {
     spec.circuit = *circuit == "ideal" ? LisnCircuit::ideal : LisnCircuit::practical;
   }
-  reader.finish({"model", "lines", "circuit"});
+  if (reader.has("file")) {
+    if (reader.has("circuit")) reader.fail("circuit", "'circuit' does not apply to a measured network (file)");
+    spec.measured = read_touchstone_file(reader, "file", 1, spec.file);
+  }
+  reader.finish({"model", "lines", "circuit", "file"});
   return spec;
 }
 
@@ -83,6 +87,21 @@ LisnNodes add_lisn(Network& network, NodeId terminal, LisnModel model, LisnCircu
   nodes.port = port;
   nodes.receiver = network.add_resistor(port, Network::ground, parts.receiver_resistance_ohm, prefix + ".receiver");
   return nodes;
+}
+
+LisnNodes add_measured_lisn(Network& network, NodeId terminal, std::shared_ptr<const TouchstoneData> measured,
+                            const std::string& prefix) {
+  LisnNodes nodes;
+  nodes.terminal = terminal;
+  nodes.port = terminal;
+  nodes.receiver = -1;
+  network.add_tabulated(terminal, Network::ground, std::move(measured), prefix + ".measured");
+  return nodes;
+}
+
+LisnNodes add_lisn(Network& network, NodeId terminal, const LisnSpec& spec, const std::string& prefix) {
+  if (spec.measured) return add_measured_lisn(network, terminal, spec.measured, prefix);
+  return add_lisn(network, terminal, spec.model, spec.circuit, prefix);
 }
 
 std::complex<double> lisn_nominal_impedance(LisnModel model, double frequency_hz) {

@@ -13,10 +13,18 @@
 ///    damping resistor, the coupling capacitor into the 50 Ω receiver
 ///    and the 1 kΩ discharge resistor across the receiver port; the port then reads less than the
 ///    terminal at the low end (the voltage division factor).
+///
+/// A measured network: `[lisn] file = "lisn.s1p"` gives each line's impedance, EUT terminal to the
+/// reference ground, from a Touchstone one-port (the impedance a lab measures at the EUT terminal
+/// with the receiver port terminated in 50 Ω). It replaces the model's circuit: the port reads the
+/// terminal voltage, as with the ideal circuit. Frequencies outside the file's range are an error
+/// naming the file and its range, never an extrapolation.
+#include <memory>
 #include <string>
 #include <vector>
 
 #include "core/coupling/network.hpp"
+#include "core/coupling/touchstone.hpp"
 #include "core/input/toml_reader.hpp"
 
 namespace spurcast {
@@ -38,10 +46,17 @@ struct LisnSpec {
   /// the return bonded to the reference ground at the equipment.
   int lines = 2;
   LisnCircuit circuit = LisnCircuit::ideal;
+  /// `file` as given in the scenario ("" when the model's circuit is used).
+  std::string file;
+  /// The measured one-port impedance of each network (nullptr: the model's circuit).
+  std::shared_ptr<const TouchstoneData> measured;
 };
 
 /// Reads [lisn]: model = "v-network-50uH" | "v-network-5uH" (default the first), lines = 1 | 2
-/// (default 2), circuit = "ideal" | "practical" (default "ideal"). Rejects unknown keys.
+/// (default 2), circuit = "ideal" | "practical" (default "ideal"), file = a Touchstone .s1p, relative
+/// to the scenario file's folder (the measured impedance of each network; `circuit` is then refused,
+/// "'circuit' does not apply to a measured network (file)"; `model` still names the standard the
+/// network is built to). Rejects unknown keys.
 [[nodiscard]] LisnSpec read_lisn_section(TableReader& reader);
 
 /// "v-network-50uH" / "v-network-5uH".
@@ -71,6 +86,15 @@ struct LisnNodes {
 /// ".port" (practical) so several networks can share a Network.
 LisnNodes add_lisn(Network& network, NodeId terminal, LisnModel model, LisnCircuit circuit,
                    const std::string& prefix);
+
+/// Adds one measured network from `terminal` to the ground: the Touchstone one-port `measured`,
+/// named `prefix` + ".measured"; the port is the terminal (as for the ideal circuit) and there is no
+/// separate receiver element (LisnNodes::receiver is −1).
+LisnNodes add_measured_lisn(Network& network, NodeId terminal, std::shared_ptr<const TouchstoneData> measured,
+                            const std::string& prefix);
+
+/// Adds the network `spec` describes (measured when spec.measured is set, else add_lisn).
+LisnNodes add_lisn(Network& network, NodeId terminal, const LisnSpec& spec, const std::string& prefix);
 
 /// The impedance the standard defines for `model`, closed form: Z = R_rx ∥ (R_d + jωL)
 /// (docs/references.md §2.2 [D]). For the tests' cross-check of the MNA sub-circuit.

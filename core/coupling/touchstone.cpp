@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <filesystem>
 #include <fstream>
 #include <sstream>
 
@@ -253,6 +254,24 @@ std::shared_ptr<const TouchstoneData> load_touchstone(const std::string& path) {
   const int ports = touchstone_ports(path);
   // A regular file of bounded size only, as for every loader (core/input/input_file.hpp).
   return parse_touchstone(read_input_file(path, "Touchstone file", max_csv_file_bytes), path, ports);
+}
+
+std::shared_ptr<const TouchstoneData> read_touchstone_file(TableReader& reader, std::string_view key, int ports,
+                                                           std::string& file) {
+  file = reader.required_string(key);
+  std::filesystem::path path(file);
+  if (path.is_relative()) path = std::filesystem::path(reader.file()).parent_path() / path;
+  int found = 0;
+  try {
+    found = touchstone_ports(path.string());
+  } catch (const Error& error) {
+    reader.fail(key, error.message());
+  }
+  if (found != ports) {
+    reader.fail(key, std::string("expected a ") + (ports == 1 ? ".s1p (one-port)" : ".s2p (two-port)") +
+                         " file, found '" + file + "'");
+  }
+  return load_touchstone(path.string());
 }
 
 }  // namespace spurcast

@@ -27,6 +27,7 @@
 #include <vector>
 
 #include "core/coupling/network.hpp"
+#include "core/input/toml_reader.hpp"
 
 namespace spurcast {
 
@@ -66,5 +67,11 @@ class TouchstoneData final : public TabulatedAdmittance {
 
 /// Reads and parses a Touchstone file (ports from its extension). Error "path: cannot open file".
 [[nodiscard]] std::shared_ptr<const TouchstoneData> load_touchstone(const std::string& path);
+
+/// Reads the Touchstone file named by the scenario key `key` (a path relative to the scenario
+/// file's folder, or absolute) and checks that it has `ports` ports; `file` receives the name as
+/// given. Error at the key "expected a .s1p (one-port) file, found 'x.s2p'" for the wrong kind.
+[[nodiscard]] std::shared_ptr<const TouchstoneData> read_touchstone_file(TableReader& reader, std::string_view key,
+                                                                         int ports, std::string& file);
 
 }  // namespace spurcast

@@ -591,7 +591,11 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   }
   add("lisn", "model", lisn_model_name(s.lisn.model));
   add("lisn", "lines", std::to_string(s.lisn.lines));
-  add("lisn", "circuit", lisn_circuit_name(s.lisn.circuit));
+  if (s.lisn.measured) {
+    add("lisn", "measured impedance", s.lisn.file);
+  } else {
+    add("lisn", "circuit", lisn_circuit_name(s.lisn.circuit));
+  }
   std::vector<std::string> bands, detectors;
   for (CisprBand b : s.receiver.bands) bands.push_back(to_string(b));
   for (Detector d : s.receiver.detectors) detectors.push_back(to_string(d));
@@ -1092,12 +1096,18 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          "<li>Only the parts listed are modelled: the input capacitor with its ESR and ESL, the filter stages, one "
          "switch-node capacitance to ground for the common-mode path. Layout coupling, heatsink and cable resonances "
          "are not.</li>\n";
-  out += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
-         " circuit of " + html(lisn_model_name(s.lisn.model)) +
-         (s.lisn.circuit == LisnCircuit::ideal
-              ? " (the defined impedance, port = terminal; a lab reports levels after its voltage-division correction)"
-              : " (part values from memory)") +
-         ".</li>\n";
+  if (s.lisn.measured) {
+    out += "<li>LISN: the impedance measured in " + html(s.lisn.file) + " for each network (" +
+           html(lisn_model_name(s.lisn.model)) +
+           "), port = terminal; interpolated between the file's points, never extrapolated.</li>\n";
+  } else {
+    out += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
+           " circuit of " + html(lisn_model_name(s.lisn.model)) +
+           (s.lisn.circuit == LisnCircuit::ideal
+                ? " (the defined impedance, port = terminal; a lab reports levels after its voltage-division correction)"
+                : " (part values from memory)") +
+           ".</li>\n";
+  }
   out += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
          "mask is met only approximately. Detectors are calibrated so a sine reads its RMS value.</li>\n"
          "<li>Broadcast-band fields use the exact near- and far-field expressions of short dipoles and small loops "

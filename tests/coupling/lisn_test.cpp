@@ -4,13 +4,19 @@
 //  - C. R. Paul, Introduction to Electromagnetic Compatibility, 2nd ed., Wiley 2006, Problem 6.1.1
 //    (via docs/references.md §2.1): his LISN (50 µH, 0.1 µF coupling, 50 Ω ∥ 1 kΩ port) has an input
 //    impedance of 38.31 Ω at 150 kHz and 47.62 Ω at 30 MHz;
-//  - the CISPR 16-1-2 impedance tolerance ±20 % / ±11.5°, from memory (docs/references.md §2.2 [M]).
+//  - the CISPR 16-1-2 impedance tolerance ±20 % / ±11.5°, from memory (docs/references.md §2.2 [M]);
+//  - a measured network: a Touchstone one-port written by numpy from 50 Ω ∥ (50 µH + 5 Ω) gives the
+//    LISN spectrum of the built-in model.
 #include <doctest/doctest.h>
 
 #include <cmath>
 #include <complex>
+#include <cstdlib>
+#include <filesystem>
+#include <fstream>
 
 #include "core/input/error.hpp"
+#include "core/coupling/conducted.hpp"
 #include "core/coupling/lisn.hpp"
 #include "core/coupling/network.hpp"
 #include "core/input/toml_reader.hpp"
@@ -195,4 +201,86 @@ TEST_CASE("[lisn] reader: keys, defaults and exact error text") {
                          "you mean 'v-network-50uH'?",
                          Error);
   }
+}
+
+namespace {
+
+LisnSpec read_lisn_at(const std::string& text, const std::string& file) {
+  const auto table = parse_toml_text(text, file);
+  TableReader reader(table, file, "lisn");
+  return read_lisn_section(reader);
+}
+
+}  // namespace
+
+TEST_CASE("a measured network from an .s1p written by numpy gives the built-in 50 µH network's spectrum") {
+  const char* python = std::filesystem::exists("/usr/bin/python3") ? "/usr/bin/python3" : "python3";
+  if (std::system((std::string(python) + " -c \"import numpy\" > /dev/null 2>&1").c_str()) != 0) {
+    MESSAGE("SKIPPED: python3 with numpy is not available");
+    return;
+  }
+  // At the file's own frequencies only the 12 written digits differ; between them S11 is
+  // interpolated linearly (200 points per decade): 0.005 dB bounds that error.
+  const double at_points_rel_tol = 1e-9;
+  const double between_points_tol_db = 0.005;
+  const auto dir = std::filesystem::temp_directory_path() / "spurcast_lisn_measured";
+  std::filesystem::create_directories(dir);
+  const std::string file = (dir / "lisn.s1p").string();
+  // The impedance CISPR 16-1-2 defines, Z = 50 ∥ (5 + jω·50 µH) (docs/references.md §2.2), as
+  // S11 = (Z − 50)/(Z + 50), RI in Hz, 9 kHz to 30 MHz.
+  const std::string script = "import numpy as np\n"
+                             "f = np.logspace(np.log10(9e3), np.log10(30e6), 706)\n"
+                             "z = 1/(1/50 + 1/(5 + 2j*np.pi*f*50e-6))\n"
+                             "s = (z - 50)/(z + 50)\n"
+                             "with open('" + file + "', 'w') as out:\n"
+                             "    out.write('! 50 ohm || (50 uH + 5 ohm)\\n# Hz S RI R 50\\n')\n"
+                             "    for fi, si in zip(f, s):\n"
+                             "        out.write('%.12e %.12e %.12e\\n' % (fi, si.real, si.imag))\n";
+  const std::string script_path = (dir / "write.py").string();
+  std::ofstream(script_path) << script;
+  REQUIRE(std::system((std::string(python) + " " + script_path).c_str()) == 0);
+
+  const std::string toml = (dir / "s.toml").string();
+  for (const int lines : {1, 2}) {
+    CAPTURE(lines);
+    const LisnSpec measured = read_lisn_at("file = \"lisn.s1p\"\nlines = " + std::to_string(lines) + "\n", toml);
+    REQUIRE(measured.measured != nullptr);
+    CHECK(measured.file == "lisn.s1p");
+    LisnSpec model;
+    model.lines = lines;
+    const ConductedModel a(CouplingSpec{}, {}, measured), b(CouplingSpec{}, {}, model);
+
+    const std::vector<double> own = measured.measured->frequency_hz;
+    const TransferFunctions ha = transfer_at(a, own), hb = transfer_at(b, own);
+    for (std::size_t k = 0; k < own.size(); ++k) {
+      CHECK(std::abs(ha.port1_per_input_current_ohm[k] - hb.port1_per_input_current_ohm[k]) <=
+            at_points_rel_tol * std::abs(hb.port1_per_input_current_ohm[k]));
+    }
+    // A 220 kHz source's unit lines of both sources, to 30 MHz.
+    LineSpectrum v, i;
+    v.quantity = Quantity::voltage;
+    i.quantity = Quantity::current;
+    v.fundamental_hz = i.fundamental_hz = 220e3;
+    v.harmonics.assign(136, cd(1.0, 0.0));
+    i.harmonics.assign(136, cd(0.0, 1.0));
+    const ConductedResult ra = conduct(v, i, a), rb = conduct(v, i, b);
+    REQUIRE(ra.line1_v.size() == rb.line1_v.size());
+    for (std::size_t k = 0; k < ra.line1_v.size(); ++k) {
+      CAPTURE(ra.frequency_hz[k]);
+      CHECK(std::abs(20.0 * std::log10(std::abs(ra.line1_v[k]) / std::abs(rb.line1_v[k]))) <= between_points_tol_db);
+      if (lines == 2) {
+        CHECK(std::abs(20.0 * std::log10(std::abs(ra.line2_v[k]) / std::abs(rb.line2_v[k]))) <=
+              between_points_tol_db);
+      }
+    }
+    // Beyond the file: an error naming the file and its range, not an extrapolation.
+    CHECK_THROWS_WITH_AS(
+        (void)transfer_at(a, {31e6}),
+        (dir / "lisn.s1p").string().append(": frequency 31 MHz is outside the file's range, 9 kHz to 30 MHz (no extrapolation)").c_str(),
+        Error);
+  }
+  CHECK_THROWS_WITH_AS((void)read_lisn_at("file = \"lisn.s1p\"\ncircuit = \"practical\"\n", toml),
+                       (toml + ":2:11: 'circuit' does not apply to a measured network (file)").c_str(), Error);
+  CHECK_THROWS_WITH_AS((void)read_lisn_at("file = \"lisn.s2p\"\n", toml),
+                       (toml + ":1:8: expected a .s1p (one-port) file, found 'lisn.s2p'").c_str(), Error);
 }
