@@ -456,6 +456,12 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
     } else {
       add("switching", "ringing", "none");
     }
+    if (w.current_ringing) {
+      add("switching", "current ringing frequency", q(w.current_ringing->frequency_hz, Dimension::frequency));
+      add("switching", "current ringing decay (1/e)", q(w.current_ringing->decay_s, Dimension::time));
+      add("switching", "current ringing amplitude (of the current)",
+          q(w.current_ringing->relative_amplitude, Dimension::fraction));
+    }
     if (w.dither) {
       add("switching", "dither profile", dither_profile_name(w.dither->profile));
       add("switching", "dither deviation", q(w.dither->deviation_fraction, Dimension::fraction));

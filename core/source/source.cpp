@@ -324,7 +324,7 @@ class BandLimit {
   std::vector<cd> ring_;              ///< D(u)
 };
 
-Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringing,
+Waveform synthesize(const SwitchingSpec& spec, double amplitude, const std::optional<RingingSpec>& ringing_spec,
                     Quantity quantity, double sample_rate_hz, double duration_s) {
   if (!(sample_rate_hz > 0.0) || !std::isfinite(sample_rate_hz)) {
     throw Error("sample rate must be positive, found " + number_text(sample_rate_hz));
@@ -361,13 +361,13 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
   // The switch-node trapezoid, or an input current whose shape [converter] changed (source.hpp).
   const bool is_trapezoid = quantity == Quantity::voltage || (spec.input_current_shape == InputCurrentShape::pulsed &&
                                                               spec.current_ripple_a == 0.0);
-  const bool ringing = with_ringing && spec.ringing && spec.ringing->relative_amplitude > 0.0;
-  const double ring_amplitude = ringing ? spec.ringing->relative_amplitude * amplitude : 0.0;
-  const cd ring_pole_per_s = ringing ? cd(-1.0 / spec.ringing->decay_s, two_pi * spec.ringing->frequency_hz) : cd(0.0);
+  const bool ringing = ringing_spec && ringing_spec->relative_amplitude > 0.0;
+  const double ring_amplitude = ringing ? ringing_spec->relative_amplitude * amplitude : 0.0;
+  const cd ring_pole_per_s = ringing ? cd(-1.0 / ringing_spec->decay_s, two_pi * ringing_spec->frequency_hz) : cd(0.0);
   const BandLimit band_limit(ringing ? std::optional<cd>(ring_pole_per_s * dt) : std::nullopt);
   // A tail is negligible 40 decay times after its start (e^-40 ≈ 4e-18), and the kernel reaches
   // L samples either side of a breakpoint.
-  const double tail_s = ringing ? 40.0 * spec.ringing->decay_s : 0.0;
+  const double tail_s = ringing ? 40.0 * ringing_spec->decay_s : 0.0;
   const double kernel_span_s = kernel_half_length * dt;
 
   // The receiver takes the record as one period of a periodic signal (receiver.hpp), so the
@@ -413,6 +413,14 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
       const double t = start_s + offset_s;
       if (t >= from_s && t < to_s) kinks.push_back({start_s + shift_s, offset_s, jump, slope_change_per_s});
     };
+    if (ringing) {
+      // Each tail in its own deque, in time order like the kinks.
+      const EdgeEnds ends = edge_ends(spec, period_s);
+      for (const auto& [offset_s, sign] : {std::pair{ends.rising_end_s, 1.0}, std::pair{ends.falling_end_s, -1.0}}) {
+        const double t = start_s + offset_s;
+        if (t >= from_s && t < to_s) tails.push_back({start_s + shift_s, offset_s, cd(sign * ring_amplitude)});
+      }
+    }
     if (!is_trapezoid) {
       // Another input-current shape ([converter]): every node's jump and change of slope.
       for (const PeriodicKink& k : periodic_kinks(p, period_s)) kink(k.time_s, k.jump, k.slope_change_per_s);
@@ -430,13 +438,6 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
       kink(p[3].time_s, 0.0, amplitude / spec.fall_s);
     } else {
       kink(p[2].time_s, -amplitude, 0.0);
-    }
-    if (ringing) {
-      const EdgeEnds ends = edge_ends(spec, period_s);
-      for (const auto& [offset_s, sign] : {std::pair{ends.rising_end_s, 1.0}, std::pair{ends.falling_end_s, -1.0}}) {
-        const double t = start_s + offset_s;
-        if (t >= from_s && t < to_s) tails.push_back({start_s + shift_s, offset_s, cd(sign * ring_amplitude)});
-      }
     }
   };
 
@@ -549,8 +550,9 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, bool with_ringi
   return waveform;
 }
 
-LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude, bool with_ringing,
-                                Quantity quantity, double max_frequency_hz) {
+LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude,
+                                const std::optional<RingingSpec>& ringing, Quantity quantity,
+                                double max_frequency_hz) {
   validate_switching(spec);
   if (!(max_frequency_hz > 0.0)) throw Error("maximum frequency must be positive");
   const double count_real = std::floor(max_frequency_hz / spec.frequency_hz + 1e-9);
@@ -567,12 +569,12 @@ LineSpectrum trapezoid_spectrum(const SwitchingSpec& spec, double amplitude, boo
   const double period_s = spec.period_s();
   LineSpectrum spectrum =
       piecewise_linear_series(period_breakpoints(spec, quantity, amplitude, period_s), period_s, count, quantity);
-  if (with_ringing && spec.ringing && spec.ringing->relative_amplitude > 0.0) {
-    const double a = spec.ringing->relative_amplitude * amplitude;
+  if (ringing && ringing->relative_amplitude > 0.0) {
+    const double a = ringing->relative_amplitude * amplitude;
     const EdgeEnds ends = edge_ends(spec, period_s);
     for (std::size_t i = 0; i < count; ++i) {
       const double omega = two_pi * spectrum.frequency_hz(i);
-      const cd tail = ringing_transform(*spec.ringing, omega);
+      const cd tail = ringing_transform(*ringing, omega);
       const cd c = a * tail / period_s *
                    (std::polar(1.0, -omega * ends.rising_end_s) - std::polar(1.0, -omega * ends.falling_end_s));
       spectrum.harmonics[i] += std::sqrt(2.0) * c;  // RMS phasor = √2·c_k
@@ -640,16 +642,18 @@ std::optional<SwitchingProblem> switching_problem(const SwitchingSpec& spec) {
                 format_quantity(edges_s / 2.0, Dimension::time) + " exceeds (1 - duty) x period = " +
                 format_quantity(period_s - width_s, Dimension::time));
   }
-  if (spec.ringing) {
-    const RingingSpec& r = *spec.ringing;
-    if (!(r.frequency_hz > 0.0)) return problem("ringing.frequency", "ringing frequency must be positive");
-    if (!(r.decay_s > 0.0)) return problem("ringing.decay", "ringing decay must be positive");
-    if (r.relative_amplitude < 0.0) return problem("ringing.amplitude", "ringing amplitude must not be negative");
+  for (const auto& [ringing, key] : {std::pair{&spec.ringing, std::string("ringing")},
+                                      std::pair{&spec.current_ringing, std::string("current_ringing")}}) {
+    if (!*ringing) continue;
+    const RingingSpec& r = **ringing;
+    if (!(r.frequency_hz > 0.0)) return problem(key + ".frequency", "ringing frequency must be positive");
+    if (!(r.decay_s > 0.0)) return problem(key + ".decay", "ringing decay must be positive");
+    if (r.relative_amplitude < 0.0) return problem(key + ".amplitude", "ringing amplitude must not be negative");
     if (r.relative_amplitude > max_ringing_relative_amplitude) {
-      return problem("ringing.amplitude", "expected a ringing amplitude of at most " +
-                                              number_text(max_ringing_relative_amplitude) +
-                                              " times the edge step (a real overshoot is below 1), found " +
-                                              number_text(r.relative_amplitude));
+      return problem(key + ".amplitude", "expected a ringing amplitude of at most " +
+                                             number_text(max_ringing_relative_amplitude) +
+                                             " times the edge step (a real overshoot is below 1), found " +
+                                             number_text(r.relative_amplitude));
     }
   }
   if (spec.dither) {
@@ -687,14 +691,17 @@ SwitchingSpec read_switching_section(TableReader& reader) {
   };
   spec.rise_s = edge("rise", "rise_10_90");
   spec.fall_s = edge("fall", "fall_10_90");
-  if (const toml::table* ringing = reader.optional_table("ringing")) {
-    TableReader r(*ringing, reader.file(), reader.where() + ".ringing");
+  // The voltage's ringing and the current's: the same three keys each.
+  for (const auto& [key, target] : {std::pair{"ringing", &spec.ringing}, std::pair{"current_ringing", &spec.current_ringing}}) {
+    const toml::table* ringing = reader.optional_table(key);
+    if (ringing == nullptr) continue;
+    TableReader r(*ringing, reader.file(), reader.where() + "." + key);
     RingingSpec spec_r;
     spec_r.frequency_hz = r.required_quantity("frequency", Dimension::frequency);
     spec_r.decay_s = r.required_quantity("decay", Dimension::time);
     spec_r.relative_amplitude = r.required_quantity("amplitude", Dimension::fraction);
     r.finish({"frequency", "decay", "amplitude"});
-    spec.ringing = spec_r;
+    *target = spec_r;
   }
   if (const toml::table* dither = reader.optional_table("dither")) {
     TableReader d(*dither, reader.file(), reader.where() + ".dither");
@@ -709,7 +716,7 @@ SwitchingSpec read_switching_section(TableReader& reader) {
     spec.dither = spec_d;
   }
   reader.finish({"frequency", "duty", "amplitude", "current", "rise", "fall", "rise_10_90", "fall_10_90",
-                 "ringing", "dither"});
+                 "ringing", "current_ringing", "dither"});
   if (const auto problem = switching_problem(spec)) {
     // At the key's value: "rise" stands for "rise_10_90" too, "ringing.decay" is in a sub-table.
     std::string key = problem->key;
@@ -786,11 +793,11 @@ std::vector<Breakpoint> input_current_breakpoints(const SwitchingSpec& spec) {
 }
 
 LineSpectrum switch_node_spectrum(const SwitchingSpec& spec, double max_frequency_hz) {
-  return trapezoid_spectrum(spec, spec.amplitude_v, true, Quantity::voltage, max_frequency_hz);
+  return trapezoid_spectrum(spec, spec.amplitude_v, spec.ringing, Quantity::voltage, max_frequency_hz);
 }
 
 LineSpectrum input_current_spectrum(const SwitchingSpec& spec, double max_frequency_hz) {
-  return trapezoid_spectrum(spec, spec.current_a, false, Quantity::current, max_frequency_hz);
+  return trapezoid_spectrum(spec, spec.current_a, spec.current_ringing, Quantity::current, max_frequency_hz);
 }
 
 TrapezoidCorners trapezoid_corners(const SwitchingSpec& spec) {
@@ -810,12 +817,12 @@ double trapezoid_envelope_rms(const SwitchingSpec& spec, double amplitude, doubl
 
 Waveform synthesize_switch_node(const SwitchingSpec& spec, double sample_rate_hz, double duration_s) {
   validate_switching(spec);
-  return synthesize(spec, spec.amplitude_v, true, Quantity::voltage, sample_rate_hz, duration_s);
+  return synthesize(spec, spec.amplitude_v, spec.ringing, Quantity::voltage, sample_rate_hz, duration_s);
 }
 
 Waveform synthesize_input_current(const SwitchingSpec& spec, double sample_rate_hz, double duration_s) {
   validate_switching(spec);
-  return synthesize(spec, spec.current_a, false, Quantity::current, sample_rate_hz, duration_s);
+  return synthesize(spec, spec.current_a, spec.current_ringing, Quantity::current, sample_rate_hz, duration_s);
 }
 
 }  // namespace spurcast

@@ -79,7 +79,11 @@ struct SwitchingSpec {
   double current_ripple_a = 0.0;  ///< peak-to-peak ripple of the input current [A], in [0, 2·current_a]
   double rise_s = 0.0;        ///< 0–100 % rise time [s] ≥ 0
   double fall_s = 0.0;        ///< 0–100 % fall time [s] ≥ 0
-  std::optional<RingingSpec> ringing;
+  std::optional<RingingSpec> ringing;  ///< on the switch-node voltage, of amplitude_v
+  /// On the input current, of current_a: the same tails (positive after the rising edge, negative
+  /// after the falling one, from the end of each edge of the switch-node timing) for every input
+  /// current shape, e.g. the reverse-recovery and commutation-loop ringing of the switching cell.
+  std::optional<RingingSpec> current_ringing;
   std::optional<DitherSpec> dither;
   SourcePosition frequency_where;  ///< of the `frequency` value in the scenario (for messages), may be empty
 
@@ -87,7 +91,9 @@ struct SwitchingSpec {
 };
 
 /// Reads a [switching] table: frequency, duty, amplitude, current, rise | rise_10_90,
-/// fall | fall_10_90, ringing = {frequency, decay, amplitude}, dither = {profile, deviation, rate}.
+/// fall | fall_10_90, ringing = {frequency, decay, amplitude} (on the voltage), current_ringing =
+/// {frequency, decay, amplitude} (on the input current, amplitude relative to `current`),
+/// dither = {profile, deviation, rate}.
 /// Checks the physical ranges (duty in (0, 1), the edges fit in the on and off times, ...).
 [[nodiscard]] SwitchingSpec read_switching_section(TableReader& reader);
 
@@ -132,7 +138,8 @@ struct Breakpoint {
 [[nodiscard]] std::vector<Breakpoint> input_current_breakpoints(const SwitchingSpec& spec);
 
 /// Exact harmonics of the input current (input_current_breakpoints: a trapezoid of current_a with
-/// the switch node's timing unless [converter] says otherwise; no ringing).
+/// the switch node's timing unless [converter] says otherwise), plus current_ringing's tails by
+/// the same exact series as the voltage's ringing.
 [[nodiscard]] LineSpectrum input_current_spectrum(const SwitchingSpec& spec, double max_frequency_hz);
 
 /// Paul's corner frequencies of the trapezoid bound: f1 = 1/(π·τ) with τ = duty·T, and
@@ -170,7 +177,7 @@ inline constexpr double band_limit_passband_ripple = 1e-5;
 /// ±17 samples of it. Same memory as the record; no oversampling.
 [[nodiscard]] Waveform synthesize_switch_node(const SwitchingSpec& spec, double sample_rate_hz,
                                               double duration_s);
-/// Samples of the input current (input_current_breakpoints' shape, with dither, no ringing).
+/// Samples of the input current (input_current_breakpoints' shape, with current_ringing and dither).
 [[nodiscard]] Waveform synthesize_input_current(const SwitchingSpec& spec, double sample_rate_hz,
                                                 double duration_s);
 
