@@ -68,6 +68,24 @@ LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>
   return lines;
 }
 
+/// Gives the lines of a channel of a two-channel capture their phases: the Hann-windowed transform
+/// of the record at the bin nearest k·f0. Both channels share the time base and each line sits at
+/// the same k·f0 in both, so the window's phase error at that bin is the same for the two and their
+/// relative phase is kept: what the sum of the two paths at the LISN depends on.
+void phase_lines(const Waveform& waveform, LineSpectrum& lines) {
+  const std::size_t n = waveform.samples.size();
+  const std::vector<double> window = window_samples(Window::hann, n);
+  std::vector<double> x(n);
+  for (std::size_t i = 0; i < n; ++i) x[i] = waveform.samples[i] * window[i];
+  FftPlanner planner;
+  const std::vector<std::complex<double>> transform = planner.forward(x);
+  for (std::size_t k = 0; k < lines.harmonics.size(); ++k) {
+    const double bin = static_cast<double>(k + 1) * lines.fundamental_hz * static_cast<double>(n) / waveform.sample_rate_hz;
+    const auto b = static_cast<std::size_t>(std::llround(bin));
+    if (b >= transform.size()) break;
+    lines.harmonics[k] = std::polar(std::abs(lines.harmonics[k]), std::arg(transform[b]));
+  }
+}
 
 /// The distinct measuring distances of the radiated-field sets, in order of appearance.
 std::vector<double> radiated_limit_distances(const std::vector<LimitSet>& sets) {
@@ -351,7 +369,21 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     const LineSpectrum lines = lines_from_capture(capture, p.notes);
     captured_whole_periods = holds_whole_periods(capture);
     capture_nyquist_hz = capture.waveform.sample_rate_hz / 2.0;
-    if (capture.waveform.quantity == Quantity::voltage) {
+    if (scenario.capture->current_column) {
+      // Both paths from one record (capture.hpp): the lines carry their phases.
+      CaptureSpec spec = current_capture_spec(*scenario.capture);
+      if (!spec.switching_frequency_hz) spec.switching_frequency_hz = lines.fundamental_hz;  // the voltage's f0
+      const Capture current = load_capture(spec);
+      std::vector<std::string> ignored;
+      p.switch_node_v = lines;
+      p.input_current_a = lines_from_capture(current, ignored);
+      phase_lines(capture.waveform, p.switch_node_v);
+      phase_lines(current.waveform, p.input_current_a);
+      captured_v = capture.waveform;
+      captured_i = current.waveform;
+      p.notes.push_back("captured source: the voltage capture drives the common-mode path (switch-node voltage) and "
+                        "the current capture the differential-mode path (input current)");
+    } else if (capture.waveform.quantity == Quantity::voltage) {
       p.switch_node_v = lines;
       p.input_current_a.quantity = Quantity::current;
       p.input_current_a.fundamental_hz = lines.fundamental_hz;
@@ -362,11 +394,13 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       p.switch_node_v.fundamental_hz = lines.fundamental_hz;
       captured_i = capture.waveform;
     }
-    p.common_mode_only = captured_v.has_value();
-    p.differential_mode_only = captured_i.has_value();
-    p.notes.push_back("captured source: the capture drives the " +
-                      std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
-                      " only");
+    p.common_mode_only = captured_v.has_value() && !captured_i.has_value();
+    p.differential_mode_only = captured_i.has_value() && !captured_v.has_value();
+    if (p.common_mode_only || p.differential_mode_only) {
+      p.notes.push_back("captured source: the capture drives the " +
+                        std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
+                        " only");
+    }
   }
   if (!battery) p.conducted = conduct(p.switch_node_v, p.input_current_a, model);
   // A capture's lines stop at its Nyquist frequency: nothing above it was computed.

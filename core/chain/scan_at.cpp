@@ -84,10 +84,13 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
     } else {
       const Capture capture = load_capture(*scenario.capture);
       const bool is_current = capture.waveform.quantity == Quantity::current;
-      if (at == "current" && !is_current) {
+      const bool two_channels = scenario.capture->current_column.has_value();
+      if (at == "current" && !is_current && !two_channels) {
         throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
       }
       (is_current ? source_i : source_v) = capture.waveform;
+      // A two-channel capture: the current channel drives the differential-mode path.
+      if (two_channels && at != "source") source_i = load_capture(current_capture_spec(*scenario.capture)).waveform;
       sampled_plan.periodic_record = holds_whole_periods(capture);
     }
     if (at == "source") {

@@ -70,7 +70,13 @@ HarmonicTable sampled_table(Waveform waveform, Window window, FftPlanner& planne
 }
 
 SpectrumResult sampled_result(Capture capture, FftPlanner& planner, const SpectrumSettings& settings, std::optional<double> f0_hz,
-                      double max_frequency_hz, const std::string& at, const Scenario* scenario) {
+                      double max_frequency_hz, const std::string& at, const Scenario* scenario,
+                      std::optional<Capture> current = std::nullopt) {
+  // A two-channel capture: --at current reads the current channel; --at lisn drives both paths.
+  if (current && at == "current") {
+    capture = std::move(*current);
+    current.reset();
+  }
   SpectrumResult result;
   result.capture_samples = capture.waveform.samples.size();
   result.capture_duration_s = capture.waveform.duration_s();
@@ -91,6 +97,7 @@ SpectrumResult sampled_result(Capture capture, FftPlanner& planner, const Spectr
     Waveform source_v;
     Waveform source_i;
     (is_current ? source_i : source_v) = capture.waveform;
+    if (current) source_i = current->waveform;
     const Waveform v1 = lisn_port_waveform(source_v, source_i, model, 1);
     Waveform v2 = v1;
     if (model.line_count() == 2) {
@@ -104,7 +111,8 @@ SpectrumResult sampled_result(Capture capture, FftPlanner& planner, const Spectr
       dm.samples[i] = 0.5 * (v1.samples[i] - v2.samples[i]);
       cm.samples[i] = 0.5 * (v1.samples[i] + v2.samples[i]);
     }
-    result.what = "LISN receiver port (from the captured " + std::string(is_current ? "current" : "voltage") + ")";
+    result.what = "LISN receiver port (from the captured " +
+                  std::string(current ? "voltage and current" : is_current ? "current" : "voltage") + ")";
     result.quantity = Quantity::voltage;
     // The source record sets f0 (estimated once, on the source); the port records are read at it.
     (void)sampled_table(std::move(capture.waveform), window, planner, settings.threads, f0_hz, max_frequency_hz, result);
@@ -230,7 +238,10 @@ SpectrumResult scenario_spectrum(const Scenario& scenario, const std::string& at
     std::optional<double> f0_hz = settings.fundamental_hz;
     if (!f0_hz) f0_hz = spec.switching_frequency_hz;
     CaptureWithPlan loaded(spec, settings.threads);
-    return sampled_result(loaded.take_capture(), loaded.planner(), settings, f0_hz, settings.max_frequency_hz, point, &scenario);
+    std::optional<Capture> current;
+    if (spec.current_column && point != "source") current = load_capture(current_capture_spec(spec));
+    return sampled_result(loaded.take_capture(), loaded.planner(), settings, f0_hz, settings.max_frequency_hz, point, &scenario,
+                          std::move(current));
   }
   if (scenario.switching) return described_result(scenario, point, settings.max_frequency_hz);
   throw Error(SourcePosition{scenario.file, 0, 0}, "expected a [switching] or [capture] section");

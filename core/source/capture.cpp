@@ -949,8 +949,36 @@ CaptureSpec read_capture_section(TableReader& reader) {
     spec.switching_frequency_hz = *frequency;
   }
   spec.resample = reader.optional_bool("resample").value_or(false);
-  reader.finish({"file", "column", "time_column", "scale", "quantity", "frequency", "resample"});
+  if (reader.has("current_column")) {
+    // Both paths from one record: the value column is then the switch-node voltage.
+    if (spec.quantity != Quantity::voltage) {
+      reader.fail("current_column", "'current_column' needs quantity = \"voltage\" (the value column is then the "
+                                    "switch-node voltage), found quantity = \"current\"");
+    }
+    spec.current_column = read_column("current_column", ColumnChoice::by_index(3));
+    if (const auto scale = reader.optional_quantity("current_scale", Dimension::number)) {
+      if (*scale == 0.0 || !std::isfinite(*scale)) {
+        reader.fail("current_scale", "expected a finite, non-zero scale, found " + format_number(*scale));
+      }
+      spec.current_scale = *scale;
+    }
+  } else if (reader.has("current_scale")) {
+    reader.fail("current_scale", "'current_scale' needs 'current_column'");
+  }
+  reader.finish({"file", "column", "time_column", "scale", "quantity", "frequency", "resample", "current_column",
+                 "current_scale"});
   return spec;
+}
+
+CaptureSpec current_capture_spec(const CaptureSpec& spec) {
+  if (!spec.current_column) throw Error("expected a capture with a current column");
+  CaptureSpec current = spec;
+  current.column = *spec.current_column;
+  current.scale = spec.current_scale;
+  current.quantity = Quantity::current;
+  current.current_column.reset();
+  current.current_scale = 1.0;
+  return current;
 }
 
 }  // namespace spurcast

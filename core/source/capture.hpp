@@ -44,14 +44,24 @@ struct CaptureSpec {
   std::optional<double> switching_frequency_hz;      ///< [Hz] > 0; estimated from the record when absent
   bool resample = false;                             ///< resample a non-uniform record instead of failing
   SourcePosition where;                              ///< of the [capture] table (for messages), may be empty
+  /// A second column of the same record holding the input current (then `column` is the switch-node
+  /// voltage): both paths driven from one measurement, with the two channels' relative phase.
+  std::optional<ColumnChoice> current_column;
+  double current_scale = 1.0;                        ///< multiplies the current column's values, ≠ 0
 };
 
 /// Reads a scenario's [capture] table: file (relative to the scenario file's folder, resolved here
 /// into spec.file), column (1-based integer or header name, default 2), time_column (default 1),
 /// scale (number, default 1), quantity ("voltage" | "current", default voltage), frequency
-/// (optional switching frequency, e.g. "100 kHz"), resample (bool, default false).
-/// Calls reader.finish() with those keys.
+/// (optional switching frequency, e.g. "100 kHz"), resample (bool, default false), current_column
+/// (a second column of the same file holding the input current; needs quantity = "voltage") and
+/// current_scale (its scale, default 1). Calls reader.finish() with those keys.
 [[nodiscard]] CaptureSpec read_capture_section(TableReader& reader);
+
+/// The spec of the current channel of a two-channel capture (current_column set): the same file,
+/// time column, frequency and resampling, column = current_column, scale = current_scale,
+/// quantity current. Throws Error when `spec` has no current column.
+[[nodiscard]] CaptureSpec current_capture_spec(const CaptureSpec& spec);
 
 /// How much a sampled time axis departs from the uniform grid t0 + i·dt.
 struct SamplingReport {
