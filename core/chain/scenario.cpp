@@ -48,6 +48,10 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
     TableReader reader(*section, file, "converter");
     scenario.converter = read_converter_section(reader);
     const ConverterSpec& converter = scenario.converter;
+    if (converter.topology == Topology::netlist && scenario.has_coupling) {
+      throw Error(top.position("coupling"), "[coupling] does not apply to topology netlist: the subcircuit holds the "
+                                            "input capacitors and the common-mode paths");
+    }
     if (converter.inductor_ripple_a && !scenario.switching) {
       throw Error(converter.ripple_where, "'inductor_ripple' shapes the described input current: it needs [switching]");
     }

@@ -62,6 +62,16 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
   for (std::size_t i = 0; i < filters.size(); ++i) {
     side = add_filter_stage(net, filters[i], side, "filter" + std::to_string(i + 1));
   }
+  if (converter.topology == Topology::netlist) {
+    // The user's subcircuit (converter.hpp): pins 1, 2 on the filter side, the switching cell
+    // between pins 3 and 4, the switch-node source from its node 'sw' to pin 4. Sources in the
+    // order of the templates: 0 the input current, 1 the switch node.
+    const LinePair cell = add_filter_stage(net, *converter.netlist, side, "converter");
+    net.set_origin(converter.where);
+    net.add_current_source(cell.positive, cell.negative, "input current");
+    net.add_voltage_source(net.node("converter.n:sw"), cell.negative, "switch node");
+    net.set_origin({});
+  } else {
   const NodeId converter_positive = side.positive;
   const NodeId converter_negative = side.negative;
   net.add_capacitor(converter_positive, converter_negative, coupling.input_capacitance_f, coupling.input_esr_ohm,
@@ -89,6 +99,7 @@ Built build_network(const CouplingSpec& coupling, const std::vector<FilterStage>
       net.add_capacitor(secondary, converter_negative, converter.y_capacitance_f, 0.0, 0.0, "Y capacitor");
     }
     net.add_resistor(secondary, converter_negative, barrier_resistance_ohm, "barrier insulation");
+  }
   }
   // Sources 2, 3: ammeters. With one network, line 2's "ammeter" is the bond of the return to the
   // reference ground at the equipment.
@@ -161,6 +172,10 @@ std::string ConductedModel::setup_description() const {
     case Topology::boost_pfc:
       text += "; boost PFC stage taken at the crest of the mains cycle (the mains gating of the switching "
               "current is not modelled)";
+      break;
+    case Topology::netlist:
+      text += "; converter: subcircuit '" + converter_.netlist->subckt + "' of " + converter_.netlist->file +
+              " (the switching cell between its pins 3 and 4, the switch node at its node 'sw')";
       break;
     case Topology::flyback:
       text += "; flyback converter: the drain swing drives the transformer's interwinding capacitance into the "

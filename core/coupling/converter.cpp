@@ -1,8 +1,11 @@
 #include "core/coupling/converter.hpp"
 
+#include <algorithm>
 #include <cmath>
+#include <filesystem>
 #include <vector>
 
+#include "core/coupling/spice.hpp"
 #include "core/input/units.hpp"
 
 namespace spurcast {
@@ -17,6 +20,8 @@ std::string topology_name(Topology topology) {
       return "boost-pfc";
     case Topology::flyback:
       return "flyback";
+    case Topology::netlist:
+      return "netlist";
   }
   return "buck";
 }
@@ -25,11 +30,12 @@ ConverterSpec read_converter_section(TableReader& reader) {
   ConverterSpec spec;
   spec.where = reader.table_position();
   const std::string name =
-      reader.optional_choice("topology", {"buck", "boost", "boost-pfc", "flyback"})
+      reader.optional_choice("topology", {"buck", "boost", "boost-pfc", "flyback", "netlist"})
           .value_or("buck");
   spec.topology = name == "boost"       ? Topology::boost
                   : name == "boost-pfc" ? Topology::boost_pfc
                   : name == "flyback"   ? Topology::flyback
+                  : name == "netlist"   ? Topology::netlist
                                         : Topology::buck;
   const bool flyback = spec.topology == Topology::flyback;
   const bool boost = spec.topology == Topology::boost || spec.topology == Topology::boost_pfc;
@@ -39,9 +45,14 @@ ConverterSpec read_converter_section(TableReader& reader) {
       reader.fail(key, std::string("'") + key + "' belongs to topology flyback, not " + name);
     }
   }
+  for (const char* key : {"file", "subckt"}) {
+    if (spec.topology != Topology::netlist && reader.has(key)) {
+      reader.fail(key, std::string("'") + key + "' belongs to topology netlist, not " + name);
+    }
+  }
   // min_input_voltage and output_power are read by read_converter_power (core/coupling/input_stability.hpp).
   reader.finish({"topology", "inductor_ripple", "interwinding_capacitance", "secondary_capacitance",
-                 "y_capacitance", "min_input_voltage", "output_power"});
+                 "y_capacitance", "min_input_voltage", "output_power", "file", "subckt"});
   auto checked = [&](std::string_view key, Dimension dimension, double value,
                      bool strictly_positive) {
     if (!(std::isfinite(value) && (strictly_positive ? value > 0.0 : value >= 0.0))) {
@@ -57,6 +68,27 @@ ConverterSpec read_converter_section(TableReader& reader) {
         checked("inductor_ripple", Dimension::current,
                 reader.required_quantity("inductor_ripple", Dimension::current), false);
     spec.ripple_where = reader.position("inductor_ripple");
+  }
+  if (spec.topology == Topology::netlist) {
+    auto stage = std::make_shared<FilterStage>();
+    stage->kind = FilterKind::spice;
+    stage->where = spec.where;
+    stage->file = reader.required_string("file");
+    stage->subckt = reader.required_string("subckt");
+    std::filesystem::path path(stage->file);
+    if (path.is_relative()) path = std::filesystem::path(reader.file()).parent_path() / path;
+    stage->elements = load_spice_subcircuit(path.string(), stage->subckt);
+    const bool has_switch_node = std::any_of(stage->elements.begin(), stage->elements.end(), [](const NetlistElement& e) {
+      for (const std::string* node : {&e.from, &e.to, &e.from_2, &e.to_2}) {
+        if (*node == "n:sw") return true;
+      }
+      return false;
+    });
+    if (!has_switch_node) {
+      reader.fail("subckt", "expected a node 'sw' (the switch node) in subcircuit '" + stage->subckt + "' of " +
+                                stage->file + ", found none");
+    }
+    spec.netlist = std::move(stage);
   }
   if (flyback) {
     spec.interwinding_capacitance_f =

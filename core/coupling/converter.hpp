@@ -12,7 +12,16 @@
 ///   flyback    the primary draws a ramp during the on time and nothing during the off time; the
 ///              drain swing also drives the transformer's interwinding capacitance into the
 ///              secondary, which returns through its capacitance to earth (output cable, load) and
-///              through a Y capacitor across the barrier to the primary return.
+///              through a Y capacitor across the barrier to the primary return;
+///   netlist    the user's own circuit, a SPICE subcircuit (`file`, `subckt`, read by
+///              core/coupling/spice.hpp) with the same five pins as a filter stage, in order:
+///              1 input + and 2 input − (where the filter, or the LISN, connects), 3 switching cell +
+///              and 4 switching cell − (the cell's current source draws the input current from pin
+///              3 through itself into pin 4), 5 ground (earth). The subcircuit's node named `sw` is
+///              the switch node: the switch-node voltage source drives V(sw) − V(pin 4). A pin may
+///              repeat pin 1 or 2 (`.subckt conv 1 2 1 2 0`: the cell sits across the input). The
+///              subcircuit holds the input capacitors and every common-mode path, so [coupling] is
+///              refused with it. The source waveforms are those of a buck (pulsed input current).
 ///
 /// Example:
 ///   [converter]
@@ -20,16 +29,18 @@
 ///   interwinding_capacitance = "25 pF"
 ///   secondary_capacitance = "150 pF"
 ///   y_capacitance = "1 nF"
+#include <memory>
 #include <optional>
 #include <string>
 
+#include "core/coupling/filter.hpp"
 #include "core/input/toml_reader.hpp"
 
 namespace spurcast {
 
-enum class Topology { buck, boost, boost_pfc, flyback };
+enum class Topology { buck, boost, boost_pfc, flyback, netlist };
 
-/// "buck", "boost", "boost-pfc", "flyback".
+/// "buck", "boost", "boost-pfc", "flyback", "netlist".
 [[nodiscard]] std::string topology_name(Topology topology);
 
 /// The insulation resistance placed across the isolation barrier of a flyback (secondary to the
@@ -46,14 +57,17 @@ struct ConverterSpec {
   double interwinding_capacitance_f = 0.0;  ///< flyback: primary switch node to secondary [F], > 0
   double secondary_capacitance_f = 0.0;  ///< flyback: secondary (output, cable) to earth [F], ≥ 0
   double y_capacitance_f = 0.0;  ///< flyback: secondary to primary return [F], ≥ 0 (0: none)
+  /// netlist: the subcircuit as a SPICE stage (its file, subckt and elements; pins as above).
+  std::shared_ptr<const FilterStage> netlist;
   SourcePosition ripple_where;   ///< of `inductor_ripple` (for messages), may be empty
   SourcePosition where;          ///< of the [converter] table, may be empty
 };
 
 /// Reads [converter]: topology (default "buck"); inductor_ripple (required for boost and boost-pfc,
 /// optional for buck and flyback); interwinding_capacitance and secondary_capacitance (required for
-/// flyback), y_capacitance (optional, flyback). A key of another topology is refused at its
-/// position: "'interwinding_capacitance' belongs to topology flyback, not boost".
+/// flyback), y_capacitance (optional, flyback), file and subckt (required for netlist: a SPICE file
+/// relative to the scenario's folder and the subcircuit's name). A key of another topology is
+/// refused at its position: "'interwinding_capacitance' belongs to topology flyback, not boost".
 [[nodiscard]] ConverterSpec read_converter_section(TableReader& reader);
 
 }  // namespace spurcast

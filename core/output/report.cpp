@@ -480,19 +480,30 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
     add("capture", "switching frequency",
         c.switching_frequency_hz ? q(*c.switching_frequency_hz, Dimension::frequency) : "estimated from the record");
     add("capture", "resample", c.resample ? "yes" : "no");
+    if (c.current_column) {
+      add("capture", "current column", c.current_column->describe());
+      add("capture", "current scale", q(c.current_scale, Dimension::number));
+    }
   }
   const std::string coupling_note = s.has_coupling ? "" : " (default)";
+  if (s.converter.topology == Topology::netlist) {
+    add("coupling", "input capacitor and parasitic capacitance", "in the converter subcircuit");
+  } else {
   add("coupling", "input capacitance", q(s.coupling.input_capacitance_f, Dimension::capacitance) + coupling_note);
   add("coupling", "input capacitor ESR", q(s.coupling.input_esr_ohm, Dimension::resistance) + coupling_note);
   add("coupling", "input capacitor ESL", q(s.coupling.input_esl_h, Dimension::inductance) + coupling_note);
   add("coupling", "parasitic capacitance (switch node to ground)",
       q(s.coupling.parasitic_capacitance_f, Dimension::capacitance) + coupling_note);
+  }
   // Listed only when given: a scenario without [converter] keeps the listing it always had.
   const ConverterSpec& cv = s.converter;
   if (cv.topology != Topology::buck || cv.inductor_ripple_a) {
     add("converter", "topology", topology_name(cv.topology));
     add("converter", "inductor ripple (peak to peak)",
         cv.inductor_ripple_a ? q(*cv.inductor_ripple_a, Dimension::current) : "none (flat-topped pulse)");
+    if (cv.topology == Topology::netlist) {
+      add("converter", "subcircuit", cv.netlist->subckt + " in " + cv.netlist->file);
+    }
     if (cv.topology == Topology::boost_pfc) add("converter", "mains-cycle gating", "not modelled (crest of the mains cycle)");
     if (cv.topology == Topology::flyback) {
       add("converter", "interwinding capacitance", q(cv.interwinding_capacitance_f, Dimension::capacitance));

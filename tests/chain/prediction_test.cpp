@@ -308,3 +308,62 @@ TEST_CASE("a voltage and a current capture together give the described source's 
   CAPTURE(low_db);
   CHECK(low_db > 10.0);
 }
+
+TEST_CASE("[converter] topology = \"netlist\": a subcircuit equal to the buck template gives its spectra") {
+  // The buck template (core/coupling/conducted.cpp) written out as SPICE: the input capacitor with
+  // its ESR and ESL as three elements across pins 1-2, the switching cell across the input (pins
+  // 3, 4 repeat 1, 2), 35 pF from the switch node 'sw' to earth. Same circuit, so the same MNA
+  // solution: equal to 1e-9 relative (rounding of the sums only).
+  const double same_circuit_rel_tol = 1e-9;
+  const auto dir = std::filesystem::temp_directory_path() / "spurcast_converter_netlist";
+  std::filesystem::create_directories(dir);
+  std::ofstream(dir / "buck.cir") << "converter of the chain check\n"
+                                     ".subckt buck inp inn inp inn 0\n"
+                                     "C1 inp a 4.7u\nR1 a b 8m\nL1 b inn 1.5n\n"
+                                     "Cpar sw 0 35p\n"
+                                     ".ends buck\n"
+                                     ".subckt nosw inp inn inp inn 0\nC1 inp inn 4.7u\nC2 x 0 35p\nR1 x inn 1\n.ends\n";
+  const std::string switching = "[switching]\nfrequency = \"220 kHz\"\nduty = 0.25\namplitude = \"48 V\"\ncurrent = \"6 A\"\n"
+                                "rise = \"12 ns\"\nfall = \"15 ns\"\n";
+  const std::string filter = "[[filter]]\nkind = \"lc\"\ninductance = \"4.7 uH\"\ncapacitance = \"10 uF\"\n";
+  const std::string rest = "[lisn]\nlines = 2\n[receiver]\nbands = [\"B\"]\n";
+  const std::string file = (dir / "s.toml").string();
+  const Scenario buck = scenario_from_text(
+      "title = \"t\"\n" + switching +
+          "[coupling]\ninput_capacitance = \"4.7 uF\"\ninput_esr = \"8 mOhm\"\ninput_esl = \"1.5 nH\"\n"
+          "parasitic_capacitance = \"35 pF\"\n" + filter + rest,
+      file, dir.string(), locate_shipped_data());
+  const Scenario netlist = scenario_from_text(
+      "title = \"t\"\n" + switching + "[converter]\ntopology = \"netlist\"\nfile = \"buck.cir\"\nsubckt = \"buck\"\n" +
+          filter + rest,
+      file, dir.string(), locate_shipped_data());
+  PredictionOptions options;
+  options.skip_scans = true;
+  const Prediction a = predict(netlist, options), b = predict(buck, options);
+  REQUIRE(a.conducted);
+  REQUIRE(b.conducted);
+  REQUIRE(a.conducted->line1_v.size() == b.conducted->line1_v.size());
+  for (std::size_t k = 0; k < a.conducted->line1_v.size(); ++k) {
+    CAPTURE(k + 1);
+    for (const auto& [x, y] : {std::pair{&a.conducted->line1_v, &b.conducted->line1_v},
+                               std::pair{&a.conducted->line2_v, &b.conducted->line2_v},
+                               std::pair{&a.conducted->line1_current_a, &b.conducted->line1_current_a}}) {
+      CHECK(std::abs((*x)[k] - (*y)[k]) <= same_circuit_rel_tol * std::abs((*y)[k]) + 1e-30);
+    }
+  }
+  // Exact error text: no switch node; [coupling] beside a netlist; a netlist key on another topology.
+  CHECK_THROWS_WITH_AS((void)scenario_from_text("title = \"t\"\n" + switching +
+                                                    "[converter]\ntopology = \"netlist\"\nfile = \"buck.cir\"\nsubckt = \"nosw\"\n",
+                                                file, dir.string(), locate_shipped_data()),
+                       (file + ":12:10: expected a node 'sw' (the switch node) in subcircuit 'nosw' of buck.cir, found none").c_str(),
+                       Error);
+  CHECK_THROWS_WITH_AS((void)scenario_from_text("title = \"t\"\n" + switching + "[coupling]\ninput_capacitance = \"1 uF\"\n" +
+                                                    "[converter]\ntopology = \"netlist\"\nfile = \"buck.cir\"\nsubckt = \"buck\"\n",
+                                                file, dir.string(), locate_shipped_data()),
+                       (file + ":9:1: [coupling] does not apply to topology netlist: the subcircuit holds the input "
+                               "capacitors and the common-mode paths").c_str(),
+                       Error);
+  CHECK_THROWS_WITH_AS((void)scenario_from_text("title = \"t\"\n" + switching + "[converter]\nfile = \"buck.cir\"\n",
+                                                file, dir.string(), locate_shipped_data()),
+                       (file + ":10:8: 'file' belongs to topology netlist, not buck").c_str(), Error);
+}

@@ -139,7 +139,7 @@ TEST_CASE("[converter] reader: topology, its own keys, and the keys of another t
                        Error);
   CHECK_THROWS_WITH_AS(
       read_converter("topology = \"sepic\"\n"),
-      "c.toml:1:12: expected one of buck, boost, boost-pfc or flyback, found \"sepic\"", Error);
+      "c.toml:1:12: expected one of buck, boost, boost-pfc, flyback or netlist, found \"sepic\"", Error);
   CHECK_THROWS_AS(read_converter("topology = \"boost-pfc\"\n"), Error);  // a boost needs its ripple
   CHECK_THROWS_AS(read_converter("topology = \"flyback\"\nsecondary_capacitance = \"1 nF\"\n"),
                   Error);
