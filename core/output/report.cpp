@@ -798,8 +798,8 @@ SpectrumPlot source_plot(const Prediction& p) {
 // The page.
 
 const std::vector<std::string>& report_section_ids() {
-  static const std::vector<std::string> ids{"verdict", "scenario", "plots", "margins", "bands",
-                                            "pre-lab", "assumptions", "safety", "files"};
+  static const std::vector<std::string> ids{"verdict", "plots",  "changes",     "margins", "bands",
+                                            "pre-lab", "safety", "assumptions", "inputs",  "files"};
   return ids;
 }
 
@@ -817,7 +817,10 @@ h1 { margin: 4px 0 6px; font-size: 26px; }
 h2 { margin: 0 0 12px; font-size: 19px; border-bottom: 2px solid var(--rule); padding-bottom: 4px; }
 h3 { margin: 16px 0 6px; font-size: 15px; }
 section { background:var(--card); border:1px solid var(--rule); border-radius:6px; padding:16px 20px; margin:18px 0; }
-.verdict { display:flex; gap:16px; align-items:center; border-left:10px solid var(--soft); }
+.verdict { border-left:10px solid var(--soft); }
+.verdict-head { display:flex; gap:16px; align-items:center; }
+.verdict .not-computed { border-left:4px solid var(--fail); padding-left:12px; margin-top:10px; }
+.band-summary { margin:10px 0 0; }
 .verdict .word { font-size: 28px; font-weight: bold; letter-spacing:.04em; }
 .verdict.pass { border-left-color:var(--pass); } .verdict.pass .word { color:var(--pass); }
 .verdict.marginal { border-left-color:var(--marginal); } .verdict.marginal .word { color:var(--marginal); }
@@ -842,6 +845,20 @@ figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
 ul { margin: 6px 0; padding-left: 22px; }
 code { font-family: 'DejaVu Sans Mono','Liberation Mono',monospace; font-size: 13px; }
 footer { color: var(--soft); font-size: 12px; text-align:center; margin-top: 24px; }
+@media print {
+  * { position: static !important; box-shadow: none !important; }
+  :root { --paper:#fff; --card:#fff; --ink:#000; --soft:#333; --rule:#999; }
+  body { background:#fff; color:#000; font-size: 11pt; }
+  main { max-width:none; padding:0; }
+  section { border:none; border-radius:0; padding:0; margin:0 0 12pt; }
+  #plots, #changes, #margins, #bands, #pre-lab, #safety, #assumptions, #inputs, #files { break-before: page; }
+  figure, svg, tr, .verdict-head, .not-computed { break-inside: avoid; }
+  h2, h3 { break-after: avoid; }
+  th { background:#fff; }
+  .tag { border:1px solid #000; background:#fff !important; color:#000 !important; }
+  .verdict .word, .verdict .not-computed { color:#000 !important; }
+  a { color:#000; }
+}
 )css";
 
 std::string tag(const std::string& text) { return "<span class=\"tag " + html(text) + "\">" + html(text) + "</span>"; }
@@ -894,31 +911,43 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   if (!s.description.empty()) out += "<p>" + html(s.description) + "</p>\n";
   out += "</header>\n";
 
-  // 1. The verdict in one line.
-  out += "<section id=\"verdict\" class=\"verdict " + verdict + "\">\n<h2 hidden>Verdict</h2>\n<span class=\"word\">" +
-         verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span>\n</section>\n";
+  // The answer first (issue 19): the verdict with its one-line reason, what was not computed, and
+  // the broadcast bands' verdicts in one line; everything else follows in the order of use.
+  std::string verdict_html = "<section id=\"verdict\" class=\"verdict " + verdict +
+                             "\">\n<h2 hidden>Verdict</h2>\n<div class=\"verdict-head\"><span class=\"word\">" +
+                             verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span></div>\n";
   if (const std::vector<std::string> missing = not_computed_lines(p); !missing.empty()) {
-    out += "<section id=\"not-computed\" class=\"caution\">\n<h2>Not computed</h2>\n<ul>\n";
-    for (const std::string& line : missing) out += "<li>" + html(line) + "</li>\n";
-    out += "</ul>\n</section>\n";
+    verdict_html += "<div class=\"not-computed\">\n<h3>Not computed</h3>\n<ul>\n";
+    for (const std::string& line : missing) verdict_html += "<li>" + html(line) + "</li>\n";
+    verdict_html += "</ul>\n</div>\n";
   }
+  if (!p.reception.empty()) {
+    verdict_html += "<p class=\"band-summary\">Broadcast bands:";
+    for (const BandReception& b : p.reception) {
+      verdict_html += " " + html(b.band.name) + " " + tag(reception_verdict_name(b.verdict));
+    }
+    verdict_html += "</p>\n";
+  }
+  verdict_html += "</section>\n";
 
-  // 2. The scenario.
-  out += "<section id=\"scenario\">\n<h2>Scenario</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
+  // Appendix: the inputs.
+  std::string inputs_html;
+  inputs_html += "<section id=\"inputs\">\n<h2>Appendix: inputs</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
   std::string last_section;
   for (const ScenarioInput& row : scenario_inputs(s)) {
-    out += "<tr><td class=\"section\">" + (row.section == last_section ? std::string() : html(row.section)) +
+    inputs_html += "<tr><td class=\"section\">" + (row.section == last_section ? std::string() : html(row.section)) +
            "</td><td>" + html(row.name) + "</td><td>" + html(row.value) + "</td></tr>\n";
     last_section = row.section;
   }
-  out += "</table>\n<p>LISN set-up the levels refer to: " + html(p.setup_description) + "</p>\n</section>\n";
+  inputs_html += "</table>\n<p>LISN set-up the levels refer to: " + html(p.setup_description) + "</p>\n</section>\n";
 
-  // 3. The plots.
-  out += "<section id=\"plots\">\n<h2>Plots</h2>\n";
+  // The plots.
+  std::string plots_html;
+  plots_html += "<section id=\"plots\">\n<h2>Plots</h2>\n";
   int figure = 1;
   for (const BandScan& scan : p.scans) {
     const BandScan* earlier = before ? before_scan(*before, scan.band) : nullptr;
-    out += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan, earlier)) + "<figcaption>Figure " +
+    plots_html += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan, earlier)) + "<figcaption>Figure " +
            std::to_string(figure++) +
            ". Peak, quasi-peak and average readings of a CISPR 16-1-1 receiver at the LISN port (the higher of the "
            "lines at each frequency) against the limit lines; broadcast bands shaded; the worst readings marked with "
@@ -926,7 +955,7 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
            (earlier ? std::string("; dashed and light: the readings before the change") : std::string()) +
            ".</figcaption>\n</figure>\n";
   }
-  out += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
+  plots_html += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
          ". Harmonic lines of the source (RMS)" +
          (s.switching ? std::string(" with the envelope of the plain trapezoid of C. R. Paul, without ringing (flat, "
                                     "then \xE2\x88\x92" "20 dB per decade above 1/(\xCF\x80\xCF\x84), \xE2\x88\x92"
@@ -936,80 +965,93 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          (p.source_kind == SourceKind::dithered ? ". Dithered source: the undithered lines are shown" : "") +
          ".</figcaption>\n</figure>\n</section>\n";
 
-  // 4. Margins.
-  out += "<section id=\"margins\">\n<h2>Margins</h2>\n";
-  if (const std::string warning = single_path_warning(p); !warning.empty()) {
-    out += "<p class=\"caution\"><strong>" + html(warning) + ".</strong></p>\n";
-  }
-  out += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
-         " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
-         std::to_string(p.margins.readings) + " readings compared";
-  if (p.margins.not_compared > 0) {
-    out += "; " + std::to_string(p.margins.not_compared) +
-           " were not compared (no line for their detector, or outside the lines' frequencies)";
-  }
-  out += ".</p>\n";
+  // What to change: the planner's before and after (design-filter --report), what makes the worst
+  // readings (mode shares, source and path), then where the other commands take it further.
+  std::string changes_html = "<section id=\"changes\">\n<h2>What to change</h2>\n";
   if (before) {
     // Worst margin per limit-line detector, before and after the change (same lines, same guard).
-    out += "<h3 id=\"before-after\">Before and after</h3>\n<table>\n<tr><th>line detector</th><th>before</th>"
+    changes_html += "<h3 id=\"before-after\">Before and after</h3>\n<table>\n<tr><th>line detector</th><th>before</th>"
            "<th>at</th><th>after</th><th>at</th><th>change</th></tr>\n";
     for (const DetectorMargin& a : p.margins.worst_per_detector) {
       const DetectorMargin* b = nullptr;
       for (const DetectorMargin& d : before->margins.worst_per_detector) {
         if (d.detector == a.detector) b = &d;
       }
-      out += "<tr><td>" + html(to_string(a.detector)) + "</td><td class=\"num\">" +
+      changes_html += "<tr><td>" + html(to_string(a.detector)) + "</td><td class=\"num\">" +
              (b ? html(signed_db(b->worst.margin_db, 2)) : std::string("not computed")) + "</td><td class=\"num\">" +
              (b ? html(frequency_quantity(b->worst.frequency_hz)) : std::string()) + "</td><td class=\"num\">" +
              html(signed_db(a.worst.margin_db, 2)) + "</td><td class=\"num\">" +
              html(frequency_quantity(a.worst.frequency_hz)) + "</td><td class=\"num\">" +
              (b ? html(signed_db(a.worst.margin_db - b->worst.margin_db, 2)) : std::string()) + "</td></tr>\n";
     }
-    out += "</table>\n<p>Before: " + html(verdict_word(before->verdict)) + "; after: " + html(verdict_word(p.verdict)) +
+    changes_html += "</table>\n<p>Before: " + html(verdict_word(before->verdict)) + "; after: " + html(verdict_word(p.verdict)) +
            ".</p>\n";
   }
+  if (!p.contributors.empty()) {
+    changes_html += "<h3>What makes the worst readings</h3>\n" + contributors_table(p.contributors);
+  } else {
+    changes_html += "<p>No conducted reading was compared with a limit line, so no contributor was traced.</p>\n";
+  }
+  if (!p.contributors_requested.empty()) {
+    changes_html += "<h3 id=\"explained\">At the frequencies asked for</h3>\n<p>The make-up of the strongest line within the "
+           "receiver bandwidth of each frequency given with <code>--explain-at</code>.</p>\n" +
+           contributors_table(p.contributors_requested);
+  }
+  changes_html += "<p>The dB each input moves the worst margin: <code>spurcast sensitivity</code>; a filter that "
+                  "meets the lines: <code>spurcast design-filter</code>; a switching frequency that clears the "
+                  "broadcast bands: <code>spurcast sweep</code>.</p>\n</section>\n";
+
+  // Margins.
+  std::string margins_html;
+  margins_html += "<section id=\"margins\">\n<h2>Margins</h2>\n";
+  if (const std::string warning = single_path_warning(p); !warning.empty()) {
+    margins_html += "<p class=\"caution\"><strong>" + html(warning) + ".</strong></p>\n";
+  }
+  margins_html += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
+         " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
+         std::to_string(p.margins.readings) + " readings compared";
+  if (p.margins.not_compared > 0) {
+    margins_html += "; " + std::to_string(p.margins.not_compared) +
+           " were not compared (no line for their detector, or outside the lines' frequencies)";
+  }
+  margins_html += ".</p>\n";
   if (!p.margins.worst_per_detector.empty()) {
-    out += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
+    margins_html += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
            "<th>at</th><th>reading</th><th>line</th><th>comparisons</th></tr>\n";
     for (const DetectorMargin& d : p.margins.worst_per_detector) {
-      out += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
+      margins_html += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
              "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
              html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " " +
              row_unit_symbol(d.worst) + "</td><td>" +
              html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
     }
-    out += "</table>\n";
-    out += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
-    if (!p.contributors.empty()) out += "<h3>What makes them</h3>\n" + contributors_table(p.contributors);
+    margins_html += "</table>\n";
+    margins_html += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
   } else {
-    out += "<p>No reading was compared with a limit line.</p>\n";
+    margins_html += "<p>No reading was compared with a limit line.</p>\n";
   }
-  if (!p.contributors_requested.empty()) {
-    out += "<h3 id=\"explained\">At the frequencies asked for</h3>\n<p>The make-up of the strongest line within the "
-           "receiver bandwidth of each frequency given with <code>--explain-at</code>.</p>\n" +
-           contributors_table(p.contributors_requested);
-  }
-  out += "</section>\n";
+  margins_html += "</section>\n";
 
-  // 5. Broadcast bands.
-  out += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
-  out += "<p>Estimated field of the harmonics for " + html(p.reception_assumptions) + "; ITU region " +
+  // Broadcast bands.
+  std::string bands_html;
+  bands_html += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
+  bands_html += "<p>Estimated field of the harmonics for " + html(p.reception_assumptions) + "; ITU region " +
          std::to_string(s.broadcast.region) +
          ". <em>clear</em>: under the ambient man-made noise (ITU-R P.372) or the level the receiver rejects; "
          "<em>watch</em>: above it, below the disturbance threshold; <em>noisy</em>: a weak station is likely "
          "disturbed. A ferrite rod (LW, MW) reads the magnetic field as its equivalent far field, "
          "&eta;<sub>0</sub>&middot;H; a whip reads the electric field.</p>\n";
-  out += "<table>\n<tr><th>band</th><th>range</th><th>antenna</th><th>verdict</th><th>worst channel</th><th>field</th>"
+  bands_html += "<table>\n<tr><th>band</th><th>range</th><th>antenna</th><th>verdict</th><th>worst channel</th><th>field</th>"
          "<th>ambient</th><th>noisy above</th><th>main radiator</th><th>notes</th></tr>\n";
   std::vector<std::string> caveats;  // distinct caveats, numbered once below the table
   for (const BandReception& b : p.reception) {
-    out += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
+    bands_html += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
            html(format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
                 format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits)) +
            "</td><td>" + html(antenna_name(b.antenna)) + "</td><td>" + tag(reception_verdict_name(b.verdict)) + "</td>";
     if (b.worst_channel) {
       const ChannelReception& c = b.channels[*b.worst_channel];
-      out += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
+      bands_html += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
              level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.ambient_dbuvm) +
              " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td><td>" +
              (c.dominant_radiator
@@ -1018,7 +1060,7 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
                   : std::string()) +
              "</td>";
     } else {
-      out += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td><td></td>";
+      bands_html += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td><td></td>";
     }
     std::vector<std::string> refs;
     for (const std::string& caveat : b.caveats) {
@@ -1026,57 +1068,58 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
       if (it == caveats.end()) it = caveats.insert(caveats.end(), caveat);
       refs.push_back("[" + std::to_string(it - caveats.begin() + 1) + "]");
     }
-    out += "<td>" + join(refs, " ") + "</td></tr>\n";
+    bands_html += "<td>" + join(refs, " ") + "</td></tr>\n";
   }
-  out += "</table>\n";
+  bands_html += "</table>\n";
   if (!caveats.empty()) {
-    out += "<ol class=\"caveats\">\n";
-    for (const std::string& caveat : caveats) out += "<li>" + html(caveat) + "</li>\n";
-    out += "</ol>\n";
+    bands_html += "<ol class=\"caveats\">\n";
+    for (const std::string& caveat : caveats) bands_html += "<li>" + html(caveat) + "</li>\n";
+    bands_html += "</ol>\n";
   }
-  if (!p.radiation_convention.empty()) out += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
-  out += "</section>\n";
+  if (!p.radiation_convention.empty()) bands_html += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
+  bands_html += "</section>\n";
 
-  // 6. Pre-lab.
-  out += "<section id=\"pre-lab\">\n<h2>Before the lab</h2>\n<h3>Standard and class</h3>\n<ul>\n";
-  if (s.limits.sets.empty()) out += "<li>No limit lines were given.</li>\n";
+  // The page for the lab.
+  std::string lab_html;
+  lab_html += "<section id=\"pre-lab\">\n<h2>Before the lab</h2>\n<h3>Standard and class</h3>\n<ul>\n";
+  if (s.limits.sets.empty()) lab_html += "<li>No limit lines were given.</li>\n";
   for (const LimitSet& set : s.limits.sets) {
-    out += "<li><strong>" + html(set.name) + "</strong> \xE2\x80\x94 " + html(set.source) + " <span class=\"practice\">(" +
+    lab_html += "<li><strong>" + html(set.name) + "</strong> \xE2\x80\x94 " + html(set.source) + " <span class=\"practice\">(" +
            html(set.confidence_text) + ")</span>" + (set.file.empty() ? "" : " <code>" + html(set.file) + "</code>") +
            "</li>\n";
   }
-  out += "</ul>\n<h3>Detector plan</h3>\n<ol>\n";
+  lab_html += "</ul>\n<h3>Detector plan</h3>\n<ol>\n";
   for (const BandScan& scan : p.scans) {
     const BandParameters band = band_parameters(scan.band);
-    out += "<li>Peak pre-scan of CISPR band " + to_string(scan.band) + " (" +
+    lab_html += "<li>Peak pre-scan of CISPR band " + to_string(scan.band) + " (" +
            html(format_quantity(band.start_hz, Dimension::frequency) + " \xE2\x80\x93 " +
                 format_quantity(band.stop_hz, Dimension::frequency)) +
            ", " + html(format_quantity(band.bandwidth_6db_hz, Dimension::frequency)) +
            " bandwidth, step at most " + html(format_quantity(band.bandwidth_6db_hz / 2.0, Dimension::frequency)) +
            ") on each supply line in turn.</li>\n";
   }
-  out += "<li>Quasi-peak and average readings at the frequencies below (and at any other peak reading within the guard "
+  lab_html += "<li>Quasi-peak and average readings at the frequencies below (and at any other peak reading within the guard "
          "band of a line), each line in turn, dwelling long enough for the meter to settle "
          "<span class=\"practice\">(common practice: at least 1 s per frequency for quasi-peak)</span>.</li>\n"
          "<li>A peak reading under the average line meets every line (peak \xE2\x89\xA5 quasi-peak \xE2\x89\xA5 average); "
          "such frequencies need no final measurement.</li>\n</ol>\n";
-  out += "<h3>Frequencies to re-measure with quasi-peak and average</h3>\n";
+  lab_html += "<h3>Frequencies to re-measure with quasi-peak and average</h3>\n";
   const std::vector<WorstFrequency> remeasure = worst_frequencies(p, 10);
   if (remeasure.empty()) {
-    out += "<p>None predicted (no reading was compared with a line).</p>\n";
+    lab_html += "<p>None predicted (no reading was compared with a line).</p>\n";
   } else {
-    out += margin_table(p, remeasure);
+    lab_html += margin_table(p, remeasure);
   }
-  out += "<h3>Measurement uncertainty</h3>\n<p>";
+  lab_html += "<h3>Measurement uncertainty</h3>\n<p>";
   if (const std::optional<double> u = uncertainty_for(p)) {
-    out += "CISPR 16-4-2 U<sub>cispr</sub> for this measurement: " + html(fixed(*u, 1)) +
+    lab_html += "CISPR 16-4-2 U<sub>cispr</sub> for this measurement: " + html(fixed(*u, 1)) +
            " dB (expanded, k = 2; from memory, docs/references.md \xC2\xA7" "7). When the lab's own uncertainty is at most "
            "U<sub>cispr</sub>, the product complies when the measured value is at or under the limit; a predicted "
            "margin smaller than U<sub>cispr</sub> can fall either side at the lab.";
   } else {
-    out += "No CISPR 16-4-2 value is listed for this measurement.";
+    lab_html += "No CISPR 16-4-2 value is listed for this measurement.";
   }
-  out += "</p>\n<h3>Set-up</h3>\n<p>" + html(p.setup_description) + "</p>\n<ul>\n"
+  lab_html += "</p>\n<h3>Set-up</h3>\n<p>" + html(p.setup_description) + "</p>\n<ul>\n"
          "<li>Table-top equipment: 0.8 m above the reference ground plane, 0.4 m from a vertical reference plane.</li>\n"
          "<li>Floor-standing equipment: on an insulating support 0.1 m above the reference ground plane.</li>\n"
          "<li>Each LISN bonded to the reference ground plane with a short, wide connection.</li>\n"
@@ -1085,42 +1128,47 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          "</ul>\n<p class=\"practice\">common practice (from memory; CISPR 16-2-1 / CISPR 32 describe the arrangement)</p>\n"
          "</section>\n";
 
-  // 7. Limits of the model.
-  out += "<section id=\"assumptions\">\n<h2>Limits of the model</h2>\n<ul>\n"
+  // Limits of the model.
+  std::string model_html;
+  model_html += "<section id=\"assumptions\">\n<h2>Limits of the model</h2>\n<ul>\n"
          "<li>The coupling network is linear and time-invariant: parts do not saturate or heat, and the filter does not "
          "change the source (the switch waveform is taken as given).</li>\n"
          "<li>Only the parts listed are modelled: the input capacitor with its ESR and ESL, the filter stages, one "
          "switch-node capacitance to ground for the common-mode path. Layout coupling, heatsink and cable resonances "
          "are not.</li>\n";
-  out += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
+  model_html += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
          " circuit of " + html(lisn_model_name(s.lisn.model)) +
          (s.lisn.circuit == LisnCircuit::ideal
               ? " (the defined impedance, port = terminal; a lab reports levels after its voltage-division correction)"
               : " (part values from memory)") +
          ".</li>\n";
-  out += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
+  model_html += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
          "mask is met only approximately. Detectors are calibrated so a sine reads its RMS value.</li>\n"
          "<li>Broadcast-band fields use the exact near- and far-field expressions of short dipoles and small loops "
          "(Balanis) for the supply cable's common- and differential-mode currents and the hot loop, in the "
          "orientation that couples most; real orientations, the room and nearby wiring change them by many dB either "
          "way. The ambient is man-made noise only (ITU-R P.372).</li>\n"
          "<li>Limit values marked <em>from memory</em> must be checked against the standard before a decision.</li>\n";
-  for (const std::string& note : p.notes) out += "<li>" + html(note) + "</li>\n";
-  out += "</ul>\n</section>\n";
+  for (const std::string& note : p.notes) model_html += "<li>" + html(note) + "</li>\n";
+  model_html += "</ul>\n</section>\n";
 
-  // 8. Safety.
-  out += "<section id=\"safety\" class=\"caution\">\n<h2>Safety</h2>\n<ul>\n"
+  // Safety.
+  std::string safety_html;
+  safety_html += "<section id=\"safety\" class=\"caution\">\n<h2>Safety</h2>\n<ul>\n"
          "<li>Switch nodes and their ringing can reach hundreds of volts: measure with probes rated for the voltage, "
          "and with an isolated supply where appropriate.</li>\n"
          "<li>A LISN passes a large leakage current to earth: bond it to protective earth before mains is applied.</li>\n"
          "<li>A prediction is not a compliance result: only an accredited test decides. Local codes and licensed "
          "practice take precedence over anything in this report.</li>\n</ul>\n</section>\n";
 
-  // 9. Files.
-  out += "<section id=\"files\">\n<h2>Files</h2>\n<p>Written beside this page: ";
+  // Files.
+  std::string files_html;
+  files_html += "<section id=\"files\">\n<h2>Files</h2>\n<p>Written beside this page: ";
   std::vector<std::string> names;
   for (const std::string& f : files) names.push_back("<code>" + html(f) + "</code>");
-  out += join(names, ", ") + ".</p>\n</section>\n";
+  files_html += join(names, ", ") + ".</p>\n</section>\n";
+  out += verdict_html + plots_html + changes_html + margins_html + bands_html + lab_html + safety_html + model_html +
+         inputs_html + files_html;
   out += "<footer>spurcast " SPURCAST_VERSION " \xE2\x80\x94 a pre-compliance estimate from a model; not a test "
          "result.</footer>\n</main>\n</body>\n</html>\n";
   return out;

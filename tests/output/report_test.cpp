@@ -277,6 +277,49 @@ TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up
   CHECK(parsed.at("svg_count").get<int>() == 3);  // two band plots and the source plot
 }
 
+TEST_CASE("report.html leads with the answer: verdict, plots, what to change, margins, bands, lab, inputs last") {
+  // The order of issue 19: the verdict (with what was not computed and the band summary), the plots,
+  // what to change, the margins, the broadcast bands, the page for the lab, and the inputs as an appendix.
+  const std::vector<std::string> expected{"verdict", "plots",  "changes",     "margins", "bands",
+                                          "pre-lab", "safety", "assumptions", "inputs",  "files"};
+  CHECK(report_section_ids() == expected);
+  Prediction p = hand_prediction();
+  p.margins.not_computed.push_back({.limit_label = "a line", .from_hz = 482e3, .to_hz = 30e6, .reason = "a test reason"});
+  const std::string page = report_html(p, {"report.html"});
+  std::size_t previous = 0;
+  for (const std::string& id : expected) {
+    CAPTURE(id);
+    const std::size_t at = page.find("<section id=\"" + id + "\"");
+    REQUIRE(at != std::string::npos);
+    CHECK(at > previous);
+    previous = at;
+  }
+  // The verdict section holds its reason, what was not computed, and every band's verdict.
+  const std::size_t verdict_at = page.find("<section id=\"verdict\"");
+  const std::string verdict = page.substr(verdict_at, page.find("</section>", verdict_at) - verdict_at);
+  CHECK(verdict.find("MARGINAL") != std::string::npos);
+  CHECK(verdict.find("worst margin") != std::string::npos);
+  CHECK(verdict.find("<h3>Not computed</h3>") != std::string::npos);
+  CHECK(verdict.find("a test reason") != std::string::npos);
+  CHECK(verdict.find("Broadcast bands: MW <span class=\"tag noisy\">noisy</span>") != std::string::npos);
+  // The first plot comes before any input is echoed.
+  CHECK(page.find("<svg") < page.find("<h2>Appendix: inputs</h2>"));
+  // A print stylesheet: page breaks before the major sections, plots kept whole, nothing fixed.
+  CHECK(page.find("@media print") != std::string::npos);
+  CHECK(page.find("break-before: page") != std::string::npos);
+  CHECK(page.find("figure, svg, tr, .verdict-head, .not-computed { break-inside: avoid; }") != std::string::npos);
+  CHECK(page.find("position: fixed") == std::string::npos);
+  CHECK(page.find("position:fixed") == std::string::npos);
+
+  if (!have_python()) {
+    MESSAGE("skipped the html.parser check: /usr/bin/python3 not found");
+    return;
+  }
+  const std::string result = check_html(page);
+  REQUIRE_FALSE(result.empty());
+  CHECK(nlohmann::json::parse(result).at("ids").get<std::vector<std::string>>() == expected);
+}
+
 TEST_CASE("the files of a report are byte-reproducible and summary.json comes last") {
   const Prediction p = hand_prediction();
   const std::vector<OutputFile> first = report_files(p);
