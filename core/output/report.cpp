@@ -31,7 +31,10 @@ std::string fixed(double value, int decimals) {
   if (text.find_first_not_of("-0.") == std::string::npos && text.front() == '-') text.erase(0, 1);  // no "-0.00"
   return text;
 }
+/// Levels in the CSVs: fixed 0.01 dB, so the files keep what the model computed.
 std::string level_text(double level_db) { return fixed(level_db, 2); }
+/// Levels and margins on the page: 0.1 dB, no finer than any model of this kind is right (issue 19).
+std::string page_level_text(double level_db) { return fixed(level_db, 1); }
 std::string frequency_text(double frequency_hz) { return fixed(frequency_hz, 1); }
 /// The value exactly as the CSV prints it, for JSON (so the two agree to the last digit).
 double rounded(double value, int decimals) { return std::stod(fixed(value, decimals)); }
@@ -90,7 +93,8 @@ std::string signed_db(double value_db, int decimals = 1) {
   return text + " dB";
 }
 
-std::string frequency_quantity(double frequency_hz) { return format_quantity(frequency_hz, Dimension::frequency, 5); }
+/// Frequencies in text: 4 significant digits (issue 19; the CSVs and JSON keep full precision).
+std::string frequency_quantity(double frequency_hz) { return format_quantity(frequency_hz, Dimension::frequency, 4); }
 
 /// The 6 dB bandwidth of the scan holding `frequency_hz` (9 kHz when no scan holds it).
 
@@ -145,8 +149,8 @@ std::vector<std::string> not_computed_lines(const Prediction& p) {
   std::vector<std::string> lines;
   for (const NotComputed& part : p.margins.not_computed) lines.push_back(describe(part));
   for (const UncomputedRange& range : p.unread_bands) {
-    lines.push_back(format_quantity(range.from_hz, Dimension::frequency, 5) + "-" +
-                    format_quantity(range.to_hz, Dimension::frequency, 5) + " of " + range.what + ": " + range.reason);
+    lines.push_back(frequency_quantity(range.from_hz) + "-" +
+                    frequency_quantity(range.to_hz) + " of " + range.what + ": " + range.reason);
   }
   std::vector<std::string> bands;
   for (const BandReception& b : p.reception) {
@@ -154,7 +158,7 @@ std::vector<std::string> not_computed_lines(const Prediction& p) {
   }
   if (!bands.empty()) {
     lines.push_back("broadcast band" + std::string(bands.size() > 1 ? "s " : " ") + join(bands, ", ") +
-                    ": the source's lines stop at " + format_quantity(p.computed_up_to_hz, Dimension::frequency, 5) +
+                    ": the source's lines stop at " + frequency_quantity(p.computed_up_to_hz) +
                     " (half the capture's sample rate)");
   }
   return lines;
@@ -184,7 +188,7 @@ std::string verdict_sentence(const Prediction& p) {
   if (p.verdict == Verdict::no_limits) return out + "no limit lines were given: nothing was compared";
   if (!m.worst) return out + "no reading fell within the limit lines: nothing compared";
   const MarginRow& w = *m.worst;
-  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
+  const std::string where = "worst margin " + signed_db(w.margin_db) + " (" + to_string(w.reading_detector) +
                             " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
   switch (p.verdict) {
     case Verdict::pass: return out + "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
@@ -871,7 +875,7 @@ std::string contributors_table(const std::vector<Contributor>& list) {
     char dm[16], cm[16];
     std::snprintf(dm, sizeof dm, "%.0f %%", 100.0 * c.dm_share);
     std::snprintf(cm, sizeof cm, "%.0f %%", 100.0 * c.cm_share);
-    out += "<tr><td class=\"num\">" + html(format_quantity(c.frequency_hz, Dimension::frequency, 5)) +
+    out += "<tr><td class=\"num\">" + html(frequency_quantity(c.frequency_hz)) +
            "</td><td class=\"num\">" + dm + "</td><td class=\"num\">" + cm + "</td><td>" + html(c.source) +
            "</td><td>" + html(c.path) + (c.conversion.empty() ? "" : "; " + html(c.conversion)) + "</td></tr>\n";
   }
@@ -884,10 +888,10 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
   for (const WorstFrequency& w : rows) {
     const MarginRow& r = w.row;
     out += "<tr><td class=\"num\">" + html(frequency_quantity(r.frequency_hz)) + "</td><td>" +
-           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) + " " +
+           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + page_level_text(r.reading) + " " +
            row_unit_symbol(r) + (r.quantity == LimitQuantity::radiated_field ? " (estimate)" : "") +
-           "</td><td class=\"num\">" + level_text(r.limit) + " " + row_unit_symbol(r) + "</td><td class=\"num\">" +
-           html(signed_db(r.margin_db, 2)) + "</td><td class=\"num\">" +
+           "</td><td class=\"num\">" + page_level_text(r.limit) + " " + row_unit_symbol(r) + "</td><td class=\"num\">" +
+           html(signed_db(r.margin_db)) + "</td><td class=\"num\">" +
            (r.uncertainty_db ? html(fixed(*r.uncertainty_db, 1) + " dB") : "\xE2\x80\x94") + "</td><td>" +
            html(r.limit_label) + "</td><td>" + tag(to_string(verdict_for(r.margin_db, p.margins.guard_db))) +
            "</td></tr>\n";
@@ -978,11 +982,11 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
         if (d.detector == a.detector) b = &d;
       }
       changes_html += "<tr><td>" + html(to_string(a.detector)) + "</td><td class=\"num\">" +
-             (b ? html(signed_db(b->worst.margin_db, 2)) : std::string("not computed")) + "</td><td class=\"num\">" +
+             (b ? html(signed_db(b->worst.margin_db)) : std::string("not computed")) + "</td><td class=\"num\">" +
              (b ? html(frequency_quantity(b->worst.frequency_hz)) : std::string()) + "</td><td class=\"num\">" +
-             html(signed_db(a.worst.margin_db, 2)) + "</td><td class=\"num\">" +
+             html(signed_db(a.worst.margin_db)) + "</td><td class=\"num\">" +
              html(frequency_quantity(a.worst.frequency_hz)) + "</td><td class=\"num\">" +
-             (b ? html(signed_db(a.worst.margin_db - b->worst.margin_db, 2)) : std::string()) + "</td></tr>\n";
+             (b ? html(signed_db(a.worst.margin_db - b->worst.margin_db)) : std::string()) + "</td></tr>\n";
     }
     changes_html += "</table>\n<p>Before: " + html(verdict_word(before->verdict)) + "; after: " + html(verdict_word(p.verdict)) +
            ".</p>\n";
@@ -1019,9 +1023,9 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     margins_html += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
            "<th>at</th><th>reading</th><th>line</th><th>comparisons</th></tr>\n";
     for (const DetectorMargin& d : p.margins.worst_per_detector) {
-      margins_html += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
+      margins_html += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db)) +
              "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
-             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " " +
+             html(to_string(d.worst.reading_detector)) + " " + page_level_text(d.worst.reading) + " " +
              row_unit_symbol(d.worst) + "</td><td>" +
              html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
     }
@@ -1052,8 +1056,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     if (b.worst_channel) {
       const ChannelReception& c = b.channels[*b.worst_channel];
       bands_html += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
-             level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.ambient_dbuvm) +
-             " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td><td>" +
+             page_level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + page_level_text(c.ambient_dbuvm) +
+             " dB\xC2\xB5V/m</td><td class=\"num\">" + page_level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td><td>" +
              (c.dominant_radiator
                   ? html(radiator_name(*c.dominant_radiator)) + " (" +
                         std::to_string(static_cast<int>(std::lround(100.0 * c.radiator_share[static_cast<std::size_t>(*c.dominant_radiator)]))) + " %)"

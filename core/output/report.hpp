@@ -12,8 +12,9 @@
 ///   scan-<band>.svg, source.svg  the plots, also inlined in the report
 ///   report.html          one self-contained page (inline CSS and SVG, nothing fetched, no script)
 ///   summary.json         verdict, worst_margin_db per detector, bands, files, and more
-/// Numbers are printed with fixed decimals (frequencies %.1f Hz, levels %.2f dB) so the same
-/// prediction always gives the same bytes.
+/// The CSVs print fixed decimals (frequencies %.1f Hz, levels %.2f dB) so the same prediction always
+/// gives the same bytes; the page shows levels and margins to 0.1 dB and frequencies to 4 significant
+/// digits, no finer than the model is right (issue 19).
 ///
 /// Example:
 ///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml", locate_shipped_data()));
