@@ -28,6 +28,7 @@ constexpr double tick_font_px = 11.0;
 constexpr double axis_title_font_px = 12.0;
 constexpr double span_font_px = 10.0;
 constexpr double marker_font_px = 11.0;
+constexpr double marker_radius_px = 4.5;
 constexpr double label_gap_px = 3.0;  // clearance kept around every label
 
 std::string number(double value) {
@@ -92,6 +93,9 @@ class TextPlacer {
     }
     for (const TextBox& other : layout_.text_boxes) {
       if (boxes_overlap(inflate(box, label_gap_px), other)) return false;
+    }
+    for (const TextBox& other : layout_.marker_boxes) {
+      if (boxes_overlap(box, other)) return false;
     }
     place(text, x, baseline_y, font_px, anchor, attributes, box);
     return true;
@@ -403,6 +407,19 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
   const LinearScale ys{y_min, y_max, layout.plot_bottom, layout.plot_top};
   const std::string clip = id_for(plot.title, "spectrum") + "-clip";
 
+  // The marker dots are known first, so no text (band names, labels) is placed over one.
+  std::vector<std::pair<double, double>> dots;
+  for (const PlotMarker& marker : plot.markers) {
+    if (marker.frequency_hz < plot.min_hz || marker.frequency_hz > plot.max_hz) {
+      dots.emplace_back(std::numeric_limits<double>::quiet_NaN(), 0.0);
+      continue;
+    }
+    const double x = xs.x(marker.frequency_hz);
+    const double y = clamp(ys.map(marker.level), layout.plot_top, layout.plot_bottom);
+    dots.emplace_back(x, y);
+    layout.marker_boxes.push_back({x - marker_radius_px, y - marker_radius_px, 2 * marker_radius_px, 2 * marker_radius_px});
+  }
+
   place_title(placer, plot.title, 12.0, plot.width_px - 12.0);
   place_legend(placer, svg, legend, layout.plot_left, layout.plot_right, 40.0);
 
@@ -471,24 +488,38 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
          number(layout.plot_right - layout.plot_left) + "\" height=\"" + number(layout.plot_bottom - layout.plot_top) +
          "\" fill=\"none\" stroke=\"" + soft_ink_colour + "\" stroke-width=\"1\"/>\n";
 
-  // Markers with their labels (above, below, or to a side, where there is room).
-  for (const PlotMarker& marker : plot.markers) {
-    if (marker.frequency_hz < plot.min_hz || marker.frequency_hz > plot.max_hz) continue;
-    const double x = xs.x(marker.frequency_hz);
-    const double y = clamp(ys.map(marker.level), layout.plot_top, layout.plot_bottom);
-    svg += "<circle cx=\"" + number(x) + "\" cy=\"" + number(y) + "\" r=\"4.5\" fill=\"" + marker.colour +
-           "\" stroke=\"#ffffff\" stroke-width=\"1.5\"/>\n";
-    if (marker.label.empty()) continue;
-    const std::string attributes = "fill=\"" + marker.colour + "\" font-weight=\"bold\"";
+  // Markers with their labels. Every dot is drawn first and kept clear of every label; each label
+  // then takes the first free place of a ring of candidates around its dot (above, to a side,
+  // below, then further out), in the markers' order (the worst first); a label that finds no free
+  // place is left out and listed in layout.dropped_marker_labels.
+  for (std::size_t m = 0; m < plot.markers.size(); ++m) {
+    const auto [x, y] = dots[m];
+    if (std::isnan(x)) continue;
+    svg += "<circle cx=\"" + number(x) + "\" cy=\"" + number(y) + "\" r=\"" + number(marker_radius_px) + "\" fill=\"" +
+           plot.markers[m].colour + "\" stroke=\"#ffffff\" stroke-width=\"1.5\"/>\n";
+  }
+  for (std::size_t m = 0; m < plot.markers.size(); ++m) {
+    const PlotMarker& marker = plot.markers[m];
+    const auto [x, y] = dots[m];
+    if (std::isnan(x) || marker.label.empty()) continue;
+    // A white halo keeps the label readable where it crosses a curve or a limit line.
+    const std::string attributes = "fill=\"" + marker.colour +
+                                   "\" font-weight=\"bold\" stroke=\"#ffffff\" stroke-width=\"3\" paint-order=\"stroke\"";
     const struct {
       double dx, dy;
       TextAnchor anchor;
-    } candidates[] = {{0, -10, TextAnchor::middle}, {8, -8, TextAnchor::start},  {-8, -8, TextAnchor::end},
-                      {0, 20, TextAnchor::middle},  {8, 16, TextAnchor::start},  {-8, 16, TextAnchor::end},
-                      {0, -24, TextAnchor::middle}, {0, 34, TextAnchor::middle}};
+    } candidates[] = {{0, -10, TextAnchor::middle}, {8, -8, TextAnchor::start},   {-8, -8, TextAnchor::end},
+                      {0, 20, TextAnchor::middle},  {8, 16, TextAnchor::start},   {-8, 16, TextAnchor::end},
+                      {0, -24, TextAnchor::middle}, {8, -22, TextAnchor::start},  {-8, -22, TextAnchor::end},
+                      {0, 34, TextAnchor::middle},  {8, 30, TextAnchor::start},   {-8, 30, TextAnchor::end},
+                      {0, -38, TextAnchor::middle}, {8, -36, TextAnchor::start},  {-8, -36, TextAnchor::end},
+                      {0, 48, TextAnchor::middle},  {0, -52, TextAnchor::middle}, {0, 62, TextAnchor::middle}};
+    bool placed = false;
     for (const auto& c : candidates) {
-      if (placer.try_place(marker.label, x + c.dx, y + c.dy, marker_font_px, c.anchor, attributes, plot_area)) break;
+      placed = placer.try_place(marker.label, x + c.dx, y + c.dy, marker_font_px, c.anchor, attributes, plot_area);
+      if (placed) break;
     }
+    if (!placed) layout.dropped_marker_labels.push_back(marker.label);
   }
   svg += "</svg>\n";
   return svg;

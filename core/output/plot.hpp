@@ -121,6 +121,8 @@ struct PlotLayout {
   std::vector<TextBox> text_boxes;  ///< every text drawn (titles, tick labels, legend, bands, markers)
   std::vector<std::string> texts;   ///< the text of each box, same order
   std::vector<std::string> dropped_span_labels;  ///< band names that found no free place
+  std::vector<TextBox> marker_boxes;  ///< the marker dots (no text is placed over them)
+  std::vector<std::string> dropped_marker_labels;  ///< marker labels that found no free place
 };
 
 /// The layout (positions of every text) of `plot`. Error on an invalid range or size.

@@ -638,56 +638,91 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
 // ---------------------------------------------------------------------------------------------
 // Plots.
 
-SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const BandScan* before) {
-  const BandParameters band = band_parameters(scan.band);
-  SpectrumPlot plot;
-  plot.title = "Receiver readings at the LISN, CISPR band " + to_string(scan.band) + " (worst of the lines)";
-  plot.min_hz = band.start_hz;
-  plot.max_hz = band.stop_hz;
-  std::vector<double> f;
-  for (const Reading& r : scan.worst.readings) f.push_back(r.frequency_hz);
-  for (Detector d : p.scenario.receiver.detectors) {
+namespace {
+
+/// Two detectors' traces closer than this everywhere are drawn as one, with a note in the legend [dB]
+/// (judgement: under the 0.1 dB the text shows and under a line's width at the plot's scale).
+constexpr double coincide_tolerance_db = 0.05;
+/// A reading within this of the receiver's noise floor read only the floor [dB] (judgement, as above).
+constexpr double at_floor_tolerance_db = 0.05;
+
+/// The line colours of the limit sets, one per set in scenario order (our own dark hues; the
+/// detector of a line is its dash pattern, so a set is its colour).
+constexpr const char* limit_set_colours[] = {"#22303a", "#8a5a12", "#2e6b4f", "#6b2e5f"};
+
+/// The detector traces of `scan`: detectors whose readings coincide everywhere are drawn once, labelled
+/// with every name ("peak = quasi-peak = average (coincide)"); readings on the receiver's noise floor
+/// are left out (the floor line shows them), keeping the point next to a reading above it so each
+/// emission rises from the floor line rather than from the bottom of the plot.
+void add_detector_traces(SpectrumPlot& plot, const Prediction& p, const ScanResult& scan, bool before = false) {
+  const std::vector<Detector>& detectors = p.scenario.receiver.detectors;
+  std::vector<std::vector<Detector>> groups;
+  for (Detector d : detectors) {
+    bool joined = false;
+    for (auto& group : groups) {
+      const bool same = std::all_of(scan.readings.begin(), scan.readings.end(), [&](const Reading& r) {
+        return std::abs(r.level_db(d) - r.level_db(group.front())) < coincide_tolerance_db;
+      });
+      if (same) {
+        group.push_back(d);
+        joined = true;
+        break;
+      }
+    }
+    if (!joined) groups.push_back({d});
+  }
+  for (const auto& group : groups) {
+    const Detector d = group.front();
     PlotTrace trace;
-    trace.label = to_string(d);
-    trace.frequency_hz = f;
-    for (const Reading& r : scan.worst.readings) trace.level.push_back(r.level_db(d));
-    trace.colour = detector_colour(d);
-    // Drawn widest first: where the detectors agree (a steady line) all three stay visible.
-    trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
+    std::vector<std::string> names;
+    for (Detector member : group) names.push_back(to_string(member));
+    trace.label = (before ? "before: " : "") + join(names, " = ") + (group.size() > 1 ? " (coincide: one line drawn)" : "");
+    trace.colour = before ? before_colour(d) : detector_colour(d);
+    // Drawn widest first: where different detectors nearly agree all stay visible. The readings before
+    // a change (design-filter --report) are light and dashed.
+    trace.width_px = before ? 1.1 : d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
+    if (before) trace.dash = "5 3";
+    const std::size_t n = scan.readings.size();
+    auto on_floor = [&](std::size_t i) {
+      return scan.noise_floor_db && scan.readings[i].level_db(d) <= *scan.noise_floor_db + at_floor_tolerance_db;
+    };
+    for (std::size_t i = 0; i < n; ++i) {
+      const bool keep = !on_floor(i) || (i > 0 && !on_floor(i - 1)) || (i + 1 < n && !on_floor(i + 1));
+      trace.frequency_hz.push_back(scan.readings[i].frequency_hz);
+      trace.level.push_back(keep ? scan.readings[i].level_db(d) : std::numeric_limits<double>::quiet_NaN());
+    }
     plot.traces.push_back(std::move(trace));
   }
-  if (before) {
-    // The readings before the change: light, dashed, under the same detector names.
-    std::vector<double> bf;
-    for (const Reading& r : before->worst.readings) bf.push_back(r.frequency_hz);
-    for (Detector d : p.scenario.receiver.detectors) {
-      PlotTrace trace;
-      trace.label = "before: " + to_string(d);
-      trace.frequency_hz = bf;
-      for (const Reading& r : before->worst.readings) trace.level.push_back(r.level_db(d));
-      trace.colour = before_colour(d);
-      trace.dash = "5 3";
-      trace.width_px = 1.1;
-      plot.traces.push_back(std::move(trace));
-    }
-  }
-  if (scan.worst.noise_floor_db) {
-    // The receiver's noise floor: a detector trace lying on this line read only the floor there.
+}
+
+/// The receiver's noise floor of `scan` as a line, with the plot's bottom a little under it.
+void add_floor_trace(SpectrumPlot& plot, const ScanResult& scan) {
+  if (scan.noise_floor_db) {
+    // The receiver's noise floor: readings left out of the traces above lie on this line.
     PlotTrace floor;
-    floor.label = "receiver noise floor (readings on it: nothing above the floor)";
+    floor.label = "receiver noise floor (the readings between emissions)";
     floor.colour = "#8a8a8a";
-    floor.dash = "2 3";
-    floor.width_px = 1.2;
-    floor.frequency_hz = {band.start_hz, band.stop_hz};
-    floor.level = {*scan.worst.noise_floor_db, *scan.worst.noise_floor_db};
+    floor.width_px = 1.4;
+    floor.frequency_hz = {plot.min_hz, plot.max_hz};
+    floor.level = {*scan.noise_floor_db, *scan.noise_floor_db};
     plot.traces.push_back(std::move(floor));
+    plot.y_min = std::floor((*scan.noise_floor_db - 5.0) / 10.0) * 10.0;
   }
+}
+
+/// The limit lines of the sets measuring `quantity` (and, for a radiated plot, at `distance_m`): a
+/// colour per set, a dash pattern per detector.
+void add_limit_traces(SpectrumPlot& plot, const Prediction& p, LimitQuantity quantity,
+                      std::optional<double> distance_m) {
+  std::size_t set_index = 0;
   for (const LimitSet& set : p.scenario.limits.sets) {
-    if (set.measures != LimitQuantity::conducted_voltage) continue;
+    if (set.measures != quantity) continue;
+    if (distance_m && !(set.distance_m && std::abs(*set.distance_m - *distance_m) < 1e-9)) continue;
+    const char* colour = limit_set_colours[set_index++ % std::size(limit_set_colours)];
     for (const LimitLine& line : set.lines) {
       PlotTrace trace;
       trace.label = line_label(set, line) + " limit";
-      trace.colour = limit_colour;
+      trace.colour = colour;
       trace.width_px = 2.0;
       trace.dash = detector_dash(line.detector);
       double previous_end = -1.0;
@@ -705,17 +740,88 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const Band
       plot.traces.push_back(std::move(trace));
     }
   }
+}
+
+/// Most markers on one plot: the worst emissions (judgement: more crowd the labels out).
+constexpr std::size_t markers_per_plot = 5;
+
+/// One marker per emission: the worst margins of `quantity` inside [low_hz, high_hz], each labelled
+/// with its frequency, detector and margin. Readings within one receiver bandwidth of a marked one, or
+/// of the same harmonic of the fundamental (the skirts and dither spread of one line), are the same
+/// emission: only the worst is marked.
+void add_emission_markers(SpectrumPlot& plot, const Prediction& p, LimitQuantity quantity,
+                          std::optional<double> distance_m, double low_hz, double high_hz, double bandwidth_hz) {
+  const std::vector<LimitSet>& sets = p.scenario.limits.sets;
+  auto at_distance = [&](const MarginRow& row) {
+    if (!distance_m) return true;
+    return row.set_index < sets.size() && sets[row.set_index].distance_m &&
+           std::abs(*sets[row.set_index].distance_m - *distance_m) < 1e-9;
+  };
+  const double f0 = p.conducted ? p.conducted->fundamental_hz : p.switch_node_v.fundamental_hz;
+  auto harmonic = [&](double f) { return f0 > 0.0 ? std::lround(f / f0) : -1L; };
+  std::vector<MarginRow> rows;
+  for (const MarginRow& row : p.margins.rows) {
+    if (row.quantity == quantity && at_distance(row) && row.frequency_hz >= low_hz && row.frequency_hz <= high_hz) {
+      rows.push_back(row);
+    }
+  }
+  std::stable_sort(rows.begin(), rows.end(), [](const MarginRow& a, const MarginRow& b) { return a.margin_db < b.margin_db; });
+  std::vector<MarginRow> kept;
+  for (const MarginRow& row : rows) {
+    if (kept.size() >= markers_per_plot) break;
+    const bool same_emission = std::any_of(kept.begin(), kept.end(), [&](const MarginRow& k) {
+      return std::abs(k.frequency_hz - row.frequency_hz) <= bandwidth_hz ||
+             (f0 > 0.0 && harmonic(k.frequency_hz) == harmonic(row.frequency_hz));
+    });
+    if (!same_emission) kept.push_back(row);
+  }
+  for (const MarginRow& row : kept) {
+    plot.markers.push_back({row.frequency_hz, row.reading,
+                            frequency_quantity(row.frequency_hz) + " " + detector_short(row.reading_detector) + " " +
+                                signed_db(row.margin_db),
+                            "#a8321f"});
+  }
+  plot.marker_legend = "worst reading of an emission (frequency, detector, margin)";
+}
+
+}  // namespace
+
+SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const BandScan* before) {
+  const BandParameters band = band_parameters(scan.band);
+  SpectrumPlot plot;
+  plot.title = "Receiver readings at the LISN, CISPR band " + to_string(scan.band) + " (worst of the lines)";
+  plot.min_hz = band.start_hz;
+  plot.max_hz = band.stop_hz;
+  add_detector_traces(plot, p, scan.worst);
+  if (before) add_detector_traces(plot, p, before->worst, true);
+  add_floor_trace(plot, scan.worst);
+  add_limit_traces(plot, p, LimitQuantity::conducted_voltage, std::nullopt);
   for (const BandReception& b : p.reception) {
     if (b.band.high_hz <= plot.min_hz || b.band.low_hz >= plot.max_hz) continue;
     plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
   }
-  std::size_t marked = 0;
-  for (const WorstFrequency& w : worst_frequencies(p, 10)) {
-    if (w.row.frequency_hz < band.start_hz || w.row.frequency_hz > band.stop_hz || marked >= 3) continue;
-    plot.markers.push_back({w.row.frequency_hz, w.row.reading,
-                            detector_short(w.row.reading_detector) + " " + signed_db(w.row.margin_db), "#a8321f"});
-    ++marked;
+  add_emission_markers(plot, p, LimitQuantity::conducted_voltage, std::nullopt, band.start_hz, band.stop_hz,
+                       scan.worst.bandwidth_6db_hz);
+  return plot;
+}
+
+SpectrumPlot radiated_plot(const Prediction& p, const RadiatedScan& scan) {
+  const BandParameters band = band_parameters(scan.band);
+  SpectrumPlot plot;
+  plot.title = "Radiated field estimate at " + format_quantity(scan.distance_m, Dimension::length) + ", CISPR band " +
+               to_string(scan.band);
+  plot.y_label = "field (dB\xC2\xB5V/m)";
+  plot.min_hz = band.start_hz;
+  plot.max_hz = band.stop_hz;
+  add_detector_traces(plot, p, scan.scan);
+  add_floor_trace(plot, scan.scan);
+  add_limit_traces(plot, p, LimitQuantity::radiated_field, scan.distance_m);
+  for (const BandReception& b : p.reception) {
+    if (b.band.high_hz <= plot.min_hz || b.band.low_hz >= plot.max_hz) continue;
+    plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
   }
+  add_emission_markers(plot, p, LimitQuantity::radiated_field, scan.distance_m, band.start_hz, band.stop_hz,
+                       scan.scan.bandwidth_6db_hz);
   return plot;
 }
 
@@ -796,6 +902,13 @@ SpectrumPlot source_plot(const Prediction& p) {
     plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
   }
   return plot;
+}
+
+/// "10m", "3m": the distance in a file name.
+std::string radiated_distance_name(double distance_m) {
+  char buffer[32];
+  std::snprintf(buffer, sizeof buffer, "%gm", distance_m);
+  return buffer;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -958,6 +1071,13 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
            "their margin to the line of their detector" +
            (earlier ? std::string("; dashed and light: the readings before the change") : std::string()) +
            ".</figcaption>\n</figure>\n";
+  }
+  for (const RadiatedScan& scan : p.radiated_scans) {
+    plots_html += "<figure>\n" + spectrum_plot_svg(radiated_plot(p, scan)) + "<figcaption>Figure " +
+                  std::to_string(figure++) +
+                  ". The estimated radiated field read by the receiver (an estimate from the cable and hot-loop "
+                  "currents) against the radiated limit lines at the same distance; the worst emissions marked with "
+                  "their margin.</figcaption>\n</figure>\n";
   }
   plots_html += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
          ". Harmonic lines of the source (RMS)" +
@@ -1192,6 +1312,10 @@ std::vector<OutputFile> report_files(const Prediction& p, const Prediction* befo
   for (const BandScan& scan : p.scans) {
     files.push_back({"scan-" + to_string(scan.band) + ".svg",
                      spectrum_plot_svg(readings_plot(p, scan, before ? before_scan(*before, scan.band) : nullptr))});
+  }
+  for (const RadiatedScan& scan : p.radiated_scans) {
+    files.push_back({"radiated-" + to_string(scan.band) + "-" + radiated_distance_name(scan.distance_m) + ".svg",
+                     spectrum_plot_svg(radiated_plot(p, scan))});
   }
   files.push_back({"source.svg", spectrum_plot_svg(source_plot(p))});
   std::vector<std::string> names;

@@ -320,6 +320,79 @@ TEST_CASE("report.html leads with the answer: verdict, plots, what to change, ma
   CHECK(nlohmann::json::parse(result).at("ids").get<std::vector<std::string>>() == expected);
 }
 
+TEST_CASE("the readings plot: one marker per emission with frequency and margin, coinciding detectors drawn once") {
+  Prediction p = hand_prediction();
+  BandScan& b = p.scans[0];
+  // 1.005 MHz is a skirt of the 1 MHz line (within the 9 kHz bandwidth) and worse; 1.04 MHz is the
+  // same harmonic (10 of 100 kHz) further out. One emission: only 1.005 MHz QP (60 − 56 = 4 dB) is marked.
+  b.worst.readings = {reading(1e6, 58.0, 55.0, 44.0), reading(1.005e6, 59.0, 56.0, 45.0),
+                      reading(1.04e6, 57.0, 54.0, 43.0), reading(2e6, 50.0, 48.0, 45.0)};
+  p.margins = compare_with_limits(readings_from_scan(b.worst.readings, {Detector::quasi_peak, Detector::average}),
+                                  p.scenario.limits.sets, {.guard_db = 6.0});
+  const SpectrumPlot plot = readings_plot(p, b);
+  REQUIRE(plot.markers.size() == 2);
+  CHECK(plot.markers[0].label == "1.005 MHz QP 4.0 dB");
+  CHECK(plot.markers[1].label == "2 MHz AV 5.0 dB");
+  std::vector<std::string> labels;
+  for (const PlotTrace& trace : plot.traces) labels.push_back(trace.label);
+  CHECK(std::count(labels.begin(), labels.end(), "peak") == 1);  // the detectors differ: three traces
+  CHECK(std::count(labels.begin(), labels.end(), "average") == 1);
+
+  // A steady line reads the same on every detector: one trace, and the legend says so.
+  for (Reading& r : b.worst.readings) r.quasi_peak_db = r.average_db = r.peak_db;
+  const SpectrumPlot steady = readings_plot(p, b);
+  std::vector<std::string> steady_labels;
+  for (const PlotTrace& trace : steady.traces) steady_labels.push_back(trace.label);
+  CHECK(std::count(steady_labels.begin(), steady_labels.end(), "peak = quasi-peak = average (coincide: one line drawn)") == 1);
+  CHECK(std::count(steady_labels.begin(), steady_labels.end(), "peak") == 0);
+}
+
+TEST_CASE("limit sets get their own colour, detectors their own dash; the radiated plot draws its radiated line") {
+  Prediction p = hand_prediction();
+  LimitSet second = p.scenario.limits.sets.front();
+  second.name = "a second set";
+  p.scenario.limits.sets.push_back(second);
+  const SpectrumPlot plot = readings_plot(p, p.scans[0]);
+  std::map<std::string, std::pair<std::string, std::string>> style;  // label -> colour, dash
+  for (const PlotTrace& trace : plot.traces) style[trace.label] = {trace.colour, trace.dash};
+  REQUIRE(style.count("flat test line / quasi-peak limit") == 1);
+  REQUIRE(style.count("a second set / quasi-peak limit") == 1);
+  CHECK(style["flat test line / quasi-peak limit"].first != style["a second set / quasi-peak limit"].first);
+  CHECK(style["flat test line / quasi-peak limit"].second != style["flat test line / average limit"].second);
+
+  constexpr const char* radiated_limits = R"(
+name = "radiated test line"
+measures = "radiated-field"
+unit = "dBuV/m"
+distance = "10 m"
+source = "invented for this test"
+confidence = "from memory: invented"
+[[line]]
+detector = "quasi-peak"
+segment = [ { from = "30 MHz", to = "230 MHz", level = "30 dBuV/m" } ]
+)";
+  p.scenario.limits.sets.push_back(parse_limit_text(radiated_limits, "radiated.toml"));
+  RadiatedScan rs;
+  rs.band = CisprBand::C;
+  rs.distance_m = 10.0;
+  rs.scan.band = CisprBand::C;
+  rs.scan.bandwidth_6db_hz = 120e3;
+  rs.scan.readings = {reading(60e6, 40.0, 35.0, 20.0), reading(100e6, 20.0, 18.0, 10.0)};
+  p.radiated_scans.push_back(rs);
+  const SpectrumPlot radiated = radiated_plot(p, rs);
+  bool has_radiated_line = false, has_conducted_line = false;
+  for (const PlotTrace& trace : radiated.traces) {
+    has_radiated_line = has_radiated_line || trace.label == "radiated test line / quasi-peak limit";
+    has_conducted_line = has_conducted_line || trace.label.find("flat test line") != std::string::npos;
+  }
+  CHECK(has_radiated_line);
+  CHECK_FALSE(has_conducted_line);  // a limit only with a reading of its own quantity
+  CHECK(radiated.y_label == "field (dB\xC2\xB5V/m)");
+  CHECK(radiated_distance_name(10.0) == "10m");
+  const std::vector<OutputFile> files = report_files(p);
+  CHECK(std::any_of(files.begin(), files.end(), [](const OutputFile& f) { return f.name == "radiated-C-10m.svg"; }));
+}
+
 TEST_CASE("the files of a report are byte-reproducible and summary.json comes last") {
   const Prediction p = hand_prediction();
   const std::vector<OutputFile> first = report_files(p);
