@@ -167,6 +167,35 @@ struct SweepPlot {
 /// The text boxes the sweep plot places (for tests).
 [[nodiscard]] PlotLayout layout_sweep_plot(const SweepPlot& plot);
 
+// ---------------------------------------------------------------------------------------------
+// The channel strip of one broadcast band: the band on a linear frequency axis, every channel that
+// hears a line drawn as a block coloured by its verdict (clear / watch / noisy), the rest of the band
+// left white ("no line heard"), with a text legend that counts each verdict, so the strip reads
+// without colour and without script.
+
+struct StripChannel {
+  double centre_hz = 0.0;
+  std::string verdict;  ///< "clear", "watch" or "noisy"
+};
+
+struct ChannelStrip {
+  std::string title;       ///< the band's name
+  double low_hz = 0.0;     ///< band edges [Hz], low < high
+  double high_hz = 0.0;
+  double raster_hz = 0.0;  ///< channel spacing [Hz] (0: drawn as thin blocks)
+  std::vector<StripChannel> channels;  ///< ascending
+  bool not_computed = false;           ///< the whole band lies above the computed range
+  double width_px = 960.0;
+  double height_px = 78.0;
+};
+
+/// The strip as a standalone SVG. Error when the band edges are not 0 <= low < high.
+[[nodiscard]] std::string channel_strip_svg(const ChannelStrip& strip);
+/// The text boxes the strip places (for tests).
+[[nodiscard]] PlotLayout layout_channel_strip(const ChannelStrip& strip);
+/// The fill of a channel verdict in the strips and the sweep plot (our own palette).
+[[nodiscard]] std::string verdict_fill(const std::string& verdict);
+
 /// Escapes &, <, >, " and ' for XML text and attributes.
 [[nodiscard]] std::string xml_escape(std::string_view text);
 

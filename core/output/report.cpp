@@ -904,6 +904,17 @@ SpectrumPlot source_plot(const Prediction& p) {
   return plot;
 }
 
+ChannelStrip channel_strip(const BandReception& b) {
+  ChannelStrip strip;
+  strip.title = b.band.name;
+  strip.low_hz = b.band.low_hz;
+  strip.high_hz = b.band.high_hz;
+  strip.raster_hz = b.band.raster_hz;
+  strip.not_computed = b.verdict == ReceptionVerdict::not_computed;
+  for (const ChannelReception& c : b.channels) strip.channels.push_back({c.centre_hz, reception_verdict_name(c.verdict)});
+  return strip;
+}
+
 /// "10m", "3m": the distance in a file name.
 std::string radiated_distance_name(double distance_m) {
   char buffer[32];
@@ -955,6 +966,7 @@ td.section { color: var(--soft); white-space: nowrap; }
 .tag.fail, .tag.noisy { background:#f2d0c8; color:var(--fail); }
 .tag.not { background:#e4e1d8; color:var(--soft); }
 figure { margin: 0 0 18px; }
+figure.channel-strip { margin: 0 0 6px; }
 figure svg { width:100%; height:auto; border:1px solid var(--rule); border-radius:4px; background:#fbfaf6; }
 figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
 .practice { color: var(--soft); font-style: italic; }
@@ -1199,6 +1211,14 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
     bands_html += "<ol class=\"caveats\">\n";
     for (const std::string& caveat : caveats) bands_html += "<li>" + html(caveat) + "</li>\n";
     bands_html += "</ol>\n";
+  }
+  if (!p.reception.empty()) {
+    bands_html += "<h3>Channels of each band</h3>\n<p>Each channel that hears a line is a block coloured by its "
+                  "verdict; the rest of the band (white) hears none. The counts beside each strip say the same in "
+                  "words.</p>\n";
+    for (const BandReception& b : p.reception) {
+      bands_html += "<figure class=\"channel-strip\">\n" + channel_strip_svg(channel_strip(b)) + "</figure>\n";
+    }
   }
   if (!p.radiation_convention.empty()) bands_html += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
   bands_html += "</section>\n";

@@ -93,6 +93,10 @@ struct ScenarioInput {
 /// trapezoid's envelope for a described source, and the harmonics above it (ringing) marked.
 [[nodiscard]] SpectrumPlot source_plot(const Prediction& prediction);
 
+/// The channel strip of one broadcast band (core/output/plot.hpp ChannelStrip): each channel that
+/// hears a line with its verdict; a band above the computed range is drawn as not computed.
+[[nodiscard]] ChannelStrip channel_strip(const BandReception& band);
+
 /// The report page. `files` are the names written beside it (listed at the end).
 /// With `before` (the prediction of the scenario before a change, e.g. the filter design-filter
 /// proposed), the plots carry its readings too and the margins section opens with a before/after

@@ -261,3 +261,43 @@ TEST_CASE("every plot is well-formed XML, text is escaped, and bad input is refu
   CHECK(parses_as_xml(sweep_svg));
   CHECK(parses_as_xml(sweep_plot_svg(log_sweep)));
 }
+
+TEST_CASE("channel strip: a block per channel in its verdict's fill, a counting text legend, no overlap") {
+  ChannelStrip strip;
+  strip.title = "MW";
+  strip.low_hz = 526.5e3;
+  strip.high_hz = 1606.5e3;
+  strip.raster_hz = 9e3;
+  strip.channels = {{531e3, "noisy"}, {540e3, "noisy"}, {999e3, "watch"}, {1602e3, "clear"}};
+  const std::string svg = channel_strip_svg(strip);
+  CHECK(svg.find("fill=\"" + verdict_fill("noisy") + "\"><title>531 kHz: noisy</title>") != std::string::npos);
+  CHECK(svg.find("<title>999 kHz: watch</title>") != std::string::npos);
+  CHECK(svg.find(">2 noisy<") != std::string::npos);
+  CHECK(svg.find(">1 watch<") != std::string::npos);
+  CHECK(svg.find(">1 clear<") != std::string::npos);
+  CHECK(svg.find("white: no line heard") != std::string::npos);
+  // Our own fills, distinct per verdict.
+  CHECK(verdict_fill("noisy") != verdict_fill("watch"));
+  CHECK(verdict_fill("watch") != verdict_fill("clear"));
+  for (const double width : {480.0, 960.0}) {
+    strip.width_px = width;
+    const PlotLayout layout = layout_channel_strip(strip);
+    check_no_overlap(layout, width, strip.height_px);
+    CHECK(has_text(layout, "MW"));
+  }
+  // A long band name pushes the strip right instead of running into it.
+  strip.title = "60 m upper";
+  const PlotLayout named = layout_channel_strip(strip);
+  REQUIRE_FALSE(named.text_boxes.empty());
+  CHECK(named.text_boxes.front().x + named.text_boxes.front().width <= named.plot_left);
+  strip.not_computed = true;
+  CHECK(channel_strip_svg(strip).find("not computed (above the computed range)") != std::string::npos);
+  strip.high_hz = strip.low_hz;
+  CHECK_THROWS_WITH_AS(channel_strip_svg(strip), "channel strip frequency range must satisfy 0 <= low < high",
+                       Error);
+  if (have_python()) {
+    strip.high_hz = 1606.5e3;
+    strip.not_computed = false;
+    CHECK(parses_as_xml(channel_strip_svg(strip)));
+  }
+}

@@ -274,7 +274,8 @@ TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up
   REQUIRE_FALSE(result.empty());
   const nlohmann::json parsed = nlohmann::json::parse(result);
   CHECK(parsed.at("ids").get<std::vector<std::string>>() == report_section_ids());
-  CHECK(parsed.at("svg_count").get<int>() == 3);  // two band plots and the source plot
+  // Two band plots, the source plot and the MW band's channel strip (issue 19 added the strips).
+  CHECK(parsed.at("svg_count").get<int>() == 4);
 }
 
 TEST_CASE("report.html leads with the answer: verdict, plots, what to change, margins, bands, lab, inputs last") {
@@ -391,6 +392,26 @@ segment = [ { from = "30 MHz", to = "230 MHz", level = "30 dBuV/m" } ]
   CHECK(radiated_distance_name(10.0) == "10m");
   const std::vector<OutputFile> files = report_files(p);
   CHECK(std::any_of(files.begin(), files.end(), [](const OutputFile& f) { return f.name == "radiated-C-10m.svg"; }));
+}
+
+TEST_CASE("a channel strip per broadcast band: each channel that hears a line with its verdict") {
+  const Prediction p = hand_prediction();
+  const ChannelStrip strip = channel_strip(p.reception.front());
+  CHECK(strip.title == "MW");
+  CHECK(strip.low_hz == doctest::Approx(526.5e3));
+  REQUIRE(strip.channels.size() == 1);
+  CHECK(strip.channels[0].verdict == "noisy");
+  CHECK_FALSE(strip.not_computed);
+  const std::string page = report_html(p, {"report.html"});
+  const std::size_t bands_at = page.find("<section id=\"bands\"");
+  const std::string bands = page.substr(bands_at, page.find("</section>", bands_at) - bands_at);
+  CHECK(bands.find("<figure class=\"channel-strip\">") != std::string::npos);
+  CHECK(bands.find("999 kHz: noisy") != std::string::npos);  // the channel's own readout, no script needed
+  CHECK(bands.find(">1 noisy<") != std::string::npos);        // the text legend counts it
+  BandReception above = p.reception.front();
+  above.verdict = ReceptionVerdict::not_computed;
+  above.channels.clear();
+  CHECK(channel_strip(above).not_computed);
 }
 
 TEST_CASE("the files of a report are byte-reproducible and summary.json comes last") {
