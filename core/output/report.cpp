@@ -748,7 +748,7 @@ constexpr std::size_t markers_per_plot = 5;
 /// One marker per emission: the worst margins of `quantity` inside [low_hz, high_hz], each labelled
 /// with its frequency, detector and margin. Readings within one receiver bandwidth of a marked one, or
 /// of the same harmonic of the fundamental (the skirts and dither spread of one line), are the same
-/// emission: only the worst is marked.
+/// emission: only the worst is marked; so are lines too close to tell apart at the plot's scale.
 void add_emission_markers(SpectrumPlot& plot, const Prediction& p, LimitQuantity quantity,
                           std::optional<double> distance_m, double low_hz, double high_hz, double bandwidth_hz) {
   const std::vector<LimitSet>& sets = p.scenario.limits.sets;
@@ -766,12 +766,16 @@ void add_emission_markers(SpectrumPlot& plot, const Prediction& p, LimitQuantity
     }
   }
   std::stable_sort(rows.begin(), rows.end(), [](const MarginRow& a, const MarginRow& b) { return a.margin_db < b.margin_db; });
+  // Neighbouring harmonics closer than a fortieth of the plot's width (about 22 px at the report's
+  // size) cannot be told apart on it: the worst of them stands for the group (judgement).
+  const double min_separation_decades = std::log10(plot.max_hz / plot.min_hz) / 40.0;
   std::vector<MarginRow> kept;
   for (const MarginRow& row : rows) {
     if (kept.size() >= markers_per_plot) break;
     const bool same_emission = std::any_of(kept.begin(), kept.end(), [&](const MarginRow& k) {
       return std::abs(k.frequency_hz - row.frequency_hz) <= bandwidth_hz ||
-             (f0 > 0.0 && harmonic(k.frequency_hz) == harmonic(row.frequency_hz));
+             (f0 > 0.0 && harmonic(k.frequency_hz) == harmonic(row.frequency_hz)) ||
+             std::abs(std::log10(k.frequency_hz / row.frequency_hz)) < min_separation_decades;
     });
     if (!same_emission) kept.push_back(row);
   }

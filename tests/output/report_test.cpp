@@ -334,6 +334,14 @@ TEST_CASE("the readings plot: one marker per emission with frequency and margin,
   REQUIRE(plot.markers.size() == 2);
   CHECK(plot.markers[0].label == "1.005 MHz QP 4.0 dB");
   CHECK(plot.markers[1].label == "2 MHz AV 5.0 dB");
+  // Lines closer than a fortieth of the plot's 2.3 decades (a factor 1.14) cannot be told apart on it:
+  // 1.1 MHz (harmonic 11, margin 4.5 dB) is left to the worse 1.005 MHz marker.
+  b.worst.readings.push_back(reading(1.1e6, 58.0, 55.5, 44.0));
+  std::sort(b.worst.readings.begin(), b.worst.readings.end(),
+            [](const Reading& x, const Reading& y) { return x.frequency_hz < y.frequency_hz; });
+  p.margins = compare_with_limits(readings_from_scan(b.worst.readings, {Detector::quasi_peak, Detector::average}),
+                                  p.scenario.limits.sets, {.guard_db = 6.0});
+  CHECK(readings_plot(p, b).markers.size() == 2);
   std::vector<std::string> labels;
   for (const PlotTrace& trace : plot.traces) labels.push_back(trace.label);
   CHECK(std::count(labels.begin(), labels.end(), "peak") == 1);  // the detectors differ: three traces
