@@ -190,7 +190,7 @@ std::vector<Contributor> contributors_at(const Scenario& scenario, const Conduct
 
     // The source term: the harmonic, and what lifts it (a ringing mode, a resonance of the filter).
     c.source = "harmonic " + std::to_string(c.harmonic) + " of " +
-               format_quantity(f0, Dimension::frequency, 5);
+               format_quantity(f0, Dimension::frequency, 4);
     if (scenario.switching && scenario.switching->ringing) {
       const RingingSpec& r = *scenario.switching->ringing;
       // A ringing exp(−t/τ)·sin(2πf_r t) has a Lorentzian spectrum of half-power full width
@@ -239,7 +239,7 @@ std::vector<Contributor> contributors_at(const Scenario& scenario, const Conduct
 }
 
 std::string contributor_line(const Contributor& c) {
-  std::string line = format_quantity(c.frequency_hz, Dimension::frequency, 5) + ": DM " +
+  std::string line = format_quantity(c.frequency_hz, Dimension::frequency, 4) + ": DM " +
                      percent_text(c.dm_share) + " / CM " + percent_text(c.cm_share) + ", " +
                      c.source + "; " + c.path;
   if (!c.conversion.empty()) line += " (" + c.conversion + ")";

@@ -235,9 +235,9 @@ void whole_network_check(const Scenario& scenario, StabilityCheck& check) {
 
 std::string short_text(const Shortfall& s) {
   char buffer[64];
-  std::snprintf(buffer, sizeof buffer, "%.2f dB", s.db);
+  std::snprintf(buffer, sizeof buffer, "%.1f dB", s.db);
   return std::string(buffer) + " short at " +
-         format_quantity(s.frequency_hz, Dimension::frequency, 5) + " (" + s.detector + ")";
+         format_quantity(s.frequency_hz, Dimension::frequency, 4) + " (" + s.detector + ")";
 }
 
 }  // namespace
@@ -593,7 +593,7 @@ FilterDesign design_filter(const toml::table& table, const std::string& file,
   if (design.stability.computed &&
       design.stability.margin_db < design.stability.required_margin_db) {
     char buffer[96];
-    std::snprintf(buffer, sizeof buffer, "%.2f dB under the %.1f dB asked",
+    std::snprintf(buffer, sizeof buffer, "%.1f dB under the %.1f dB asked",
                   design.stability.required_margin_db - design.stability.margin_db,
                   design.stability.required_margin_db);
     const std::string where =

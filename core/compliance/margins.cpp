@@ -260,8 +260,8 @@ std::string row_unit_symbol(const MarginRow& row) {
 }
 
 std::string describe(const NotComputed& part) {
-  const std::string to = std::isfinite(part.to_hz) ? format_quantity(part.to_hz, Dimension::frequency, 5) : "up";
-  return format_quantity(part.from_hz, Dimension::frequency, 5) + "-" + to + " of " + part.limit_label + ": " +
+  const std::string to = std::isfinite(part.to_hz) ? format_quantity(part.to_hz, Dimension::frequency, 4) : "up";
+  return format_quantity(part.from_hz, Dimension::frequency, 4) + "-" + to + " of " + part.limit_label + ": " +
          part.reason;
 }
 

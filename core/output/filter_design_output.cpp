@@ -19,7 +19,7 @@ double rounded(double value, int decimals) {
 
 std::string db_text(double value_db) {
   char buffer[32];
-  std::snprintf(buffer, sizeof buffer, "%.2f dB", value_db);
+  std::snprintf(buffer, sizeof buffer, "%.1f dB", value_db);
   return buffer;
 }
 
@@ -37,7 +37,7 @@ std::string margins_text(const std::vector<DetectorMargin>& margins) {
   std::string out;
   for (const DetectorMargin& d : margins) {
     out += (out.empty() ? "" : ", ") + to_string(d.detector) + " " + db_text(d.worst.margin_db) +
-           " at " + format_quantity(d.worst.frequency_hz, Dimension::frequency, 5);
+           " at " + format_quantity(d.worst.frequency_hz, Dimension::frequency, 4);
   }
   return out.empty() ? "no margin computed" : out;
 }
@@ -118,7 +118,7 @@ std::string filter_design_text(const FilterDesign& d, const std::string& output_
     out += "\nrequired attenuation (reading - (limit - guard)), largest first:\n";
     std::vector<std::vector<std::string>> rows{{"frequency", "detector", "total", "DM", "CM"}};
     for (std::size_t i = 0; i < order.size() && i < 10; ++i) {
-      rows.push_back({format_quantity(order[i]->frequency_hz, Dimension::frequency, 5),
+      rows.push_back({format_quantity(order[i]->frequency_hz, Dimension::frequency, 4),
                       order[i]->detector, db_text(order[i]->required_db),
                       db_text(order[i]->dm_required_db), db_text(order[i]->cm_required_db)});
     }

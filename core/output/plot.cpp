@@ -6,6 +6,7 @@
 #include <cstdio>
 #include <functional>
 #include <limits>
+#include <map>
 #include <tuple>
 
 #include "core/input/error.hpp"
@@ -28,6 +29,7 @@ constexpr double tick_font_px = 11.0;
 constexpr double axis_title_font_px = 12.0;
 constexpr double span_font_px = 10.0;
 constexpr double marker_font_px = 11.0;
+constexpr double marker_radius_px = 4.5;
 constexpr double label_gap_px = 3.0;  // clearance kept around every label
 
 std::string number(double value) {
@@ -92,6 +94,9 @@ class TextPlacer {
     }
     for (const TextBox& other : layout_.text_boxes) {
       if (boxes_overlap(inflate(box, label_gap_px), other)) return false;
+    }
+    for (const TextBox& other : layout_.marker_boxes) {
+      if (boxes_overlap(box, other)) return false;
     }
     place(text, x, baseline_y, font_px, anchor, attributes, box);
     return true;
@@ -403,6 +408,19 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
   const LinearScale ys{y_min, y_max, layout.plot_bottom, layout.plot_top};
   const std::string clip = id_for(plot.title, "spectrum") + "-clip";
 
+  // The marker dots are known first, so no text (band names, labels) is placed over one.
+  std::vector<std::pair<double, double>> dots;
+  for (const PlotMarker& marker : plot.markers) {
+    if (marker.frequency_hz < plot.min_hz || marker.frequency_hz > plot.max_hz) {
+      dots.emplace_back(std::numeric_limits<double>::quiet_NaN(), 0.0);
+      continue;
+    }
+    const double x = xs.x(marker.frequency_hz);
+    const double y = clamp(ys.map(marker.level), layout.plot_top, layout.plot_bottom);
+    dots.emplace_back(x, y);
+    layout.marker_boxes.push_back({x - marker_radius_px, y - marker_radius_px, 2 * marker_radius_px, 2 * marker_radius_px});
+  }
+
   place_title(placer, plot.title, 12.0, plot.width_px - 12.0);
   place_legend(placer, svg, legend, layout.plot_left, layout.plot_right, 40.0);
 
@@ -471,34 +489,120 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
          number(layout.plot_right - layout.plot_left) + "\" height=\"" + number(layout.plot_bottom - layout.plot_top) +
          "\" fill=\"none\" stroke=\"" + soft_ink_colour + "\" stroke-width=\"1\"/>\n";
 
-  // Markers with their labels (above, below, or to a side, where there is room).
-  for (const PlotMarker& marker : plot.markers) {
-    if (marker.frequency_hz < plot.min_hz || marker.frequency_hz > plot.max_hz) continue;
-    const double x = xs.x(marker.frequency_hz);
-    const double y = clamp(ys.map(marker.level), layout.plot_top, layout.plot_bottom);
-    svg += "<circle cx=\"" + number(x) + "\" cy=\"" + number(y) + "\" r=\"4.5\" fill=\"" + marker.colour +
-           "\" stroke=\"#ffffff\" stroke-width=\"1.5\"/>\n";
-    if (marker.label.empty()) continue;
-    const std::string attributes = "fill=\"" + marker.colour + "\" font-weight=\"bold\"";
+  // Markers with their labels. Every dot is drawn first and kept clear of every label; each label
+  // then takes the first free place of a ring of candidates around its dot (above, to a side,
+  // below, then further out), in the markers' order (the worst first); a label that finds no free
+  // place is left out and listed in layout.dropped_marker_labels.
+  for (std::size_t m = 0; m < plot.markers.size(); ++m) {
+    const auto [x, y] = dots[m];
+    if (std::isnan(x)) continue;
+    svg += "<circle cx=\"" + number(x) + "\" cy=\"" + number(y) + "\" r=\"" + number(marker_radius_px) + "\" fill=\"" +
+           plot.markers[m].colour + "\" stroke=\"#ffffff\" stroke-width=\"1.5\"/>\n";
+  }
+  for (std::size_t m = 0; m < plot.markers.size(); ++m) {
+    const PlotMarker& marker = plot.markers[m];
+    const auto [x, y] = dots[m];
+    if (std::isnan(x) || marker.label.empty()) continue;
+    // A white halo keeps the label readable where it crosses a curve or a limit line.
+    const std::string attributes = "fill=\"" + marker.colour +
+                                   "\" font-weight=\"bold\" stroke=\"#ffffff\" stroke-width=\"3\" paint-order=\"stroke\"";
     const struct {
       double dx, dy;
       TextAnchor anchor;
-    } candidates[] = {{0, -10, TextAnchor::middle}, {8, -8, TextAnchor::start},  {-8, -8, TextAnchor::end},
-                      {0, 20, TextAnchor::middle},  {8, 16, TextAnchor::start},  {-8, 16, TextAnchor::end},
-                      {0, -24, TextAnchor::middle}, {0, 34, TextAnchor::middle}};
+    } candidates[] = {{0, -10, TextAnchor::middle}, {8, -8, TextAnchor::start},   {-8, -8, TextAnchor::end},
+                      {0, 20, TextAnchor::middle},  {8, 16, TextAnchor::start},   {-8, 16, TextAnchor::end},
+                      {0, -24, TextAnchor::middle}, {8, -22, TextAnchor::start},  {-8, -22, TextAnchor::end},
+                      {0, 34, TextAnchor::middle},  {8, 30, TextAnchor::start},   {-8, 30, TextAnchor::end},
+                      {0, -38, TextAnchor::middle}, {8, -36, TextAnchor::start},  {-8, -36, TextAnchor::end},
+                      {0, 48, TextAnchor::middle},  {0, -52, TextAnchor::middle}, {0, 62, TextAnchor::middle}};
+    bool placed = false;
     for (const auto& c : candidates) {
-      if (placer.try_place(marker.label, x + c.dx, y + c.dy, marker_font_px, c.anchor, attributes, plot_area)) break;
+      placed = placer.try_place(marker.label, x + c.dx, y + c.dy, marker_font_px, c.anchor, attributes, plot_area);
+      if (placed) break;
     }
+    if (!placed) layout.dropped_marker_labels.push_back(marker.label);
   }
   svg += "</svg>\n";
   return svg;
 }
+
+}  // namespace
 
 std::string verdict_fill(const std::string& verdict) {
   if (verdict == "clear") return "#cfe5d3";
   if (verdict == "watch") return "#f1d98f";
   if (verdict == "noisy") return "#dc8e7c";
   return "#eeeeee";
+}
+
+namespace {
+
+std::string render_strip(const ChannelStrip& strip, PlotLayout& layout) {
+  if (!(strip.width_px >= 240.0 && strip.height_px >= 60.0 && strip.width_px <= 20000.0 && strip.height_px <= 2000.0)) {
+    throw Error("channel strip size must be between 240 x 60 and 20000 x 2000 px");
+  }
+  if (!(strip.low_hz >= 0.0 && strip.high_hz > strip.low_hz) || !std::isfinite(strip.high_hz)) {
+    throw Error("channel strip frequency range must satisfy 0 <= low < high");
+  }
+  layout = PlotLayout{};
+  std::string svg = svg_open(strip.width_px, strip.height_px, strip.title + " channels");
+  TextPlacer placer(layout, svg, strip.width_px, strip.height_px);
+  // The strip starts after the band's name (a long user band name pushes it right, up to a third).
+  const double title_width = estimate_text_box(strip.title, 0, 0, legend_font_px, TextAnchor::start).width;
+  layout.plot_left = std::min(strip.width_px / 3.0, std::max(62.0, 8.0 + title_width + 10.0));
+  layout.plot_right = strip.width_px - 22.0;
+  layout.plot_top = 8.0;
+  layout.plot_bottom = 30.0;
+  const LinearScale xs{strip.low_hz, strip.high_hz, layout.plot_left, layout.plot_right};
+  placer.place(strip.title, 8.0, 24.0, legend_font_px, TextAnchor::start,
+               "fill=\"" + std::string(ink_colour) + "\" font-weight=\"bold\"");
+  svg += "<rect x=\"" + number(layout.plot_left) + "\" y=\"" + number(layout.plot_top) + "\" width=\"" +
+         number(layout.plot_right - layout.plot_left) + "\" height=\"" + number(layout.plot_bottom - layout.plot_top) +
+         "\" fill=\"" + (strip.not_computed ? verdict_fill("not computed") : std::string("#ffffff")) + "\"/>\n";
+  std::map<std::string, int> counts;
+  if (!strip.not_computed) {
+    // A channel is a block one raster wide (at least 1.5 px, so a single channel in a wide band shows).
+    const double px_per_hz = (layout.plot_right - layout.plot_left) / (strip.high_hz - strip.low_hz);
+    const double width = std::max(1.5, strip.raster_hz * px_per_hz);
+    for (const StripChannel& c : strip.channels) {
+      ++counts[c.verdict];
+      const double x = clamp(xs.map(c.centre_hz) - width / 2.0, layout.plot_left, layout.plot_right - width);
+      svg += "<rect x=\"" + number(x) + "\" y=\"" + number(layout.plot_top) + "\" width=\"" + number(width) +
+             "\" height=\"" + number(layout.plot_bottom - layout.plot_top) + "\" fill=\"" + verdict_fill(c.verdict) +
+             "\"><title>" + xml_escape(format_quantity(c.centre_hz, Dimension::frequency, 4) + ": " + c.verdict) +
+             "</title></rect>\n";
+    }
+  }
+  svg += "<rect x=\"" + number(layout.plot_left) + "\" y=\"" + number(layout.plot_top) + "\" width=\"" +
+         number(layout.plot_right - layout.plot_left) + "\" height=\"" + number(layout.plot_bottom - layout.plot_top) +
+         "\" fill=\"none\" stroke=\"" + soft_ink_colour + "\" stroke-width=\"1\"/>\n";
+  // The band edges under the strip.
+  const std::string tick_attributes = "fill=\"" + std::string(soft_ink_colour) + "\"";
+  placer.try_place(format_quantity(strip.low_hz, Dimension::frequency, 4), layout.plot_left, layout.plot_bottom + 14.0,
+                   tick_font_px, TextAnchor::start, tick_attributes);
+  placer.try_place(format_quantity(strip.high_hz, Dimension::frequency, 4), layout.plot_right,
+                   layout.plot_bottom + 14.0, tick_font_px, TextAnchor::end, tick_attributes);
+  // The text legend: a swatch and a count per verdict, so the strip reads without telling colours apart.
+  double x = layout.plot_left;
+  const double baseline = strip.height_px - 10.0;
+  std::vector<std::pair<std::string, std::string>> items;  // label, fill
+  if (strip.not_computed) {
+    items.push_back({"not computed (above the computed range)", verdict_fill("not computed")});
+  } else {
+    for (const char* verdict : {"noisy", "watch", "clear"}) {
+      items.push_back({std::to_string(counts[verdict]) + " " + verdict, verdict_fill(verdict)});
+    }
+    items.push_back({"white: no line heard", "#ffffff"});
+  }
+  for (const auto& [label, fill] : items) {
+    svg += "<rect x=\"" + number(x) + "\" y=\"" + number(baseline - 10.0) + "\" width=\"14\" height=\"10\" fill=\"" +
+           fill + "\" stroke=\"" + soft_ink_colour + "\" stroke-width=\"0.6\"/>\n";
+    placer.try_place(label, x + 20.0, baseline, legend_font_px, TextAnchor::start,
+                     "fill=\"" + std::string(ink_colour) + "\"");
+    x += 20.0 + estimate_text_box(label, 0, 0, legend_font_px, TextAnchor::start).width + 18.0;
+  }
+  svg += "</svg>\n";
+  return svg;
 }
 
 std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
@@ -731,6 +835,17 @@ std::string spectrum_plot_svg(const SpectrumPlot& plot) {
 std::string sweep_plot_svg(const SweepPlot& plot) {
   PlotLayout layout;
   return render_sweep(plot, layout);
+}
+
+std::string channel_strip_svg(const ChannelStrip& strip) {
+  PlotLayout layout;
+  return render_strip(strip, layout);
+}
+
+PlotLayout layout_channel_strip(const ChannelStrip& strip) {
+  PlotLayout layout;
+  (void)render_strip(strip, layout);
+  return layout;
 }
 
 PlotLayout layout_sweep_plot(const SweepPlot& plot) {

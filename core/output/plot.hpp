@@ -121,6 +121,8 @@ struct PlotLayout {
   std::vector<TextBox> text_boxes;  ///< every text drawn (titles, tick labels, legend, bands, markers)
   std::vector<std::string> texts;   ///< the text of each box, same order
   std::vector<std::string> dropped_span_labels;  ///< band names that found no free place
+  std::vector<TextBox> marker_boxes;  ///< the marker dots (no text is placed over them)
+  std::vector<std::string> dropped_marker_labels;  ///< marker labels that found no free place
 };
 
 /// The layout (positions of every text) of `plot`. Error on an invalid range or size.
@@ -164,6 +166,35 @@ struct SweepPlot {
 [[nodiscard]] std::string sweep_plot_svg(const SweepPlot& plot);
 /// The text boxes the sweep plot places (for tests).
 [[nodiscard]] PlotLayout layout_sweep_plot(const SweepPlot& plot);
+
+// ---------------------------------------------------------------------------------------------
+// The channel strip of one broadcast band: the band on a linear frequency axis, every channel that
+// hears a line drawn as a block coloured by its verdict (clear / watch / noisy), the rest of the band
+// left white ("no line heard"), with a text legend that counts each verdict, so the strip reads
+// without colour and without script.
+
+struct StripChannel {
+  double centre_hz = 0.0;
+  std::string verdict;  ///< "clear", "watch" or "noisy"
+};
+
+struct ChannelStrip {
+  std::string title;       ///< the band's name
+  double low_hz = 0.0;     ///< band edges [Hz], low < high
+  double high_hz = 0.0;
+  double raster_hz = 0.0;  ///< channel spacing [Hz] (0: drawn as thin blocks)
+  std::vector<StripChannel> channels;  ///< ascending
+  bool not_computed = false;           ///< the whole band lies above the computed range
+  double width_px = 960.0;
+  double height_px = 78.0;
+};
+
+/// The strip as a standalone SVG. Error when the band edges are not 0 <= low < high.
+[[nodiscard]] std::string channel_strip_svg(const ChannelStrip& strip);
+/// The text boxes the strip places (for tests).
+[[nodiscard]] PlotLayout layout_channel_strip(const ChannelStrip& strip);
+/// The fill of a channel verdict in the strips and the sweep plot (our own palette).
+[[nodiscard]] std::string verdict_fill(const std::string& verdict);
 
 /// Escapes &, <, >, " and ' for XML text and attributes.
 [[nodiscard]] std::string xml_escape(std::string_view text);

@@ -24,13 +24,13 @@ Colour verdict_colour(Verdict verdict) {
 
 std::string db_text(double value_db) {
   char buffer[32];
-  std::snprintf(buffer, sizeof buffer, "%.2f dB", value_db);
+  std::snprintf(buffer, sizeof buffer, "%.1f dB", value_db);
   return buffer;
 }
 
 std::string level_text(double level, const std::string& unit) {
   char buffer[48];
-  std::snprintf(buffer, sizeof buffer, "%.2f %s", level, unit.c_str());
+  std::snprintf(buffer, sizeof buffer, "%.1f %s", level, unit.c_str());
   return buffer;
 }
 
@@ -61,7 +61,7 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
     for (const DetectorMargin& d : m.worst_per_detector) {
       const Verdict v = verdict_for(d.worst.margin_db, m.guard_db);
       rows.push_back({to_string(d.detector), paint(db_text(d.worst.margin_db), verdict_colour(v), colour),
-                      "at " + format_quantity(d.worst.frequency_hz, Dimension::frequency, 5), d.worst.limit_label});
+                      "at " + format_quantity(d.worst.frequency_hz, Dimension::frequency, 4), d.worst.limit_label});
     }
     out += format_columns(rows, {1});
   }
@@ -72,7 +72,7 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
     std::vector<std::vector<std::string>> rows{{"frequency", "detector", "reading", "limit", "margin", "line"}};
     for (const WorstFrequency& w : worst) {
       const Verdict v = verdict_for(w.row.margin_db, m.guard_db);
-      rows.push_back({format_quantity(w.row.frequency_hz, Dimension::frequency, 5), to_string(w.row.reading_detector),
+      rows.push_back({format_quantity(w.row.frequency_hz, Dimension::frequency, 4), to_string(w.row.reading_detector),
                       level_text(w.row.reading, row_unit_symbol(w.row)) +
                           (w.row.quantity == LimitQuantity::radiated_field ? " (estimate)" : ""),
                       level_text(w.row.limit, row_unit_symbol(w.row)),
@@ -100,7 +100,7 @@ std::string prediction_summary(const Prediction& p, const std::string& directory
                                    paint(verdict_name, reception_colour(verdict_name), colour)};
       if (b.worst_channel) {
         const ChannelReception& c = b.channels[*b.worst_channel];
-        row.push_back("worst channel " + format_quantity(c.centre_hz, Dimension::frequency, 5));
+        row.push_back("worst channel " + format_quantity(c.centre_hz, Dimension::frequency, 4));
         row.push_back(level_text(c.level_dbuvm, "dB\xC2\xB5V/m"));
       }
       rows.push_back(std::move(row));

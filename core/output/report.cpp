@@ -31,7 +31,10 @@ std::string fixed(double value, int decimals) {
   if (text.find_first_not_of("-0.") == std::string::npos && text.front() == '-') text.erase(0, 1);  // no "-0.00"
   return text;
 }
+/// Levels in the CSVs: fixed 0.01 dB, so the files keep what the model computed.
 std::string level_text(double level_db) { return fixed(level_db, 2); }
+/// Levels and margins on the page: 0.1 dB, no finer than any model of this kind is right (issue 19).
+std::string page_level_text(double level_db) { return fixed(level_db, 1); }
 std::string frequency_text(double frequency_hz) { return fixed(frequency_hz, 1); }
 /// The value exactly as the CSV prints it, for JSON (so the two agree to the last digit).
 double rounded(double value, int decimals) { return std::stod(fixed(value, decimals)); }
@@ -90,7 +93,8 @@ std::string signed_db(double value_db, int decimals = 1) {
   return text + " dB";
 }
 
-std::string frequency_quantity(double frequency_hz) { return format_quantity(frequency_hz, Dimension::frequency, 5); }
+/// Frequencies in text: 4 significant digits (issue 19; the CSVs and JSON keep full precision).
+std::string frequency_quantity(double frequency_hz) { return format_quantity(frequency_hz, Dimension::frequency, 4); }
 
 /// The 6 dB bandwidth of the scan holding `frequency_hz` (9 kHz when no scan holds it).
 
@@ -145,8 +149,8 @@ std::vector<std::string> not_computed_lines(const Prediction& p) {
   std::vector<std::string> lines;
   for (const NotComputed& part : p.margins.not_computed) lines.push_back(describe(part));
   for (const UncomputedRange& range : p.unread_bands) {
-    lines.push_back(format_quantity(range.from_hz, Dimension::frequency, 5) + "-" +
-                    format_quantity(range.to_hz, Dimension::frequency, 5) + " of " + range.what + ": " + range.reason);
+    lines.push_back(frequency_quantity(range.from_hz) + "-" +
+                    frequency_quantity(range.to_hz) + " of " + range.what + ": " + range.reason);
   }
   std::vector<std::string> bands;
   for (const BandReception& b : p.reception) {
@@ -154,7 +158,7 @@ std::vector<std::string> not_computed_lines(const Prediction& p) {
   }
   if (!bands.empty()) {
     lines.push_back("broadcast band" + std::string(bands.size() > 1 ? "s " : " ") + join(bands, ", ") +
-                    ": the source's lines stop at " + format_quantity(p.computed_up_to_hz, Dimension::frequency, 5) +
+                    ": the source's lines stop at " + frequency_quantity(p.computed_up_to_hz) +
                     " (half the capture's sample rate)");
   }
   return lines;
@@ -184,7 +188,7 @@ std::string verdict_sentence(const Prediction& p) {
   if (p.verdict == Verdict::no_limits) return out + "no limit lines were given: nothing was compared";
   if (!m.worst) return out + "no reading fell within the limit lines: nothing compared";
   const MarginRow& w = *m.worst;
-  const std::string where = "worst margin " + signed_db(w.margin_db, 2) + " (" + to_string(w.reading_detector) +
+  const std::string where = "worst margin " + signed_db(w.margin_db) + " (" + to_string(w.reading_detector) +
                             " reading at " + frequency_quantity(w.frequency_hz) + " against " + w.limit_label + ")";
   switch (p.verdict) {
     case Verdict::pass: return out + "every limit is met with the " + signed_db(m.guard_db, 1) + " guard band: " + where;
@@ -655,56 +659,91 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
 // ---------------------------------------------------------------------------------------------
 // Plots.
 
-SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const BandScan* before) {
-  const BandParameters band = band_parameters(scan.band);
-  SpectrumPlot plot;
-  plot.title = "Receiver readings at the LISN, CISPR band " + to_string(scan.band) + " (worst of the lines)";
-  plot.min_hz = band.start_hz;
-  plot.max_hz = band.stop_hz;
-  std::vector<double> f;
-  for (const Reading& r : scan.worst.readings) f.push_back(r.frequency_hz);
-  for (Detector d : p.scenario.receiver.detectors) {
+namespace {
+
+/// Two detectors' traces closer than this everywhere are drawn as one, with a note in the legend [dB]
+/// (judgement: under the 0.1 dB the text shows and under a line's width at the plot's scale).
+constexpr double coincide_tolerance_db = 0.05;
+/// A reading within this of the receiver's noise floor read only the floor [dB] (judgement, as above).
+constexpr double at_floor_tolerance_db = 0.05;
+
+/// The line colours of the limit sets, one per set in scenario order (our own dark hues; the
+/// detector of a line is its dash pattern, so a set is its colour).
+constexpr const char* limit_set_colours[] = {"#22303a", "#8a5a12", "#2e6b4f", "#6b2e5f"};
+
+/// The detector traces of `scan`: detectors whose readings coincide everywhere are drawn once, labelled
+/// with every name ("peak = quasi-peak = average (coincide)"); readings on the receiver's noise floor
+/// are left out (the floor line shows them), keeping the point next to a reading above it so each
+/// emission rises from the floor line rather than from the bottom of the plot.
+void add_detector_traces(SpectrumPlot& plot, const Prediction& p, const ScanResult& scan, bool before = false) {
+  const std::vector<Detector>& detectors = p.scenario.receiver.detectors;
+  std::vector<std::vector<Detector>> groups;
+  for (Detector d : detectors) {
+    bool joined = false;
+    for (auto& group : groups) {
+      const bool same = std::all_of(scan.readings.begin(), scan.readings.end(), [&](const Reading& r) {
+        return std::abs(r.level_db(d) - r.level_db(group.front())) < coincide_tolerance_db;
+      });
+      if (same) {
+        group.push_back(d);
+        joined = true;
+        break;
+      }
+    }
+    if (!joined) groups.push_back({d});
+  }
+  for (const auto& group : groups) {
+    const Detector d = group.front();
     PlotTrace trace;
-    trace.label = to_string(d);
-    trace.frequency_hz = f;
-    for (const Reading& r : scan.worst.readings) trace.level.push_back(r.level_db(d));
-    trace.colour = detector_colour(d);
-    // Drawn widest first: where the detectors agree (a steady line) all three stay visible.
-    trace.width_px = d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
+    std::vector<std::string> names;
+    for (Detector member : group) names.push_back(to_string(member));
+    trace.label = (before ? "before: " : "") + join(names, " = ") + (group.size() > 1 ? " (coincide: one line drawn)" : "");
+    trace.colour = before ? before_colour(d) : detector_colour(d);
+    // Drawn widest first: where different detectors nearly agree all stay visible. The readings before
+    // a change (design-filter --report) are light and dashed.
+    trace.width_px = before ? 1.1 : d == Detector::peak ? 2.6 : d == Detector::quasi_peak ? 1.7 : 1.0;
+    if (before) trace.dash = "5 3";
+    const std::size_t n = scan.readings.size();
+    auto on_floor = [&](std::size_t i) {
+      return scan.noise_floor_db && scan.readings[i].level_db(d) <= *scan.noise_floor_db + at_floor_tolerance_db;
+    };
+    for (std::size_t i = 0; i < n; ++i) {
+      const bool keep = !on_floor(i) || (i > 0 && !on_floor(i - 1)) || (i + 1 < n && !on_floor(i + 1));
+      trace.frequency_hz.push_back(scan.readings[i].frequency_hz);
+      trace.level.push_back(keep ? scan.readings[i].level_db(d) : std::numeric_limits<double>::quiet_NaN());
+    }
     plot.traces.push_back(std::move(trace));
   }
-  if (before) {
-    // The readings before the change: light, dashed, under the same detector names.
-    std::vector<double> bf;
-    for (const Reading& r : before->worst.readings) bf.push_back(r.frequency_hz);
-    for (Detector d : p.scenario.receiver.detectors) {
-      PlotTrace trace;
-      trace.label = "before: " + to_string(d);
-      trace.frequency_hz = bf;
-      for (const Reading& r : before->worst.readings) trace.level.push_back(r.level_db(d));
-      trace.colour = before_colour(d);
-      trace.dash = "5 3";
-      trace.width_px = 1.1;
-      plot.traces.push_back(std::move(trace));
-    }
-  }
-  if (scan.worst.noise_floor_db) {
-    // The receiver's noise floor: a detector trace lying on this line read only the floor there.
+}
+
+/// The receiver's noise floor of `scan` as a line, with the plot's bottom a little under it.
+void add_floor_trace(SpectrumPlot& plot, const ScanResult& scan) {
+  if (scan.noise_floor_db) {
+    // The receiver's noise floor: readings left out of the traces above lie on this line.
     PlotTrace floor;
-    floor.label = "receiver noise floor (readings on it: nothing above the floor)";
+    floor.label = "receiver noise floor (the readings between emissions)";
     floor.colour = "#8a8a8a";
-    floor.dash = "2 3";
-    floor.width_px = 1.2;
-    floor.frequency_hz = {band.start_hz, band.stop_hz};
-    floor.level = {*scan.worst.noise_floor_db, *scan.worst.noise_floor_db};
+    floor.width_px = 1.4;
+    floor.frequency_hz = {plot.min_hz, plot.max_hz};
+    floor.level = {*scan.noise_floor_db, *scan.noise_floor_db};
     plot.traces.push_back(std::move(floor));
+    plot.y_min = std::floor((*scan.noise_floor_db - 5.0) / 10.0) * 10.0;
   }
+}
+
+/// The limit lines of the sets measuring `quantity` (and, for a radiated plot, at `distance_m`): a
+/// colour per set, a dash pattern per detector.
+void add_limit_traces(SpectrumPlot& plot, const Prediction& p, LimitQuantity quantity,
+                      std::optional<double> distance_m) {
+  std::size_t set_index = 0;
   for (const LimitSet& set : p.scenario.limits.sets) {
-    if (set.measures != LimitQuantity::conducted_voltage) continue;
+    if (set.measures != quantity) continue;
+    if (distance_m && !(set.distance_m && std::abs(*set.distance_m - *distance_m) < 1e-9)) continue;
+    const char* colour = limit_set_colours[set_index++ % std::size(limit_set_colours)];
     for (const LimitLine& line : set.lines) {
       PlotTrace trace;
       trace.label = line_label(set, line) + " limit";
-      trace.colour = limit_colour;
+      trace.colour = colour;
       trace.width_px = 2.0;
       trace.dash = detector_dash(line.detector);
       double previous_end = -1.0;
@@ -722,17 +761,92 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const Band
       plot.traces.push_back(std::move(trace));
     }
   }
+}
+
+/// Most markers on one plot: the worst emissions (judgement: more crowd the labels out).
+constexpr std::size_t markers_per_plot = 5;
+
+/// One marker per emission: the worst margins of `quantity` inside [low_hz, high_hz], each labelled
+/// with its frequency, detector and margin. Readings within one receiver bandwidth of a marked one, or
+/// of the same harmonic of the fundamental (the skirts and dither spread of one line), are the same
+/// emission: only the worst is marked; so are lines too close to tell apart at the plot's scale.
+void add_emission_markers(SpectrumPlot& plot, const Prediction& p, LimitQuantity quantity,
+                          std::optional<double> distance_m, double low_hz, double high_hz, double bandwidth_hz) {
+  const std::vector<LimitSet>& sets = p.scenario.limits.sets;
+  auto at_distance = [&](const MarginRow& row) {
+    if (!distance_m) return true;
+    return row.set_index < sets.size() && sets[row.set_index].distance_m &&
+           std::abs(*sets[row.set_index].distance_m - *distance_m) < 1e-9;
+  };
+  const double f0 = p.conducted ? p.conducted->fundamental_hz : p.switch_node_v.fundamental_hz;
+  auto harmonic = [&](double f) { return f0 > 0.0 ? std::lround(f / f0) : -1L; };
+  std::vector<MarginRow> rows;
+  for (const MarginRow& row : p.margins.rows) {
+    if (row.quantity == quantity && at_distance(row) && row.frequency_hz >= low_hz && row.frequency_hz <= high_hz) {
+      rows.push_back(row);
+    }
+  }
+  std::stable_sort(rows.begin(), rows.end(), [](const MarginRow& a, const MarginRow& b) { return a.margin_db < b.margin_db; });
+  // Neighbouring harmonics closer than a fortieth of the plot's width (about 22 px at the report's
+  // size) cannot be told apart on it: the worst of them stands for the group (judgement).
+  const double min_separation_decades = std::log10(plot.max_hz / plot.min_hz) / 40.0;
+  std::vector<MarginRow> kept;
+  for (const MarginRow& row : rows) {
+    if (kept.size() >= markers_per_plot) break;
+    const bool same_emission = std::any_of(kept.begin(), kept.end(), [&](const MarginRow& k) {
+      return std::abs(k.frequency_hz - row.frequency_hz) <= bandwidth_hz ||
+             (f0 > 0.0 && harmonic(k.frequency_hz) == harmonic(row.frequency_hz)) ||
+             std::abs(std::log10(k.frequency_hz / row.frequency_hz)) < min_separation_decades;
+    });
+    if (!same_emission) kept.push_back(row);
+  }
+  for (const MarginRow& row : kept) {
+    plot.markers.push_back({row.frequency_hz, row.reading,
+                            frequency_quantity(row.frequency_hz) + " " + detector_short(row.reading_detector) + " " +
+                                signed_db(row.margin_db),
+                            "#a8321f"});
+  }
+  plot.marker_legend = "worst reading of an emission (frequency, detector, margin)";
+}
+
+}  // namespace
+
+SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const BandScan* before) {
+  const BandParameters band = band_parameters(scan.band);
+  SpectrumPlot plot;
+  plot.title = "Receiver readings at the LISN, CISPR band " + to_string(scan.band) + " (worst of the lines)";
+  plot.min_hz = band.start_hz;
+  plot.max_hz = band.stop_hz;
+  add_detector_traces(plot, p, scan.worst);
+  if (before) add_detector_traces(plot, p, before->worst, true);
+  add_floor_trace(plot, scan.worst);
+  add_limit_traces(plot, p, LimitQuantity::conducted_voltage, std::nullopt);
   for (const BandReception& b : p.reception) {
     if (b.band.high_hz <= plot.min_hz || b.band.low_hz >= plot.max_hz) continue;
     plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
   }
-  std::size_t marked = 0;
-  for (const WorstFrequency& w : worst_frequencies(p, 10)) {
-    if (w.row.frequency_hz < band.start_hz || w.row.frequency_hz > band.stop_hz || marked >= 3) continue;
-    plot.markers.push_back({w.row.frequency_hz, w.row.reading,
-                            detector_short(w.row.reading_detector) + " " + signed_db(w.row.margin_db), "#a8321f"});
-    ++marked;
+  add_emission_markers(plot, p, LimitQuantity::conducted_voltage, std::nullopt, band.start_hz, band.stop_hz,
+                       scan.worst.bandwidth_6db_hz);
+  return plot;
+}
+
+SpectrumPlot radiated_plot(const Prediction& p, const RadiatedScan& scan) {
+  const BandParameters band = band_parameters(scan.band);
+  SpectrumPlot plot;
+  plot.title = "Radiated field estimate at " + format_quantity(scan.distance_m, Dimension::length) + ", CISPR band " +
+               to_string(scan.band);
+  plot.y_label = "field (dB\xC2\xB5V/m)";
+  plot.min_hz = band.start_hz;
+  plot.max_hz = band.stop_hz;
+  add_detector_traces(plot, p, scan.scan);
+  add_floor_trace(plot, scan.scan);
+  add_limit_traces(plot, p, LimitQuantity::radiated_field, scan.distance_m);
+  for (const BandReception& b : p.reception) {
+    if (b.band.high_hz <= plot.min_hz || b.band.low_hz >= plot.max_hz) continue;
+    plot.spans.push_back({b.band.name, b.band.low_hz, b.band.high_hz, "#e8d9ae"});
   }
+  add_emission_markers(plot, p, LimitQuantity::radiated_field, scan.distance_m, band.start_hz, band.stop_hz,
+                       scan.scan.bandwidth_6db_hz);
   return plot;
 }
 
@@ -815,12 +929,30 @@ SpectrumPlot source_plot(const Prediction& p) {
   return plot;
 }
 
+ChannelStrip channel_strip(const BandReception& b) {
+  ChannelStrip strip;
+  strip.title = b.band.name;
+  strip.low_hz = b.band.low_hz;
+  strip.high_hz = b.band.high_hz;
+  strip.raster_hz = b.band.raster_hz;
+  strip.not_computed = b.verdict == ReceptionVerdict::not_computed;
+  for (const ChannelReception& c : b.channels) strip.channels.push_back({c.centre_hz, reception_verdict_name(c.verdict)});
+  return strip;
+}
+
+/// "10m", "3m": the distance in a file name.
+std::string radiated_distance_name(double distance_m) {
+  char buffer[32];
+  std::snprintf(buffer, sizeof buffer, "%gm", distance_m);
+  return buffer;
+}
+
 // ---------------------------------------------------------------------------------------------
 // The page.
 
 const std::vector<std::string>& report_section_ids() {
-  static const std::vector<std::string> ids{"verdict", "scenario", "plots", "margins", "bands",
-                                            "pre-lab", "assumptions", "safety", "files"};
+  static const std::vector<std::string> ids{"verdict", "plots",  "changes",     "margins", "bands",
+                                            "pre-lab", "safety", "assumptions", "inputs",  "files"};
   return ids;
 }
 
@@ -838,7 +970,10 @@ h1 { margin: 4px 0 6px; font-size: 26px; }
 h2 { margin: 0 0 12px; font-size: 19px; border-bottom: 2px solid var(--rule); padding-bottom: 4px; }
 h3 { margin: 16px 0 6px; font-size: 15px; }
 section { background:var(--card); border:1px solid var(--rule); border-radius:6px; padding:16px 20px; margin:18px 0; }
-.verdict { display:flex; gap:16px; align-items:center; border-left:10px solid var(--soft); }
+.verdict { border-left:10px solid var(--soft); }
+.verdict-head { display:flex; gap:16px; align-items:center; }
+.verdict .not-computed { border-left:4px solid var(--fail); padding-left:12px; margin-top:10px; }
+.band-summary { margin:10px 0 0; }
 .verdict .word { font-size: 28px; font-weight: bold; letter-spacing:.04em; }
 .verdict.pass { border-left-color:var(--pass); } .verdict.pass .word { color:var(--pass); }
 .verdict.marginal { border-left-color:var(--marginal); } .verdict.marginal .word { color:var(--marginal); }
@@ -856,6 +991,7 @@ td.section { color: var(--soft); white-space: nowrap; }
 .tag.fail, .tag.noisy { background:#f2d0c8; color:var(--fail); }
 .tag.not { background:#e4e1d8; color:var(--soft); }
 figure { margin: 0 0 18px; }
+figure.channel-strip { margin: 0 0 6px; }
 figure svg { width:100%; height:auto; border:1px solid var(--rule); border-radius:4px; background:#fbfaf6; }
 figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
 .practice { color: var(--soft); font-style: italic; }
@@ -863,6 +999,20 @@ figcaption { color: var(--soft); font-size: 13px; margin-top: 4px; }
 ul { margin: 6px 0; padding-left: 22px; }
 code { font-family: 'DejaVu Sans Mono','Liberation Mono',monospace; font-size: 13px; }
 footer { color: var(--soft); font-size: 12px; text-align:center; margin-top: 24px; }
+@media print {
+  * { position: static !important; box-shadow: none !important; }
+  :root { --paper:#fff; --card:#fff; --ink:#000; --soft:#333; --rule:#999; }
+  body { background:#fff; color:#000; font-size: 11pt; }
+  main { max-width:none; padding:0; }
+  section { border:none; border-radius:0; padding:0; margin:0 0 12pt; }
+  #plots, #changes, #margins, #bands, #pre-lab, #safety, #assumptions, #inputs, #files { break-before: page; }
+  figure, svg, tr, .verdict-head, .not-computed { break-inside: avoid; }
+  h2, h3 { break-after: avoid; }
+  th { background:#fff; }
+  .tag { border:1px solid #000; background:#fff !important; color:#000 !important; }
+  .verdict .word, .verdict .not-computed { color:#000 !important; }
+  a { color:#000; }
+}
 )css";
 
 std::string tag(const std::string& text) { return "<span class=\"tag " + html(text) + "\">" + html(text) + "</span>"; }
@@ -875,7 +1025,7 @@ std::string contributors_table(const std::vector<Contributor>& list) {
     char dm[16], cm[16];
     std::snprintf(dm, sizeof dm, "%.0f %%", 100.0 * c.dm_share);
     std::snprintf(cm, sizeof cm, "%.0f %%", 100.0 * c.cm_share);
-    out += "<tr><td class=\"num\">" + html(format_quantity(c.frequency_hz, Dimension::frequency, 5)) +
+    out += "<tr><td class=\"num\">" + html(frequency_quantity(c.frequency_hz)) +
            "</td><td class=\"num\">" + dm + "</td><td class=\"num\">" + cm + "</td><td>" + html(c.source) +
            "</td><td>" + html(c.path) + (c.conversion.empty() ? "" : "; " + html(c.conversion)) + "</td></tr>\n";
   }
@@ -888,10 +1038,10 @@ std::string margin_table(const Prediction& p, const std::vector<WorstFrequency>&
   for (const WorstFrequency& w : rows) {
     const MarginRow& r = w.row;
     out += "<tr><td class=\"num\">" + html(frequency_quantity(r.frequency_hz)) + "</td><td>" +
-           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + level_text(r.reading) + " " +
+           html(to_string(r.reading_detector)) + "</td><td class=\"num\">" + page_level_text(r.reading) + " " +
            row_unit_symbol(r) + (r.quantity == LimitQuantity::radiated_field ? " (estimate)" : "") +
-           "</td><td class=\"num\">" + level_text(r.limit) + " " + row_unit_symbol(r) + "</td><td class=\"num\">" +
-           html(signed_db(r.margin_db, 2)) + "</td><td class=\"num\">" +
+           "</td><td class=\"num\">" + page_level_text(r.limit) + " " + row_unit_symbol(r) + "</td><td class=\"num\">" +
+           html(signed_db(r.margin_db)) + "</td><td class=\"num\">" +
            (r.uncertainty_db ? html(fixed(*r.uncertainty_db, 1) + " dB") : "\xE2\x80\x94") + "</td><td>" +
            html(r.limit_label) + "</td><td>" + tag(to_string(verdict_for(r.margin_db, p.margins.guard_db))) +
            "</td></tr>\n";
@@ -915,31 +1065,43 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   if (!s.description.empty()) out += "<p>" + html(s.description) + "</p>\n";
   out += "</header>\n";
 
-  // 1. The verdict in one line.
-  out += "<section id=\"verdict\" class=\"verdict " + verdict + "\">\n<h2 hidden>Verdict</h2>\n<span class=\"word\">" +
-         verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span>\n</section>\n";
+  // The answer first (issue 19): the verdict with its one-line reason, what was not computed, and
+  // the broadcast bands' verdicts in one line; everything else follows in the order of use.
+  std::string verdict_html = "<section id=\"verdict\" class=\"verdict " + verdict +
+                             "\">\n<h2 hidden>Verdict</h2>\n<div class=\"verdict-head\"><span class=\"word\">" +
+                             verdict_word(p.verdict) + "</span>\n<span>" + html(verdict_sentence(p)) + ".</span></div>\n";
   if (const std::vector<std::string> missing = not_computed_lines(p); !missing.empty()) {
-    out += "<section id=\"not-computed\" class=\"caution\">\n<h2>Not computed</h2>\n<ul>\n";
-    for (const std::string& line : missing) out += "<li>" + html(line) + "</li>\n";
-    out += "</ul>\n</section>\n";
+    verdict_html += "<div class=\"not-computed\">\n<h3>Not computed</h3>\n<ul>\n";
+    for (const std::string& line : missing) verdict_html += "<li>" + html(line) + "</li>\n";
+    verdict_html += "</ul>\n</div>\n";
   }
+  if (!p.reception.empty()) {
+    verdict_html += "<p class=\"band-summary\">Broadcast bands:";
+    for (const BandReception& b : p.reception) {
+      verdict_html += " " + html(b.band.name) + " " + tag(reception_verdict_name(b.verdict));
+    }
+    verdict_html += "</p>\n";
+  }
+  verdict_html += "</section>\n";
 
-  // 2. The scenario.
-  out += "<section id=\"scenario\">\n<h2>Scenario</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
+  // Appendix: the inputs.
+  std::string inputs_html;
+  inputs_html += "<section id=\"inputs\">\n<h2>Appendix: inputs</h2>\n<table>\n<tr><th>section</th><th>input</th><th>value</th></tr>\n";
   std::string last_section;
   for (const ScenarioInput& row : scenario_inputs(s)) {
-    out += "<tr><td class=\"section\">" + (row.section == last_section ? std::string() : html(row.section)) +
+    inputs_html += "<tr><td class=\"section\">" + (row.section == last_section ? std::string() : html(row.section)) +
            "</td><td>" + html(row.name) + "</td><td>" + html(row.value) + "</td></tr>\n";
     last_section = row.section;
   }
-  out += "</table>\n<p>LISN set-up the levels refer to: " + html(p.setup_description) + "</p>\n</section>\n";
+  inputs_html += "</table>\n<p>LISN set-up the levels refer to: " + html(p.setup_description) + "</p>\n</section>\n";
 
-  // 3. The plots.
-  out += "<section id=\"plots\">\n<h2>Plots</h2>\n";
+  // The plots.
+  std::string plots_html;
+  plots_html += "<section id=\"plots\">\n<h2>Plots</h2>\n";
   int figure = 1;
   for (const BandScan& scan : p.scans) {
     const BandScan* earlier = before ? before_scan(*before, scan.band) : nullptr;
-    out += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan, earlier)) + "<figcaption>Figure " +
+    plots_html += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan, earlier)) + "<figcaption>Figure " +
            std::to_string(figure++) +
            ". Peak, quasi-peak and average readings of a CISPR 16-1-1 receiver at the LISN port (the higher of the "
            "lines at each frequency) against the limit lines; broadcast bands shaded; the worst readings marked with "
@@ -947,7 +1109,14 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
            (earlier ? std::string("; dashed and light: the readings before the change") : std::string()) +
            ".</figcaption>\n</figure>\n";
   }
-  out += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
+  for (const RadiatedScan& scan : p.radiated_scans) {
+    plots_html += "<figure>\n" + spectrum_plot_svg(radiated_plot(p, scan)) + "<figcaption>Figure " +
+                  std::to_string(figure++) +
+                  ". The estimated radiated field read by the receiver (an estimate from the cable and hot-loop "
+                  "currents) against the radiated limit lines at the same distance; the worst emissions marked with "
+                  "their margin.</figcaption>\n</figure>\n";
+  }
+  plots_html += "<figure>\n" + spectrum_plot_svg(source_plot(p)) + "<figcaption>Figure " + std::to_string(figure++) +
          ". Harmonic lines of the source (RMS)" +
          (s.switching ? std::string(" with the envelope of the plain trapezoid of C. R. Paul, without ringing (flat, "
                                     "then \xE2\x88\x92" "20 dB per decade above 1/(\xCF\x80\xCF\x84), \xE2\x88\x92"
@@ -957,89 +1126,102 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          (p.source_kind == SourceKind::dithered ? ". Dithered source: the undithered lines are shown" : "") +
          ".</figcaption>\n</figure>\n</section>\n";
 
-  // 4. Margins.
-  out += "<section id=\"margins\">\n<h2>Margins</h2>\n";
-  if (const std::string warning = single_path_warning(p); !warning.empty()) {
-    out += "<p class=\"caution\"><strong>" + html(warning) + ".</strong></p>\n";
-  }
-  out += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
-         " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
-         std::to_string(p.margins.readings) + " readings compared";
-  if (p.margins.not_compared > 0) {
-    out += "; " + std::to_string(p.margins.not_compared) +
-           " were not compared (no line for their detector, or outside the lines' frequencies)";
-  }
-  out += ".</p>\n";
+  // What to change: the planner's before and after (design-filter --report), what makes the worst
+  // readings (mode shares, source and path), then where the other commands take it further.
+  std::string changes_html = "<section id=\"changes\">\n<h2>What to change</h2>\n";
   if (before) {
     // Worst margin per limit-line detector, before and after the change (same lines, same guard).
-    out += "<h3 id=\"before-after\">Before and after</h3>\n<table>\n<tr><th>line detector</th><th>before</th>"
+    changes_html += "<h3 id=\"before-after\">Before and after</h3>\n<table>\n<tr><th>line detector</th><th>before</th>"
            "<th>at</th><th>after</th><th>at</th><th>change</th></tr>\n";
     for (const DetectorMargin& a : p.margins.worst_per_detector) {
       const DetectorMargin* b = nullptr;
       for (const DetectorMargin& d : before->margins.worst_per_detector) {
         if (d.detector == a.detector) b = &d;
       }
-      out += "<tr><td>" + html(to_string(a.detector)) + "</td><td class=\"num\">" +
-             (b ? html(signed_db(b->worst.margin_db, 2)) : std::string("not computed")) + "</td><td class=\"num\">" +
+      changes_html += "<tr><td>" + html(to_string(a.detector)) + "</td><td class=\"num\">" +
+             (b ? html(signed_db(b->worst.margin_db)) : std::string("not computed")) + "</td><td class=\"num\">" +
              (b ? html(frequency_quantity(b->worst.frequency_hz)) : std::string()) + "</td><td class=\"num\">" +
-             html(signed_db(a.worst.margin_db, 2)) + "</td><td class=\"num\">" +
+             html(signed_db(a.worst.margin_db)) + "</td><td class=\"num\">" +
              html(frequency_quantity(a.worst.frequency_hz)) + "</td><td class=\"num\">" +
-             (b ? html(signed_db(a.worst.margin_db - b->worst.margin_db, 2)) : std::string()) + "</td></tr>\n";
+             (b ? html(signed_db(a.worst.margin_db - b->worst.margin_db)) : std::string()) + "</td></tr>\n";
     }
-    out += "</table>\n<p>Before: " + html(verdict_word(before->verdict)) + "; after: " + html(verdict_word(p.verdict)) +
+    changes_html += "</table>\n<p>Before: " + html(verdict_word(before->verdict)) + "; after: " + html(verdict_word(p.verdict)) +
            ".</p>\n";
   }
-  if (!p.margins.worst_per_detector.empty()) {
-    out += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
-           "<th>at</th><th>reading</th><th>line</th><th>comparisons</th></tr>\n";
-    for (const DetectorMargin& d : p.margins.worst_per_detector) {
-      out += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db, 2)) +
-             "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
-             html(to_string(d.worst.reading_detector)) + " " + level_text(d.worst.reading) + " " +
-             row_unit_symbol(d.worst) + "</td><td>" +
-             html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
-    }
-    out += "</table>\n";
-    out += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
-    if (!p.contributors.empty()) out += "<h3>What makes them</h3>\n" + contributors_table(p.contributors);
+  if (!p.contributors.empty()) {
+    changes_html += "<h3>What makes the worst readings</h3>\n" + contributors_table(p.contributors);
   } else {
-    out += "<p>No reading was compared with a limit line.</p>\n";
+    changes_html += "<p>No conducted reading was compared with a limit line, so no contributor was traced.</p>\n";
   }
   if (!p.contributors_requested.empty()) {
-    out += "<h3 id=\"explained\">At the frequencies asked for</h3>\n<p>The make-up of the strongest line within the "
+    changes_html += "<h3 id=\"explained\">At the frequencies asked for</h3>\n<p>The make-up of the strongest line within the "
            "receiver bandwidth of each frequency given with <code>--explain-at</code>.</p>\n" +
            contributors_table(p.contributors_requested);
   }
-  out += "</section>\n";
+  changes_html += "<p>The dB each input moves the worst margin: <code>spurcast sensitivity</code>; a filter that "
+                  "meets the lines: <code>spurcast design-filter</code>; a switching frequency that clears the "
+                  "broadcast bands: <code>spurcast sweep</code>.</p>\n</section>\n";
 
-  // 5. Broadcast bands.
-  out += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
-  out += "<p>Estimated field of the harmonics for " + html(p.reception_assumptions) + "; ITU region " +
+  // Margins.
+  std::string margins_html;
+  margins_html += "<section id=\"margins\">\n<h2>Margins</h2>\n";
+  if (const std::string warning = single_path_warning(p); !warning.empty()) {
+    margins_html += "<p class=\"caution\"><strong>" + html(warning) + ".</strong></p>\n";
+  }
+  margins_html += "<p>Margin = limit \xE2\x88\x92 reading; guard band " + html(signed_db(p.margins.guard_db, 1)) +
+         " (a margin under it is <em>marginal</em>). " + std::to_string(p.margins.compared_readings) + " of " +
+         std::to_string(p.margins.readings) + " readings compared";
+  if (p.margins.not_compared > 0) {
+    margins_html += "; " + std::to_string(p.margins.not_compared) +
+           " were not compared (no line for their detector, or outside the lines' frequencies)";
+  }
+  margins_html += ".</p>\n";
+  if (!p.margins.worst_per_detector.empty()) {
+    margins_html += "<h3>Worst margin per detector of the limit line</h3>\n<table>\n<tr><th>line detector</th><th>worst margin</th>"
+           "<th>at</th><th>reading</th><th>line</th><th>comparisons</th></tr>\n";
+    for (const DetectorMargin& d : p.margins.worst_per_detector) {
+      margins_html += "<tr><td>" + html(to_string(d.detector)) + "</td><td class=\"num\">" + html(signed_db(d.worst.margin_db)) +
+             "</td><td class=\"num\">" + html(frequency_quantity(d.worst.frequency_hz)) + "</td><td>" +
+             html(to_string(d.worst.reading_detector)) + " " + page_level_text(d.worst.reading) + " " +
+             row_unit_symbol(d.worst) + "</td><td>" +
+             html(d.worst.limit_label) + "</td><td class=\"num\">" + std::to_string(d.comparisons) + "</td></tr>\n";
+    }
+    margins_html += "</table>\n";
+    margins_html += "<h3>The worst frequencies</h3>\n" + margin_table(p, worst_frequencies(p, 10));
+  } else {
+    margins_html += "<p>No reading was compared with a limit line.</p>\n";
+  }
+  margins_html += "</section>\n";
+
+  // Broadcast bands.
+  std::string bands_html;
+  bands_html += "<section id=\"bands\">\n<h2>Broadcast bands</h2>\n";
+  bands_html += "<p>Estimated field of the harmonics for " + html(p.reception_assumptions) + "; ITU region " +
          std::to_string(s.broadcast.region) +
          ". <em>clear</em>: under the ambient man-made noise (ITU-R P.372) or the level the receiver rejects; "
          "<em>watch</em>: above it, below the disturbance threshold; <em>noisy</em>: a weak station is likely "
          "disturbed. A ferrite rod (LW, MW) reads the magnetic field as its equivalent far field, "
          "&eta;<sub>0</sub>&middot;H; a whip reads the electric field.</p>\n";
-  out += "<table>\n<tr><th>band</th><th>range</th><th>antenna</th><th>verdict</th><th>worst channel</th><th>field</th>"
+  bands_html += "<table>\n<tr><th>band</th><th>range</th><th>antenna</th><th>verdict</th><th>worst channel</th><th>field</th>"
          "<th>ambient</th><th>noisy above</th><th>main radiator</th><th>notes</th></tr>\n";
   std::vector<std::string> caveats;  // distinct caveats, numbered once below the table
   for (const BandReception& b : p.reception) {
-    out += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
+    bands_html += "<tr><td>" + html(b.band.name) + "</td><td class=\"num\">" +
            html(format_quantity(b.band.low_hz, Dimension::frequency, band_edge_digits) + " \xE2\x80\x93 " +
                 format_quantity(b.band.high_hz, Dimension::frequency, band_edge_digits)) +
            "</td><td>" + html(antenna_name(b.antenna)) + "</td><td>" + tag(reception_verdict_name(b.verdict)) + "</td>";
     if (b.worst_channel) {
       const ChannelReception& c = b.channels[*b.worst_channel];
-      out += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
-             level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.ambient_dbuvm) +
-             " dB\xC2\xB5V/m</td><td class=\"num\">" + level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td><td>" +
+      bands_html += "<td class=\"num\">" + html(frequency_quantity(c.centre_hz)) + "</td><td class=\"num\">" +
+             page_level_text(c.level_dbuvm) + " dB\xC2\xB5V/m</td><td class=\"num\">" + page_level_text(c.ambient_dbuvm) +
+             " dB\xC2\xB5V/m</td><td class=\"num\">" + page_level_text(c.noisy_above_dbuvm) + " dB\xC2\xB5V/m</td><td>" +
              (c.dominant_radiator
                   ? html(radiator_name(*c.dominant_radiator)) + " (" +
                         std::to_string(static_cast<int>(std::lround(100.0 * c.radiator_share[static_cast<std::size_t>(*c.dominant_radiator)]))) + " %)"
                   : std::string()) +
              "</td>";
     } else {
-      out += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td><td></td>";
+      bands_html += "<td>\xE2\x80\x94</td><td>no line heard</td><td></td><td></td><td></td>";
     }
     std::vector<std::string> refs;
     for (const std::string& caveat : b.caveats) {
@@ -1047,57 +1229,66 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
       if (it == caveats.end()) it = caveats.insert(caveats.end(), caveat);
       refs.push_back("[" + std::to_string(it - caveats.begin() + 1) + "]");
     }
-    out += "<td>" + join(refs, " ") + "</td></tr>\n";
+    bands_html += "<td>" + join(refs, " ") + "</td></tr>\n";
   }
-  out += "</table>\n";
+  bands_html += "</table>\n";
   if (!caveats.empty()) {
-    out += "<ol class=\"caveats\">\n";
-    for (const std::string& caveat : caveats) out += "<li>" + html(caveat) + "</li>\n";
-    out += "</ol>\n";
+    bands_html += "<ol class=\"caveats\">\n";
+    for (const std::string& caveat : caveats) bands_html += "<li>" + html(caveat) + "</li>\n";
+    bands_html += "</ol>\n";
   }
-  if (!p.radiation_convention.empty()) out += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
-  out += "</section>\n";
+  if (!p.reception.empty()) {
+    bands_html += "<h3>Channels of each band</h3>\n<p>Each channel that hears a line is a block coloured by its "
+                  "verdict; the rest of the band (white) hears none. The counts beside each strip say the same in "
+                  "words.</p>\n";
+    for (const BandReception& b : p.reception) {
+      bands_html += "<figure class=\"channel-strip\">\n" + channel_strip_svg(channel_strip(b)) + "</figure>\n";
+    }
+  }
+  if (!p.radiation_convention.empty()) bands_html += "<p class=\"practice\">" + html(p.radiation_convention) + "</p>\n";
+  bands_html += "</section>\n";
 
-  // 6. Pre-lab.
-  out += "<section id=\"pre-lab\">\n<h2>Before the lab</h2>\n<h3>Standard and class</h3>\n<ul>\n";
-  if (s.limits.sets.empty()) out += "<li>No limit lines were given.</li>\n";
+  // The page for the lab.
+  std::string lab_html;
+  lab_html += "<section id=\"pre-lab\">\n<h2>Before the lab</h2>\n<h3>Standard and class</h3>\n<ul>\n";
+  if (s.limits.sets.empty()) lab_html += "<li>No limit lines were given.</li>\n";
   for (const LimitSet& set : s.limits.sets) {
-    out += "<li><strong>" + html(set.name) + "</strong> \xE2\x80\x94 " + html(set.source) + " <span class=\"practice\">(" +
+    lab_html += "<li><strong>" + html(set.name) + "</strong> \xE2\x80\x94 " + html(set.source) + " <span class=\"practice\">(" +
            html(set.confidence_text) + ")</span>" + (set.file.empty() ? "" : " <code>" + html(set.file) + "</code>") +
            "</li>\n";
   }
-  out += "</ul>\n<h3>Detector plan</h3>\n<ol>\n";
+  lab_html += "</ul>\n<h3>Detector plan</h3>\n<ol>\n";
   for (const BandScan& scan : p.scans) {
     const BandParameters band = band_parameters(scan.band);
-    out += "<li>Peak pre-scan of CISPR band " + to_string(scan.band) + " (" +
+    lab_html += "<li>Peak pre-scan of CISPR band " + to_string(scan.band) + " (" +
            html(format_quantity(band.start_hz, Dimension::frequency) + " \xE2\x80\x93 " +
                 format_quantity(band.stop_hz, Dimension::frequency)) +
            ", " + html(format_quantity(band.bandwidth_6db_hz, Dimension::frequency)) +
            " bandwidth, step at most " + html(format_quantity(band.bandwidth_6db_hz / 2.0, Dimension::frequency)) +
            ") on each supply line in turn.</li>\n";
   }
-  out += "<li>Quasi-peak and average readings at the frequencies below (and at any other peak reading within the guard "
+  lab_html += "<li>Quasi-peak and average readings at the frequencies below (and at any other peak reading within the guard "
          "band of a line), each line in turn, dwelling long enough for the meter to settle "
          "<span class=\"practice\">(common practice: at least 1 s per frequency for quasi-peak)</span>.</li>\n"
          "<li>A peak reading under the average line meets every line (peak \xE2\x89\xA5 quasi-peak \xE2\x89\xA5 average); "
          "such frequencies need no final measurement.</li>\n</ol>\n";
-  out += "<h3>Frequencies to re-measure with quasi-peak and average</h3>\n";
+  lab_html += "<h3>Frequencies to re-measure with quasi-peak and average</h3>\n";
   const std::vector<WorstFrequency> remeasure = worst_frequencies(p, 10);
   if (remeasure.empty()) {
-    out += "<p>None predicted (no reading was compared with a line).</p>\n";
+    lab_html += "<p>None predicted (no reading was compared with a line).</p>\n";
   } else {
-    out += margin_table(p, remeasure);
+    lab_html += margin_table(p, remeasure);
   }
-  out += "<h3>Measurement uncertainty</h3>\n<p>";
+  lab_html += "<h3>Measurement uncertainty</h3>\n<p>";
   if (const std::optional<double> u = uncertainty_for(p)) {
-    out += "CISPR 16-4-2 U<sub>cispr</sub> for this measurement: " + html(fixed(*u, 1)) +
+    lab_html += "CISPR 16-4-2 U<sub>cispr</sub> for this measurement: " + html(fixed(*u, 1)) +
            " dB (expanded, k = 2; from memory, docs/references.md \xC2\xA7" "7). When the lab's own uncertainty is at most "
            "U<sub>cispr</sub>, the product complies when the measured value is at or under the limit; a predicted "
            "margin smaller than U<sub>cispr</sub> can fall either side at the lab.";
   } else {
-    out += "No CISPR 16-4-2 value is listed for this measurement.";
+    lab_html += "No CISPR 16-4-2 value is listed for this measurement.";
   }
-  out += "</p>\n<h3>Set-up</h3>\n<p>" + html(p.setup_description) + "</p>\n<ul>\n"
+  lab_html += "</p>\n<h3>Set-up</h3>\n<p>" + html(p.setup_description) + "</p>\n<ul>\n"
          "<li>Table-top equipment: 0.8 m above the reference ground plane, 0.4 m from a vertical reference plane.</li>\n"
          "<li>Floor-standing equipment: on an insulating support 0.1 m above the reference ground plane.</li>\n"
          "<li>Each LISN bonded to the reference ground plane with a short, wide connection.</li>\n"
@@ -1106,48 +1297,53 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
          "</ul>\n<p class=\"practice\">common practice (from memory; CISPR 16-2-1 / CISPR 32 describe the arrangement)</p>\n"
          "</section>\n";
 
-  // 7. Limits of the model.
-  out += "<section id=\"assumptions\">\n<h2>Limits of the model</h2>\n<ul>\n"
+  // Limits of the model.
+  std::string model_html;
+  model_html += "<section id=\"assumptions\">\n<h2>Limits of the model</h2>\n<ul>\n"
          "<li>The coupling network is linear and time-invariant: parts do not saturate or heat, and the filter does not "
          "change the source (the switch waveform is taken as given).</li>\n"
          "<li>Only the parts listed are modelled: the input capacitor with its ESR and ESL, the filter stages, one "
          "switch-node capacitance to ground for the common-mode path. Layout coupling, heatsink and cable resonances "
          "are not.</li>\n";
   if (s.lisn.measured) {
-    out += "<li>LISN: the impedance measured in " + html(s.lisn.file) + " for each network (" +
-           html(lisn_model_name(s.lisn.model)) +
-           "), port = terminal; interpolated between the file's points, never extrapolated.</li>\n";
+    model_html += "<li>LISN: the impedance measured in " + html(s.lisn.file) + " for each network (" +
+                  html(lisn_model_name(s.lisn.model)) +
+                  "), port = terminal; interpolated between the file's points, never extrapolated.</li>\n";
   } else {
-    out += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
-           " circuit of " + html(lisn_model_name(s.lisn.model)) +
-           (s.lisn.circuit == LisnCircuit::ideal
-                ? " (the defined impedance, port = terminal; a lab reports levels after its voltage-division correction)"
-                : " (part values from memory)") +
-           ".</li>\n";
+    model_html += std::string("<li>LISN: the ") + (s.lisn.circuit == LisnCircuit::ideal ? "ideal" : "practical") +
+                  " circuit of " + html(lisn_model_name(s.lisn.model)) +
+                  (s.lisn.circuit == LisnCircuit::ideal
+                       ? " (the defined impedance, port = terminal; a lab reports levels after its voltage-division correction)"
+                       : " (part values from memory)") +
+                  ".</li>\n";
   }
-  out += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
+  model_html += "<li>The receiver's IF filter is Gaussian with the CISPR 16-1-1 6 dB bandwidth; the standard's selectivity "
          "mask is met only approximately. Detectors are calibrated so a sine reads its RMS value.</li>\n"
          "<li>Broadcast-band fields use the exact near- and far-field expressions of short dipoles and small loops "
          "(Balanis) for the supply cable's common- and differential-mode currents and the hot loop, in the "
          "orientation that couples most; real orientations, the room and nearby wiring change them by many dB either "
          "way. The ambient is man-made noise only (ITU-R P.372).</li>\n"
          "<li>Limit values marked <em>from memory</em> must be checked against the standard before a decision.</li>\n";
-  for (const std::string& note : p.notes) out += "<li>" + html(note) + "</li>\n";
-  out += "</ul>\n</section>\n";
+  for (const std::string& note : p.notes) model_html += "<li>" + html(note) + "</li>\n";
+  model_html += "</ul>\n</section>\n";
 
-  // 8. Safety.
-  out += "<section id=\"safety\" class=\"caution\">\n<h2>Safety</h2>\n<ul>\n"
+  // Safety.
+  std::string safety_html;
+  safety_html += "<section id=\"safety\" class=\"caution\">\n<h2>Safety</h2>\n<ul>\n"
          "<li>Switch nodes and their ringing can reach hundreds of volts: measure with probes rated for the voltage, "
          "and with an isolated supply where appropriate.</li>\n"
          "<li>A LISN passes a large leakage current to earth: bond it to protective earth before mains is applied.</li>\n"
          "<li>A prediction is not a compliance result: only an accredited test decides. Local codes and licensed "
          "practice take precedence over anything in this report.</li>\n</ul>\n</section>\n";
 
-  // 9. Files.
-  out += "<section id=\"files\">\n<h2>Files</h2>\n<p>Written beside this page: ";
+  // Files.
+  std::string files_html;
+  files_html += "<section id=\"files\">\n<h2>Files</h2>\n<p>Written beside this page: ";
   std::vector<std::string> names;
   for (const std::string& f : files) names.push_back("<code>" + html(f) + "</code>");
-  out += join(names, ", ") + ".</p>\n</section>\n";
+  files_html += join(names, ", ") + ".</p>\n</section>\n";
+  out += verdict_html + plots_html + changes_html + margins_html + bands_html + lab_html + safety_html + model_html +
+         inputs_html + files_html;
   out += "<footer>spurcast " SPURCAST_VERSION " \xE2\x80\x94 a pre-compliance estimate from a model; not a test "
          "result.</footer>\n</main>\n</body>\n</html>\n";
   return out;
@@ -1167,6 +1363,10 @@ std::vector<OutputFile> report_files(const Prediction& p, const Prediction* befo
   for (const BandScan& scan : p.scans) {
     files.push_back({"scan-" + to_string(scan.band) + ".svg",
                      spectrum_plot_svg(readings_plot(p, scan, before ? before_scan(*before, scan.band) : nullptr))});
+  }
+  for (const RadiatedScan& scan : p.radiated_scans) {
+    files.push_back({"radiated-" + to_string(scan.band) + "-" + radiated_distance_name(scan.distance_m) + ".svg",
+                     spectrum_plot_svg(radiated_plot(p, scan))});
   }
   files.push_back({"source.svg", spectrum_plot_svg(source_plot(p))});
   std::vector<std::string> names;

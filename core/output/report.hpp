@@ -9,11 +9,12 @@
 ///                        (at_floor: the detectors, joined by '+', whose reading is the receiver's noise floor)
 ///   margins.csv          core/compliance/margins.hpp margins_csv()
 ///   bands.csv            core/radio/reception.hpp bands_csv()
-///   scan-<band>.svg, source.svg  the plots, also inlined in the report
+///   scan-<band>.svg, radiated-<band>-<distance>.svg, source.svg  the plots, also inlined in the report
 ///   report.html          one self-contained page (inline CSS and SVG, nothing fetched, no script)
 ///   summary.json         verdict, worst_margin_db per detector, bands, files, and more
-/// Numbers are printed with fixed decimals (frequencies %.1f Hz, levels %.2f dB) so the same
-/// prediction always gives the same bytes.
+/// The CSVs print fixed decimals (frequencies %.1f Hz, levels %.2f dB) so the same prediction always
+/// gives the same bytes; the page shows levels and margins to 0.1 dB and frequencies to 4 significant
+/// digits, no finer than the model is right (issue 19).
 ///
 /// Example:
 ///   const Prediction p = predict(load_scenario("examples/greenhouse-buck.toml", locate_shipped_data()));
@@ -75,15 +76,26 @@ struct ScenarioInput {
 /// Every input of the scenario, in file order, for the report.
 [[nodiscard]] std::vector<ScenarioInput> scenario_inputs(const Scenario& scenario);
 
-/// The receiver plot of one band: peak / quasi-peak / average against the limit lines, broadcast
-/// bands shaded, the three worst readings of the band marked with their margin.
+/// The receiver plot of one band: peak / quasi-peak / average against the conducted limit lines (a
+/// colour per limit set, a dash per detector; detectors that coincide drawn once with a note), the
+/// receiver's noise floor, broadcast bands shaded, one marker per emission (its worst reading, with
+/// frequency and margin; skirts within a receiver bandwidth or of the same harmonic are one emission).
 /// With `before` (the same band read for the scenario before a change, design-filter --report),
 /// its readings are drawn too, light and dashed, labelled "before".
 [[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan,
                                          const BandScan* before = nullptr);
+/// The radiated-field plot of one band C/D estimate: the readings (dBµV/m) against the radiated limit
+/// lines at the scan's distance, one marker per emission. Written as radiated-<band>-<distance>.svg.
+[[nodiscard]] SpectrumPlot radiated_plot(const Prediction& prediction, const RadiatedScan& scan);
+/// "10m", "3m": the measuring distance as written in the radiated plot's file name.
+[[nodiscard]] std::string radiated_distance_name(double distance_m);
 /// The harmonic spectrum of the switch-node voltage (or of the captured quantity) with the plain
 /// trapezoid's envelope for a described source, and the harmonics above it (ringing) marked.
 [[nodiscard]] SpectrumPlot source_plot(const Prediction& prediction);
+
+/// The channel strip of one broadcast band (core/output/plot.hpp ChannelStrip): each channel that
+/// hears a line with its verdict; a band above the computed range is drawn as not computed.
+[[nodiscard]] ChannelStrip channel_strip(const BandReception& band);
 
 /// The report page. `files` are the names written beside it (listed at the end).
 /// With `before` (the prediction of the scenario before a change, e.g. the filter design-filter

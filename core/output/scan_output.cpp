@@ -94,7 +94,7 @@ std::string scan_text(const ScanReport& report, bool colour, const std::vector<s
     for (const Detector d : report.detectors) {
       const auto best = highest_reading(result, d);
       if (!best) continue;
-      rows.push_back({to_string(d), level_cell(best->level_db(d)), format_quantity(best->frequency_hz, Dimension::frequency, 6)});
+      rows.push_back({to_string(d), level_cell(best->level_db(d)), format_quantity(best->frequency_hz, Dimension::frequency, 4)});
     }
     out += format_columns(rows, {1}, "  ");
     if (result.noise_floor_db) {
@@ -109,7 +109,7 @@ std::string scan_text(const ScanReport& report, bool colour, const std::vector<s
     if (!report.spot) out += fmt::format("  the {} highest peaks:\n", listed.size());
     std::vector<std::vector<std::string>> table{{"frequency", "peak", "quasi-peak", "average"}};
     for (const Reading& reading : listed) {
-      table.push_back({format_quantity(reading.frequency_hz, Dimension::frequency, 6), level_cell(reading.peak_db),
+      table.push_back({format_quantity(reading.frequency_hz, Dimension::frequency, 4), level_cell(reading.peak_db),
                        level_cell(reading.quasi_peak_db), level_cell(reading.average_db)});
     }
     out += format_columns(table, {0, 1, 2, 3}, "    ");

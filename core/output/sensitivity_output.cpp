@@ -95,9 +95,9 @@ std::string sensitivity_text(const SensitivityResult& result) {
   std::vector<std::vector<std::string>> rows;
   for (const SensitivityTarget& t : result.targets) {
     std::vector<std::string> row{t.label(), frequency_text(t.frequency_hz),
-                                 fmt::format("{:.2f} {}", t.level, t.unit)};
+                                 fmt::format("{:.1f} {}", t.level, t.unit)};
     if (t.margin_db)
-      row.push_back(fmt::format("margin {:.2f} dB to {}", *t.margin_db, t.limit_label));
+      row.push_back(fmt::format("margin {:.1f} dB to {}", *t.margin_db, t.limit_label));
     rows.push_back(row);
   }
   out += format_columns(rows, {2});
@@ -120,13 +120,13 @@ std::string sensitivity_text(const SensitivityResult& result) {
       const SensitivityKey& key = result.keys[s.key];
       std::vector<std::string> row{
           key.key, key.value_text,
-          s.db_per_10_percent ? fmt::format("{:+.2f} dB per +10 %", *s.db_per_10_percent)
+          s.db_per_10_percent ? fmt::format("{:+.1f} dB per +10 %", *s.db_per_10_percent)
                               : std::string("-"),
           fmt::format("at {} ({})", frequency_text(target.frequency_hz), target.label())};
       std::string extra = s.note;
       if (s.worst_frequency_after_hz) {
         if (!extra.empty()) extra += "; ";
-        extra += fmt::format("worst moves to {} ({:.2f} {})",
+        extra += fmt::format("worst moves to {} ({:.1f} {})",
                              frequency_text(*s.worst_frequency_after_hz),
                              s.worst_level_after.value_or(0.0), target.unit);
       }

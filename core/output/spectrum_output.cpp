@@ -99,7 +99,7 @@ std::string spectrum_text(const SpectrumResult& result, std::size_t top) {
   if (lisn) out << fmt::format("  {:>8}  {:>8}  {:>8}  {:>8}", "line 1", "line 2", "DM", "CM");
   out << "\n";
   for (const SpectrumRow& row : sorted) {
-    out << fmt::format("{:>8}  {:>14}  {:>10}", row.harmonic, format_quantity(row.frequency_hz, Dimension::frequency, 6),
+    out << fmt::format("{:>8}  {:>14}  {:>10}", row.harmonic, format_quantity(row.frequency_hz, Dimension::frequency, 4),
                              level_cell(row.level_db));
     if (envelope) out << fmt::format("  {:>10}", level_cell(*row.envelope_db));
     if (lisn) {

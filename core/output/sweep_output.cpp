@@ -176,7 +176,7 @@ std::string sweep_text(const SweepResult& result, const std::vector<std::string>
     if (!best || *p.worst_margin_db > *best) best = *p.worst_margin_db;
     if (!worst || *p.worst_margin_db < *worst) worst = *p.worst_margin_db;
   }
-  if (best) text += fmt::format("worst margin over the sweep: {:.2f} dB at the worst point, {:.2f} dB at the best\n", *worst, *best);
+  if (best) text += fmt::format("worst margin over the sweep: {:.1f} dB at the worst point, {:.1f} dB at the best\n", *worst, *best);
   if (result.criteria.empty()) {
     text += "no window asked for (use --clear BAND and/or --meet-limits)\n";
   }

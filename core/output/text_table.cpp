@@ -64,7 +64,7 @@ std::string format_columns(const std::vector<std::vector<std::string>>& rows, co
 }
 
 std::string level_cell(double level_db) {
-  return level_db <= level_floor_db ? std::string("-") : fmt::format("{:.2f}", level_db);
+  return level_db <= level_floor_db ? std::string("-") : fmt::format("{:.1f}", level_db);
 }
 
 }  // namespace spurcast

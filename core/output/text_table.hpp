@@ -24,7 +24,7 @@ enum class Colour { none, green, yellow, red, bold, dim };
                                          const std::vector<std::size_t>& right_aligned = {},
                                          const std::string& indent = "  ");
 
-/// A level in dB with two decimals, or "-" at or below level_floor_db (nothing in the passband).
+/// A level in dB to 0.1 dB (text output; the CSVs keep more), or "-" at or below level_floor_db (nothing in the passband).
 [[nodiscard]] std::string level_cell(double level_db);
 
 }  // namespace spurcast

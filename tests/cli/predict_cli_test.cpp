@@ -180,7 +180,7 @@ nlohmann::json check_report_folder(const fs::path& folder) {
   }
 
   const std::string page = read_file(folder / "report.html");
-  for (const char* id : {"verdict", "scenario", "plots", "margins", "bands", "pre-lab", "assumptions", "safety"}) {
+  for (const char* id : {"verdict", "plots", "changes", "margins", "bands", "pre-lab", "safety", "assumptions", "inputs"}) {
     CAPTURE(id);
     CHECK(page.find(std::string("<section id=\"") + id + "\"") != std::string::npos);
   }

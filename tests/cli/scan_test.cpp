@@ -155,7 +155,7 @@ TEST_CASE("scan: readings between the harmonics sit at the receiver's noise floo
   // The same floor on the terminal, and in a scenario's [receiver] noise_floor.
   const RunResult text = run(dir, "scan square.toml --band B");
   REQUIRE(text.exit_code == 0);
-  CHECK(text.out.find("receiver noise floor -8.70 dB\xC2\xB5V: ") != std::string::npos);
+  CHECK(text.out.find("receiver noise floor -8.7 dB\xC2\xB5V: ") != std::string::npos);
   std::ofstream(dir / "floor.toml") << square_wave_scenario << "noise_floor = \"3 dBuV\"\n";
   const RunResult own = run(dir, "scan floor.toml --band B --frequencies 200kHz --json");
   REQUIRE(own.exit_code == 0);

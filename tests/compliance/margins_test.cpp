@@ -206,7 +206,7 @@ TEST_CASE("unread ranges make the verdict incomplete, a failure stays a failure,
   CHECK(std::abs(report.not_computed[0].from_hz - 480.75e3) < tol_hz);
   CHECK(std::abs(report.not_computed[0].to_hz - 30e6) < tol_hz);
   CHECK(describe(report.not_computed[0]) ==
-        "480.75 kHz-30 MHz of CISPR 32 class B, AC mains port / quasi-peak: the record stops at 480.75 kHz");
+        "480.8 kHz-30 MHz of CISPR 32 class B, AC mains port / quasi-peak: the record stops at 480.75 kHz");
   // An unread range of another quantity does not touch a conducted line.
   MarginOptions field_only;
   field_only.unread = {{LimitQuantity::radiated_field, 150e3, 30e6, "not estimated"}};

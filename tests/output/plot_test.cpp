@@ -92,6 +92,19 @@ void check_no_overlap(const PlotLayout& layout, double width, double height) {
       CAPTURE(layout.texts[j]);
       CHECK_FALSE(boxes_overlap(a, layout.text_boxes[j]));
     }
+    // No text covers a marker's dot (issue 19: markers collided with each other's labels).
+    for (const TextBox& dot : layout.marker_boxes) CHECK_FALSE(boxes_overlap(a, dot));
+  }
+}
+
+/// Every marker's label is either drawn once or listed as dropped, never silently lost.
+void check_markers_accounted(const SpectrumPlot& plot, const PlotLayout& layout) {
+  for (const PlotMarker& m : plot.markers) {
+    CAPTURE(m.label);
+    const auto drawn = std::count(layout.texts.begin(), layout.texts.end(), m.label);
+    const auto dropped =
+        std::count(layout.dropped_marker_labels.begin(), layout.dropped_marker_labels.end(), m.label);
+    CHECK(drawn + dropped == 1);
   }
 }
 
@@ -146,6 +159,24 @@ TEST_CASE("labels never overlap at common sizes, and the decade labels survive")
         if (t.major) CHECK_MESSAGE(!t.label.empty(), "decade label dropped at ", t.value);
       }
     }
+  }
+  // Markers: five emissions crowded into a tenth of a decade at the report's size, as a dithered
+  // source's neighbouring harmonics give; each label has its frequency and margin, none overlaps
+  // another label or a dot, and all five find a place.
+  for (const auto& [width, height] : sizes) {
+    SpectrumPlot crowded = sample_plot(150e3, 30e6, width, height);
+    crowded.markers.clear();
+    for (int k = 0; k < 5; ++k) {
+      const double f = 2.2e6 * std::pow(1.05, k);
+      crowded.markers.push_back({f, 50.0 + (k % 2) * 3.0, format_quantity(f, Dimension::frequency, 4) + " QP \xE2\x88\x92" +
+                                                            std::to_string(k) + ".5 dB"});
+    }
+    CAPTURE(width);
+    const PlotLayout layout = layout_spectrum_plot(crowded);
+    check_no_overlap(layout, width, height);
+    check_markers_accounted(crowded, layout);
+    CHECK(layout.marker_boxes.size() == 5);
+    if (width >= 960) CHECK(layout.dropped_marker_labels.empty());
   }
   // At the report's size every band of band B keeps its name.
   const PlotLayout wide = layout_spectrum_plot(sample_plot(150e3, 30e6, 960, 420));
@@ -229,4 +260,44 @@ TEST_CASE("every plot is well-formed XML, text is escaped, and bad input is refu
   CHECK(parses_as_xml(svg));
   CHECK(parses_as_xml(sweep_svg));
   CHECK(parses_as_xml(sweep_plot_svg(log_sweep)));
+}
+
+TEST_CASE("channel strip: a block per channel in its verdict's fill, a counting text legend, no overlap") {
+  ChannelStrip strip;
+  strip.title = "MW";
+  strip.low_hz = 526.5e3;
+  strip.high_hz = 1606.5e3;
+  strip.raster_hz = 9e3;
+  strip.channels = {{531e3, "noisy"}, {540e3, "noisy"}, {999e3, "watch"}, {1602e3, "clear"}};
+  const std::string svg = channel_strip_svg(strip);
+  CHECK(svg.find("fill=\"" + verdict_fill("noisy") + "\"><title>531 kHz: noisy</title>") != std::string::npos);
+  CHECK(svg.find("<title>999 kHz: watch</title>") != std::string::npos);
+  CHECK(svg.find(">2 noisy<") != std::string::npos);
+  CHECK(svg.find(">1 watch<") != std::string::npos);
+  CHECK(svg.find(">1 clear<") != std::string::npos);
+  CHECK(svg.find("white: no line heard") != std::string::npos);
+  // Our own fills, distinct per verdict.
+  CHECK(verdict_fill("noisy") != verdict_fill("watch"));
+  CHECK(verdict_fill("watch") != verdict_fill("clear"));
+  for (const double width : {480.0, 960.0}) {
+    strip.width_px = width;
+    const PlotLayout layout = layout_channel_strip(strip);
+    check_no_overlap(layout, width, strip.height_px);
+    CHECK(has_text(layout, "MW"));
+  }
+  // A long band name pushes the strip right instead of running into it.
+  strip.title = "60 m upper";
+  const PlotLayout named = layout_channel_strip(strip);
+  REQUIRE_FALSE(named.text_boxes.empty());
+  CHECK(named.text_boxes.front().x + named.text_boxes.front().width <= named.plot_left);
+  strip.not_computed = true;
+  CHECK(channel_strip_svg(strip).find("not computed (above the computed range)") != std::string::npos);
+  strip.high_hz = strip.low_hz;
+  CHECK_THROWS_WITH_AS(channel_strip_svg(strip), "channel strip frequency range must satisfy 0 <= low < high",
+                       Error);
+  if (have_python()) {
+    strip.high_hz = 1606.5e3;
+    strip.not_computed = false;
+    CHECK(parses_as_xml(channel_strip_svg(strip)));
+  }
 }

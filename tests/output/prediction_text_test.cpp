@@ -33,7 +33,7 @@ TEST_CASE("prediction_summary: verdict, worst margin and band lines from the pre
   // The verdict line carries the report's verdict sentence (what was not computed first, then the
   // worst margin); the greenhouse example fails, everything computed.
   CHECK(text.find("verdict: " + to_string(p.verdict) + " (" + verdict_sentence(p) + ")\n") != std::string::npos);
-  CHECK(text.find(fmt::format("verdict: fail (a limit is exceeded: worst margin \xE2\x88\x92{:.2f} dB (",
+  CHECK(text.find(fmt::format("verdict: fail (a limit is exceeded: worst margin \xE2\x88\x92{:.1f} dB (",
                               -p.margins.worst->margin_db)) != std::string::npos);
   CHECK(text.find("\nworst margin per detector of the limit line:\n") != std::string::npos);
   CHECK(text.find("\nfive worst frequencies:\n") != std::string::npos);

@@ -274,7 +274,152 @@ TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up
   REQUIRE_FALSE(result.empty());
   const nlohmann::json parsed = nlohmann::json::parse(result);
   CHECK(parsed.at("ids").get<std::vector<std::string>>() == report_section_ids());
-  CHECK(parsed.at("svg_count").get<int>() == 3);  // two band plots and the source plot
+  // Two band plots, the source plot and the MW band's channel strip (issue 19 added the strips).
+  CHECK(parsed.at("svg_count").get<int>() == 4);
+}
+
+TEST_CASE("report.html leads with the answer: verdict, plots, what to change, margins, bands, lab, inputs last") {
+  // The order of issue 19: the verdict (with what was not computed and the band summary), the plots,
+  // what to change, the margins, the broadcast bands, the page for the lab, and the inputs as an appendix.
+  const std::vector<std::string> expected{"verdict", "plots",  "changes",     "margins", "bands",
+                                          "pre-lab", "safety", "assumptions", "inputs",  "files"};
+  CHECK(report_section_ids() == expected);
+  Prediction p = hand_prediction();
+  p.margins.not_computed.push_back({.limit_label = "a line", .from_hz = 482e3, .to_hz = 30e6, .reason = "a test reason"});
+  const std::string page = report_html(p, {"report.html"});
+  std::size_t previous = 0;
+  for (const std::string& id : expected) {
+    CAPTURE(id);
+    const std::size_t at = page.find("<section id=\"" + id + "\"");
+    REQUIRE(at != std::string::npos);
+    CHECK(at > previous);
+    previous = at;
+  }
+  // The verdict section holds its reason, what was not computed, and every band's verdict.
+  const std::size_t verdict_at = page.find("<section id=\"verdict\"");
+  const std::string verdict = page.substr(verdict_at, page.find("</section>", verdict_at) - verdict_at);
+  CHECK(verdict.find("MARGINAL") != std::string::npos);
+  CHECK(verdict.find("worst margin") != std::string::npos);
+  CHECK(verdict.find("<h3>Not computed</h3>") != std::string::npos);
+  CHECK(verdict.find("a test reason") != std::string::npos);
+  CHECK(verdict.find("Broadcast bands: MW <span class=\"tag noisy\">noisy</span>") != std::string::npos);
+  // The first plot comes before any input is echoed.
+  CHECK(page.find("<svg") < page.find("<h2>Appendix: inputs</h2>"));
+  // A print stylesheet: page breaks before the major sections, plots kept whole, nothing fixed.
+  CHECK(page.find("@media print") != std::string::npos);
+  CHECK(page.find("break-before: page") != std::string::npos);
+  CHECK(page.find("figure, svg, tr, .verdict-head, .not-computed { break-inside: avoid; }") != std::string::npos);
+  CHECK(page.find("position: fixed") == std::string::npos);
+  CHECK(page.find("position:fixed") == std::string::npos);
+
+  if (!have_python()) {
+    MESSAGE("skipped the html.parser check: /usr/bin/python3 not found");
+    return;
+  }
+  const std::string result = check_html(page);
+  REQUIRE_FALSE(result.empty());
+  CHECK(nlohmann::json::parse(result).at("ids").get<std::vector<std::string>>() == expected);
+}
+
+TEST_CASE("the readings plot: one marker per emission with frequency and margin, coinciding detectors drawn once") {
+  Prediction p = hand_prediction();
+  BandScan& b = p.scans[0];
+  // 1.005 MHz is a skirt of the 1 MHz line (within the 9 kHz bandwidth) and worse; 1.04 MHz is the
+  // same harmonic (10 of 100 kHz) further out. One emission: only 1.005 MHz QP (60 − 56 = 4 dB) is marked.
+  b.worst.readings = {reading(1e6, 58.0, 55.0, 44.0), reading(1.005e6, 59.0, 56.0, 45.0),
+                      reading(1.04e6, 57.0, 54.0, 43.0), reading(2e6, 50.0, 48.0, 45.0)};
+  p.margins = compare_with_limits(readings_from_scan(b.worst.readings, {Detector::quasi_peak, Detector::average}),
+                                  p.scenario.limits.sets, {.guard_db = 6.0});
+  const SpectrumPlot plot = readings_plot(p, b);
+  REQUIRE(plot.markers.size() == 2);
+  CHECK(plot.markers[0].label == "1.005 MHz QP 4.0 dB");
+  CHECK(plot.markers[1].label == "2 MHz AV 5.0 dB");
+  // Lines closer than a fortieth of the plot's 2.3 decades (a factor 1.14) cannot be told apart on it:
+  // 1.1 MHz (harmonic 11, margin 4.5 dB) is left to the worse 1.005 MHz marker.
+  b.worst.readings.push_back(reading(1.1e6, 58.0, 55.5, 44.0));
+  std::sort(b.worst.readings.begin(), b.worst.readings.end(),
+            [](const Reading& x, const Reading& y) { return x.frequency_hz < y.frequency_hz; });
+  p.margins = compare_with_limits(readings_from_scan(b.worst.readings, {Detector::quasi_peak, Detector::average}),
+                                  p.scenario.limits.sets, {.guard_db = 6.0});
+  CHECK(readings_plot(p, b).markers.size() == 2);
+  std::vector<std::string> labels;
+  for (const PlotTrace& trace : plot.traces) labels.push_back(trace.label);
+  CHECK(std::count(labels.begin(), labels.end(), "peak") == 1);  // the detectors differ: three traces
+  CHECK(std::count(labels.begin(), labels.end(), "average") == 1);
+
+  // A steady line reads the same on every detector: one trace, and the legend says so.
+  for (Reading& r : b.worst.readings) r.quasi_peak_db = r.average_db = r.peak_db;
+  const SpectrumPlot steady = readings_plot(p, b);
+  std::vector<std::string> steady_labels;
+  for (const PlotTrace& trace : steady.traces) steady_labels.push_back(trace.label);
+  CHECK(std::count(steady_labels.begin(), steady_labels.end(), "peak = quasi-peak = average (coincide: one line drawn)") == 1);
+  CHECK(std::count(steady_labels.begin(), steady_labels.end(), "peak") == 0);
+}
+
+TEST_CASE("limit sets get their own colour, detectors their own dash; the radiated plot draws its radiated line") {
+  Prediction p = hand_prediction();
+  LimitSet second = p.scenario.limits.sets.front();
+  second.name = "a second set";
+  p.scenario.limits.sets.push_back(second);
+  const SpectrumPlot plot = readings_plot(p, p.scans[0]);
+  std::map<std::string, std::pair<std::string, std::string>> style;  // label -> colour, dash
+  for (const PlotTrace& trace : plot.traces) style[trace.label] = {trace.colour, trace.dash};
+  REQUIRE(style.count("flat test line / quasi-peak limit") == 1);
+  REQUIRE(style.count("a second set / quasi-peak limit") == 1);
+  CHECK(style["flat test line / quasi-peak limit"].first != style["a second set / quasi-peak limit"].first);
+  CHECK(style["flat test line / quasi-peak limit"].second != style["flat test line / average limit"].second);
+
+  constexpr const char* radiated_limits = R"(
+name = "radiated test line"
+measures = "radiated-field"
+unit = "dBuV/m"
+distance = "10 m"
+source = "invented for this test"
+confidence = "from memory: invented"
+[[line]]
+detector = "quasi-peak"
+segment = [ { from = "30 MHz", to = "230 MHz", level = "30 dBuV/m" } ]
+)";
+  p.scenario.limits.sets.push_back(parse_limit_text(radiated_limits, "radiated.toml"));
+  RadiatedScan rs;
+  rs.band = CisprBand::C;
+  rs.distance_m = 10.0;
+  rs.scan.band = CisprBand::C;
+  rs.scan.bandwidth_6db_hz = 120e3;
+  rs.scan.readings = {reading(60e6, 40.0, 35.0, 20.0), reading(100e6, 20.0, 18.0, 10.0)};
+  p.radiated_scans.push_back(rs);
+  const SpectrumPlot radiated = radiated_plot(p, rs);
+  bool has_radiated_line = false, has_conducted_line = false;
+  for (const PlotTrace& trace : radiated.traces) {
+    has_radiated_line = has_radiated_line || trace.label == "radiated test line / quasi-peak limit";
+    has_conducted_line = has_conducted_line || trace.label.find("flat test line") != std::string::npos;
+  }
+  CHECK(has_radiated_line);
+  CHECK_FALSE(has_conducted_line);  // a limit only with a reading of its own quantity
+  CHECK(radiated.y_label == "field (dB\xC2\xB5V/m)");
+  CHECK(radiated_distance_name(10.0) == "10m");
+  const std::vector<OutputFile> files = report_files(p);
+  CHECK(std::any_of(files.begin(), files.end(), [](const OutputFile& f) { return f.name == "radiated-C-10m.svg"; }));
+}
+
+TEST_CASE("a channel strip per broadcast band: each channel that hears a line with its verdict") {
+  const Prediction p = hand_prediction();
+  const ChannelStrip strip = channel_strip(p.reception.front());
+  CHECK(strip.title == "MW");
+  CHECK(strip.low_hz == doctest::Approx(526.5e3));
+  REQUIRE(strip.channels.size() == 1);
+  CHECK(strip.channels[0].verdict == "noisy");
+  CHECK_FALSE(strip.not_computed);
+  const std::string page = report_html(p, {"report.html"});
+  const std::size_t bands_at = page.find("<section id=\"bands\"");
+  const std::string bands = page.substr(bands_at, page.find("</section>", bands_at) - bands_at);
+  CHECK(bands.find("<figure class=\"channel-strip\">") != std::string::npos);
+  CHECK(bands.find("999 kHz: noisy") != std::string::npos);  // the channel's own readout, no script needed
+  CHECK(bands.find(">1 noisy<") != std::string::npos);        // the text legend counts it
+  BandReception above = p.reception.front();
+  above.verdict = ReceptionVerdict::not_computed;
+  above.channels.clear();
+  CHECK(channel_strip(above).not_computed);
 }
 
 TEST_CASE("the files of a report are byte-reproducible and summary.json comes last") {

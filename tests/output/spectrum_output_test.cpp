@@ -113,11 +113,11 @@ TEST_CASE("spectrum_text: the strongest harmonics first, a dash for a null") {
   const std::string text = spectrum_text(r, 2);
   CHECK(text.find("spectrum of the LISN receiver port (described source)\n") == 0);
   CHECK(text.find("\nstrongest 2 of 4 harmonics:\n") != std::string::npos);
-  const std::size_t first = text.find("61.23");
-  const std::size_t second = text.find("52.50");
+  const std::size_t first = text.find("61.2");  // 61.23 and 52.50 to 0.1 dB (issue 19)
+  const std::size_t second = text.find("52.5");
   CHECK(first != std::string::npos);
   CHECK(second != std::string::npos);
   CHECK(first < second);
-  CHECK(text.find("48.00") == std::string::npos);  // third strongest: not listed
+  CHECK(text.find("48.0") == std::string::npos);  // third strongest: not listed
   CHECK(spectrum_text(r, 10).find("  -  ") != std::string::npos);  // the null harmonic
 }

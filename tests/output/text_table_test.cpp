@@ -38,9 +38,10 @@ TEST_CASE("format_columns aligns left and right columns and trims trailing space
   CHECK(coloured == "\x1b[31mab\x1b[0m    x\nabcd  y\n");
 }
 
-TEST_CASE("level_cell: two decimals, a dash at the floor") {
-  CHECK(level_cell(61.204) == "61.20");
-  CHECK(level_cell(-3.005) == "-3.00");  // binary -3.005 lies just above -3.005: rounds to -3.00
+TEST_CASE("level_cell: one decimal (0.1 dB, issue 19), a dash at the floor") {
+  CHECK(level_cell(61.204) == "61.2");
+  CHECK(level_cell(61.25) == "61.2");  // 61.25 is exact in binary: round-half-to-even gives 61.2
+  CHECK(level_cell(-3.05) == "-3.0");  // binary -3.05 lies just above -3.05: rounds to -3.0
   CHECK(level_cell(level_floor_db) == "-");
   CHECK(level_cell(level_floor_db - 1.0) == "-");
 }
