@@ -587,7 +587,8 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
 
   const double f0 = lines.fundamental_hz;
   const double period_s = 1.0 / f0;
-  const std::size_t m = envelope_points(period_s, f0, band.bandwidth_6db_hz);
+  const std::size_t m = fast_fft_size(envelope_points(period_s, f0, band.bandwidth_6db_hz) *
+                                      std::max(1u, plan.envelope_oversampling));
   const double envelope_interval_s = period_s / static_cast<double>(m);
   const DetectorModel model = make_detector_model(band.detector);
   FftwBuffer plan_buffer(m);
