@@ -1,4 +1,4 @@
-// spurcast predict SCENARIO.toml [-o DIR] [--json] [--explain-at FREQ]...: the whole chain, written as a report folder.
+// spurcast predict SCENARIO.toml [-o DIR] [--json] [--explain-at FREQ]... [--sampled-dither]: the whole chain, written as a report folder.
 #include <memory>
 #include <string>
 #include <vector>
@@ -20,6 +20,7 @@ struct Options {
   std::string output = "spurcast-report";
   bool json = false;
   std::vector<std::string> explain_at;
+  bool sampled_dither = false;
 };
 
 int run_predict(const Options& options) {
@@ -38,6 +39,7 @@ int run_predict(const Options& options) {
     const Scenario scenario = load_scenario(options.scenario, locate_shipped_data());
     check_output_folder(options.output);  // refuse a folder that is not ours before the long part
     progress.show("predicting (source, conducted path, receiver scans, bands)");
+    prediction_options.sampled_dither = options.sampled_dither;
     prediction = predict(scenario, prediction_options);
   }
   return write_report_and_summarise(prediction, options.output, options.json);
@@ -57,6 +59,9 @@ void setup_predict(CLI::App& app, CommandList& commands) {
                   "also show what makes the reading at this frequency (DM/CM shares, source term, controlling path), "
                   "e.g. 1.2MHz; repeatable, inside the computed band")
       ->allow_extra_args(false);
+  sub->add_flag("--sampled-dither", options->sampled_dither,
+                "read a dithered source through a sampled record and the FFT receiver, even when its exact lines "
+                "are available (a cross-check; slower)");
   sub->footer("exit codes: 0 every limit met, 1 a limit exceeded or a margin under the guard band, 2 bad input, 3 the report could not be written");
   commands.push_back(Command{sub, [options] { return run_predict(*options); }});
 }

@@ -23,7 +23,8 @@ namespace spurcast {
 /// How the source was given, which decides the receiver path.
 enum class SourceKind {
   described,  ///< periodic trapezoid: exact lines, exact line-spectrum receiver
-  dithered,   ///< described with dither: sampled synthesis and the FFT receiver
+  dithered,   ///< described with dither: the exact lines of its repeat (or, when the profile does not
+              ///< repeat, sampled synthesis and the FFT receiver); Prediction::receiver_path says which
   captured,   ///< a capture: its samples through the conducted path and the FFT receiver
 };
 [[nodiscard]] std::string to_string(SourceKind kind);
@@ -40,7 +41,19 @@ struct PredictionOptions {
   /// given; each must lie inside a receiver band of the conducted prediction that was computed
   /// (otherwise predict() throws Error before the long part).
   std::vector<double> explain_at_hz;
+  /// Read a dithered source through sampled synthesis and the FFT receiver even when its profile
+  /// repeats (a cross-check of the exact line path; `predict --sampled-dither`).
+  bool sampled_dither = false;
 };
+
+/// Which receiver path read the LISN port.
+enum class ReceiverPath {
+  lines,          ///< exact line spectrum of a periodic source
+  dithered_lines, ///< exact lines of a dithered source's repeat (source.hpp, DitherRepeat)
+  sampled,        ///< a sampled record through the FFT receiver (a capture, or a dither that does not repeat)
+};
+/// "lines", "dithered-lines" or "sampled".
+[[nodiscard]] std::string to_string(ReceiverPath path);
 
 /// The readings of one CISPR band at the LISN port(s).
 struct BandScan {
@@ -71,6 +84,7 @@ struct UncomputedRange {
 struct Prediction {
   Scenario scenario;
   SourceKind source_kind = SourceKind::described;
+  ReceiverPath receiver_path = ReceiverPath::lines;
   /// Exact harmonics at the source: switch-node voltage and input current. For a dithered source
   /// these are the undithered (nominal) lines; for a capture, the lines read from its spectrum.
   LineSpectrum switch_node_v;
@@ -116,7 +130,8 @@ struct Prediction {
 /// IF response reaches (band top plus twice the bandwidth), clear of the Nyquist frequency.
 [[nodiscard]] double receiver_sample_rate_hz(CisprBand band);
 
-/// Record length for a dithered source: whole modulation periods, at least three and at least
+/// Record length for a dithered source: whole modulation periods (whole repeats when the dither
+/// repeats over several, DitherRepeat), at least three modulation periods and at least
 /// 10 ms (`requested_s` > 0 overrides that), bounded to 2^23 samples at `sample_rate_hz`; a note
 /// is added when the bound shortens it.
 [[nodiscard]] double dithered_record_duration_s(const SwitchingSpec& spec, double sample_rate_hz,

@@ -57,7 +57,26 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
   };
 
   ScanResult result;
-  if (scenario.switching && !scenario.switching->dither) {
+  // A dither that repeats: the exact lines of its repeat (source.hpp, DitherRepeat), as predict() reads them.
+  const std::optional<DitherRepeat> repeat =
+      scenario.switching && scenario.switching->dither ? dither_repeat(*scenario.switching) : std::nullopt;
+  if (repeat) {
+    const SwitchingSpec& spec = *scenario.switching;
+    ScanPlan dense_plan = plan;
+    dense_plan.envelope_oversampling = 4;  // as predict() (prediction.cpp)
+    notes.push_back("dithered source: read from the exact lines of its repeat (" +
+                    std::to_string(repeat->modulation_periods) + " modulation period" +
+                    (repeat->modulation_periods == 1 ? "" : "s") + ")");
+    if (at == "source") {
+      result = scan_lines(dithered_switch_node_lines(spec, *repeat, top_hz), dense_plan);
+    } else if (at == "current") {
+      result = scan_lines(dithered_input_current_lines(spec, *repeat, top_hz), dense_plan);
+    } else {
+      const ConductedResult conducted = conduct(dithered_switch_node_lines(spec, *repeat, top_hz),
+                                                dithered_input_current_lines(spec, *repeat, top_hz), *model);
+      result = scan_two_lines([&](int line) { return scan_lines(conducted.line_spectrum(line), dense_plan); });
+    }
+  } else if (scenario.switching && !scenario.switching->dither) {
     // Periodic, undithered: exact line spectra, no sampling.
     const SwitchingSpec& spec = *scenario.switching;
     if (at == "source") {
@@ -74,7 +93,7 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
     Waveform source_i;
     ScanPlan sampled_plan = plan;
     if (scenario.switching) {
-      // Dithered: a synthesized record through the FFT receiver, as the prediction makes it.
+      // Dithered without a repeat: a synthesized record through the FFT receiver, as the prediction makes it.
       const SwitchingSpec& spec = *scenario.switching;
       const double fs = receiver_sample_rate_hz(plan.band);
       const double duration_s = dithered_record_duration_s(spec, fs, 0.0, notes);

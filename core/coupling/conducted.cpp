@@ -1,4 +1,5 @@
 #include "core/coupling/conducted.hpp"
+#include "core/coupling/transfer_grid.hpp"
 
 
 #include <fftw3.h>
@@ -541,7 +542,8 @@ Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input
   }
   std::vector<cd> result(bins, cd(0.0, 0.0));  // bin 0 (DC) stays 0: the receiver does not measure it
   if (!frequency_hz.empty()) {
-    const TransferFunctions h = transfer_at(model, frequency_hz);
+    // Solved on an adaptive grid and interpolated to every bin (transfer_grid.hpp), not at each bin.
+    const TransferFunctions h = transfer_on_grid(model, frequency_hz);
     const auto& per_v = line == 1 ? h.port1_per_switch_node : h.port2_per_switch_node;
     const auto& per_i = line == 1 ? h.port1_per_input_current_ohm : h.port2_per_input_current_ohm;
     const std::vector<cd> spectrum_v = has_v ? forward(switch_node_v.samples) : std::vector<cd>();

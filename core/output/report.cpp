@@ -330,6 +330,7 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
   j["title"] = p.scenario.title;
   j["scenario"] = p.scenario.file;
   j["source"] = to_string(p.source_kind);
+  j["receiver_path"] = to_string(p.receiver_path);
   j["verdict"] = to_string(p.verdict);
   // What was not computed comes right after the verdict it qualifies.
   nlohmann::ordered_json not_computed = nlohmann::ordered_json::array();

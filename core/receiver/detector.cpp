@@ -241,6 +241,11 @@ std::vector<double> quasi_peak_voltage(std::span<const double> envelope, double 
   return trace;
 }
 
+double periodic_envelope_peak(std::span<const double> envelope) {
+  if (envelope.empty()) return 0.0;
+  return interpolated_peak(envelope) / std::numbers::sqrt2;
+}
+
 DetectorReadings read_periodic_envelope(std::span<const double> envelope, double sample_interval_s,
                                         const DetectorModel& model) {
   DetectorReadings readings;

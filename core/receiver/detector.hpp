@@ -98,4 +98,8 @@ struct DetectorReadings {
 [[nodiscard]] DetectorReadings read_periodic_envelope(std::span<const double> envelope, double sample_interval_s,
                                                       const DetectorModel& model);
 
+/// The peak reading of a periodic envelope alone (read_periodic_envelope's peak): its maximum with
+/// log-parabolic interpolation, / √2.
+[[nodiscard]] double periodic_envelope_peak(std::span<const double> envelope);
+
 }  // namespace spurcast

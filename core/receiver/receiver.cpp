@@ -587,20 +587,26 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
 
   const double f0 = lines.fundamental_hz;
   const double period_s = 1.0 / f0;
+  // The detectors read the envelope at m points per period; the peak, with envelope_oversampling,
+  // at `oversampling`·m (whose every oversampling-th sample is the m-point envelope: the same lines
+  // zero-padded further).
   const std::size_t m = envelope_points(period_s, f0, band.bandwidth_6db_hz);
+  const std::size_t oversampling = std::max(1u, plan.envelope_oversampling);
+  const std::size_t m_fine = m * oversampling;
   const double envelope_interval_s = period_s / static_cast<double>(m);
   const DetectorModel model = make_detector_model(band.detector);
-  FftwBuffer plan_buffer(m);
+  FftwBuffer plan_buffer(m_fine);
   const FftwPlan backward([&] {
-    return fftw_plan_dft_1d(static_cast<int>(m), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE);
+    return fftw_plan_dft_1d(static_cast<int>(m_fine), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE);
   });
   const auto harmonic_count = static_cast<long long>(lines.harmonics.size());
 
   result.readings.resize(frequencies.size());
   parallel_chunks(thread_count(plan.threads), frequencies.size(), [&](std::size_t begin, std::size_t end) {
-    FftwBuffer buffer(m);
+    FftwBuffer buffer(m_fine);
     std::vector<std::complex<double>> phasors;
     std::vector<double> envelope;
+    std::vector<double> coarse;
     for (std::size_t i = begin; i < end; ++i) {
       const double tuned_hz = frequencies[i];
       const auto [first, last] = span_indices(tuned_hz, band.bandwidth_6db_hz, f0, 1, harmonic_count);
@@ -623,7 +629,14 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
         r.peak = r.quasi_peak = r.average = single_peak / std::numbers::sqrt2;
       } else if (nonzero > 1) {
         envelope_from_lines(backward.plan, buffer, phasors, envelope);
-        r = read_periodic_envelope(envelope, envelope_interval_s, model);
+        if (oversampling == 1) {
+          r = read_periodic_envelope(envelope, envelope_interval_s, model);
+        } else {
+          coarse.resize(m);
+          for (std::size_t j = 0; j < m; ++j) coarse[j] = envelope[j * oversampling];
+          r = read_periodic_envelope(coarse, envelope_interval_s, model);
+          r.peak = periodic_envelope_peak(envelope);
+        }
       }
       result.readings[i] = make_reading(tuned_hz, r);
     }

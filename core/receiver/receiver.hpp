@@ -113,6 +113,12 @@ struct ScanPlan {
   /// Threads of the sampled path (its record transform and the tuned frequencies, split into
   /// contiguous runs); 0 = std::thread::hardware_concurrency(). The readings do not depend on it.
   unsigned threads = 0;
+  /// The line path (scan_lines) reads the peak of each tuned frequency's periodic envelope at this
+  /// many times its default points (5 per B6 over the period, at least the lines in the span);
+  /// quasi-peak and average keep the default, which they do not need finer. Dense lines (a
+  /// dithered source's) make an envelope whose peaks fall between the default points; 1 keeps
+  /// the default.
+  unsigned envelope_oversampling = 1;
   /// [dB of the record's quantity] the receiver's noise floor: no reading falls below it (nullopt:
   /// no floor, the bare signal; readings then fall to level_floor_db where nothing is in the passband).
   std::optional<double> noise_floor_db;

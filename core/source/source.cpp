@@ -1,6 +1,7 @@
 #include "core/source/source.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
 #include <deque>
@@ -324,6 +325,12 @@ class BandLimit {
   std::vector<cd> ring_;              ///< D(u)
 };
 
+struct DitherCycle {
+  double start_s;
+  double period_s;
+};
+std::vector<DitherCycle> dither_cycles(const SwitchingSpec& spec, const DitherRepeat& repeat);
+
 Waveform synthesize(const SwitchingSpec& spec, double amplitude, const std::optional<RingingSpec>& ringing_spec,
                     Quantity quantity, double sample_rate_hz, double duration_s) {
   if (!(sample_rate_hz > 0.0) || !std::isfinite(sample_rate_hz)) {
@@ -397,7 +404,28 @@ Waveform synthesize(const SwitchingSpec& spec, double amplitude, const std::opti
     double period_s;
     std::vector<Breakpoint> points;
   };
+  // A dither that repeats (dither_repeat) takes the cycles of its repeat, laid end to end, so a
+  // record of whole repeats is exactly periodic and joins seamlessly, and its samples are those of
+  // the waveform whose exact lines dithered_*_lines() gives.
+  const std::optional<DitherRepeat> repeat = spec.dither ? dither_repeat(spec) : std::nullopt;
+  std::vector<double> repeat_starts_s, repeat_periods_s;
+  if (repeat) {
+    for (const DitherCycle& c : dither_cycles(spec, *repeat)) {
+      repeat_starts_s.push_back(c.start_s);
+      repeat_periods_s.push_back(c.period_s);
+    }
+  }
   const auto period_at = [&](double start_s) {
+    if (repeat) {
+      // The cycle of the repeat nearest to start_s (start_s is a sum of earlier periods, so it
+      // sits on a cycle start up to rounding).
+      const double t = start_s - std::floor(start_s / repeat->period_s) * repeat->period_s;
+      auto it = std::upper_bound(repeat_starts_s.begin(), repeat_starts_s.end(), t);
+      std::size_t i = it == repeat_starts_s.begin() ? 0 : static_cast<std::size_t>(it - repeat_starts_s.begin()) - 1;
+      const double to_next = (i + 1 < repeat_starts_s.size() ? repeat_starts_s[i + 1] : repeat->period_s) - t;
+      if (to_next < 0.5 * repeat_periods_s[i]) i = (i + 1) % repeat_starts_s.size();
+      return repeat_periods_s[i];
+    }
     double frequency_hz = spec.frequency_hz;
     // The controller's oscillator sets each period from the modulation at the cycle start.
     if (spec.dither) frequency_hz *= 1.0 + spec.dither->deviation_fraction * dither_profile(*spec.dither, start_s);
@@ -823,6 +851,164 @@ Waveform synthesize_switch_node(const SwitchingSpec& spec, double sample_rate_hz
 Waveform synthesize_input_current(const SwitchingSpec& spec, double sample_rate_hz, double duration_s) {
   validate_switching(spec);
   return synthesize(spec, spec.current_a, spec.current_ringing, Quantity::current, sample_rate_hz, duration_s);
+}
+
+
+// ---------------------------------------------------------------------------------------------
+// Dithered sources as exact lines.
+
+namespace {
+
+/// The cycles of one repeat, as synthesize() lays them out (each period set by the modulation at
+/// the cycle start), then scaled to fill the repeat exactly. The cycle-start rule is Euler's
+/// method on the oscillator phase, whose integral over whole modulation periods is exactly
+/// f0·M/rate cycles; the scale factor absorbs Euler's small drift.
+std::vector<DitherCycle> dither_cycles(const SwitchingSpec& spec, const DitherRepeat& repeat) {
+  std::vector<DitherCycle> cycles;
+  cycles.reserve(repeat.cycle_count);
+  double start_s = 0.0;
+  for (std::size_t n = 0; n < repeat.cycle_count; ++n) {
+    const double frequency_hz =
+        spec.frequency_hz * (1.0 + spec.dither->deviation_fraction * dither_profile(*spec.dither, start_s));
+    cycles.push_back({start_s, 1.0 / frequency_hz});
+    start_s += 1.0 / frequency_hz;
+  }
+  const double scale = repeat.period_s / start_s;
+  for (DitherCycle& c : cycles) {
+    c.start_s *= scale;
+    c.period_s *= scale;
+  }
+  return cycles;
+}
+
+/// Anchor spacing of the phase recurrence: every 512 harmonics the rotating phasor is recomputed
+/// exactly, which keeps its rounding error below about 1e-13 (judgement).
+constexpr std::size_t phasor_anchor_interval = 512;
+
+/// For k = 1..count, sums Σ_g weight_g·exp(−j·2π·k·time_g/period) into sums[k − 1], one array per
+/// weight column, by a rotating phasor per term (one complex multiply per term and harmonic).
+void accumulate_phasor_sums(const std::vector<double>& times_s, const std::vector<std::array<double, 2>>& weights,
+                            double period_s, std::size_t count, std::array<std::vector<cd>, 2>& sums) {
+  for (auto& column : sums) column.assign(count, cd(0.0));
+  for (std::size_t g = 0; g < times_s.size(); ++g) {
+    const double turns = times_s[g] / period_s;
+    const cd rotation = std::polar(1.0, -two_pi * turns);
+    const std::array<double, 2> w = weights[g];
+    cd phasor = rotation;
+    for (std::size_t k = 1; k <= count; ++k) {
+      if (k % phasor_anchor_interval == 0) {
+        // Exact anchor: the fractional turns of k·t/T, so the argument stays small.
+        const double t = static_cast<double>(k) * turns;
+        phasor = std::polar(1.0, -two_pi * (t - std::floor(t)));
+      }
+      sums[0][k - 1] += w[0] * phasor;
+      sums[1][k - 1] += w[1] * phasor;
+      phasor *= rotation;
+    }
+  }
+}
+
+LineSpectrum dithered_lines(const SwitchingSpec& spec, const DitherRepeat& repeat, double max_frequency_hz,
+                            Quantity quantity, double amplitude, const std::optional<RingingSpec>& ringing_spec) {
+  validate_switching(spec);
+  if (!spec.dither) throw Error("dithered lines need a dithered source");
+  if (!(max_frequency_hz > 0.0)) throw Error("maximum frequency must be positive");
+  if (repeat.cycle_count == 0 || !(repeat.period_s > 0.0)) throw Error("a dither repeat needs at least one cycle");
+  const double period_s = repeat.period_s;
+  const double count_real = std::floor(max_frequency_hz * period_s + 1e-9);
+  if (count_real > static_cast<double>(max_harmonic_count)) {
+    throw Error(spec.dither->rate_where,
+                "expected a dither repeat of at most " +
+                    format_quantity(static_cast<double>(max_harmonic_count) / max_frequency_hz, Dimension::time) +
+                    " (its lines are computed up to " + format_quantity(max_frequency_hz, Dimension::frequency) +
+                    ", at most " + std::to_string(max_harmonic_count) + " of them), found " +
+                    format_quantity(period_s, Dimension::time));
+  }
+  const auto count = static_cast<std::size_t>(count_real);
+  const std::vector<DitherCycle> cycles = dither_cycles(spec, repeat);
+
+  // Every cycle's breakpoints on the repeat's time base; the joins between cycles of different
+  // lengths are ordinary segments (a trapezoid's off state, a boost's falling ripple).
+  std::vector<Breakpoint> points;
+  points.reserve(4 * cycles.size());
+  for (const DitherCycle& c : cycles) {
+    for (const Breakpoint& b : period_breakpoints(spec, quantity, amplitude, c.period_s)) {
+      points.push_back({c.start_s + b.time_s, b.value});
+    }
+  }
+  const std::vector<PeriodicKink> kinks = periodic_kinks(points, period_s);
+  // DC: the mean of the piecewise-linear waveform (trapezoid rule per segment, exact).
+  const std::vector<PeriodicNode> nodes = periodic_nodes(points, period_s);
+  double area = 0.0;
+  for (std::size_t g = 0; g < nodes.size(); ++g) {
+    const PeriodicNode& b = nodes[(g + 1) % nodes.size()];
+    const double span = (g + 1 < nodes.size() ? b.time_s : b.time_s + period_s) - nodes[g].time_s;
+    area += 0.5 * (nodes[g].out + b.in) * span;
+  }
+
+  // c_k = Σ J_g·e^{−jωt_g}/(jωT) − Σ Δs_g·e^{−jωt_g}/(ω²T), as piecewise_linear_series.
+  std::vector<double> times_s;
+  std::vector<std::array<double, 2>> weights;
+  for (const PeriodicKink& k : kinks) {
+    times_s.push_back(k.time_s);
+    weights.push_back({k.jump, k.slope_change_per_s});
+  }
+  std::array<std::vector<cd>, 2> sums;
+  accumulate_phasor_sums(times_s, weights, period_s, count, sums);
+
+  const bool ringing = ringing_spec && ringing_spec->relative_amplitude > 0.0;
+  std::array<std::vector<cd>, 2> ring_sums;
+  if (ringing) {
+    // Each edge's tail, + after a rising edge and − after a falling one (RingingSpec).
+    std::vector<double> edge_times_s;
+    std::vector<std::array<double, 2>> edge_signs;
+    for (const DitherCycle& c : cycles) {
+      const EdgeEnds ends = edge_ends(spec, c.period_s);
+      edge_times_s.push_back(c.start_s + ends.rising_end_s);
+      edge_signs.push_back({1.0, 0.0});
+      edge_times_s.push_back(c.start_s + ends.falling_end_s);
+      edge_signs.push_back({-1.0, 0.0});
+    }
+    accumulate_phasor_sums(edge_times_s, edge_signs, period_s, count, ring_sums);
+  }
+
+  LineSpectrum spectrum;
+  spectrum.quantity = quantity;
+  spectrum.fundamental_hz = 1.0 / period_s;
+  spectrum.dc = area / period_s;
+  spectrum.harmonics.resize(count);
+  const double ring_amplitude = ringing ? ringing_spec->relative_amplitude * amplitude : 0.0;
+  for (std::size_t k = 1; k <= count; ++k) {
+    const double omega = two_pi * static_cast<double>(k) / period_s;
+    cd c = sums[0][k - 1] / (cd(0.0, omega) * period_s) - sums[1][k - 1] / (omega * omega * period_s);
+    if (ringing) c += ring_amplitude * ringing_transform(*ringing_spec, omega) / period_s * ring_sums[0][k - 1];
+    spectrum.harmonics[k - 1] = std::sqrt(2.0) * c;  // one-sided RMS phasor
+  }
+  return spectrum;
+}
+
+}  // namespace
+
+std::optional<DitherRepeat> dither_repeat(const SwitchingSpec& spec) {
+  if (!spec.dither) throw Error("a dither repeat needs a dithered source");
+  const double ratio = spec.frequency_hz / spec.dither->rate_hz;
+  for (std::size_t m = 1; m <= max_dither_repeat_periods; ++m) {
+    const double cycles = static_cast<double>(m) * ratio;
+    const double whole = std::round(cycles);
+    if (whole >= 1.0 && std::abs(cycles - whole) <= dither_repeat_tolerance_cycles) {
+      return DitherRepeat{m, static_cast<std::size_t>(whole), static_cast<double>(m) / spec.dither->rate_hz};
+    }
+  }
+  return std::nullopt;
+}
+
+LineSpectrum dithered_switch_node_lines(const SwitchingSpec& spec, const DitherRepeat& repeat, double max_frequency_hz) {
+  return dithered_lines(spec, repeat, max_frequency_hz, Quantity::voltage, spec.amplitude_v, spec.ringing);
+}
+
+LineSpectrum dithered_input_current_lines(const SwitchingSpec& spec, const DitherRepeat& repeat,
+                                          double max_frequency_hz) {
+  return dithered_lines(spec, repeat, max_frequency_hz, Quantity::current, spec.current_a, spec.current_ringing);
 }
 
 }  // namespace spurcast

@@ -181,4 +181,41 @@ inline constexpr double band_limit_passband_ripple = 1e-5;
 [[nodiscard]] Waveform synthesize_input_current(const SwitchingSpec& spec, double sample_rate_hz,
                                                 double duration_s);
 
+// ---------------------------------------------------------------------------------------------
+// Dithered sources as exact lines (issue 18). A periodic dither profile makes the switching
+// waveform periodic: over one modulation period when f0/rate is a whole number, else over the
+// smallest multiple M of it that holds a whole number of switching cycles. Its spectrum is then a
+// line spectrum at multiples of rate/M, exact through the piecewise-linear Fourier series of all
+// the cycles of that repeat, and the receiver's line path reads it (the IF envelope at every
+// tuned frequency repeats with the same period).
+
+/// The repeat of a dithered waveform.
+struct DitherRepeat {
+  std::size_t modulation_periods = 0;  ///< M
+  std::size_t cycle_count = 0;         ///< switching cycles in M modulation periods
+  double period_s = 0.0;               ///< M / rate
+};
+/// The most modulation periods a repeat may span: 64 (judgement: beyond that the lines are so
+/// dense, and the cycles so many, that the sampled path is as fast).
+inline constexpr std::size_t max_dither_repeat_periods = 64;
+/// The largest mismatch, in switching cycles, between M·f0/rate and a whole number for the
+/// waveform to count as periodic over M modulation periods: 1e-6 cycle (the lines then sit within
+/// 1e-6·rate/M of their exact frequency; judgement).
+inline constexpr double dither_repeat_tolerance_cycles = 1e-6;
+
+/// The repeat of spec's dither (spec.dither must be set): the smallest M <= max_dither_repeat_periods
+/// with M·f0/rate within dither_repeat_tolerance_cycles of a whole number, or nullopt when there is
+/// none (then the profile is taken as not periodic and the sampled path applies).
+[[nodiscard]] std::optional<DitherRepeat> dither_repeat(const SwitchingSpec& spec);
+
+/// Exact lines (multiples of 1/repeat.period_s up to max_frequency_hz) of the dithered switch-node
+/// voltage, with its ringing, and of the dithered input current, with current_ringing. The cycles are those of the sampled
+/// path (synthesize_*: each cycle's period set by the modulation at its start), scaled by the
+/// factor (within about 1e-4 of one) that makes repeat.cycle_count of them fill the repeat exactly.
+/// Error when the lines would exceed max_harmonic_count.
+[[nodiscard]] LineSpectrum dithered_switch_node_lines(const SwitchingSpec& spec, const DitherRepeat& repeat,
+                                                      double max_frequency_hz);
+[[nodiscard]] LineSpectrum dithered_input_current_lines(const SwitchingSpec& spec, const DitherRepeat& repeat,
+                                                        double max_frequency_hz);
+
 }  // namespace spurcast

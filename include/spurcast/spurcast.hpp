@@ -29,6 +29,7 @@
 #include "core/coupling/network.hpp"
 #include "core/coupling/spice.hpp"
 #include "core/coupling/touchstone.hpp"
+#include "core/coupling/transfer_grid.hpp"
 #include "core/receiver/detector.hpp"
 #include "core/receiver/receiver.hpp"
 #include "core/compliance/limits.hpp"

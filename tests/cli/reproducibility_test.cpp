@@ -161,12 +161,19 @@ TEST_CASE("a receiver scan gives the same CSV twice") {
 }
 
 TEST_CASE("the FFT receiver gives the same scan with 1, 2 and 3 threads (a dithered source)") {
-  // The dithered example goes through the sampled path: one record transform split in two
-  // halves, and the tuned frequencies split between threads.
+  // The dithered example with a dither rate of 12.3 kHz (400 kHz / 12.3 kHz closes only after 123
+  // modulation periods, beyond max_dither_repeat_periods) goes through the sampled path: one
+  // record transform split in two halves, and the tuned frequencies split between threads.
   Scratch s;
   if (!offers("scan", s.root)) return;
+  std::string scenario = read_text(source_dir / "examples/boat-cabin-led.toml");
+  const std::string rate = "rate = \"12 kHz\"";
+  REQUIRE(scenario.find(rate) != std::string::npos);
+  scenario.replace(scenario.find(rate), rate.size(), "rate = \"12.3 kHz\"");
+  const fs::path scenario_file = s.root / "dithered.toml";
+  std::ofstream(scenario_file) << scenario;
   const fs::path csv = s.root / "scan-dithered.csv";
-  check_identical({"scan", "examples/boat-cabin-led.toml", "--band", "B", "--csv", csv.string(), "--json"}, csv,
+  check_identical({"scan", scenario_file.string(), "--band", "B", "--csv", csv.string(), "--json"}, csv,
                   {"SPURCAST_THREADS=1", "SPURCAST_THREADS=2", "SPURCAST_THREADS=3"}, s.root);
 }
 

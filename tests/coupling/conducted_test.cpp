@@ -16,6 +16,7 @@
 #include <complex>
 
 #include "core/coupling/conducted.hpp"
+#include "core/coupling/transfer_grid.hpp"
 #include "core/input/error.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"
@@ -280,7 +281,11 @@ TEST_CASE("lisn_port_waveform (FFT, periodic record) against the harmonic path")
         scale = std::max(scale, std::abs(e));
         worst = std::max(worst, std::abs(out.samples[s] - e));
       }
-      CHECK(worst <= 1e-9 * scale);
+      // The transfer functions come from the adaptive grid (transfer_grid.hpp) once the record has
+      // more bins than the grid would solve (the three-period record here): within its tolerance
+      // of the solve, so the waveform is within that of its scale (was 1e-9 with a solve per bin;
+      // measured 8e-7 relative).
+      CHECK(worst <= (periods == 1 ? 1e-9 : transfer_grid_tolerance) * scale);
     }
   }
 }
