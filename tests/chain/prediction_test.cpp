@@ -366,6 +366,7 @@ TEST_CASE("[converter] topology = \"netlist\": a subcircuit equal to the buck te
   CHECK_THROWS_WITH_AS((void)scenario_from_text("title = \"t\"\n" + switching + "[converter]\nfile = \"buck.cir\"\n",
                                                 file, dir.string(), locate_shipped_data()),
                        (file + ":10:8: 'file' belongs to topology netlist, not buck").c_str(), Error);
+}
 
 TEST_CASE("a dithered source's exact lines read as the sampled path reads the same waveform") {
   // Issue 18: the boat-cabin example (400 kHz, 8 % triangle dither at 12 kHz) repeats every three
