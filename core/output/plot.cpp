@@ -36,7 +36,7 @@ std::string number(double value) {
   char buffer[32];
   std::snprintf(buffer, sizeof buffer, "%.1f", value);
   std::string text = buffer;
-  if (text == "-0.0") text = "0.0";
+  if (text == "-0.0" && !(value < 0.0)) text = "0.0";  // a negative margin keeps its sign
   return text;
 }
 

@@ -34,7 +34,13 @@ std::string fixed(double value, int decimals) {
 /// Levels in the CSVs: fixed 0.01 dB, so the files keep what the model computed.
 std::string level_text(double level_db) { return fixed(level_db, 2); }
 /// Levels and margins on the page: 0.1 dB, no finer than any model of this kind is right (issue 19).
-std::string page_level_text(double level_db) { return fixed(level_db, 1); }
+/// A value below zero keeps its sign even when it rounds to 0.0: a margin of −0.04 dB is a fail and
+/// reads "-0.0", never "0.0" beside a FAIL.
+std::string page_level_text(double level_db) {
+  std::string text = fixed(level_db, 1);
+  if (level_db < 0.0 && text.front() != '-') text.insert(0, "-");
+  return text;
+}
 std::string frequency_text(double frequency_hz) { return fixed(frequency_hz, 1); }
 /// The value exactly as the CSV prints it, for JSON (so the two agree to the last digit).
 double rounded(double value, int decimals) { return std::stod(fixed(value, decimals)); }
@@ -89,6 +95,8 @@ std::string detector_short(Detector detector) {
 /// A dB value with a true minus sign for the page and the plots.
 std::string signed_db(double value_db, int decimals = 1) {
   std::string text = fixed(value_db, decimals);
+  // A margin below zero keeps its sign when it rounds to zero: −0.04 dB is a fail.
+  if (value_db < 0.0 && !text.empty() && text.front() != '-') text.insert(0, "-");
   if (!text.empty() && text.front() == '-') text = "\xE2\x88\x92" + text.substr(1);
   return text + " dB";
 }

@@ -536,3 +536,18 @@ lines = 2
   CHECK(boost.find("current (DC input current, triangular ripple on it)") != std::string::npos);
   CHECK(boost.find("current (pulsed input current)") == std::string::npos);
 }
+
+TEST_CASE("a margin just below zero reads −0.0 on the page, never 0.0 beside a fail") {
+  // 0.1 dB on the page (issue 19): an average reading of 50.04 dBµV against the 50 dBµV line is a
+  // fail by 0.04 dB, which rounds to zero; its sign must stay.
+  Prediction p = hand_prediction();
+  p.scans[0].worst.readings[1].average_db = 50.04;
+  const std::vector<LevelReading> readings =
+      readings_from_scan(p.scans[0].worst.readings, {Detector::quasi_peak, Detector::average});
+  p.margins = compare_with_limits(readings, p.scenario.limits.sets, {.guard_db = 6.0});
+  p.verdict = p.margins.verdict;
+  REQUIRE(p.verdict == Verdict::fail);
+  const std::string page = report_html(p, {"report.html"});
+  CHECK(page.find("\xE2\x88\x92" "0.0 dB") != std::string::npos);  // U+2212 minus
+  CHECK(page.find(">0.0 dB<") == std::string::npos);  // an unsigned zero margin cell
+}
