@@ -4,6 +4,7 @@
 #include <filesystem>
 #include <cctype>
 #include <cmath>
+#include <numbers>
 #include <set>
 
 #include "core/input/input_file.hpp"
@@ -261,18 +262,6 @@ std::vector<Band> bands_for(const BroadcastSpec& spec, const ShippedData& data) 
   return bands;
 }
 
-std::vector<std::size_t> sorted_line_order(const std::vector<SpectralLine>& lines) {
-  std::vector<std::size_t> order(lines.size());
-  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
-  std::stable_sort(order.begin(), order.end(),
-                   [&](std::size_t a, std::size_t b) { return lines[a].frequency_hz < lines[b].frequency_hz; });
-  return order;
-}
-
-BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines) {
-  return map_sorted_lines_to_band(band, lines, sorted_line_order(lines));
-}
-
 double channel_response_db(double offset_hz, double bandwidth_hz) {
   const double x = 2.0 * offset_hz / bandwidth_hz;
   return -channel_edge_db * x * x;
@@ -282,41 +271,57 @@ double channel_reach_hz(double bandwidth_hz) {
   return 0.5 * bandwidth_hz * std::sqrt(-channel_stop_db / channel_edge_db);
 }
 
-BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines,
-                                       const std::vector<std::size_t>& order) {
-  if (order.size() != lines.size()) throw Error("line order does not match the lines");
+BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines) {
   BandOccupancy occupancy;
   const std::vector<double> centres = band.channel_centres_hz();
   const double reach = channel_reach_hz(band.bandwidth_hz);
-  // Each channel finds its lines by binary search in the frequency-sorted order.
-  auto first_at_or_above = [&](double f) {
-    return std::lower_bound(order.begin(), order.end(), f,
-                            [&](std::size_t index, double value) { return lines[index].frequency_hz < value; });
-  };
-  for (auto it = first_at_or_above(band.low_hz - edge_slack_hz);
-       it != order.end() && lines[*it].frequency_hz <= band.high_hz + edge_slack_hz; ++it) {
-    occupancy.lines_inside.push_back(*it);
-  }
-  for (const double centre : centres) {
-    auto it = first_at_or_above(centre - reach);
-    ChannelHit hit;
-    hit.centre_hz = centre;
+  // Each line finds the channels it reaches by binary search in the ascending centres and adds its
+  // weighted power to them: no sort of the lines (a dithered spectrum has hundreds of thousands).
+  // The response 10^(−edge·x²/10) is computed as exp(−edge·ln10/10·x²).
+  struct Accumulator {
     double power = 0.0;
     double strongest_db = -INFINITY;
-    for (; it != order.end() && lines[*it].frequency_hz <= centre + reach; ++it) {
-      const SpectralLine& line = lines[*it];
-      const double weighted_db = line.level_db + channel_response_db(line.frequency_hz - centre, band.bandwidth_hz);
-      power += std::pow(10.0, weighted_db / 10.0);
-      ++hit.line_count;
-      if (weighted_db > strongest_db) {
-        strongest_db = weighted_db;
-        hit.strongest_line_hz = line.frequency_hz;
-        hit.strongest_line_index = *it;
+    double strongest_hz = 0.0;
+    std::size_t strongest_index = 0;
+    std::size_t count = 0;
+  };
+  std::vector<Accumulator> sums(centres.size());
+  const double response_exponent = channel_edge_db * std::numbers::ln10 / 10.0;
+  const double inverse_half_bandwidth = 2.0 / band.bandwidth_hz;
+  for (std::size_t i = 0; i < lines.size(); ++i) {
+    const SpectralLine& line = lines[i];
+    const double f = line.frequency_hz;
+    if (f >= band.low_hz - edge_slack_hz && f <= band.high_hz + edge_slack_hz) occupancy.lines_inside.push_back(i);
+    if (centres.empty() || f < centres.front() - reach || f > centres.back() + reach) continue;
+    const double power = std::pow(10.0, line.level_db / 10.0);
+    for (auto c = std::lower_bound(centres.begin(), centres.end(), f - reach); c != centres.end() && *c <= f + reach; ++c) {
+      // The same closed interval [centre − reach, centre + reach] as a channel-by-channel search.
+      if (f < *c - reach) continue;
+      Accumulator& sum = sums[static_cast<std::size_t>(c - centres.begin())];
+      const double x = (f - *c) * inverse_half_bandwidth;
+      sum.power += power * std::exp(-response_exponent * x * x);
+      ++sum.count;
+      // The strongest line; on a tie the lower frequency, then the lower index (a fixed choice,
+      // whatever the order of the input).
+      const double weighted_db = line.level_db - channel_edge_db * x * x;
+      if (weighted_db > sum.strongest_db ||
+          (weighted_db == sum.strongest_db && (f < sum.strongest_hz || (f == sum.strongest_hz && i < sum.strongest_index)))) {
+        sum.strongest_db = weighted_db;
+        sum.strongest_hz = f;
+        sum.strongest_index = i;
       }
     }
-    if (hit.line_count == 0) continue;
-    hit.level_db = power > 0.0 ? 10.0 * std::log10(power) : level_floor_db;
-    hit.strongest_level_db = std::max(strongest_db, level_floor_db);
+  }
+  for (std::size_t c = 0; c < centres.size(); ++c) {
+    const Accumulator& sum = sums[c];
+    if (sum.count == 0) continue;
+    ChannelHit hit;
+    hit.centre_hz = centres[c];
+    hit.line_count = sum.count;
+    hit.strongest_line_hz = sum.strongest_hz;
+    hit.strongest_line_index = sum.strongest_index;
+    hit.level_db = sum.power > 0.0 ? 10.0 * std::log10(sum.power) : level_floor_db;
+    hit.strongest_level_db = std::max(sum.strongest_db, level_floor_db);
     occupancy.channels.push_back(hit);
   }
   for (std::size_t c = 0; c < occupancy.channels.size(); ++c) {

@@ -144,7 +144,7 @@ struct ChannelHit {
 
 /// What a band hears of a line spectrum.
 struct BandOccupancy {
-  std::vector<std::size_t> lines_inside;  ///< indices (into the input) of lines with low <= f <= high
+  std::vector<std::size_t> lines_inside;  ///< indices (into the input, ascending) of lines with low <= f <= high
   std::vector<ChannelHit> channels;       ///< channels that hear a line, ascending centre
   /// Index into `channels` of the loudest one; empty when no channel hears anything.
   std::optional<std::size_t> worst_channel;
@@ -170,11 +170,5 @@ inline constexpr double channel_stop_db = -60.0;
 /// which for a dithered source gives the energy through the channel's filter. No offset falls between
 /// channels. Lines need not be sorted.
 [[nodiscard]] BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines);
-
-/// Indices of `lines` in ascending frequency (stable), for mapping one spectrum onto many bands.
-[[nodiscard]] std::vector<std::size_t> sorted_line_order(const std::vector<SpectralLine>& lines);
-/// map_lines_to_band() with the sort done once by the caller: `order` = sorted_line_order(lines).
-[[nodiscard]] BandOccupancy map_sorted_lines_to_band(const Band& band, const std::vector<SpectralLine>& lines,
-                                                     const std::vector<std::size_t>& order);
 
 }  // namespace spurcast

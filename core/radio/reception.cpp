@@ -51,13 +51,12 @@ namespace {
 
 std::string format_mhz(double hz) { return format_quantity(hz, Dimension::frequency); }
 
-BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines,
-                         const std::vector<std::size_t>& order, const BroadcastSpec& spec,
+BandReception judge_band(const Band& band, const std::vector<SpectralLine>& lines, const BroadcastSpec& spec,
                          const std::vector<FieldLine>* field, bool magnetic, double computed_up_to_hz) {
   BandReception result;
   result.band = band;
   result.antenna = antenna_for_band(spec.antenna, band.high_hz);
-  const BandOccupancy occupancy = map_sorted_lines_to_band(band, lines, order);
+  const BandOccupancy occupancy = map_lines_to_band(band, lines);
   result.lines_inside = occupancy.lines_inside;
   for (const ChannelHit& hit : occupancy.channels) {
     ChannelReception channel = judge_channel(band, hit.centre_hz, hit.level_db, spec.environment,
@@ -203,8 +202,6 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, co
                                               const BroadcastSpec& spec, double computed_up_to_hz) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
-  const std::vector<std::size_t> e_order = sorted_line_order(lines.e_lines);
-  const std::vector<std::size_t> h_order = sorted_line_order(lines.h_lines);
   for (const Band& band : bands) {
     const bool magnetic = antenna_for_band(spec.antenna, band.high_hz) == AntennaKind::ferrite;
     const std::vector<SpectralLine>& heard = magnetic ? lines.h_lines : lines.e_lines;
@@ -219,10 +216,10 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands, co
         }
       }
       const std::vector<SpectralLine> spread = dithered_lines(near_band, *lines.dither, band.bandwidth_hz);
-      results.push_back(judge_band(band, spread, sorted_line_order(spread), spec, &lines.field, magnetic, computed_up_to_hz));
+      results.push_back(judge_band(band, spread, spec, &lines.field, magnetic, computed_up_to_hz));
     } else {
       results.push_back(
-          judge_band(band, heard, magnetic ? h_order : e_order, spec, &lines.field, magnetic, computed_up_to_hz));
+          judge_band(band, heard, spec, &lines.field, magnetic, computed_up_to_hz));
     }
   }
   return results;
@@ -233,9 +230,8 @@ std::vector<BandReception> estimate_reception(const std::vector<Band>& bands,
                                               const BroadcastSpec& spec, double computed_up_to_hz) {
   std::vector<BandReception> results;
   results.reserve(bands.size());
-  const std::vector<std::size_t> order = sorted_line_order(field_lines_dbuvm);
   for (const Band& band : bands) {
-    results.push_back(judge_band(band, field_lines_dbuvm, order, spec, nullptr, false, computed_up_to_hz));
+    results.push_back(judge_band(band, field_lines_dbuvm, spec, nullptr, false, computed_up_to_hz));
   }
   return results;
 }

@@ -135,6 +135,12 @@ struct DiodeStepper {
     return table[i] + w * (table[i + 1] - table[i]);
   }
 
+  // dg/dr, piecewise constant on the table (the slope of the interpolation used by g).
+  [[nodiscard]] double g_slope(double r) const {
+    if (table == nullptr) return -std::acos(std::min(r, 1.0)) / std::numbers::pi;  // d/dr of diode_charge_function
+    const auto i = static_cast<std::size_t>(r * table_intervals);
+    return (table[i + 1] - table[i]) * table_intervals;
+  }
   [[nodiscard]] double rate(double v, double e, double inverse_e) const {
     const double charge = v < e ? e * g(v * inverse_e) * inv_charge : 0.0;
     return charge - v * inv_discharge;
@@ -146,19 +152,44 @@ struct DiodeStepper {
     const double k2 = rate(v + h * k1, e1, inverse_e1);
     return std::max(0.0, v + 0.5 * h * (k1 + k2));
   }
+  // ∂rate/∂v.
+  [[nodiscard]] double rate_slope(double v, double e, double inverse_e) const {
+    return (v < e ? g_slope(v * inverse_e) * inv_charge : 0.0) - inv_discharge;
+  }
+  // step(), also multiplying `slope` by d(step)/dv (the chain rule through Heun's two stages).
+  [[nodiscard]] double step(double v, double e0, double e1, double inverse_e0, double inverse_e1, double& slope) const {
+    if (e0 <= v && e1 <= v * decay) {
+      slope *= decay;
+      return v * decay;
+    }
+    const double k1 = rate(v, e0, inverse_e0);
+    const double v_mid = v + h * k1;
+    const double k2 = rate(v_mid, e1, inverse_e1);
+    const double next = v + 0.5 * h * (k1 + k2);
+    if (next <= 0.0) {
+      slope = 0.0;
+      return 0.0;
+    }
+    const double d1 = rate_slope(v, e0, inverse_e0);
+    const double d2 = rate_slope(v_mid, e1, inverse_e1) * (1.0 + h * d1);
+    slope *= 1.0 + 0.5 * h * (d1 + d2);
+    return next;
+  }
 };
 
 double safe_inverse(double e) { return e > 0.0 ? 1.0 / e : 0.0; }
 
 // V at the end of one period starting from v; the envelope is periodic, so the last interval runs
-// from the last sample back to the first. `trace` (if non-null) receives V after each sample.
+// from the last sample back to the first. `trace` receives V after each sample and `slope` the
+// derivative of V at the end of the period with respect to V at its start.
 double diode_period(std::span<const double> envelope, std::span<const double> inverse, const DiodeStepper& stepper,
-                    double v, double* trace) {
+                    double v, double* trace, double& slope) {
   const std::size_t n = envelope.size();
+  slope = 1.0;
   for (std::size_t i = 0; i < n; ++i) {
     const std::size_t next = i + 1 == n ? 0 : i + 1;
-    v = stepper.step(v, envelope[i], envelope[next], inverse[i], inverse[next]);
-    if (trace != nullptr) trace[i] = v;
+    v = stepper.step(v, envelope[i], envelope[next], inverse[i], inverse[next], slope);
+    trace[i] = v;
   }
   return v;
 }
@@ -272,9 +303,10 @@ DetectorReadings read_periodic_envelope(std::span<const double> envelope, double
   }
 
   // QP: the periodic steady state is the fixed point V* = P(V*) of the one-period map P (V at the
-  // end of a period as a function of V at its start; increasing, contracting). Iterate P from the
-  // CW state of the mean envelope, with Aitken extrapolation (exact for an affine map, which P
-  // nearly is: the discharge is linear and the charge is short or nearly constant).
+  // end of a period as a function of V at its start; increasing, with slope below 1). Solve
+  // F(V) = P(V) − V = 0 by Newton's method with P' carried through the integration (forward
+  // sensitivity), safeguarded by bisection: F decreases, F(0) = P(0) >= 0 and F(max e) <= 0
+  // bracket the root. A plain iteration of P would need of the order of R_D·C/T periods.
   const DiodeStepper stepper(model.quasi_peak, sample_interval_s, &model.charge_table);
   const double ratio = model.quasi_peak.final_ratio;
   std::vector<double> inverse(envelope.size());
@@ -284,17 +316,18 @@ DetectorReadings read_periodic_envelope(std::span<const double> envelope, double
     sum += envelope[i];
   }
   std::vector<double> trace(envelope.size());
-  const double tolerance = 1e-8 * max_e;  // < 1e-6 dB on a reading above 1 % of max e
-  double v0 = ratio * sum / static_cast<double>(envelope.size());
-  double v1 = diode_period(envelope, inverse, stepper, v0, trace.data());
-  for (int round = 0; round < 100 && std::abs(v1 - v0) > tolerance; ++round) {
-    const double v2 = diode_period(envelope, inverse, stepper, v1, trace.data());
-    if (std::abs(v2 - v1) <= tolerance) break;
-    const double slope = (v2 - v1) / (v1 - v0);  // P' estimate
-    double next = v2;
-    if (slope > 0.0 && slope < 1.0) next = v2 + (v2 - v1) * slope / (1.0 - slope);
-    v0 = std::clamp(next, 0.0, max_e);
-    v1 = diode_period(envelope, inverse, stepper, v0, trace.data());
+  const double tolerance = 1e-8 * max_e;  // |P(V) − V|: < 1e-6 dB on a reading above 1 % of max e
+  double lo = 0.0;
+  double hi = max_e;
+  double v = ratio * sum / static_cast<double>(envelope.size());  // CW state of the mean envelope
+  for (int round = 0; round < 100; ++round) {
+    double slope = 1.0;
+    const double f = diode_period(envelope, inverse, stepper, v, trace.data(), slope) - v;
+    if (std::abs(f) <= tolerance) break;
+    (f > 0.0 ? lo : hi) = v;
+    double next = slope < 1.0 ? v - f / (slope - 1.0) : 0.5 * (lo + hi);
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+    v = next;
   }
   readings.quasi_peak = meter_periodic_max(trace, sample_interval_s, model.constants.meter_s) /
                         (model.quasi_peak.final_ratio * std::numbers::sqrt2);

@@ -890,20 +890,61 @@ constexpr std::size_t phasor_anchor_interval = 512;
 void accumulate_phasor_sums(const std::vector<double>& times_s, const std::vector<std::array<double, 2>>& weights,
                             double period_s, std::size_t count, std::array<std::vector<cd>, 2>& sums) {
   for (auto& column : sums) column.assign(count, cd(0.0));
+  std::vector<double> turns(times_s.size());
+  std::vector<cd> rotations(times_s.size());
   for (std::size_t g = 0; g < times_s.size(); ++g) {
-    const double turns = times_s[g] / period_s;
-    const cd rotation = std::polar(1.0, -two_pi * turns);
-    const std::array<double, 2> w = weights[g];
-    cd phasor = rotation;
-    for (std::size_t k = 1; k <= count; ++k) {
-      if (k % phasor_anchor_interval == 0) {
-        // Exact anchor: the fractional turns of k·t/T, so the argument stays small.
-        const double t = static_cast<double>(k) * turns;
-        phasor = std::polar(1.0, -two_pi * (t - std::floor(t)));
+    turns[g] = times_s[g] / period_s;
+    rotations[g] = std::polar(1.0, -two_pi * turns[g]);
+  }
+  // Harmonics in blocks of phasor_anchor_interval, every kink within a block: the block's sums stay
+  // in the first-level cache instead of streaming the whole columns once per kink. Each block starts
+  // from an exact anchor, the fractional turns of k·t/T, so the argument stays small.
+  for (std::size_t first = 1; first <= count; first = (first / phasor_anchor_interval + 1) * phasor_anchor_interval) {
+    const std::size_t last = std::min(count, (first / phasor_anchor_interval + 1) * phasor_anchor_interval - 1);
+    cd* sum0 = sums[0].data() + (first - 1);
+    cd* sum1 = sums[1].data() + (first - 1);
+    const std::size_t length = last - first + 1;
+    // Four kinks at a time: their phasor recurrences are independent chains the core overlaps.
+    constexpr std::size_t lanes = 4;
+    auto* s0 = reinterpret_cast<double*>(sum0);  // (re, im) pairs: [complex.numbers] array access
+    auto* s1 = reinterpret_cast<double*>(sum1);
+    for (std::size_t g0 = 0; g0 < times_s.size(); g0 += lanes) {
+      double re[lanes] = {};
+      double im[lanes] = {};
+      double rot_re[lanes] = {};
+      double rot_im[lanes] = {};
+      double w0[lanes] = {};  // zero weights pad the last group
+      double w1[lanes] = {};
+      for (std::size_t l = 0; l < lanes && g0 + l < times_s.size(); ++l) {
+        const std::size_t g = g0 + l;
+        const double t = static_cast<double>(first) * turns[g];
+        const cd anchor = std::polar(1.0, -two_pi * (t - std::floor(t)));
+        re[l] = anchor.real();
+        im[l] = anchor.imag();
+        rot_re[l] = rotations[g].real();
+        rot_im[l] = rotations[g].imag();
+        w0[l] = weights[g][0];
+        w1[l] = weights[g][1];
       }
-      sums[0][k - 1] += w[0] * phasor;
-      sums[1][k - 1] += w[1] * phasor;
-      phasor *= rotation;
+      for (std::size_t j = 0; j < length; ++j) {
+        double a_re = 0.0;
+        double a_im = 0.0;
+        double b_re = 0.0;
+        double b_im = 0.0;
+        for (std::size_t l = 0; l < lanes; ++l) {
+          a_re += w0[l] * re[l];
+          a_im += w0[l] * im[l];
+          b_re += w1[l] * re[l];
+          b_im += w1[l] * im[l];
+          const double next_re = re[l] * rot_re[l] - im[l] * rot_im[l];
+          im[l] = re[l] * rot_im[l] + im[l] * rot_re[l];
+          re[l] = next_re;
+        }
+        s0[2 * j] += a_re;
+        s0[2 * j + 1] += a_im;
+        s1[2 * j] += b_re;
+        s1[2 * j + 1] += b_im;
+      }
     }
   }
 }
