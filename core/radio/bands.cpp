@@ -286,14 +286,15 @@ BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine
     std::size_t count = 0;
   };
   std::vector<Accumulator> sums(centres.size());
-  const double response_exponent = channel_edge_db * std::numbers::ln10 / 10.0;
+  const double decibel_exponent = std::numbers::ln10 / 10.0;
+  const double response_exponent = channel_edge_db * decibel_exponent;
   const double inverse_half_bandwidth = 2.0 / band.bandwidth_hz;
   for (std::size_t i = 0; i < lines.size(); ++i) {
     const SpectralLine& line = lines[i];
     const double f = line.frequency_hz;
     if (f >= band.low_hz - edge_slack_hz && f <= band.high_hz + edge_slack_hz) occupancy.lines_inside.push_back(i);
     if (centres.empty() || f < centres.front() - reach || f > centres.back() + reach) continue;
-    const double power = std::pow(10.0, line.level_db / 10.0);
+    const double power = std::exp(line.level_db * decibel_exponent);  // 10^(L/10)
     for (auto c = std::lower_bound(centres.begin(), centres.end(), f - reach); c != centres.end() && *c <= f + reach; ++c) {
       // The same closed interval [centre − reach, centre + reach] as a channel-by-channel search.
       if (f < *c - reach) continue;

@@ -170,7 +170,7 @@ std::vector<SpectralLine> dithered_lines(const std::vector<SpectralLine>& lines,
     const double time_average = std::min(1.0, enbw_hz / (2.0 * deviation));
     const double peak = sweep_peak_factor(4.0 * deviation * dither.rate_hz, b3_hz);
     const double scale = std::max(time_average, peak) / time_average;
-    const double power = std::pow(10.0, line.level_db / 10.0) * scale;
+    const double power = std::exp(line.level_db * (std::numbers::ln10 / 10.0)) * scale;  // 10^(L/10)·scale
     for (std::size_t m = 0; m < count; ++m) {
       // Sub-band m covers x in [x0, x1] of the normalised deviation [-1, 1].
       const double x0 = -1.0 + 2.0 * static_cast<double>(m) / static_cast<double>(count);

@@ -194,6 +194,35 @@ double diode_period(std::span<const double> envelope, std::span<const double> in
   return v;
 }
 
+// The start for the periodic steady state: V where the diode's charge and discharge balance over
+// the period with V held constant, mean_i[e_i·g(V/e_i)]/(R_C·C) = V/(R_D·C) (V moves little in
+// one period when T << R_D·C), by a few safeguarded Newton steps from `v`. Only a start: the
+// exact fixed point follows.
+double averaged_diode_state(std::span<const double> envelope, std::span<const double> inverse,
+                            const DiodeStepper& stepper, double v, double max_e) {
+  double lo = 0.0;
+  double hi = max_e;
+  const double n = static_cast<double>(envelope.size());
+  for (int round = 0; round < 8; ++round) {
+    double balance = 0.0;
+    double slope = 0.0;
+    for (std::size_t i = 0; i < envelope.size(); ++i) {
+      if (v >= envelope[i]) continue;
+      const double r = v * inverse[i];
+      balance += envelope[i] * stepper.g(r);
+      slope += stepper.g_slope(r);
+    }
+    balance = balance * stepper.inv_charge / n - v * stepper.inv_discharge;
+    slope = slope * stepper.inv_charge / n - stepper.inv_discharge;
+    (balance > 0.0 ? lo : hi) = v;
+    double next = slope < 0.0 ? v - balance / slope : 0.5 * (lo + hi);
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+    if (std::abs(next - v) <= 1e-6 * max_e) return next;
+    v = next;
+  }
+  return v;
+}
+
 // The maximum output of the critically damped meter 1/(1 + s·T_L)² driven by a periodic input, in
 // periodic steady state. The input is averaged in blocks of at most T_L/1000 (the meter cannot
 // tell them apart) and held constant over each block (exact zero-order-hold update of the two
@@ -319,7 +348,7 @@ DetectorReadings read_periodic_envelope(std::span<const double> envelope, double
   const double tolerance = 1e-8 * max_e;  // |P(V) − V|: < 1e-6 dB on a reading above 1 % of max e
   double lo = 0.0;
   double hi = max_e;
-  double v = ratio * sum / static_cast<double>(envelope.size());  // CW state of the mean envelope
+  double v = averaged_diode_state(envelope, inverse, stepper, ratio * sum / static_cast<double>(envelope.size()), max_e);
   for (int round = 0; round < 100; ++round) {
     double slope = 1.0;
     const double f = diode_period(envelope, inverse, stepper, v, trace.data(), slope) - v;
