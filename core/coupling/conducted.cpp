@@ -459,48 +459,27 @@ struct FftwFree {
   void operator()(void* p) const { fftw_free(p); }
 };
 
-/// The one-sided spectrum (N/2 + 1 bins) of a real record.
-std::vector<cd> forward(const std::vector<double>& samples) {
-  const int n = static_cast<int>(samples.size());
-  const std::size_t bins = samples.size() / 2 + 1;
-  std::unique_ptr<double, FftwFree> in(static_cast<double*>(fftw_malloc(sizeof(double) * samples.size())));
-  std::unique_ptr<fftw_complex, FftwFree> out(static_cast<fftw_complex*>(fftw_malloc(sizeof(fftw_complex) * bins)));
-  fftw_plan plan;
-  {
+/// FFTW plans made and destroyed under the planner lock, executed outside it.
+struct LockedPlan {
+  fftw_plan plan = nullptr;
+  template <typename Make>
+  explicit LockedPlan(Make make) {
     const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
-    plan = fftw_plan_dft_r2c_1d(n, in.get(), out.get(), FFTW_ESTIMATE);
+    plan = make();
   }
-  std::copy(samples.begin(), samples.end(), in.get());
-  fftw_execute(plan);
-  {
+  LockedPlan(const LockedPlan&) = delete;
+  LockedPlan& operator=(const LockedPlan&) = delete;
+  ~LockedPlan() {
     const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
     fftw_destroy_plan(plan);
   }
-  std::vector<cd> spectrum(bins);
-  for (std::size_t k = 0; k < bins; ++k) spectrum[k] = cd(out.get()[k][0], out.get()[k][1]);
-  return spectrum;
-}
+};
 
-std::vector<double> inverse(const std::vector<cd>& spectrum, std::size_t n) {
-  std::unique_ptr<fftw_complex, FftwFree> in(static_cast<fftw_complex*>(fftw_malloc(sizeof(fftw_complex) * spectrum.size())));
-  std::unique_ptr<double, FftwFree> out(static_cast<double*>(fftw_malloc(sizeof(double) * n)));
-  fftw_plan plan;
-  {
-    const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
-    plan = fftw_plan_dft_c2r_1d(static_cast<int>(n), in.get(), out.get(), FFTW_ESTIMATE);
-  }
-  for (std::size_t k = 0; k < spectrum.size(); ++k) {
-    in.get()[k][0] = spectrum[k].real();
-    in.get()[k][1] = spectrum[k].imag();
-  }
-  fftw_execute(plan);  // c2r destroys its input; it is ours
-  {
-    const std::lock_guard<std::mutex> lock(fftw_planner_mutex());
-    fftw_destroy_plan(plan);
-  }
-  std::vector<double> samples(out.get(), out.get() + n);
-  for (double& s : samples) s /= static_cast<double>(n);  // FFTW transforms are unnormalised
-  return samples;
+template <typename T>
+std::unique_ptr<T, FftwFree> fftw_array(std::size_t count) {
+  auto* p = static_cast<T*>(fftw_malloc(sizeof(T) * std::max<std::size_t>(count, 1)));
+  if (p == nullptr) throw std::bad_alloc();
+  return std::unique_ptr<T, FftwFree>(p);
 }
 
 }  // namespace
@@ -540,24 +519,44 @@ Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input
   for (std::size_t k = 1; k < bins; ++k) {
     frequency_hz.push_back(static_cast<double>(k) * first.sample_rate_hz / static_cast<double>(n));
   }
-  std::vector<cd> result(bins, cd(0.0, 0.0));  // bin 0 (DC) stays 0: the receiver does not measure it
-  if (!frequency_hz.empty()) {
+  // One forward plan for both records and one inverse plan, on FFTW's own aligned buffers; the
+  // two spectra are combined in place in the first (no copies of the spectra).
+  auto time_buffer = fftw_array<double>(n);
+  auto spectrum = fftw_array<fftw_complex>(bins);
+  auto other = fftw_array<fftw_complex>(bins);
+  const LockedPlan forward_plan([&] {
+    return fftw_plan_dft_r2c_1d(static_cast<int>(n), time_buffer.get(), spectrum.get(), FFTW_ESTIMATE);
+  });
+  const LockedPlan inverse_plan([&] {
+    return fftw_plan_dft_c2r_1d(static_cast<int>(n), spectrum.get(), time_buffer.get(), FFTW_ESTIMATE);
+  });
+  auto transform = [&](const std::vector<double>& samples, fftw_complex* into) {
+    std::copy(samples.begin(), samples.end(), time_buffer.get());
+    fftw_execute_dft_r2c(forward_plan.plan, time_buffer.get(), into);
+  };
+  if (has_v) transform(switch_node_v.samples, spectrum.get());
+  if (has_i) transform(input_current_a.samples, other.get());
+  fftw_complex* result = spectrum.get();
+  result[0][0] = result[0][1] = 0.0;  // DC stays 0: the receiver does not measure it
+  if (bins > 1) {
     // Solved on an adaptive grid and interpolated to every bin (transfer_grid.hpp), not at each bin.
     const TransferFunctions h = transfer_on_grid(model, frequency_hz);
     const auto& per_v = line == 1 ? h.port1_per_switch_node : h.port2_per_switch_node;
     const auto& per_i = line == 1 ? h.port1_per_input_current_ohm : h.port2_per_input_current_ohm;
-    const std::vector<cd> spectrum_v = has_v ? forward(switch_node_v.samples) : std::vector<cd>();
-    const std::vector<cd> spectrum_i = has_i ? forward(input_current_a.samples) : std::vector<cd>();
     for (std::size_t k = 1; k < bins; ++k) {
       cd value(0.0, 0.0);
-      if (has_v) value += per_v[k - 1] * spectrum_v[k];
-      if (has_i) value += per_i[k - 1] * spectrum_i[k];
-      result[k] = value;
+      if (has_v) value += per_v[k - 1] * cd(result[k][0], result[k][1]);
+      if (has_i) value += per_i[k - 1] * cd(other.get()[k][0], other.get()[k][1]);
+      result[k][0] = value.real();
+      result[k][1] = value.imag();
     }
     // For even n the Nyquist bin of a real signal is real; keep the real part (c2r ignores the rest).
-    if (n % 2 == 0) result[bins - 1] = cd(result[bins - 1].real(), 0.0);
+    if (n % 2 == 0) result[bins - 1][1] = 0.0;
   }
-  out.samples = inverse(result, n);
+  fftw_execute(inverse_plan.plan);  // c2r destroys its input; it is ours
+  out.samples.resize(n);
+  const double scale = 1.0 / static_cast<double>(n);  // FFTW transforms are unnormalised
+  for (std::size_t j = 0; j < n; ++j) out.samples[j] = time_buffer.get()[j] * scale;
   return out;
 }
 
