@@ -466,9 +466,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
         if (two_lines) scan.line2 = scan_line_spectrum(p.conducted->line_spectrum(2), plan);
       } else if (dithered_conducted) {
         // The band grid only: the dithered lines lie closer than the RBW, none is read alone.
-        // Their envelope is read 4× finer than a periodic source's (judgement: the peak reading
-        // then agrees with the sampled path's within 0.1 dB on the boat example).
-        plan.envelope_oversampling = 4;
+        plan.envelope_oversampling = dithered_envelope_oversampling;
         scan.line1 = scan_lines(dithered_conducted->line_spectrum(1), plan);
         if (two_lines) scan.line2 = scan_lines(dithered_conducted->line_spectrum(2), plan);
       } else {

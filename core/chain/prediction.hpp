@@ -46,6 +46,12 @@ struct PredictionOptions {
   bool sampled_dither = false;
 };
 
+/// ScanPlan::envelope_oversampling for a dithered source's exact lines, in predict() and
+/// spectrum_at/scan_at alike: the dense lines' envelope is read 4× finer than a periodic source's
+/// (judgement: the peak reading then agrees with the sampled path's within 0.1 dB on the boat
+/// example).
+inline constexpr unsigned dithered_envelope_oversampling = 4;
+
 /// Which receiver path read the LISN port.
 enum class ReceiverPath {
   lines,          ///< exact line spectrum of a periodic source

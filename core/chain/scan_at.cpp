@@ -63,7 +63,7 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
   if (repeat) {
     const SwitchingSpec& spec = *scenario.switching;
     ScanPlan dense_plan = plan;
-    dense_plan.envelope_oversampling = 4;  // as predict() (prediction.cpp)
+    dense_plan.envelope_oversampling = dithered_envelope_oversampling;
     notes.push_back("dithered source: read from the exact lines of its repeat (" +
                     std::to_string(repeat->modulation_periods) + " modulation period" +
                     (repeat->modulation_periods == 1 ? "" : "s") + ")");

@@ -1085,7 +1085,9 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
                            " went through the receiver scan (dithered or captured source, or harmonics "
                            "closer than 2 x B6): drift checked on the grid only");
   }
-  if (ctx.limit_lines.empty()) result.notes.push_back("the scenario gives no limit line: every point meets the limits");
+  if (ctx.limit_lines.empty()) {
+    result.notes.push_back("the scenario gives no limit line: no point was compared with limits, so none meets them");
+  }
   if (result.tolerance_fraction > 0.0) {
     result.notes.push_back("windows hold across +/-" + fmt::format("{:g}", 100.0 * result.tolerance_fraction) +
                            " % of " + options.axes.front().key +

@@ -11,31 +11,14 @@
 
 #include "core/coupling/conducted.hpp"
 #include "core/coupling/network.hpp"
+#include "timing.hpp"
 
 using namespace spurcast;
+using namespace spurcast::bench;
 
 namespace {
 
 double pi() { return 3.14159265358979323846; }
-
-double thread_cpu_ms() {
-  timespec t{};
-  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &t);
-  return 1e3 * static_cast<double>(t.tv_sec) + 1e-6 * static_cast<double>(t.tv_nsec);
-}
-
-/// Best of `repeats` runs, in thread CPU time (the machine is shared: wall time is not meaningful
-/// under load, CPU time of the one thread is).
-template <typename F>
-double best_of_ms(int repeats, F&& run) {
-  double best = 1e300;
-  for (int r = 0; r < repeats; ++r) {
-    const double start = thread_cpu_ms();
-    run();
-    best = std::min(best, thread_cpu_ms() - start);
-  }
-  return best;
-}
 
 /// Two LISNs, a four-stage two-line filter ladder with a common-mode choke, Y-capacitors and the
 /// converter: 20 nodes besides the ground.
@@ -88,10 +71,10 @@ int main() {
   const std::vector<double> f = log_grid(9e3, 108e6, 10000);
   const std::vector<Probe> probes = {Probe::voltage(net.find_node("p0")), Probe::voltage(net.find_node("n0"))};
   Transfer sink;
-  const double network_ms = best_of_ms(5, [&] { sink = solver.transfer(f, probes); });
+  const double network_ms = best_thread_cpu_ms(5, [&] { sink = solver.transfer(f, probes); });
   std::printf("network: %zu nodes (+ground), MNA size %zu, %zu frequencies: %.2f ms (best of 5, thread CPU time), %.3f us/frequency\n",
               net.node_count() - 1, solver.system_size(), f.size(), network_ms, 1e3 * network_ms / static_cast<double>(f.size()));
-  const double dense_ms = best_of_ms(3, [&] { sink = solver.transfer(f, probes, SolveMethod::dense); });
+  const double dense_ms = best_thread_cpu_ms(3, [&] { sink = solver.transfer(f, probes, SolveMethod::dense); });
   std::printf("network, dense PartialPivLU reference path: %.2f ms (best of 3, thread CPU time)\n", dense_ms);
 
   // Whole chain: a hand-built trapezoid-like LineSpectrum (amplitudes ∝ 1/k up to 1/(k·k)), 220 kHz,
@@ -128,7 +111,7 @@ int main() {
       i.harmonics.emplace_back(6.0 * std::sqrt(2.0) / (pi() * kk) / (1.0 + kk / 50.0), 0.0);
     }
     ConductedResult result;
-    const double chain_ms = best_of_ms(5, [&] { result = conduct(v, i, model); });
+    const double chain_ms = best_thread_cpu_ms(5, [&] { result = conduct(v, i, model); });
     std::printf("chain: 220 kHz, %zu harmonics to %.0f MHz, LISNs + 3 filter stages (MNA size %zu): %.2f ms (best of 5, thread CPU time); model build %.3f ms\n",
                 count, top_hz / 1e6, model.solver().system_size(), chain_ms, build_ms);
   }
@@ -145,7 +128,7 @@ int main() {
       i.samples.push_back(phase < 0.25 ? 6.0 : 0.0);
     }
     Waveform out;
-    const double waveform_ms = best_of_ms(2, [&] { out = lisn_port_waveform(v, i, model, 1); });
+    const double waveform_ms = best_thread_cpu_ms(2, [&] { out = lisn_port_waveform(v, i, model, 1); });
     std::printf("lisn_port_waveform: %zu samples (%zu bins solved): %.1f ms (best of 2, thread CPU time)\n", n,
                 n / 2, waveform_ms);
   }

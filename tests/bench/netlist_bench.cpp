@@ -15,27 +15,12 @@
 #include "core/coupling/conducted.hpp"
 #include "core/coupling/converter.hpp"
 #include "core/input/toml_reader.hpp"
+#include "timing.hpp"
 
 using namespace spurcast;
+using namespace spurcast::bench;
 
 namespace {
-
-double thread_cpu_ms() {
-  timespec t{};
-  clock_gettime(CLOCK_THREAD_CPUTIME_ID, &t);
-  return 1e3 * static_cast<double>(t.tv_sec) + 1e-6 * static_cast<double>(t.tv_nsec);
-}
-
-template <typename F>
-double best_of_ms(int repeats, F&& run) {
-  double best = 1e300;
-  for (int r = 0; r < repeats; ++r) {
-    const double start = thread_cpu_ms();
-    run();
-    best = std::min(best, thread_cpu_ms() - start);
-  }
-  return best;
-}
 
 /// An offline flyback's input side as 30 SPICE elements (invented values): a common-mode choke
 /// with its winding capacitances, X and Y capacitors, a damped differential-mode inductor, two
@@ -72,7 +57,7 @@ int main() {
     f[i] = 9e3 * std::pow(108e6 / 9e3, static_cast<double>(i) / static_cast<double>(f.size() - 1));
   }
   TransferFunctions sink;
-  const double ms = best_of_ms(5, [&] { sink = transfer_at(model, f); });
+  const double ms = best_thread_cpu_ms(5, [&] { sink = transfer_at(model, f); });
   std::printf("flyback netlist: 30 SPICE elements (%zu once each K joins its two inductors), %zu nodes (+ground) with the LISNs, MNA size %zu, "
               "%zu frequencies: %.2f ms (best of 5, thread CPU time), %.3f us/frequency\n",
               converter.netlist->elements.size(), model.solver().network().node_count() - 1, model.solver().system_size(),

@@ -16,20 +16,12 @@
 #include "core/chain/prediction.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/radio/reception.hpp"
+#include "timing.hpp"
 
 using namespace spurcast;
+using namespace spurcast::bench;
 
 namespace {
-
-double best_of_5_ms(const std::function<void()>& run) {
-  double best = 1e30;
-  for (int i = 0; i < 5; ++i) {
-    const auto start = std::chrono::steady_clock::now();
-    run();
-    best = std::min(best, std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - start).count());
-  }
-  return best;
-}
 
 volatile double sink = 0.0;
 
@@ -50,9 +42,9 @@ int main(int argc, char** argv) {
   const std::vector<Band> bands = bands_for(scenario.broadcast, data);
   const ReceiverLines lines = receiver_lines(p.field);
 
-  const double yard_ms = best_of_5_ms(yardstick);
+  const double yard_ms = best_wall_ms(5, yardstick);
   std::size_t channels = 0;
-  const double demo_ms = best_of_5_ms([&] {
+  const double demo_ms = best_wall_ms(5, [&] {
     const auto results = estimate_reception(bands, lines, scenario.broadcast);
     channels = 0;
     for (const BandReception& r : results) channels += r.channels.size();
@@ -69,7 +61,7 @@ int main(int argc, char** argv) {
   currents.hot_loop_a.assign(currents.frequency_hz.size(), 0.1);
   RadiationSetup setup = radiation_setup(scenario.broadcast, scenario.supply, scenario.board);
   setup.hot_loop_area_m2 = 2e-4;
-  const double field_ms = best_of_5_ms([&] { (void)radiated_field(setup, currents); });
+  const double field_ms = best_wall_ms(5, [&] { (void)radiated_field(setup, currents); });
   std::printf("radiated_field: %zu frequencies, three radiators: %.3f ms (%.2f yardsticks)\n",
               currents.frequency_hz.size(), field_ms, field_ms / yard_ms);
 
@@ -81,8 +73,8 @@ int main(int argc, char** argv) {
       spread.push_back({f, 40.0 - 20.0 * std::log10(static_cast<double>(n))});
     }
   }
-  const double spread_ms = best_of_5_ms([&] { (void)estimate_reception(bands, spread, scenario.broadcast); });
-  const double load_ms = best_of_5_ms([&] { (void)bands_for(scenario.broadcast, data); });
+  const double spread_ms = best_wall_ms(5, [&] { (void)estimate_reception(bands, spread, scenario.broadcast); });
+  const double load_ms = best_wall_ms(5, [&] { (void)bands_for(scenario.broadcast, data); });
   std::printf("spread source: %zu lines: %.2f ms (%.2f yardsticks)\n", spread.size(), spread_ms, spread_ms / yard_ms);
   std::printf("band plan load: %.3f ms\n", load_ms);
   return 0;

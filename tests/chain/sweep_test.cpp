@@ -420,3 +420,21 @@ TEST_CASE("progress: one call per point, serialised, counting up to the total") 
   CHECK(total_seen == 37);
   for (std::size_t i = 0; i < seen.size(); ++i) CHECK(seen[i] == i + 1);
 }
+
+TEST_CASE("without a limit line no point meets the limits, and the note says so") {
+  // DESIGN §10: nothing that was not compared is reported as met. The loud buck without [limits].
+  std::string text = loud_scenario(1);
+  const std::size_t limits_at = text.find("[limits]");
+  const std::size_t broadcast_at = text.find("[broadcast]");
+  text.erase(limits_at, broadcast_at - limits_at);
+  const toml::table table = table_of(text);
+  SweepOptions options;
+  options.axes.push_back(make_axis(table, parse_vary("switching.frequency=1MHz:2MHz:5")));
+  options.criteria.push_back(WindowCriterion{WindowCriterion::Kind::limits_met, ""});
+  const SweepResult r = run_sweep(table, "test.toml", ".", locate_shipped_data(), options);
+  CHECK(std::find(r.notes.begin(), r.notes.end(),
+                  "the scenario gives no limit line: no point was compared with limits, so none meets them") != r.notes.end());
+  CHECK(windows_of(r, 0).empty());
+  CHECK_FALSE(sweep_goal_met(r));
+  for (const SweepPoint& p : r.points) CHECK(p.limits_verdict == Verdict::no_limits);
+}
