@@ -117,40 +117,20 @@ std::vector<NetlistElement> parse_spice_subcircuit(std::string_view text, const 
 
   // 1. Cards: comments removed, continuation lines joined.
   std::vector<Card> cards;
-  int line_number = 0;
-  std::size_t start = 0;
-  while (start < text.size()) {
-    std::size_t end = text.find('\n', start);
-    if (end == std::string_view::npos) end = text.size();
-    std::string_view line = text.substr(start, end - start);
-    start = end + 1;
-    ++line_number;
-    if (const std::size_t semicolon = line.find(';'); semicolon != std::string_view::npos)
-      line = line.substr(0, semicolon);
+  int line_count = 0;
+  for_each_line(text, ';', [&](int line_number, std::string_view line) {
+    line_count = line_number;
     std::size_t first = 0;
-    while (first < line.size() &&
-           (line[first] == ' ' || line[first] == '\t' || line[first] == '\r'))
-      ++first;
-    if (first >= line.size()) continue;
-    if (line[first] == '*') continue;
+    while (first < line.size() && (line[first] == ' ' || line[first] == '\t' || line[first] == '\r')) ++first;
+    if (first >= line.size()) return;
+    if (line[first] == '*') return;
     const bool continuation = line[first] == '+';
-    if (line_number == 1 && line[first] != '.' && !continuation) continue;  // the title line
+    if (line_number == 1 && line[first] != '.' && !continuation) return;  // the title line
     std::vector<Token> tokens;
-    std::size_t i = continuation ? first + 1 : first;
-    while (i < line.size()) {
-      while (i < line.size() && (line[i] == ' ' || line[i] == '\t' || line[i] == '\r' ||
-                                 line[i] == ',' || line[i] == '(' || line[i] == ')')) {
-        ++i;
-      }
-      if (i >= line.size()) break;
-      const std::size_t begin = i;
-      while (i < line.size() && line[i] != ' ' && line[i] != '\t' && line[i] != '\r' &&
-             line[i] != ',' && line[i] != '(' && line[i] != ')') {
-        ++i;
-      }
-      const std::string_view word = line.substr(begin, i - begin);
-      tokens.push_back(
-          Token{ascii_lower(word), std::string(word), line_number, static_cast<int>(begin + 1)});
+    const std::size_t offset = continuation ? first + 1 : first;
+    for (const LineWord& word : split_words(line.substr(offset), ",()")) {
+      tokens.push_back(Token{ascii_lower(word.text), std::string(word.text), line_number,
+                             word.column + static_cast<int>(offset)});
     }
     if (continuation) {
       if (cards.empty()) {
@@ -161,7 +141,7 @@ std::vector<NetlistElement> parse_spice_subcircuit(std::string_view text, const 
     } else if (!tokens.empty()) {
       cards.push_back(Card{std::move(tokens)});
     }
-  }
+  });
 
   // 2. Subcircuits.
   struct Parsed {
@@ -384,7 +364,7 @@ std::vector<NetlistElement> parse_spice_subcircuit(std::string_view text, const 
     elements.push_back(e);
   }
   if (in_subckt) {
-    throw Error(SourcePosition{file, line_number, 0},
+    throw Error(SourcePosition{file, line_count, 0},
                 "expected .ends for subcircuit " + shown(header.original));
   }
   const auto it = found.find(wanted);

@@ -98,31 +98,12 @@ std::shared_ptr<const TouchstoneData> parse_touchstone(std::string_view text,
     return Error(SourcePosition{name, token.line, token.column}, message);
   };
 
-  int line_number = 0;
-  std::size_t start = 0;
-  while (start < text.size()) {
-    std::size_t end = text.find('\n', start);
-    if (end == std::string_view::npos) end = text.size();
-    std::string_view line = text.substr(start, end - start);
-    start = end + 1;
-    ++line_number;
-    if (const std::size_t bang = line.find('!'); bang != std::string_view::npos)
-      line = line.substr(0, bang);
+  int line_count = 0;
+  for_each_line(text, '!', [&](int line_number, std::string_view line) {
+    line_count = line_number;
     std::vector<Token> tokens;
-    std::size_t i = 0;
-    while (i < line.size()) {
-      while (i < line.size() &&
-             (line[i] == ' ' || line[i] == '\t' || line[i] == '\r' || line[i] == ','))
-        ++i;
-      if (i >= line.size()) break;
-      const std::size_t begin = i;
-      while (i < line.size() && line[i] != ' ' && line[i] != '\t' && line[i] != '\r' &&
-             line[i] != ',')
-        ++i;
-      tokens.push_back(
-          Token{line.substr(begin, i - begin), line_number, static_cast<int>(begin + 1)});
-    }
-    if (tokens.empty()) continue;
+    for (const LineWord& word : split_words(line, ",")) tokens.push_back(Token{word.text, line_number, word.column});
+    if (tokens.empty()) return;
     if (tokens.front().text.front() == '#') {
       const Token hash{tokens.front().text.substr(0, 1), tokens.front().line,
                        tokens.front().column};
@@ -171,7 +152,7 @@ std::shared_ptr<const TouchstoneData> parse_touchstone(std::string_view text,
                                      shown(options[k].text));
         }
       }
-      continue;
+      return;
     }
     if (tokens.front().text.front() == '[') {
       throw fail(tokens.front(), "expected Touchstone version 1 data, found a keyword " +
@@ -179,11 +160,11 @@ std::shared_ptr<const TouchstoneData> parse_touchstone(std::string_view text,
                                      " (version 2 files are not read)");
     }
     numbers.insert(numbers.end(), tokens.begin(), tokens.end());
-  }
+  });
 
   const std::size_t per_record = ports == 1 ? 3 : 9;
   if (numbers.empty())
-    throw Error(SourcePosition{name, line_number, 0}, "expected network data, found none");
+    throw Error(SourcePosition{name, line_count, 0}, "expected network data, found none");
   if (numbers.size() % per_record != 0) {
     const Token& first = numbers[numbers.size() - numbers.size() % per_record];
     throw fail(first, "expected " + std::to_string(per_record) + " values per frequency, found " +

@@ -74,4 +74,20 @@ std::string quoted_for_message(std::string_view text, std::size_t max_bytes) {
   return "'" + out + "'";
 }
 
+std::vector<LineWord> split_words(std::string_view line, std::string_view separators) {
+  const auto is_separator = [&](char c) {
+    return c == ' ' || c == '\t' || c == '\r' || separators.find(c) != std::string_view::npos;
+  };
+  std::vector<LineWord> words;
+  std::size_t i = 0;
+  while (i < line.size()) {
+    while (i < line.size() && is_separator(line[i])) ++i;
+    if (i >= line.size()) break;
+    const std::size_t begin = i;
+    while (i < line.size() && !is_separator(line[i])) ++i;
+    words.push_back(LineWord{line.substr(begin, i - begin), static_cast<int>(begin + 1)});
+  }
+  return words;
+}
+
 }  // namespace spurcast

@@ -5,6 +5,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <vector>
 
 namespace spurcast {
 
@@ -23,5 +24,33 @@ namespace spurcast {
 /// is, every other byte as \xNN, cut after `max_bytes` bytes with "..." appended. Example:
 /// quoted_for_message("L\t1", 24) == "'L\\x091'".
 [[nodiscard]] std::string quoted_for_message(std::string_view text, std::size_t max_bytes);
+
+/// One word of a line: its text and its 1-based byte column.
+struct LineWord {
+  std::string_view text;
+  int column = 1;
+};
+
+/// The words of `line`, split at spaces, tabs, carriage returns and any byte of `separators`.
+/// Example: split_words("R1 a,b 10", ",") gives "R1" (column 1), "a" (4), "b" (6), "10" (8).
+[[nodiscard]] std::vector<LineWord> split_words(std::string_view line, std::string_view separators);
+
+/// Calls visit(line_number, line) for each line of `text` (split at '\n', numbered from 1) with the
+/// part from the first `comment` byte on removed (a line-end comment of a netlist or a Touchstone
+/// file). The views point into `text`.
+template <typename Visit>
+void for_each_line(std::string_view text, char comment, Visit&& visit) {
+  int line_number = 0;
+  std::size_t start = 0;
+  while (start < text.size()) {
+    std::size_t end = text.find('\n', start);
+    if (end == std::string_view::npos) end = text.size();
+    std::string_view line = text.substr(start, end - start);
+    start = end + 1;
+    ++line_number;
+    if (const std::size_t at = line.find(comment); at != std::string_view::npos) line = line.substr(0, at);
+    visit(line_number, line);
+  }
+}
 
 }  // namespace spurcast

@@ -129,3 +129,32 @@ TEST_CASE(
   CHECK(quoted_for_message("0123456789abcdefghijklmnop", 20) == "'0123456789abcdefghij...'");
   CHECK(quoted_for_message("0123456789abcdefghij", 20) == "'0123456789abcdefghij'");
 }
+
+TEST_CASE("split_words and for_each_line: byte columns from 1, line numbers from 1, comments cut") {
+  // Columns and line numbers as editors count them for ASCII text (common practice).
+  using spurcast::for_each_line;
+  using spurcast::LineWord;
+  using spurcast::split_words;
+  const std::vector<LineWord> words = split_words("R1 a,b\t 10\r", ",");
+  REQUIRE(words.size() == 4);
+  CHECK(words[0].text == "R1");
+  CHECK(words[0].column == 1);
+  CHECK(words[1].text == "a");
+  CHECK(words[1].column == 4);
+  CHECK(words[2].text == "b");
+  CHECK(words[2].column == 6);
+  CHECK(words[3].text == "10");
+  CHECK(words[3].column == 9);
+  CHECK(split_words(" \t,\r", ",").empty());
+  CHECK(split_words("a(b)", "()").size() == 2);
+
+  std::vector<std::pair<int, std::string>> seen;
+  for_each_line("first ! note\n\n! all comment\nlast", '!', [&](int number, std::string_view line) {
+    seen.emplace_back(number, std::string(line));
+  });
+  REQUIRE(seen.size() == 4);
+  CHECK(seen[0] == std::pair<int, std::string>{1, "first "});
+  CHECK(seen[1] == std::pair<int, std::string>{2, ""});
+  CHECK(seen[2] == std::pair<int, std::string>{3, ""});
+  CHECK(seen[3] == std::pair<int, std::string>{4, "last"});
+}
