@@ -289,18 +289,35 @@ BandOccupancy map_lines_to_band(const Band& band, const std::vector<SpectralLine
   const double decibel_exponent = std::numbers::ln10 / 10.0;
   const double response_exponent = channel_edge_db * decibel_exponent;
   const double inverse_half_bandwidth = 2.0 / band.bandwidth_hz;
+  const double step = centres.size() > 1 ? (centres[1] - centres[0]) * inverse_half_bandwidth : 0.0;
+  const double ratio_step = std::exp(-2.0 * response_exponent * step * step);
   for (std::size_t i = 0; i < lines.size(); ++i) {
     const SpectralLine& line = lines[i];
     const double f = line.frequency_hz;
     if (f >= band.low_hz - edge_slack_hz && f <= band.high_hz + edge_slack_hz) occupancy.lines_inside.push_back(i);
     if (centres.empty() || f < centres.front() - reach || f > centres.back() + reach) continue;
     const double power = std::exp(line.level_db * decibel_exponent);  // 10^(L/10)
+    // The response over consecutive channels by recurrence (the centres lie on a uniform raster,
+    // x drops by step from one to the next): with w_c = exp(−a·x_c²), w_{c+1} = w_c·q_c,
+    // q_c = exp(−a·(x_{c+1}² − x_c²)) and q_{c+1} = q_c·exp(−2·a·step²); two exps per line.
+    double weight = 0.0;
+    double ratio = 0.0;
+    bool first = true;
     for (auto c = std::lower_bound(centres.begin(), centres.end(), f - reach); c != centres.end() && *c <= f + reach; ++c) {
+      const double x = (f - *c) * inverse_half_bandwidth;
+      if (first) {
+        weight = std::exp(-response_exponent * x * x);
+        const double x_next = x - step;
+        ratio = std::exp(-response_exponent * (x_next - x) * (x_next + x));
+        first = false;
+      } else {
+        weight *= ratio;
+        ratio *= ratio_step;
+      }
       // The same closed interval [centre − reach, centre + reach] as a channel-by-channel search.
       if (f < *c - reach) continue;
       Accumulator& sum = sums[static_cast<std::size_t>(c - centres.begin())];
-      const double x = (f - *c) * inverse_half_bandwidth;
-      sum.power += power * std::exp(-response_exponent * x * x);
+      sum.power += power * weight;
       ++sum.count;
       // The strongest line; on a tie the lower frequency, then the lower index (a fixed choice,
       // whatever the order of the input).

@@ -83,13 +83,25 @@ BandReception judge_band(const Band& band, const std::vector<SpectralLine>& line
     }
     result.channels.push_back(channel);
   }
-  auto worse = [](const ChannelReception& a, const ChannelReception& b) {
-    if (a.verdict != b.verdict) return a.verdict > b.verdict;
-    return a.level_dbuvm - a.noisy_above_dbuvm > b.level_dbuvm - b.noisy_above_dbuvm;
-  };
-  for (std::size_t i = 0; i < result.channels.size(); ++i) {
-    if (!result.worst_channel || worse(result.channels[i], result.channels[*result.worst_channel])) {
+  // The worst channel: the worst verdict, then the level furthest above its noisy threshold. A
+  // dithered spectrum is flat across many channels, equal to the last few bits: levels within
+  // 1e-9 dB count as equal and the lowest such channel is named, whatever the rounding.
+  constexpr double equal_within_db = 1e-9;
+  const auto excess = [](const ChannelReception& c) { return c.level_dbuvm - c.noisy_above_dbuvm; };
+  std::optional<ReceptionVerdict> worst_verdict;
+  double worst_excess = -INFINITY;
+  for (const ChannelReception& c : result.channels) {
+    if (!worst_verdict || c.verdict > *worst_verdict) {
+      worst_verdict = c.verdict;
+      worst_excess = excess(c);
+    } else if (c.verdict == *worst_verdict) {
+      worst_excess = std::max(worst_excess, excess(c));
+    }
+  }
+  for (std::size_t i = 0; i < result.channels.size() && worst_verdict; ++i) {
+    if (result.channels[i].verdict == *worst_verdict && excess(result.channels[i]) >= worst_excess - equal_within_db) {
       result.worst_channel = i;
+      break;
     }
   }
   if (result.worst_channel) result.verdict = result.channels[*result.worst_channel].verdict;
