@@ -59,6 +59,7 @@ double diode_final_ratio(double charge_rc_s, double discharge_rc_s) {
   double hi = 0.5 * std::numbers::pi;
   for (int i = 0; i < 200 && hi - lo > 1e-15; ++i) {
     const double mid = 0.5 * (lo + hi);
+    if (mid <= lo || mid >= hi) break;  // the bracket is two adjacent doubles
     (std::tan(mid) - mid < target ? lo : hi) = mid;
   }
   return std::cos(0.5 * (lo + hi));
@@ -88,6 +89,7 @@ QuasiPeakModel quasi_peak_model(const DetectorTimeConstants& constants) {
   double hi = std::log(constants.charge_s);
   for (int i = 0; i < 80; ++i) {
     const double mid = 0.5 * (lo + hi);
+    if (mid <= lo || mid >= hi) break;  // the bracket is two adjacent doubles: more halvings change nothing
     (diode_charge_time_s(std::exp(mid), constants.discharge_s) < constants.charge_s ? lo : hi) = mid;
   }
   QuasiPeakModel model;
