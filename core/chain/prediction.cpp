@@ -532,10 +532,11 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   MarginOptions margin_options;
   margin_options.guard_db = scenario.limits.guard_db;
   margin_options.unread = unread_ranges(p, bands, options.skip_scans, top_hz);
+  if (options.skip_report_details) margin_options.closest_count = 0;
   p.margins = compare_with_limits(readings, scenario.limits.sets, margin_options);
   p.verdict = p.margins.verdict;
   // What makes each of the worst LISN-port readings (the five the terminal lists).
-  if (p.conducted && !options.skip_scans) {
+  if (p.conducted && !options.skip_scans && !options.skip_report_details) {
     std::vector<double> frequencies, bandwidths;
     for (const WorstFrequency& w : worst_frequencies(p, 5)) {
       if (w.row.quantity != LimitQuantity::conducted_voltage) continue;

@@ -44,6 +44,10 @@ struct PredictionOptions {
   /// Read a dithered source through sampled synthesis and the FFT receiver even when its profile
   /// repeats (a cross-check of the exact line path; `predict --sampled-dither`).
   bool sampled_dither = false;
+  /// Skip what only a report shows: the closest-margin list and the contributors of the worst
+  /// readings. The margins, their worst per detector and line, and the verdicts are unchanged (a
+  /// sweep point reads nothing else).
+  bool skip_report_details = false;
 };
 
 /// ScanPlan::envelope_oversampling for a dithered source's exact lines, in predict() and

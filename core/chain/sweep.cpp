@@ -495,6 +495,7 @@ SweepPoint evaluate_point(const Context& ctx, const std::vector<double>& values)
       point.method = "scan";
       PredictionOptions prediction = options.prediction;
       prediction.skip_scans = false;
+      prediction.skip_report_details = true;
       const Prediction p = predict(scenario, prediction);
       point.switching_frequency_hz = p.switch_node_v.fundamental_hz;
       fill_margins(point, p.margins, ctx);

@@ -179,6 +179,7 @@ MarginReport compare_with_limits(const std::vector<LevelReading>& readings, cons
 
   // Closest to (or over) the limit: smallest margins first; at most one row per frequency and
   // reading detector, rows at least closest_separation_hz apart.
+  if (options.closest_count == 0) return report;
   std::vector<const MarginRow*> order;
   order.reserve(report.rows.size());
   if (options.closest_local_minima_only) {

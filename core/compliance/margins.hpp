@@ -91,7 +91,7 @@ struct MarginOptions {
   /// peak >= quasi-peak >= average for any signal (docs/references.md §10 item 30), so a peak reading under
   /// a line proves that line is met. Without it each reading meets only its own detector's line.
   bool peak_against_every_line = false;
-  std::size_t closest_count = 10;      ///< how many rows `closest` keeps
+  std::size_t closest_count = 10;      ///< how many rows `closest` keeps (0: none, not computed)
   /// Frequency ranges the readings do not cover, with the reason; where one meets a limit line of
   /// its quantity, that part of the line is `not_computed` and the verdict cannot be pass.
   std::vector<UnreadRange> unread{};

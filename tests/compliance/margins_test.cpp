@@ -119,6 +119,24 @@ TEST_CASE("closest rows keep one row per frequency and respect the separation") 
   CHECK(report.closest[0].limit_detector == Detector::average);
 }
 
+TEST_CASE("closest_count 0: no closest list, the same rows, worst margins and verdict") {
+  // CISPR 32 class B (docs/references.md §3.2) against twenty quasi-peak readings.
+  std::vector<LevelReading> readings;
+  for (int i = 0; i < 20; ++i) readings.push_back({200e3 + i * 10e3, Detector::quasi_peak, 55.0 + 0.3 * i});
+  const MarginReport full = compare_with_limits(readings, {class_b()}, {.guard_db = 6.0});
+  const MarginReport lean = compare_with_limits(readings, {class_b()}, {.guard_db = 6.0, .closest_count = 0});
+  CHECK_FALSE(full.closest.empty());
+  CHECK(lean.closest.empty());
+  REQUIRE(lean.rows.size() == full.rows.size());
+  const double tol_db = 1e-12;
+  for (std::size_t i = 0; i < full.rows.size(); ++i) CHECK(std::abs(lean.rows[i].margin_db - full.rows[i].margin_db) < tol_db);
+  REQUIRE(lean.worst);
+  REQUIRE(full.worst);
+  CHECK(std::abs(lean.worst->margin_db - full.worst->margin_db) < tol_db);
+  CHECK(lean.verdict == full.verdict);
+  CHECK(lean.worst_per_detector.size() == full.worst_per_detector.size());
+}
+
 TEST_CASE("margins CSV columns (docs/design.md §4)") {
   const MarginReport report = compare_with_limits({{250e3, Detector::quasi_peak, 60.0}}, {class_b()});
   // 61.76 dBµV at 250 kHz, docs/references.md §3.2.
