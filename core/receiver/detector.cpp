@@ -233,22 +233,24 @@ double meter_periodic_max(std::span<const double> input, double sample_interval_
   const std::size_t n = input.size();
   const std::size_t per_block =
       std::max<std::size_t>(1, static_cast<std::size_t>(std::floor(meter_s * 1e-3 / sample_interval_s)));
-  std::vector<double> value;
-  std::vector<double> duration;
+  std::vector<double> value;  // block means; every block is full but perhaps the last
   value.reserve(n / per_block + 1);
   for (std::size_t start = 0; start < n; start += per_block) {
     const std::size_t count = std::min(per_block, n - start);
     double sum = 0.0;
     for (std::size_t i = start; i < start + count; ++i) sum += input[i];
     value.push_back(sum / static_cast<double>(count));
-    duration.push_back(static_cast<double>(count) * sample_interval_s);
   }
   const double full_h = static_cast<double>(per_block) * sample_interval_s;
   const double full_a = std::exp(-full_h / meter_s);
+  const std::size_t last_count = n - (value.size() - 1) * per_block;
+  const double last_h = static_cast<double>(last_count) * sample_interval_s;
+  const double last_a = last_count == per_block ? full_a : std::exp(-last_h / meter_s);
   auto run = [&](double& y1, double& y2, double* max_y2) {
     for (std::size_t b = 0; b < value.size(); ++b) {
-      const double h = duration[b];
-      const double a = h == full_h ? full_a : std::exp(-h / meter_s);
+      const bool last = b + 1 == value.size();
+      const double h = last ? last_h : full_h;
+      const double a = last ? last_a : full_a;
       const double u = value[b];
       const double y1_old = y1;
       y1 = u + a * (y1 - u);
@@ -340,13 +342,15 @@ DetectorReadings read_periodic_envelope(std::span<const double> envelope, double
   // bracket the root. A plain iteration of P would need of the order of R_D·C/T periods.
   const DiodeStepper stepper(model.quasi_peak, sample_interval_s, &model.charge_table);
   const double ratio = model.quasi_peak.final_ratio;
-  std::vector<double> inverse(envelope.size());
+  const std::size_t m = envelope.size();
+  std::vector<double> scratch(2 * m);  // one allocation: the inverses, then V after each sample
+  const std::span<double> inverse(scratch.data(), m);
+  const std::span<double> trace(scratch.data() + m, m);
   double sum = 0.0;
-  for (std::size_t i = 0; i < envelope.size(); ++i) {
+  for (std::size_t i = 0; i < m; ++i) {
     inverse[i] = safe_inverse(envelope[i]);
     sum += envelope[i];
   }
-  std::vector<double> trace(envelope.size());
   const double tolerance = 1e-8 * max_e;  // |P(V) − V|: < 1e-6 dB on a reading above 1 % of max e
   double lo = 0.0;
   double hi = max_e;
