@@ -7,6 +7,7 @@
 
 #include "core/input/error.hpp"
 #include "core/radio/radiated.hpp"
+#include "core/source/mains_cycle.hpp"
 #include "core/source/source.hpp"
 #include "core/source/spectrum.hpp"
 #include "core/input/units.hpp"
@@ -270,6 +271,7 @@ std::string to_string(ReceiverPath path) {
     case ReceiverPath::lines: return "lines";
     case ReceiverPath::dithered_lines: return "dithered-lines";
     case ReceiverPath::sampled: return "sampled";
+    case ReceiverPath::mains_gated: return "mains-gated-lines";
   }
   return "lines";
 }
@@ -373,6 +375,12 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     p.source_kind = spec.dither ? SourceKind::dithered : SourceKind::described;
     p.switch_node_v = switch_node_spectrum(spec, top_hz);
     p.input_current_a = input_current_spectrum(spec, top_hz);
+    if (scenario.converter.topology == Topology::boost_pfc && !spec.dither) {
+      p.receiver_path = ReceiverPath::mains_gated;
+    } else if (scenario.converter.topology == Topology::boost_pfc) {
+      p.notes.push_back("boost PFC stage with dither: the mains-cycle gating is not modelled with dither, the "
+                        "readings are those of the crest of the mains cycle (pessimistic)");
+    }
     if (spec.dither) {
       if (!options.sampled_dither) repeat = dither_repeat(spec);
       if (repeat) {
@@ -452,6 +460,45 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       dithered_conducted = conduct(dithered_switch_node_lines(spec, *repeat, dither_top_hz),
                                    dithered_input_current_lines(spec, *repeat, dither_top_hz), model);
     }
+    // A boost PFC stage: its lines at each instant of the mains half-cycle, through the network
+    // once, for the bands whose spans hold one harmonic each.
+    std::vector<ModulatedLines> gated_ports;
+    if (p.receiver_path == ReceiverPath::mains_gated) {
+      const SwitchingSpec& spec = *scenario.switching;
+      const MainsCycleSpec& mains = scenario.converter.mains;
+      const double half_cycle_s = 0.5 / mains.mains_frequency_hz;
+      MainsGating gating;
+      double gated_top_hz = 0.0;
+      for (const CisprBand band : bands) {
+        const ModulatedReading reading = modulated_reading(spec.frequency_hz, half_cycle_s, band);
+        gating.band_readings.emplace_back(band, reading);
+        const BandParameters range = band_parameters(band);
+        if (reading != ModulatedReading::several_harmonics) {
+          gated_top_hz = std::max(gated_top_hz, range.stop_hz + 2.0 * range.bandwidth_6db_hz);
+        }
+      }
+      const MainsCycle cycle = mains_cycle_lines(spec, mains, gated_top_hz > 0.0 ? gated_top_hz : spec.frequency_hz);
+      gating.mains_frequency_hz = mains.mains_frequency_hz;
+      gating.crest_input_v = cycle.crest_input_v;
+      gating.switching_threshold_v = mains.switching_threshold_v;
+      gating.switching_fraction = cycle.switching_fraction();
+      gating.phases = cycle.phases;
+      if (gated_top_hz > 0.0) gated_ports = conduct_modulated(cycle.switch_node_v, cycle.input_current_a, model);
+      std::string how;
+      for (const auto& [band, reading] : gating.band_readings) {
+        how += (how.empty() ? "" : ", ") + std::string("band ") + to_string(band) + " " +
+               (reading == ModulatedReading::several_harmonics ? "at the crest (its span holds several harmonics)"
+                                                               : to_string(reading));
+      }
+      p.notes.push_back("boost PFC stage: receiver readings follow the " +
+                        format_quantity(mains.mains_frequency_hz, Dimension::frequency) +
+                        " mains over each half-cycle (crest input " + format_quantity(cycle.crest_input_v, Dimension::voltage) +
+                        ", switching over " + format_quantity(100.0 * gating.switching_fraction, Dimension::number, 3) +
+                        " % of it, " + std::to_string(cycle.phases) + " instants; " + how +
+                        "); the harmonic tables, contributors and radiated and broadcast estimates show the crest of "
+                        "the mains cycle");
+      p.mains_gating = std::move(gating);
+    }
     for (const CisprBand band : bands) {
       BandScan scan;
       scan.band = band;
@@ -461,7 +508,13 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       // No reading falls below the receiver's own noise floor (a real receiver reads its noise
       // between the harmonics, not −400 dBµV).
       plan.noise_floor_db = scenario.receiver.noise_floor_dbuv.value_or(default_noise_floor_dbuv(band));
-      if (p.source_kind == SourceKind::described) {
+      const bool gated = !gated_ports.empty() &&
+                         modulated_reading(gated_ports.front().fundamental_hz, gated_ports.front().modulation_period_s,
+                                           band) != ModulatedReading::several_harmonics;
+      if (gated) {
+        scan.line1 = scan_modulated_lines(gated_ports[0], plan);
+        if (two_lines) scan.line2 = scan_modulated_lines(gated_ports[1], plan);
+      } else if (p.source_kind == SourceKind::described) {
         scan.line1 = scan_line_spectrum(p.conducted->line_spectrum(1), plan);
         if (two_lines) scan.line2 = scan_line_spectrum(p.conducted->line_spectrum(2), plan);
       } else if (dithered_conducted) {

@@ -61,8 +61,9 @@ enum class ReceiverPath {
   lines,          ///< exact line spectrum of a periodic source
   dithered_lines, ///< exact lines of a dithered source's repeat (source.hpp, DitherRepeat)
   sampled,        ///< a sampled record through the FFT receiver (a capture, or a dither that does not repeat)
+  mains_gated,    ///< a boost PFC stage's lines over the mains half-cycle (scan_modulated_lines)
 };
-/// "lines", "dithered-lines" or "sampled".
+/// "lines", "dithered-lines", "sampled" or "mains-gated-lines".
 [[nodiscard]] std::string to_string(ReceiverPath path);
 
 /// The readings of one CISPR band at the LISN port(s).
@@ -91,6 +92,17 @@ struct UncomputedRange {
   std::string reason;
 };
 
+/// What the mains-cycle reading of a boost PFC stage used (core/source/mains_cycle.hpp).
+struct MainsGating {
+  double mains_frequency_hz = 0.0;
+  double crest_input_v = 0.0;          ///< [V] (1 − duty)·amplitude
+  double switching_threshold_v = 0.0;  ///< [V]
+  double switching_fraction = 0.0;     ///< of each half-cycle during which the stage switches
+  std::size_t phases = 0;              ///< instants sampled over the half-cycle
+  /// How each scanned band was read; several_harmonics: that band shows the crest's lines.
+  std::vector<std::pair<CisprBand, ModulatedReading>> band_readings;
+};
+
 struct Prediction {
   Scenario scenario;
   SourceKind source_kind = SourceKind::described;
@@ -103,6 +115,8 @@ struct Prediction {
   /// nominal, undithered lines). Absent for a battery supply: there is no LISN.
   std::optional<ConductedResult> conducted;
   std::vector<BandScan> scans;
+  /// Set when receiver_path is mains_gated.
+  std::optional<MainsGating> mains_gating;
   MarginReport margins;
   /// Radiated-field estimates read for the radiated-field limit sets (bands C/D only).
   std::vector<RadiatedScan> radiated_scans;

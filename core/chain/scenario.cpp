@@ -4,6 +4,7 @@
 
 #include "core/input/error.hpp"
 #include "core/input/toml_reader.hpp"
+#include "core/input/units.hpp"
 
 namespace spurcast {
 
@@ -63,6 +64,24 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
       spec.current_ripple_a = converter.inductor_ripple_a.value_or(0.0);
       if (const auto problem = switching_problem(spec)) {
         throw Error(problem->key == "inductor_ripple" ? converter.ripple_where : converter.where, problem->message);
+      }
+      if (converter.topology == Topology::boost_pfc) {
+        // The mains cycle (core/source/mains_cycle.hpp): many switching cycles per half-cycle, and
+        // an input that rises above the threshold somewhere.
+        const double f_mains = converter.mains.mains_frequency_hz;
+        if (spec.frequency_hz < min_switching_to_mains_ratio * f_mains) {
+          throw Error(converter.mains_frequency_where,
+                      "expected a mains frequency of at most 1/100 of the switching frequency (" +
+                          format_quantity(spec.frequency_hz / min_switching_to_mains_ratio, Dimension::frequency) +
+                          "), found " + format_quantity(f_mains, Dimension::frequency));
+        }
+        const double crest_v = crest_input_voltage_v(spec);
+        if (!(converter.mains.switching_threshold_v < crest_v)) {
+          throw Error(converter.threshold_where,
+                      "expected a switching threshold below the crest input voltage ((1 - duty) x amplitude = " +
+                          format_quantity(crest_v, Dimension::voltage) + "), found " +
+                          format_quantity(converter.mains.switching_threshold_v, Dimension::voltage));
+        }
       }
     }
   }

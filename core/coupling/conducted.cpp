@@ -171,8 +171,8 @@ std::string ConductedModel::setup_description() const {
       text += "; boost converter: the input capacitor supplies the inductor's triangular ripple";
       break;
     case Topology::boost_pfc:
-      text += "; boost PFC stage taken at the crest of the mains cycle (the mains gating of the switching "
-              "current is not modelled)";
+      text += "; boost PFC stage: the switching current follows the rectified mains over each half-cycle, the "
+              "harmonic tables show the crest of the mains cycle";
       break;
     case Topology::netlist:
       text += "; converter: subcircuit '" + converter_.netlist->subckt + "' of " + converter_.netlist->file +
@@ -277,6 +277,50 @@ ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& i
     result.cm_current_a[k] = 0.5 * (i1 + i2);
   }
   return result;
+}
+
+std::vector<ModulatedLines> conduct_modulated(const ModulatedLines& switch_node_v, const ModulatedLines& input_current_a,
+                                              const ConductedModel& model) {
+  const std::size_t phases = switch_node_v.phases.size();
+  if (input_current_a.phases.size() != phases ||
+      !(std::abs(switch_node_v.fundamental_hz - input_current_a.fundamental_hz) <= 1e-9 * switch_node_v.fundamental_hz) ||
+      !(std::abs(switch_node_v.modulation_period_s - input_current_a.modulation_period_s) <=
+        1e-9 * switch_node_v.modulation_period_s)) {
+    throw Error("the switch-node and input-current lines of the mains cycle do not share their instants");
+  }
+  if (switch_node_v.quantity != Quantity::voltage || input_current_a.quantity != Quantity::current) {
+    throw Error("expected switch-node voltage and input-current lines of the mains cycle");
+  }
+  const double f0 = switch_node_v.fundamental_hz;
+  if (!(std::isfinite(f0) && f0 > 0.0)) {
+    throw Error("expected a fundamental frequency > 0 Hz, found " + format_quantity(f0, Dimension::frequency));
+  }
+  std::size_t count = 0;
+  for (std::size_t j = 0; j < phases; ++j) {
+    count = std::max({count, switch_node_v.phases[j].size(), input_current_a.phases[j].size()});
+  }
+  std::vector<double> frequency_hz(count);
+  for (std::size_t k = 0; k < count; ++k) frequency_hz[k] = static_cast<double>(k + 1) * f0;
+  const TransferFunctions h = transfer_at(model, frequency_hz);
+  std::vector<ModulatedLines> ports(static_cast<std::size_t>(model.line_count()));
+  for (std::size_t line = 0; line < ports.size(); ++line) {
+    ModulatedLines& port = ports[line];
+    port.quantity = Quantity::voltage;
+    port.fundamental_hz = f0;
+    port.modulation_period_s = switch_node_v.modulation_period_s;
+    port.phases.assign(phases, std::vector<cd>(count));
+    const auto& per_i = line == 0 ? h.port1_per_input_current_ohm : h.port2_per_input_current_ohm;
+    const auto& per_v = line == 0 ? h.port1_per_switch_node : h.port2_per_switch_node;
+    for (std::size_t j = 0; j < phases; ++j) {
+      const auto& v = switch_node_v.phases[j];
+      const auto& i = input_current_a.phases[j];
+      for (std::size_t k = 0; k < count; ++k) {
+        // Superposition of the two sources, as conduct() does at each harmonic.
+        port.phases[j][k] = per_i[k] * (k < i.size() ? i[k] : cd(0.0, 0.0)) + per_v[k] * (k < v.size() ? v[k] : cd(0.0, 0.0));
+      }
+    }
+  }
+  return ports;
 }
 
 namespace {

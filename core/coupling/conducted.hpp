@@ -131,6 +131,17 @@ struct ConductedResult {
 [[nodiscard]] ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& input_current_a,
                                       const ConductedModel& model);
 
+/// The LISN port voltages of a modulated source (a boost PFC stage over the mains half-cycle,
+/// core/source/mains_cycle.hpp), one ModulatedLines per port (index 0: line 1, 1: line 2; one
+/// entry for lines = 1). The network is linear and time-invariant, so at each instant the port
+/// lines are the source lines through the transfer functions at k·f0, solved once for all
+/// instants. The sidebands the modulation spreads around k·f0 (within a receiver span, ±2·B6) take
+/// the transfer at k·f0 (narrowband: the network's transfer is taken flat across ±2·B6 of each
+/// harmonic). The two sources must have the same fundamental, modulation period and instants.
+[[nodiscard]] std::vector<ModulatedLines> conduct_modulated(const ModulatedLines& switch_node_v,
+                                                            const ModulatedLines& input_current_a,
+                                                            const ConductedModel& model);
+
 /// A resonance of the conducted model: a peak of the transfer from one source to a LISN port.
 struct Resonance {
   double frequency_hz = 0.0;

@@ -50,9 +50,15 @@ ConverterSpec read_converter_section(TableReader& reader) {
       reader.fail(key, std::string("'") + key + "' belongs to topology netlist, not " + name);
     }
   }
+  for (const char* key : {"mains_frequency", "switching_threshold"}) {
+    if (spec.topology != Topology::boost_pfc && reader.has(key)) {
+      reader.fail(key, std::string("'") + key + "' belongs to topology boost-pfc, not " + name);
+    }
+  }
   // min_input_voltage and output_power are read by read_converter_power (core/coupling/input_stability.hpp).
   reader.finish({"topology", "inductor_ripple", "interwinding_capacitance", "secondary_capacitance",
-                 "y_capacitance", "min_input_voltage", "output_power", "file", "subckt"});
+                 "y_capacitance", "min_input_voltage", "output_power", "file", "subckt", "mains_frequency",
+                 "switching_threshold"});
   auto checked = [&](std::string_view key, Dimension dimension, double value,
                      bool strictly_positive) {
     if (!(std::isfinite(value) && (strictly_positive ? value > 0.0 : value >= 0.0))) {
@@ -68,6 +74,22 @@ ConverterSpec read_converter_section(TableReader& reader) {
         checked("inductor_ripple", Dimension::current,
                 reader.required_quantity("inductor_ripple", Dimension::current), false);
     spec.ripple_where = reader.position("inductor_ripple");
+  }
+  if (spec.topology == Topology::boost_pfc) {
+    spec.mains.mains_frequency_hz =
+        reader.quantity_or("mains_frequency", Dimension::frequency, default_mains_frequency_hz);
+    spec.mains_frequency_where = reader.has("mains_frequency") ? reader.position("mains_frequency") : spec.where;
+    const double f = spec.mains.mains_frequency_hz;
+    if (!(f >= min_mains_frequency_hz && f <= max_mains_frequency_hz)) {
+      reader.fail("mains_frequency", "expected a mains frequency from " +
+                                         format_quantity(min_mains_frequency_hz, Dimension::frequency) + " to " +
+                                         format_quantity(max_mains_frequency_hz, Dimension::frequency) + ", found " +
+                                         format_quantity(f, Dimension::frequency));
+    }
+    spec.mains.switching_threshold_v =
+        checked("switching_threshold", Dimension::voltage,
+                reader.quantity_or("switching_threshold", Dimension::voltage, 0.0), false);
+    spec.threshold_where = reader.has("switching_threshold") ? reader.position("switching_threshold") : spec.where;
   }
   if (spec.topology == Topology::netlist) {
     auto stage = std::make_shared<FilterStage>();

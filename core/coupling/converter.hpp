@@ -7,8 +7,11 @@
 ///   boost      the input inductor sits between the input capacitor and the switch node, so the
 ///              input capacitor sees only the inductor's triangular ripple (continuous current);
 ///              the switch node (output-voltage swing) drives the parasitic capacitance to earth;
-///   boost-pfc  a boost fed from rectified mains, taken at the crest of the mains cycle (the mains
-///              gating of the switching-cell current is not modelled);
+///   boost-pfc  a boost fed from rectified mains: [switching] describes the crest of the mains
+///              cycle; over each half-cycle the duty, the switching-cell current and its ripple
+///              follow the rectified mains, and the stage idles where the input is below
+///              `switching_threshold` (core/source/mains_cycle.hpp); `mains_frequency` (default
+///              50 Hz) sets the half-cycle the receiver reads;
 ///   flyback    the primary draws a ramp during the on time and nothing during the off time; the
 ///              drain swing also drives the transformer's interwinding capacitance into the
 ///              secondary, which returns through its capacitance to earth (output cable, load) and
@@ -35,6 +38,7 @@
 
 #include "core/coupling/filter.hpp"
 #include "core/input/toml_reader.hpp"
+#include "core/source/mains_cycle.hpp"
 
 namespace spurcast {
 
@@ -57,6 +61,10 @@ struct ConverterSpec {
   double interwinding_capacitance_f = 0.0;  ///< flyback: primary switch node to secondary [F], > 0
   double secondary_capacitance_f = 0.0;  ///< flyback: secondary (output, cable) to earth [F], ≥ 0
   double y_capacitance_f = 0.0;  ///< flyback: secondary to primary return [F], ≥ 0 (0: none)
+  /// boost-pfc: the mains frequency and the switching threshold (mains_frequency, switching_threshold).
+  MainsCycleSpec mains;
+  SourcePosition mains_frequency_where;  ///< of `mains_frequency` (or the table), may be empty
+  SourcePosition threshold_where;        ///< of `switching_threshold` (or the table), may be empty
   /// netlist: the subcircuit as a SPICE stage (its file, subckt and elements; pins as above).
   std::shared_ptr<const FilterStage> netlist;
   SourcePosition ripple_where;   ///< of `inductor_ripple` (for messages), may be empty
@@ -66,8 +74,11 @@ struct ConverterSpec {
 /// Reads [converter]: topology (default "buck"); inductor_ripple (required for boost and boost-pfc,
 /// optional for buck and flyback); interwinding_capacitance and secondary_capacitance (required for
 /// flyback), y_capacitance (optional, flyback), file and subckt (required for netlist: a SPICE file
-/// relative to the scenario's folder and the subcircuit's name). A key of another topology is
-/// refused at its position: "'interwinding_capacitance' belongs to topology flyback, not boost".
+/// relative to the scenario's folder and the subcircuit's name); mains_frequency (10 Hz to 1 kHz,
+/// default 50 Hz) and switching_threshold (a voltage ≥ 0, default 0 V) for boost-pfc only. A key
+/// of another topology is refused at its position: "'interwinding_capacitance' belongs to topology
+/// flyback, not boost". The threshold against the crest input voltage is checked with [switching]
+/// (core/chain/scenario.cpp).
 [[nodiscard]] ConverterSpec read_converter_section(TableReader& reader);
 
 }  // namespace spurcast

@@ -339,6 +339,19 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
   j["scenario"] = p.scenario.file;
   j["source"] = to_string(p.source_kind);
   j["receiver_path"] = to_string(p.receiver_path);
+  if (p.mains_gating) {
+    const MainsGating& g = *p.mains_gating;
+    nlohmann::ordered_json bands = nlohmann::ordered_json::object();
+    for (const auto& [band, reading] : g.band_readings) {
+      bands[to_string(band)] = reading == ModulatedReading::several_harmonics ? "crest" : to_string(reading);
+    }
+    j["mains_gating"] = {{"mains_frequency_hz", rounded(g.mains_frequency_hz, 3)},
+                         {"crest_input_v", rounded(g.crest_input_v, 3)},
+                         {"switching_threshold_v", rounded(g.switching_threshold_v, 3)},
+                         {"switching_fraction", rounded(g.switching_fraction, 4)},
+                         {"instants", g.phases},
+                         {"bands", bands}};
+  }
   j["verdict"] = to_string(p.verdict);
   // What was not computed comes right after the verdict it qualifies.
   nlohmann::ordered_json not_computed = nlohmann::ordered_json::array();
@@ -517,7 +530,15 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
     if (cv.topology == Topology::netlist) {
       add("converter", "subcircuit", cv.netlist->subckt + " in " + cv.netlist->file);
     }
-    if (cv.topology == Topology::boost_pfc) add("converter", "mains-cycle gating", "not modelled (crest of the mains cycle)");
+    if (cv.topology == Topology::boost_pfc) {
+      add("converter", "mains frequency", q(cv.mains.mains_frequency_hz, Dimension::frequency));
+      add("converter", "switching threshold (rectified input)", q(cv.mains.switching_threshold_v, Dimension::voltage));
+      const bool dithered = s.switching && s.switching->dither;
+      add("converter", "mains-cycle gating",
+          dithered ? "not modelled with dither (crest of the mains cycle)"
+                   : "duty, current and ripple follow the rectified mains over each half-cycle; fixed switching "
+                     "frequency (a critical-conduction stage's varying frequency is not modelled)");
+    }
     if (cv.topology == Topology::flyback) {
       add("converter", "interwinding capacitance", q(cv.interwinding_capacitance_f, Dimension::capacitance));
       add("converter", "secondary capacitance to earth", q(cv.secondary_capacitance_f, Dimension::capacitance));

@@ -646,6 +646,161 @@ ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {
   return result;
 }
 
+std::string to_string(ModulatedReading reading) {
+  switch (reading) {
+    case ModulatedReading::sidebands: return "sidebands";
+    case ModulatedReading::quasi_static: return "quasi-static";
+    case ModulatedReading::several_harmonics: return "several harmonics";
+  }
+  return "sidebands";
+}
+
+ModulatedReading modulated_reading(double fundamental_hz, double modulation_period_s, CisprBand band) {
+  const double b6 = band_parameters(band).bandwidth_6db_hz;
+  if (fundamental_hz <= 2.0 * span_bandwidths * b6) return ModulatedReading::several_harmonics;
+  if (2.0 * span_bandwidths * b6 * modulation_period_s <= max_sideband_lines) return ModulatedReading::sidebands;
+  return ModulatedReading::quasi_static;
+}
+
+ScanResult scan_modulated_lines(const ModulatedLines& lines, const ScanPlan& plan,
+                                std::optional<ModulatedReading> forced) {
+  const double f0 = lines.fundamental_hz;
+  const double period_s = lines.modulation_period_s;
+  if (!(f0 > 0.0 && std::isfinite(f0))) throw Error("expected a positive fundamental frequency");
+  if (!(period_s > 0.0 && std::isfinite(period_s))) throw Error("expected a positive modulation period");
+  const std::size_t phases = lines.phases.size();
+  if (phases == 0) throw Error("expected modulated lines at one instant at least, found none");
+  const std::size_t count = lines.phases.front().size();
+  for (const auto& phase : lines.phases) {
+    if (phase.size() != count) throw Error("expected the same harmonics at every instant of the modulation");
+  }
+  const BandParameters band = band_parameters(plan.band);
+  const double b6 = band.bandwidth_6db_hz;
+  const ModulatedReading method = forced.value_or(modulated_reading(f0, period_s, plan.band));
+  if (method == ModulatedReading::several_harmonics || f0 <= 2.0 * span_bandwidths * b6) {
+    throw Error("band " + to_string(plan.band) + ": the receiver's span (" +
+                format_quantity(2.0 * span_bandwidths * b6, Dimension::frequency) + ") holds several harmonics of " +
+                format_quantity(f0, Dimension::frequency) + "; their beat over the modulation is not read");
+  }
+  const std::vector<double> frequencies = plan_frequencies(plan);
+  ScanResult result = empty_scan_result(lines.quantity, plan);
+  if (frequencies.empty()) return result;
+  const DetectorModel model = make_detector_model(band.detector);
+  const auto harmonic_count = static_cast<long long>(count);
+  // The harmonic nearest the tuned frequency, or 0 when none lies within its span (±2·B6, plus
+  // the sidebands' reach for the sideband reading).
+  const double half_span = span_bandwidths * b6;
+  const long long n_max = std::min(static_cast<long long>(std::ceil(half_span * period_s)) + 1,
+                                   static_cast<long long>((phases - 1) / 2));
+  const double reach_hz = method == ModulatedReading::sidebands ? half_span + static_cast<double>(n_max) / period_s
+                                                                 : half_span;
+  auto nearest_harmonic = [&](double tuned_hz) -> long long {
+    const auto k = static_cast<long long>(std::llround(tuned_hz / f0));
+    if (k < 1 || k > harmonic_count) return 0;
+    return std::abs(static_cast<double>(k) * f0 - tuned_hz) <= reach_hz ? k : 0;
+  };
+  result.readings.resize(frequencies.size());
+
+  if (method == ModulatedReading::quasi_static) {
+    // Each harmonic's envelope √2·|X_k(t_j)| read once; the tuned frequency scales it by |H|.
+    std::vector<std::optional<DetectorReadings>> per_harmonic(count);
+    std::vector<long long> needed;
+    for (const double f : frequencies) {
+      const long long k = nearest_harmonic(f);
+      if (k > 0 && !per_harmonic[static_cast<std::size_t>(k - 1)]) {
+        per_harmonic[static_cast<std::size_t>(k - 1)] = DetectorReadings{};
+        needed.push_back(k);
+      }
+    }
+    const double interval_s = period_s / static_cast<double>(phases);
+    parallel_chunks(thread_count(plan.threads), needed.size(), [&](std::size_t begin, std::size_t end) {
+      std::vector<double> envelope(phases);
+      for (std::size_t i = begin; i < end; ++i) {
+        const auto index = static_cast<std::size_t>(needed[i] - 1);
+        for (std::size_t j = 0; j < phases; ++j) envelope[j] = std::numbers::sqrt2 * std::abs(lines.phases[j][index]);
+        per_harmonic[index] = read_periodic_envelope(envelope, interval_s, model);
+      }
+    });
+    for (std::size_t i = 0; i < frequencies.size(); ++i) {
+      const long long k = nearest_harmonic(frequencies[i]);
+      DetectorReadings r;
+      if (k > 0) {
+        const double gain = if_gain(static_cast<double>(k) * f0 - frequencies[i], b6);
+        const DetectorReadings& base = *per_harmonic[static_cast<std::size_t>(k - 1)];
+        r = DetectorReadings{gain * base.peak, gain * base.quasi_peak, gain * base.average};
+      }
+      result.readings[i] = make_reading(frequencies[i], r);
+    }
+  } else {
+    // Sidebands: c_{k,n} = (1/N)·Σ_j X_k(t_j)·exp(−j2π·n·t_j/T), t_j = (j + 1/2)·T/N, |n| <= n_max.
+    const std::size_t width = static_cast<std::size_t>(2 * n_max + 1);
+    std::vector<std::vector<std::complex<double>>> sidebands(count);
+    std::vector<long long> needed;
+    for (const double f : frequencies) {
+      const long long k = nearest_harmonic(f);
+      if (k > 0 && sidebands[static_cast<std::size_t>(k - 1)].empty()) {
+        sidebands[static_cast<std::size_t>(k - 1)].resize(width);
+        needed.push_back(k);
+      }
+    }
+    for (const long long k : needed) {
+      auto& c = sidebands[static_cast<std::size_t>(k - 1)];
+      for (long long n = -n_max; n <= n_max; ++n) {
+        std::complex<double> sum(0.0, 0.0);
+        for (std::size_t j = 0; j < phases; ++j) {
+          const double t = (static_cast<double>(j) + 0.5) / static_cast<double>(phases);
+          sum += lines.phases[j][static_cast<std::size_t>(k - 1)] *
+                 std::polar(1.0, -2.0 * std::numbers::pi * static_cast<double>(n) * t);
+        }
+        c[static_cast<std::size_t>(n + n_max)] = sum / static_cast<double>(phases);
+      }
+    }
+    const std::size_t m = envelope_points(period_s, 1.0 / period_s, b6);
+    const double envelope_interval_s = period_s / static_cast<double>(m);
+    FftwBuffer plan_buffer(m);
+    const FftwPlan backward([&] {
+      return fftw_plan_dft_1d(static_cast<int>(m), plan_buffer.data, plan_buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE);
+    });
+    parallel_chunks(thread_count(plan.threads), frequencies.size(), [&](std::size_t begin, std::size_t end) {
+      FftwBuffer buffer(m);
+      std::vector<std::complex<double>> phasors;
+      std::vector<double> envelope;
+      for (std::size_t i = begin; i < end; ++i) {
+        const double tuned_hz = frequencies[i];
+        const long long k = nearest_harmonic(tuned_hz);
+        DetectorReadings r;
+        if (k > 0) {
+          phasors.clear();
+          std::size_t nonzero = 0;
+          double single_peak = 0.0;
+          const auto& c = sidebands[static_cast<std::size_t>(k - 1)];
+          for (long long n = -n_max; n <= n_max; ++n) {
+            const double offset_hz = static_cast<double>(k) * f0 + static_cast<double>(n) / period_s - tuned_hz;
+            if (std::abs(offset_hz) > half_span) continue;
+            const std::complex<double> phasor =
+                std::numbers::sqrt2 * c[static_cast<std::size_t>(n + n_max)] * if_gain(offset_hz, b6);
+            if (std::abs(phasor) > 0.0) {
+              ++nonzero;
+              single_peak = std::abs(phasor);
+            }
+            phasors.push_back(phasor);
+          }
+          if (nonzero == 1) {
+            r.peak = r.quasi_peak = r.average = single_peak / std::numbers::sqrt2;
+          } else if (nonzero > 1) {
+            envelope_from_lines(backward.plan, buffer, phasors, envelope);
+            r = read_periodic_envelope(envelope, envelope_interval_s, model);
+          }
+        }
+        result.readings[i] = make_reading(tuned_hz, r);
+      }
+    });
+  }
+  require_finite_readings(result);
+  if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
+  return result;
+}
+
 std::optional<Reading> highest_reading(const ScanResult& result, Detector detector) {
   const auto best = std::max_element(result.readings.begin(), result.readings.end(), [&](const Reading& x, const Reading& y) {
     return x.level_db(detector) < y.level_db(detector);

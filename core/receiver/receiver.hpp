@@ -174,6 +174,35 @@ struct ScanResult {
 /// One line in the passband reads |H|·RMS on every detector.
 [[nodiscard]] ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan);
 
+/// How scan_modulated_lines reads lines that follow a slow modulation (ModulatedLines, waveform.hpp)
+/// in one band:
+///  - sidebands: exact. The phasor of harmonic k over the modulation period T is a Fourier series,
+///    so the harmonic becomes lines at k·f0 + n/T; those within ±2·B6 of the tuned frequency pass
+///    the Gaussian IF and their envelope, periodic with T, goes to the detectors (as scan_lines).
+///    Chosen when the span holds at most max_sideband_lines of them (band A on 50 Hz mains: 8);
+///  - quasi_static: the IF follows the modulation (its response, about 1/B6, is short against T),
+///    so the envelope at the tuned frequency is |H(k·f0 − f)|·√2·|X_k(t_j)|; the detectors are
+///    homogeneous (a scaled envelope reads scaled), so each harmonic's envelope is read once and
+///    scaled by |H|. Chosen otherwise (band B on 50 Hz mains: 360 sideband lines in the span);
+///  - several_harmonics: the span (±2·B6) holds more than one harmonic of f0 (f0 ≤ 4·B6); the
+///    beat between harmonics is not read over the modulation: scan_modulated_lines refuses it.
+enum class ModulatedReading { sidebands, quasi_static, several_harmonics };
+/// The most sideband lines in a span (4·B6·T) for the exact sideband reading: 64 (judgement: the
+/// quasi-static reading then sees an IF response shorter than T/16; the two agree within
+/// 0.1 dB there, tests/receiver/modulated_lines_test.cpp).
+inline constexpr double max_sideband_lines = 64.0;
+/// "sidebands", "quasi-static" or "several harmonics".
+[[nodiscard]] std::string to_string(ModulatedReading reading);
+/// The reading scan_modulated_lines makes in `band` for fundamental f0 and modulation period T.
+[[nodiscard]] ModulatedReading modulated_reading(double fundamental_hz, double modulation_period_s, CisprBand band);
+
+/// The receiver on modulated lines (see ModulatedReading): peak, quasi-peak and average of the
+/// envelope over the modulation period, each detector in its periodic steady state
+/// (read_periodic_envelope). `reading` forces a method (tests); nullopt: modulated_reading().
+/// Error when the band's spans hold several harmonics, or the lines are malformed.
+[[nodiscard]] ScanResult scan_modulated_lines(const ModulatedLines& lines, const ScanPlan& plan,
+                                              std::optional<ModulatedReading> reading = std::nullopt);
+
 /// The reading with the highest level on `detector` (the first, lowest frequency, of equal ones);
 /// none when there are no readings.
 [[nodiscard]] std::optional<Reading> highest_reading(const ScanResult& result, Detector detector);

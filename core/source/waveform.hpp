@@ -48,4 +48,16 @@ struct LineSpectrum {
   }
 };
 
+/// Lines whose phasors follow a slow periodic modulation (a boost PFC stage over the mains
+/// half-cycle): at the instants t_j = (j + 1/2)·T/N, j = 0..N−1, of the modulation period
+/// T = modulation_period_s, harmonic k of fundamental_hz has the RMS phasor phases[j][k−1]
+/// (quasi-static: each switching cycle near t_j is the periodic waveform of those lines). Every
+/// phases[j] has the same size; an instant at which nothing switches holds zeros.
+struct ModulatedLines {
+  Quantity quantity = Quantity::voltage;
+  double fundamental_hz = 0.0;       ///< [Hz] the switching frequency, > 0
+  double modulation_period_s = 0.0;  ///< [s] T, > 0 (half a mains period)
+  std::vector<std::vector<std::complex<double>>> phases;  ///< [j][k−1] RMS phasors [V] or [A]
+};
+
 }  // namespace spurcast

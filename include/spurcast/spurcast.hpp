@@ -18,6 +18,7 @@
 #include "core/source/capture.hpp"
 #include "core/source/fftw_lock.hpp"
 #include "core/source/huge_pages.hpp"
+#include "core/source/mains_cycle.hpp"
 #include "core/source/source.hpp"
 #include "core/source/spectrum.hpp"
 #include "core/source/waveform.hpp"
