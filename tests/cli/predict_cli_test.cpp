@@ -13,6 +13,7 @@
 #include <filesystem>
 #include <fstream>
 #include <map>
+#include <numbers>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -312,5 +313,34 @@ TEST_CASE("the report renders in a real browser (headless chromium screenshot is
   CHECK(info.at("height") == 2400);
   // A blank page has one or two colours; the report has text, plots and shaded bands.
   CHECK(info.at("distinct").get<int>() > 50);
+  fs::remove_all(work);
+}
+
+TEST_CASE("boost-pfc: summary.json names the mains-gated path, its mains and gating; the report lists them") {
+  const std::string work = make_temp_dir();
+  std::string text = read_file(source_dir + "/tests/data/bad/scenario/pfc-threshold-above-crest.toml");
+  const std::string bad = "switching_threshold = \"330 V\"";
+  REQUIRE(text.find(bad) != std::string::npos);
+  text.replace(text.find(bad), bad.size(), "mains_frequency = \"60 Hz\"\nswitching_threshold = \"40 V\"");
+  std::ofstream(work + "/pfc.toml") << text;
+  const Run r = run(quote(executable) + " predict pfc.toml -o out --json", work);
+  CHECK(r.status == 0);  // no limits: the chain ran
+  const nlohmann::json summary = check_report_folder(fs::path(work) / "out");
+  CHECK(summary.at("receiver_path") == "mains-gated-lines");
+  const nlohmann::json& gating = summary.at("mains_gating");
+  CHECK(gating.at("mains_frequency_hz").get<double>() == doctest::Approx(60.0));
+  CHECK(gating.at("crest_input_v").get<double>() == doctest::Approx(324.0));
+  CHECK(gating.at("switching_threshold_v").get<double>() == doctest::Approx(40.0));
+  // |sin θ| >= 40/324 over 1 − (2/π)·asin(40/324) of the half-cycle, to 1/256.
+  CHECK(std::abs(gating.at("switching_fraction").get<double>() - (1.0 - 2.0 / std::numbers::pi * std::asin(40.0 / 324.0))) <=
+        1.0 / 256.0);
+  CHECK(gating.at("instants") == 256);
+  CHECK(gating.at("bands").at("B") == "quasi-static");
+  bool noted = false;
+  for (const auto& note : summary.at("notes")) noted = noted || note.get<std::string>().rfind("boost PFC stage: ", 0) == 0;
+  CHECK(noted);
+  const std::string html = read_file(work + "/out/report.html");
+  CHECK(html.find("mains-cycle gating") != std::string::npos);
+  CHECK(html.find("not modelled (crest of the mains cycle)") == std::string::npos);
   fs::remove_all(work);
 }
