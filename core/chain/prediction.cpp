@@ -47,6 +47,25 @@ ScanResult scan_line_spectrum(const LineSpectrum& lines, const ScanPlan& grid_pl
   return grid;
 }
 
+/// As scan_line_spectrum, for a boost PFC stage's lines over the mains cycle: the band grid plus
+/// readings tuned exactly onto every harmonic in the band.
+ScanResult scan_modulated_line_spectrum(const ModulatedLines& lines, const ScanPlan& grid_plan) {
+  ScanResult grid = scan_modulated_lines(lines, grid_plan);
+  const BandParameters p = band_parameters(grid_plan.band);
+  ScanPlan spots = grid_plan;
+  const std::size_t count = lines.phases.empty() ? 0 : lines.phases.front().size();
+  for (std::size_t i = 0; i < count; ++i) {
+    const double f = static_cast<double>(i + 1) * lines.fundamental_hz;
+    if (f >= p.start_hz && f <= p.stop_hz) spots.frequencies_hz.push_back(f);
+  }
+  if (spots.frequencies_hz.empty()) return grid;
+  const ScanResult at_lines = scan_modulated_lines(lines, spots);
+  grid.readings.insert(grid.readings.end(), at_lines.readings.begin(), at_lines.readings.end());
+  std::stable_sort(grid.readings.begin(), grid.readings.end(),
+                   [](const Reading& a, const Reading& b) { return a.frequency_hz < b.frequency_hz; });
+  return grid;
+}
+
 LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>& notes) {
   FftPlanner planner;
   const AmplitudeSpectrum spectrum = amplitude_spectrum(capture.waveform, Window::hann, planner);
@@ -512,8 +531,8 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
                          modulated_reading(gated_ports.front().fundamental_hz, gated_ports.front().modulation_period_s,
                                            band) != ModulatedReading::several_harmonics;
       if (gated) {
-        scan.line1 = scan_modulated_lines(gated_ports[0], plan);
-        if (two_lines) scan.line2 = scan_modulated_lines(gated_ports[1], plan);
+        scan.line1 = scan_modulated_line_spectrum(gated_ports[0], plan);
+        if (two_lines) scan.line2 = scan_modulated_line_spectrum(gated_ports[1], plan);
       } else if (p.source_kind == SourceKind::described) {
         scan.line1 = scan_line_spectrum(p.conducted->line_spectrum(1), plan);
         if (two_lines) scan.line2 = scan_line_spectrum(p.conducted->line_spectrum(2), plan);

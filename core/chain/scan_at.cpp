@@ -6,6 +6,8 @@
 #include "core/coupling/conducted.hpp"
 #include "core/input/error.hpp"
 #include "core/source/capture.hpp"
+#include "core/input/units.hpp"
+#include "core/source/mains_cycle.hpp"
 #include "core/source/source.hpp"
 
 namespace spurcast {
@@ -76,8 +78,31 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
                                                 dithered_input_current_lines(spec, *repeat, top_hz), *model);
       result = scan_two_lines([&](int line) { return scan_lines(conducted.line_spectrum(line), dense_plan); });
     }
+  } else if (scenario.switching && !scenario.switching->dither && scenario.converter.topology == Topology::boost_pfc &&
+             modulated_reading(scenario.switching->frequency_hz, 0.5 / scenario.converter.mains.mains_frequency_hz,
+                               plan.band) != ModulatedReading::several_harmonics) {
+    // A boost PFC stage: its lines over the mains half-cycle, as predict() reads them.
+    const MainsCycle cycle = mains_cycle_lines(*scenario.switching, scenario.converter.mains, top_hz);
+    notes.push_back("boost PFC stage: read over the " +
+                    format_quantity(cycle.mains_frequency_hz, Dimension::frequency) + " mains half-cycle (" +
+                    to_string(modulated_reading(cycle.switch_node_v.fundamental_hz,
+                                                cycle.switch_node_v.modulation_period_s, plan.band)) +
+                    ", switching over " + format_quantity(100.0 * cycle.switching_fraction(), Dimension::number, 3) +
+                    " % of it)");
+    if (at == "source") {
+      result = scan_modulated_lines(cycle.switch_node_v, plan);
+    } else if (at == "current") {
+      result = scan_modulated_lines(cycle.input_current_a, plan);
+    } else {
+      const std::vector<ModulatedLines> ports = conduct_modulated(cycle.switch_node_v, cycle.input_current_a, *model);
+      result = scan_two_lines([&](int line) { return scan_modulated_lines(ports[static_cast<std::size_t>(line - 1)], plan); });
+    }
   } else if (scenario.switching && !scenario.switching->dither) {
     // Periodic, undithered: exact line spectra, no sampling.
+    if (scenario.converter.topology == Topology::boost_pfc) {
+      notes.push_back("boost PFC stage: band " + to_string(plan.band) +
+                      "'s span holds several harmonics, read at the crest of the mains cycle");
+    }
     const SwitchingSpec& spec = *scenario.switching;
     if (at == "source") {
       result = scan_lines(switch_node_spectrum(spec, top_hz), plan);

@@ -388,7 +388,10 @@ LinesOutcome evaluate_lines(const Scenario& scenario, const ConductedModel& mode
 
 /// The receiver bands' 6 dB bandwidths decide whether the lines are isolated in the IF filter.
 bool lines_are_isolated(const Scenario& scenario) {
-  if (!scenario.switching || scenario.switching->dither) return false;
+  // A boost PFC stage is read over the mains cycle by the receiver scan (prediction.cpp).
+  if (!scenario.switching || scenario.switching->dither || scenario.converter.topology == Topology::boost_pfc) {
+    return false;
+  }
   for (const CisprBand b : scenario.receiver.bands) {
     if (!(scenario.switching->frequency_hz > 2.0 * band_parameters(b).bandwidth_6db_hz)) return false;
   }
@@ -1083,8 +1086,8 @@ SweepResult run_sweep(const toml::table& table, const std::string& file, const s
       std::count_if(result.points.begin(), result.points.end(), [](const SweepPoint& p) { return p.method == "scan"; }));
   if (scanned > 0) {
     result.notes.push_back(std::to_string(scanned) + (scanned == 1 ? " point" : " points") +
-                           " went through the receiver scan (dithered or captured source, or harmonics "
-                           "closer than 2 x B6): drift checked on the grid only");
+                           " went through the receiver scan (dithered or captured source, a boost PFC stage over the "
+                           "mains cycle, or harmonics closer than 2 x B6): drift checked on the grid only");
   }
   if (ctx.limit_lines.empty()) {
     result.notes.push_back("the scenario gives no limit line: no point was compared with limits, so none meets them");
