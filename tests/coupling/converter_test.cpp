@@ -147,3 +147,19 @@ TEST_CASE("[converter] reader: topology, its own keys, and the keys of another t
                                       "pF\"\nsecondary_capacitance = \"1 nF\"\n"),
                        "c.toml:2:28: expected a capacitance > 0, found 0 F", Error);
 }
+
+TEST_CASE("[converter] boost-pfc: mains_frequency (50 Hz by default) and switching_threshold (0 V)") {
+  // 50 Hz: the mains frequency of most of the world (common practice).
+  const ConverterSpec plain = read_converter("topology = \"boost-pfc\"\ninductor_ripple = \"1 A\"\n");
+  CHECK(plain.mains.mains_frequency_hz == doctest::Approx(50.0));
+  CHECK(plain.mains.switching_threshold_v == doctest::Approx(0.0));
+  const ConverterSpec given = read_converter(
+      "topology = \"boost-pfc\"\ninductor_ripple = \"1 A\"\nmains_frequency = \"60 Hz\"\nswitching_threshold = \"25 V\"\n");
+  CHECK(given.mains.mains_frequency_hz == doctest::Approx(60.0));
+  CHECK(given.mains.switching_threshold_v == doctest::Approx(25.0));
+  CHECK_THROWS_WITH_AS(read_converter("topology = \"boost-pfc\"\ninductor_ripple = \"1 A\"\nmains_frequency = \"5 Hz\"\n"),
+                       "c.toml:3:19: expected a mains frequency from 10 Hz to 1 kHz, found 5 Hz", Error);
+  CHECK_THROWS_WITH_AS(read_converter("topology = \"flyback\"\ninterwinding_capacitance = \"30 pF\"\n"
+                                      "secondary_capacitance = \"1 nF\"\nswitching_threshold = \"20 V\"\n"),
+                       "c.toml:4:23: 'switching_threshold' belongs to topology boost-pfc, not flyback", Error);
+}
