@@ -144,6 +144,10 @@ SpectrumResult described_result(const Scenario& scenario, const std::string& at,
   result.at = at;
   result.fundamental_hz = spec.frequency_hz;
   if (spec.dither) result.notes.push_back("dither is not applied to the line spectrum (the undithered source is shown)");
+  if (scenario.converter.topology == Topology::boost_pfc) {
+    result.notes.push_back("boost PFC stage: the lines are those of the crest of the mains cycle (predict and scan "
+                           "read the mains cycle)");
+  }
   if (at == "source" || at == "current") {
     const bool current = at == "current";
     const LineSpectrum lines = current ? input_current_spectrum(spec, max_frequency_hz) : switch_node_spectrum(spec, max_frequency_hz);
