@@ -66,9 +66,16 @@ ScanResult scan_modulated_line_spectrum(const ModulatedLines& lines, const ScanP
   return grid;
 }
 
-LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>& notes) {
+/// The harmonic lines of a capture (Hann window, f0 given or estimated). With `consume`, the
+/// capture's samples are freed as soon as the transform holds them (its other fields stay): a long
+/// record is then resident once, not twice, while it is transformed.
+LineSpectrum lines_from_capture(Capture& capture, std::vector<std::string>& notes, bool consume = false) {
   FftPlanner planner;
-  const AmplitudeSpectrum spectrum = amplitude_spectrum(capture.waveform, Window::hann, planner);
+  const double duration_s = capture.waveform.duration_s();
+  const double sample_rate_hz = capture.waveform.sample_rate_hz;
+  const Quantity quantity = capture.waveform.quantity;
+  const AmplitudeSpectrum spectrum = consume ? amplitude_spectrum(std::move(capture.waveform), Window::hann, planner)
+                                             : amplitude_spectrum(capture.waveform, Window::hann, planner);
   double f0 = 0.0;
   if (capture.switching_frequency_hz) {
     f0 = *capture.switching_frequency_hz;
@@ -76,10 +83,10 @@ LineSpectrum lines_from_capture(const Capture& capture, std::vector<std::string>
     f0 = estimate_fundamental(spectrum).frequency_hz;
     notes.push_back("switching frequency estimated from the capture: " + format_quantity(f0, Dimension::frequency, 6));
   }
-  check_capture_covers_period(capture, f0);
-  const HarmonicTable table = harmonic_table(spectrum, f0, capture.waveform.sample_rate_hz / 2.0);
+  check_capture_covers_period(capture.file, duration_s, f0);
+  const HarmonicTable table = harmonic_table(spectrum, f0, sample_rate_hz / 2.0);
   LineSpectrum lines;
-  lines.quantity = capture.waveform.quantity;
+  lines.quantity = quantity;
   lines.fundamental_hz = f0;
   lines.dc = table.dc;
   // A single capture drives one path; the phase of its lines does not change their magnitudes at
@@ -385,8 +392,11 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   }
 
   std::optional<DitherRepeat> repeat;
-  std::optional<Waveform> captured_v;
-  std::optional<Waveform> captured_i;
+  // A capture's spectra over the bins the band scans read (an absent one holds no bins): the
+  // conducted path and the receiver work on bins, so the record is transformed once and its
+  // samples are freed as soon as its harmonic lines are read.
+  SampledSpectrum captured_v;
+  SampledSpectrum captured_i;
   bool captured_whole_periods = false;
   std::optional<double> capture_nyquist_hz;
   if (scenario.switching) {
@@ -424,40 +434,53 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
   } else {
     p.source_kind = SourceKind::captured;
     p.receiver_path = ReceiverPath::sampled;
-    const Capture capture = load_capture(*scenario.capture);
-    const LineSpectrum lines = lines_from_capture(capture, p.notes);
+    Capture capture = load_capture(*scenario.capture);
     captured_whole_periods = holds_whole_periods(capture);
     capture_nyquist_hz = capture.waveform.sample_rate_hz / 2.0;
+    const bool scans = !options.skip_scans && !battery;
+    std::vector<ScanPlan> plans;
+    for (const CisprBand band : bands) {
+      ScanPlan plan;
+      plan.band = band;
+      plan.step_hz = step_hz;
+      plans.push_back(plan);
+    }
+    const auto [low_hz, high_hz] = scan_span_hz(plans, capture.waveform.sample_rate_hz);
+    FftPlanner planner;
+    auto scanned_bins = [&](const Waveform& w) { return sampled_spectrum(w, low_hz, high_hz, planner); };
     if (scenario.capture->current_column) {
       // Both paths from one record (capture.hpp): the lines carry their phases.
+      const LineSpectrum lines = lines_from_capture(capture, p.notes);
       CaptureSpec spec = current_capture_spec(*scenario.capture);
       if (!spec.switching_frequency_hz) spec.switching_frequency_hz = lines.fundamental_hz;  // the voltage's f0
-      const Capture current = load_capture(spec);
+      Capture current = load_capture(spec);
       std::vector<std::string> ignored;
       p.switch_node_v = lines;
       p.input_current_a = lines_from_capture(current, ignored);
       phase_lines(capture.waveform, p.switch_node_v);
       phase_lines(current.waveform, p.input_current_a);
-      captured_v = capture.waveform;
-      captured_i = current.waveform;
+      if (scans) {
+        captured_v = scanned_bins(capture.waveform);
+        captured_i = scanned_bins(current.waveform);
+      }
       p.notes.push_back("captured source: the voltage capture drives the common-mode path (switch-node voltage) and "
                         "the current capture the differential-mode path (input current)");
-    } else if (capture.waveform.quantity == Quantity::voltage) {
-      p.switch_node_v = lines;
-      p.input_current_a.quantity = Quantity::current;
-      p.input_current_a.fundamental_hz = lines.fundamental_hz;
-      captured_v = capture.waveform;
     } else {
-      p.input_current_a = lines;
-      p.switch_node_v.quantity = Quantity::voltage;
-      p.switch_node_v.fundamental_hz = lines.fundamental_hz;
-      captured_i = capture.waveform;
+      const bool voltage = capture.waveform.quantity == Quantity::voltage;
+      if (scans) (voltage ? captured_v : captured_i) = scanned_bins(capture.waveform);
+      const LineSpectrum lines = lines_from_capture(capture, p.notes, true);  // frees the samples
+      (voltage ? p.switch_node_v : p.input_current_a) = lines;
+      LineSpectrum& other = voltage ? p.input_current_a : p.switch_node_v;
+      other.quantity = voltage ? Quantity::current : Quantity::voltage;
+      other.fundamental_hz = lines.fundamental_hz;
     }
-    p.common_mode_only = captured_v.has_value() && !captured_i.has_value();
-    p.differential_mode_only = captured_i.has_value() && !captured_v.has_value();
+    const bool has_v = capture.waveform.quantity == Quantity::voltage || scenario.capture->current_column.has_value();
+    const bool has_i = capture.waveform.quantity == Quantity::current || scenario.capture->current_column.has_value();
+    p.common_mode_only = has_v && !has_i;
+    p.differential_mode_only = has_i && !has_v;
     if (p.common_mode_only || p.differential_mode_only) {
       p.notes.push_back("captured source: the capture drives the " +
-                        std::string(captured_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
+                        std::string(has_v ? "common-mode path (switch-node voltage)" : "differential-mode path (input current)") +
                         " only");
     }
   }
@@ -541,20 +564,18 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
         plan.envelope_oversampling = dithered_envelope_oversampling;
         scan.line1 = scan_lines(dithered_conducted->line_spectrum(1), plan);
         if (two_lines) scan.line2 = scan_lines(dithered_conducted->line_spectrum(2), plan);
+      } else if (p.source_kind == SourceKind::captured) {
+        // The capture's spectra through the conducted path into the receiver, bin by bin.
+        plan.periodic_record = captured_whole_periods;
+        scan.line1 = scan_spectrum(lisn_port_spectrum(captured_v, captured_i, model, 1), plan);
+        if (two_lines) scan.line2 = scan_spectrum(lisn_port_spectrum(captured_v, captured_i, model, 2), plan);
       } else {
-        Waveform source_v, source_i;
-        if (p.source_kind == SourceKind::dithered) {
-          const SwitchingSpec& spec = *scenario.switching;
-          const double fs = receiver_sample_rate_hz(band);
-          const double duration_s = dithered_record_duration_s(spec, fs, options.record_duration_s, p.notes);
-          source_v = synthesize_switch_node(spec, fs, duration_s);
-          source_i = synthesize_input_current(spec, fs, duration_s);
-          plan.slowest_modulation_hz = spec.dither->rate_hz;
-        } else {
-          if (captured_v) source_v = *captured_v;
-          if (captured_i) source_i = *captured_i;
-          plan.periodic_record = captured_whole_periods;
-        }
+        const SwitchingSpec& spec = *scenario.switching;
+        const double fs = receiver_sample_rate_hz(band);
+        const double duration_s = dithered_record_duration_s(spec, fs, options.record_duration_s, p.notes);
+        const Waveform source_v = synthesize_switch_node(spec, fs, duration_s);
+        const Waveform source_i = synthesize_input_current(spec, fs, duration_s);
+        plan.slowest_modulation_hz = spec.dither->rate_hz;
         const Waveform port1 = lisn_port_waveform(source_v, source_i, model, 1);
         scan.line1 = scan_waveform(port1, plan);
         if (two_lines) scan.line2 = scan_waveform(lisn_port_waveform(source_v, source_i, model, 2), plan);

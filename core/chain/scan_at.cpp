@@ -9,6 +9,7 @@
 #include "core/input/units.hpp"
 #include "core/source/mains_cycle.hpp"
 #include "core/source/source.hpp"
+#include "core/source/spectrum.hpp"
 
 namespace spurcast {
 
@@ -44,8 +45,41 @@ std::vector<ScanPlan> scan_plans(const Scenario& scenario, const ScanRequest& re
   return plans;
 }
 
-/// Scans one band (or spot frequencies within it) at the requested point of the chain.
-ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPlan& plan) {
+namespace {
+
+/// A capture's spectra over the bins that every plan reads (scan_span_hz), taken once for all bands:
+/// the receiver and the conducted path read bins, so the record never returns to the time domain
+/// and its samples are freed once transformed.
+struct CapturedSpectra {
+  SampledSpectrum v;  ///< the switch-node voltage; no bins when absent
+  SampledSpectrum i;  ///< the input current; no bins when absent
+  bool periodic_record = false;
+};
+
+CapturedSpectra captured_spectra(const Scenario& scenario, const std::string& at, const std::vector<ScanPlan>& plans) {
+  CapturedSpectra spectra;
+  Capture capture = load_capture(*scenario.capture);
+  const bool is_current = capture.waveform.quantity == Quantity::current;
+  const bool two_channels = scenario.capture->current_column.has_value();
+  if (at == "current" && !is_current && !two_channels) {
+    throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
+  }
+  spectra.periodic_record = holds_whole_periods(capture);
+  const auto [low_hz, high_hz] = scan_span_hz(plans, capture.waveform.sample_rate_hz);
+  const unsigned threads = plans.empty() ? 0 : plans.front().threads;
+  FftPlanner planner;
+  (is_current ? spectra.i : spectra.v) = sampled_spectrum(capture.waveform, low_hz, high_hz, planner, threads);
+  std::vector<double>().swap(capture.waveform.samples);
+  // A two-channel capture: the current channel drives the differential-mode path.
+  if (two_channels && at != "source") {
+    spectra.i = sampled_spectrum(load_capture(current_capture_spec(*scenario.capture)).waveform, low_hz, high_hz, planner, threads);
+  }
+  return spectra;
+}
+
+/// Scans one band (or spot frequencies within it) at the requested point of the chain; a capture's
+/// spectra come in `captured` (required for a captured scenario).
+ScanResult scan_plan(const Scenario& scenario, const std::string& at, const ScanPlan& plan, const CapturedSpectra* captured) {
   const BandParameters band = band_parameters(plan.band);
   const double top_hz = band.stop_hz + 2.0 * band.bandwidth_6db_hz;
   std::vector<std::string> notes;
@@ -113,37 +147,38 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
           conduct(switch_node_spectrum(spec, top_hz), input_current_spectrum(spec, top_hz), *model);
       result = scan_two_lines([&](int line) { return scan_lines(conducted.line_spectrum(line), plan); });
     }
-  } else {
+  } else if (scenario.switching) {
+    // Dithered without a repeat: a synthesized record through the FFT receiver, as the prediction makes it.
+    const SwitchingSpec& spec = *scenario.switching;
+    const double fs = receiver_sample_rate_hz(plan.band);
+    const double duration_s = dithered_record_duration_s(spec, fs, 0.0, notes);
     Waveform source_v;
     Waveform source_i;
+    if (at != "current") source_v = synthesize_switch_node(spec, fs, duration_s);
+    if (at != "source") source_i = synthesize_input_current(spec, fs, duration_s);
     ScanPlan sampled_plan = plan;
-    if (scenario.switching) {
-      // Dithered without a repeat: a synthesized record through the FFT receiver, as the prediction makes it.
-      const SwitchingSpec& spec = *scenario.switching;
-      const double fs = receiver_sample_rate_hz(plan.band);
-      const double duration_s = dithered_record_duration_s(spec, fs, 0.0, notes);
-      if (at != "current") source_v = synthesize_switch_node(spec, fs, duration_s);
-      if (at != "source") source_i = synthesize_input_current(spec, fs, duration_s);
-      sampled_plan.slowest_modulation_hz = spec.dither->rate_hz;
-    } else {
-      const Capture capture = load_capture(*scenario.capture);
-      const bool is_current = capture.waveform.quantity == Quantity::current;
-      const bool two_channels = scenario.capture->current_column.has_value();
-      if (at == "current" && !is_current && !two_channels) {
-        throw Error("expected a current capture for --at current, found a voltage capture (use --at source)");
-      }
-      (is_current ? source_i : source_v) = capture.waveform;
-      // A two-channel capture: the current channel drives the differential-mode path.
-      if (two_channels && at != "source") source_i = load_capture(current_capture_spec(*scenario.capture)).waveform;
-      sampled_plan.periodic_record = holds_whole_periods(capture);
-    }
+    sampled_plan.slowest_modulation_hz = spec.dither->rate_hz;
     if (at == "source") {
-      result = scan_waveform(source_v.samples.empty() ? source_i : source_v, sampled_plan);
+      result = scan_waveform(source_v, sampled_plan);
     } else if (at == "current") {
       result = scan_waveform(source_i, sampled_plan);
     } else {
       result = scan_two_lines([&](int line) {
         return scan_waveform(lisn_port_waveform(source_v, source_i, *model, line), sampled_plan);
+      });
+    }
+  } else {
+    // A capture: read from its spectra, taken once for every band (captured_spectra).
+    const CapturedSpectra& spectra = *captured;
+    ScanPlan captured_plan = plan;
+    captured_plan.periodic_record = spectra.periodic_record;
+    if (at == "source") {
+      result = scan_spectrum(spectra.v.bins.empty() ? spectra.i : spectra.v, captured_plan);
+    } else if (at == "current") {
+      result = scan_spectrum(spectra.i, captured_plan);
+    } else {
+      result = scan_two_lines([&](int line) {
+        return scan_spectrum(lisn_port_spectrum(spectra.v, spectra.i, *model, line), captured_plan);
       });
     }
   }
@@ -163,6 +198,14 @@ ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPl
   return result;
 }
 
+}  // namespace
+
+ScanResult scan_at(const Scenario& scenario, const std::string& at, const ScanPlan& plan) {
+  if (!scenario.capture) return scan_plan(scenario, at, plan, nullptr);
+  const CapturedSpectra captured = captured_spectra(scenario, at, {plan});
+  return scan_plan(scenario, at, plan, &captured);
+}
+
 ScanReport scan_scenario(const Scenario& scenario, const ScanRequest& request, const std::function<void(CisprBand)>& on_band) {
   if (request.at != "source" && request.at != "current" && request.at != "lisn") {
     throw Error("expected --at source, current or lisn, found \"" + request.at + "\"");
@@ -175,9 +218,16 @@ ScanReport scan_scenario(const Scenario& scenario, const ScanRequest& request, c
   report.at = request.at;
   report.spot = !request.frequencies_hz.empty();
   report.detectors = scenario.receiver.detectors;
-  for (const ScanPlan& plan : scan_plans(scenario, request)) {
+  const std::vector<ScanPlan> plans = scan_plans(scenario, request);
+  // A capture is loaded and transformed once for every band.
+  std::optional<CapturedSpectra> captured;
+  if (scenario.capture && !scenario.switching) {
+    if (on_band && !plans.empty()) on_band(plans.front().band);
+    captured = captured_spectra(scenario, request.at, plans);
+  }
+  for (const ScanPlan& plan : plans) {
     if (on_band) on_band(plan.band);
-    report.bands.push_back(scan_at(scenario, request.at, plan));
+    report.bands.push_back(scan_plan(scenario, request.at, plan, captured ? &*captured : nullptr));
   }
   return report;
 }

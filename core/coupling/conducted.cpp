@@ -526,6 +526,13 @@ std::unique_ptr<T, FftwFree> fftw_array(std::size_t count) {
   return std::unique_ptr<T, FftwFree>(p);
 }
 
+/// The two transfer functions of the receiver port of `line` (1 or 2): per switch-node volt and per
+/// input-current ampere.
+std::vector<TransferMember> port_functions(int line) {
+  if (line == 1) return {&TransferFunctions::port1_per_switch_node, &TransferFunctions::port1_per_input_current_ohm};
+  return {&TransferFunctions::port2_per_switch_node, &TransferFunctions::port2_per_input_current_ohm};
+}
+
 }  // namespace
 
 Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input_current_a,
@@ -583,8 +590,9 @@ Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input
   fftw_complex* result = spectrum.get();
   result[0][0] = result[0][1] = 0.0;  // DC stays 0: the receiver does not measure it
   if (bins > 1) {
-    // Solved on an adaptive grid and interpolated to every bin (transfer_grid.hpp), not at each bin.
-    const TransferFunctions h = transfer_on_grid(model, frequency_hz);
+    // Solved on an adaptive grid and interpolated to every bin (transfer_grid.hpp), not at each
+    // bin; only this port's two functions are kept.
+    const TransferFunctions h = transfer_on_grid(model, frequency_hz, port_functions(line));
     const auto& per_v = line == 1 ? h.port1_per_switch_node : h.port2_per_switch_node;
     const auto& per_i = line == 1 ? h.port1_per_input_current_ohm : h.port2_per_input_current_ohm;
     for (std::size_t k = 1; k < bins; ++k) {
@@ -601,6 +609,56 @@ Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input
   out.samples.resize(n);
   const double scale = 1.0 / static_cast<double>(n);  // FFTW transforms are unnormalised
   for (std::size_t j = 0; j < n; ++j) out.samples[j] = time_buffer.get()[j] * scale;
+  return out;
+}
+
+SampledSpectrum lisn_port_spectrum(const SampledSpectrum& switch_node_v, const SampledSpectrum& input_current_a,
+                                   const ConductedModel& model, int line) {
+  if (line != 1 && line != 2) throw Error("expected line 1 or 2, found " + std::to_string(line));
+  const bool has_v = !switch_node_v.bins.empty();
+  const bool has_i = !input_current_a.bins.empty();
+  if (has_v && switch_node_v.quantity != Quantity::voltage) throw Error("expected a switch-node voltage spectrum, found a current");
+  if (has_i && input_current_a.quantity != Quantity::current) throw Error("expected an input-current spectrum, found a voltage");
+  const SampledSpectrum& first = has_v ? switch_node_v : input_current_a;
+  SampledSpectrum out;
+  out.quantity = Quantity::voltage;
+  out.sample_rate_hz = first.sample_rate_hz;
+  out.record_samples = first.record_samples;
+  out.first_bin = first.first_bin;
+  if (!has_v && !has_i) return out;
+  if (has_v && has_i &&
+      (switch_node_v.record_samples != input_current_a.record_samples || switch_node_v.first_bin != input_current_a.first_bin ||
+       switch_node_v.bins.size() != input_current_a.bins.size() ||
+       std::abs(switch_node_v.sample_rate_hz - input_current_a.sample_rate_hz) > 1e-9 * switch_node_v.sample_rate_hz)) {
+    throw Error("the switch-node and input-current spectra differ in bins, record length or sample rate");
+  }
+  if (!(std::isfinite(first.sample_rate_hz) && first.sample_rate_hz > 0.0)) {
+    throw Error("expected a sample rate > 0 Hz, found " + format_quantity(first.sample_rate_hz, Dimension::frequency));
+  }
+  const std::size_t count = first.bins.size();
+  const std::size_t n = first.record_samples;
+  out.bins.assign(count, cd(0.0, 0.0));  // bin 0 (DC) stays 0: the receiver does not measure it
+  const std::size_t skip = first.first_bin == 0 ? 1 : 0;
+  std::vector<double> frequency_hz;
+  frequency_hz.reserve(count - std::min(count, skip));
+  for (std::size_t i = skip; i < count; ++i) {
+    frequency_hz.push_back(static_cast<double>(first.first_bin + i) * first.sample_rate_hz / static_cast<double>(n));
+  }
+  if (frequency_hz.empty()) return out;
+  // Solved on an adaptive grid and interpolated to every bin (transfer_grid.hpp), not at each bin;
+  // only this port's two functions are kept.
+  const TransferFunctions h = transfer_on_grid(model, frequency_hz, port_functions(line));
+  std::vector<double>().swap(frequency_hz);
+  const auto& per_v = line == 1 ? h.port1_per_switch_node : h.port2_per_switch_node;
+  const auto& per_i = line == 1 ? h.port1_per_input_current_ohm : h.port2_per_input_current_ohm;
+  for (std::size_t i = skip; i < count; ++i) {
+    cd value(0.0, 0.0);
+    if (has_v) value += per_v[i - skip] * switch_node_v.bins[i];
+    if (has_i) value += per_i[i - skip] * input_current_a.bins[i];
+    out.bins[i] = value;
+  }
+  // For even n the Nyquist bin of a real signal is real; keep the real part (c2r ignores the rest).
+  if (n % 2 == 0 && out.end_bin() == n / 2 + 1) out.bins.back() = cd(out.bins.back().real(), 0.0);
   return out;
 }
 

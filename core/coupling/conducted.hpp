@@ -178,4 +178,13 @@ inline constexpr double resonance_note_min_q = 10.0;
 [[nodiscard]] Waveform lisn_port_waveform(const Waveform& switch_node_v, const Waveform& input_current_a,
                                           const ConductedModel& model, int line);
 
+/// The same in the frequency domain, on the bins held: Y[k] = H_v(f_k)·V[k] + H_i(f_k)·I[k] over
+/// the bins of the records' spectra (SampledSpectrum, both over the same bins of the same record
+/// length and sample rate, either may hold no bins: absent), DC set to 0, the Nyquist bin of an
+/// even record kept real, as lisn_port_waveform() makes them before its inverse transform. The
+/// transfer functions come from the adaptive grid over the bins held (transfer_grid.hpp), so a
+/// band's bins cost only that band's solves and memory. The result is a voltage spectrum.
+[[nodiscard]] SampledSpectrum lisn_port_spectrum(const SampledSpectrum& switch_node_v, const SampledSpectrum& input_current_a,
+                                                 const ConductedModel& model, int line);
+
 }  // namespace spurcast

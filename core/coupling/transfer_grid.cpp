@@ -46,6 +46,16 @@ std::vector<Node> solve_nodes(const ConductedModel& model, const std::vector<dou
 
 TransferFunctions transfer_on_grid(const ConductedModel& model, const std::vector<double>& frequency_hz,
                                    double relative_tolerance, TransferGridStats* stats) {
+  const std::vector<TransferMember> every{&TransferFunctions::port1_per_input_current_ohm,     &TransferFunctions::port1_per_switch_node,
+           &TransferFunctions::port2_per_input_current_ohm,     &TransferFunctions::port2_per_switch_node,
+           &TransferFunctions::line1_current_per_input_current, &TransferFunctions::line1_current_per_switch_node_s,
+           &TransferFunctions::line2_current_per_input_current, &TransferFunctions::line2_current_per_switch_node_s};
+  return transfer_on_grid(model, frequency_hz, every, relative_tolerance, stats);
+}
+
+TransferFunctions transfer_on_grid(const ConductedModel& model, const std::vector<double>& frequency_hz,
+                                   const std::vector<TransferMember>& wanted, double relative_tolerance,
+                                   TransferGridStats* stats) {
   const std::size_t n = frequency_hz.size();
   for (std::size_t k = 0; k < n; ++k) {
     if (!(frequency_hz[k] > 0.0) || !std::isfinite(frequency_hz[k]) || (k > 0 && frequency_hz[k] < frequency_hz[k - 1])) {
@@ -59,7 +69,12 @@ TransferFunctions transfer_on_grid(const ConductedModel& model, const std::vecto
   // Direct solve when the grid would not be much smaller than the request (judgement: 4×).
   if (n <= 4 * seed_count || n < 64) {
     if (stats != nullptr) *stats = {n, n};
-    return transfer_at(model, frequency_hz);
+    TransferFunctions direct = transfer_at(model, frequency_hz);
+    for (std::vector<cd>* column : columns(direct)) {
+      const bool kept = std::any_of(wanted.begin(), wanted.end(), [&](TransferMember m) { return &(direct.*m) == column; });
+      if (!kept) std::vector<cd>().swap(*column);
+    }
+    return direct;
   }
 
   // Seed grid, logarithmic, ending exactly on the first and last request.
@@ -133,11 +148,17 @@ TransferFunctions transfer_on_grid(const ConductedModel& model, const std::vecto
     done = std::move(next_done);
   }
 
-  // Interpolate every request from its interval.
+  // Interpolate every request from its interval, into the wanted functions.
   TransferFunctions out;
   out.frequency_hz = frequency_hz;
-  const auto c = columns(out);
-  for (auto* column : c) column->resize(n);
+  std::vector<std::pair<std::size_t, std::vector<cd>*>> c;  // (function index, column)
+  const auto all = columns(out);
+  for (std::size_t j = 0; j < function_count; ++j) {
+    if (std::any_of(wanted.begin(), wanted.end(), [&](TransferMember m) { return &(out.*m) == all[j]; })) {
+      all[j]->resize(n);
+      c.emplace_back(j, all[j]);
+    }
+  }
   std::size_t i = 0;
   for (std::size_t k = 0; k < n; ++k) {
     const double f = frequency_hz[k];
@@ -145,8 +166,8 @@ TransferFunctions transfer_on_grid(const ConductedModel& model, const std::vecto
     const Node& a = nodes[i];
     const Node& b = nodes[i + 1];
     const double t = b.frequency_hz > a.frequency_hz ? (f - a.frequency_hz) / (b.frequency_hz - a.frequency_hz) : 0.0;
-    for (std::size_t j = 0; j < function_count; ++j) {
-      (*c[j])[k] = t <= 0.0 ? a.h[j] : (t >= 1.0 ? b.h[j] : interpolate(a.h[j], b.h[j], t));
+    for (const auto& [j, column] : c) {
+      (*column)[k] = t <= 0.0 ? a.h[j] : (t >= 1.0 ? b.h[j] : interpolate(a.h[j], b.h[j], t));
     }
   }
   if (stats != nullptr) *stats = {solved, n};

@@ -12,6 +12,7 @@
 
 #include "core/input/error.hpp"
 #include "core/source/fftw_lock.hpp"
+#include "core/source/spectrum.hpp"
 
 namespace spurcast {
 
@@ -259,16 +260,6 @@ struct FftwBuffer {
 };
 
 // A plan made and destroyed under the process-wide planner lock (core/source/fftw_lock.hpp).
-struct RealBuffer {
-  explicit RealBuffer(std::size_t n) : data(static_cast<double*>(fftw_malloc(sizeof(double) * std::max<std::size_t>(n, 1)))) {
-    if (data == nullptr) throw Error("out of memory for an FFT of " + std::to_string(n) + " points");
-  }
-  ~RealBuffer() { fftw_free(data); }
-  RealBuffer(const RealBuffer&) = delete;
-  RealBuffer& operator=(const RealBuffer&) = delete;
-  double* data;
-};
-
 struct FftwPlan {
   template <typename Make>
   explicit FftwPlan(Make make) {
@@ -340,81 +331,17 @@ void envelope_from_lines(const fftw_plan plan, FftwBuffer& buffer, const std::ve
   }
 }
 
-// One real-to-complex FFT of a record: bins X[k], k = 0..N/2; scale·X[k] (scale = 2/N) is the
-// peak complex amplitude of a cosine on bin k.
+// The bins of a record's spectrum the receiver reads: scale·X[k] (scale = 2/N) is the peak
+// complex amplitude of a cosine on bin k; bin 0 (DC) is never read.
 struct RecordSpectrum {
+  const SampledSpectrum& held;
   double bin_hz = 0.0;
   double period_s = 0.0;
   double scale = 0.0;
-  std::vector<std::complex<double>> bins;
 };
 
-RecordSpectrum record_spectrum(const Waveform& waveform, std::size_t threads) {
-  if (!(waveform.sample_rate_hz > 0.0)) throw Error("expected a positive sample rate");
-  const std::size_t n = waveform.samples.size();
-  if (n < 2) throw Error("expected a record of at least 2 samples, found " + std::to_string(n));
-  RecordSpectrum spectrum;
-  spectrum.period_s = static_cast<double>(n) / waveform.sample_rate_hz;
-  spectrum.bin_hz = waveform.sample_rate_hz / static_cast<double>(n);
-  spectrum.bins.resize(n / 2 + 1);
-  spectrum.scale = 2.0 / static_cast<double>(n);
-  auto* output = reinterpret_cast<fftw_complex*>(spectrum.bins.data());
-  if (n % 2 == 0 && n >= 32768) {
-    // One radix-2 decimation-in-time step (Cooley & Tukey 1965), so that two cores transform:
-    // X[k] = E[k] + exp(−j2πk/N)·O[k], E and O the N/2-point transforms of the even and odd
-    // samples (E[k] = conj(E[N/2 − k]) above N/4, the real-input symmetry). The same arithmetic
-    // runs whatever the thread count (one thread does the halves in turn), so the readings are
-    // identical bit for bit across thread counts.
-    const std::size_t h = n / 2;
-    RealBuffer even(h);
-    RealBuffer odd(h);
-    FftwBuffer even_out(h / 2 + 1);
-    FftwBuffer odd_out(h / 2 + 1);
-    const FftwPlan plan([&] {
-      return fftw_plan_dft_r2c_1d(static_cast<int>(h), even.data, even_out.data, FFTW_ESTIMATE);
-    });
-    auto transform = [&](std::size_t phase, RealBuffer& in, FftwBuffer& out) {
-      const double* samples = waveform.samples.data();
-      for (std::size_t i = 0; i < h; ++i) in.data[i] = samples[2 * i + phase];
-      fftw_execute_dft_r2c(plan.plan, in.data, out.data);  // thread-safe (FFTW 3.3 manual §5.4)
-    };
-    if (threads >= 2) {
-      std::thread odd_worker([&] { transform(1, odd, odd_out); });
-      transform(0, even, even_out);
-      odd_worker.join();
-    } else {
-      transform(0, even, even_out);
-      transform(1, odd, odd_out);
-    }
-    const double angle_step = -2.0 * std::numbers::pi / static_cast<double>(n);
-    parallel_chunks(threads, h + 1, [&](std::size_t begin, std::size_t end) {
-      const std::complex<double> rotation = std::polar(1.0, angle_step);
-      // The twiddle by recurrence, recomputed exactly at every multiple of 1024 bins (rounding
-      // stays < 1e-13). A chunk starting between anchors first steps from the anchor before it,
-      // so every bin gets the same twiddle however the bins are split between threads.
-      const std::size_t anchor = begin / 1024 * 1024;
-      std::complex<double> twiddle = std::polar(1.0, angle_step * static_cast<double>(anchor));
-      for (std::size_t k = anchor; k < begin; ++k) twiddle *= rotation;
-      for (std::size_t k = begin; k < end; ++k) {
-        if (k % 1024 == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
-        const bool mirrored = k > h / 2;
-        const std::size_t j = mirrored ? h - k : k;
-        const std::complex<double> e(even_out.data[j][0], mirrored ? -even_out.data[j][1] : even_out.data[j][1]);
-        const std::complex<double> o(odd_out.data[j][0], mirrored ? -odd_out.data[j][1] : odd_out.data[j][1]);
-        spectrum.bins[k] = e + twiddle * o;
-        twiddle *= rotation;
-      }
-    });
-    return spectrum;
-  }
-  // Out of place with FFTW_ESTIMATE | FFTW_PRESERVE_INPUT: planning does not touch the arrays and
-  // the transform does not write its input, so the record is read in place (FFTW 3.3 manual §4.3.2).
-  auto* input = const_cast<double*>(waveform.samples.data());
-  const FftwPlan plan([&] {
-    return fftw_plan_dft_r2c_1d(static_cast<int>(n), input, output, FFTW_ESTIMATE | FFTW_PRESERVE_INPUT);
-  });
-  fftw_execute(plan.plan);
-  return spectrum;
+RecordSpectrum record_view(const SampledSpectrum& spectrum) {
+  return {spectrum, spectrum.bin_hz(), spectrum.duration_s(), 2.0 / static_cast<double>(spectrum.record_samples)};
 }
 
 // The bin range [first, last] within ±2·B6 of `tuned_hz` (clipped to the available bins).
@@ -432,13 +359,32 @@ std::size_t envelope_points(double period_s, double spacing_hz, double bandwidth
   return fast_fft_size(std::max({span_lines, by_rate, std::size_t{16}}));
 }
 
-void check_sample_rate(const Waveform& waveform, CisprBand band, double max_tuned_hz, double bandwidth_6db_hz) {
+void check_sample_rate(double sample_rate_hz, CisprBand band, double max_tuned_hz, double bandwidth_6db_hz) {
   const double needed_hz = 2.0 * (max_tuned_hz + span_bandwidths * bandwidth_6db_hz);
-  if (waveform.sample_rate_hz <= needed_hz) {
+  if (sample_rate_hz <= needed_hz) {
     throw Error("band " + to_string(band) + " cannot be computed from this record: tuning up to " +
                 format_quantity(max_tuned_hz, Dimension::frequency) + " needs a sample rate above " +
                 format_quantity(needed_hz, Dimension::frequency) + " (twice the tuned frequency plus the IF span), found " +
-                format_quantity(waveform.sample_rate_hz, Dimension::frequency));
+                format_quantity(sample_rate_hz, Dimension::frequency));
+  }
+}
+
+/// Error unless `spectrum` holds every bin that tuned frequencies from low_tuned_hz to
+/// high_tuned_hz read (their IF span, ±2·B6, without DC).
+void check_spectrum_covers(const SampledSpectrum& spectrum, double low_tuned_hz, double high_tuned_hz,
+                           double bandwidth_6db_hz) {
+  const double half_span = span_bandwidths * bandwidth_6db_hz;
+  const double bin_hz = spectrum.bin_hz();
+  const auto top = static_cast<long long>(spectrum.record_samples / 2);
+  const long long first = std::max(1LL, static_cast<long long>(std::ceil((low_tuned_hz - half_span) / bin_hz)));
+  const long long last = std::min(top, static_cast<long long>(std::floor((high_tuned_hz + half_span) / bin_hz)));
+  const auto held_first = std::max(1LL, static_cast<long long>(spectrum.first_bin));
+  const auto held_last = static_cast<long long>(spectrum.end_bin()) - 1;
+  if (first < held_first || last > held_last) {
+    throw Error("expected the record's spectrum from " + format_quantity(static_cast<double>(first) * bin_hz, Dimension::frequency) +
+                " to " + format_quantity(static_cast<double>(last) * bin_hz, Dimension::frequency) + ", found " +
+                format_quantity(static_cast<double>(held_first) * bin_hz, Dimension::frequency) + " to " +
+                format_quantity(static_cast<double>(held_last) * bin_hz, Dimension::frequency));
   }
 }
 
@@ -452,8 +398,9 @@ struct WaveformEnvelopeWork {
 void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, FftwBuffer& buffer,
                           std::vector<std::complex<double>>& phasors, std::vector<double>& envelope) {
   const RecordSpectrum& s = work.spectrum;
-  const auto [first, last] = span_indices(tuned_hz, work.bandwidth_6db_hz, s.bin_hz, 1,
-                                          static_cast<long long>(s.bins.size()) - 1);
+  const auto [first, last] = span_indices(tuned_hz, work.bandwidth_6db_hz, s.bin_hz,
+                                          std::max(1LL, static_cast<long long>(s.held.first_bin)),
+                                          static_cast<long long>(s.held.end_bin()) - 1);
   phasors.clear();
   // Gaussian gains on the bin grid by recurrence: with x_j = x_0 + j·Δ,
   // exp(−a·x_{j+1}²) = exp(−a·x_j²)·q_j, q_j = exp(−a·(2·x_j·Δ + Δ²)), q_{j+1} = q_j·exp(−2·a·Δ²).
@@ -464,7 +411,7 @@ void waveform_envelope_at(const WaveformEnvelopeWork& work, double tuned_hz, Fft
   double ratio = std::exp(-a * (2.0 * x0 * delta + delta * delta));
   const double ratio_step = std::exp(-2.0 * a * delta * delta);
   for (long long k = first; k <= last; ++k) {
-    phasors.push_back(s.bins[static_cast<std::size_t>(k)] * gain);
+    phasors.push_back(s.held.bins[static_cast<std::size_t>(k) - s.held.first_bin] * gain);
     gain *= ratio;
     ratio *= ratio_step;
   }
@@ -496,8 +443,11 @@ ScanResult empty_scan_result(Quantity quantity, const ScanPlan& plan) {
 }  // namespace
 
 Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double bandwidth_6db_hz) {
-  check_sample_rate(waveform, band_for_frequency(tuned_hz), tuned_hz, bandwidth_6db_hz);
-  const RecordSpectrum spectrum = record_spectrum(waveform, thread_count(0));
+  check_sample_rate(waveform.sample_rate_hz, band_for_frequency(tuned_hz), tuned_hz, bandwidth_6db_hz);
+  FftPlanner planner;
+  const SampledSpectrum held = sampled_spectrum(waveform, std::max(0.0, tuned_hz - span_bandwidths * bandwidth_6db_hz),
+                                                tuned_hz + span_bandwidths * bandwidth_6db_hz, planner);
+  const RecordSpectrum spectrum = record_view(held);
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, bandwidth_6db_hz);
   FftwBuffer buffer(m);
   const FftwPlan plan([&] { return fftw_plan_dft_1d(static_cast<int>(m), buffer.data, buffer.data, FFTW_BACKWARD, FFTW_ESTIMATE); });
@@ -509,37 +459,55 @@ Envelope waveform_envelope(const Waveform& waveform, double tuned_hz, double ban
   return envelope;
 }
 
-ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
+namespace {
+
+/// The tuned frequencies of `plan` that a record at `sample_rate_hz` covers, and the result they
+/// go into. A band scan of a record sampled too slowly for the whole band (a capture, typically)
+/// reads the tuned frequencies the record covers and says where it stopped; spot readings must all
+/// be covered. With `result`, also the notes and the checks of scan_waveform().
+std::vector<double> covered_frequencies(const ScanPlan& plan, double sample_rate_hz, ScanResult* result) {
   const BandParameters band = band_parameters(plan.band);
   std::vector<double> frequencies = plan_frequencies(plan);
-  ScanResult result = empty_scan_result(waveform.quantity, plan);
-  if (frequencies.empty()) return result;
-  // A band scan of a record sampled too slowly for the whole band (a capture, typically) reads the
-  // tuned frequencies the record covers and says where it stopped; spot readings must all be covered.
-  const double highest_covered_hz = 0.5 * waveform.sample_rate_hz - span_bandwidths * band.bandwidth_6db_hz;
+  if (frequencies.empty()) return frequencies;
+  const double highest_covered_hz = 0.5 * sample_rate_hz - span_bandwidths * band.bandwidth_6db_hz;
   if (plan.frequencies_hz.empty() && frequencies.back() >= highest_covered_hz && frequencies.front() < highest_covered_hz) {
     while (frequencies.back() >= highest_covered_hz) frequencies.pop_back();
-    result.read_up_to_hz = frequencies.back();
-    result.unread_reason = "the record's sample rate (" +
-                           format_quantity(waveform.sample_rate_hz, Dimension::frequency) +
-                           ") covers tuned frequencies up to " + format_quantity(frequencies.back(), Dimension::frequency) +
-                           " only (the tuned frequency plus the IF span must stay under half the sample rate)";
-    result.notes.push_back("tuned frequencies above " + format_quantity(frequencies.back(), Dimension::frequency) +
-                           " not read: the record's sample rate (" +
-                           format_quantity(waveform.sample_rate_hz, Dimension::frequency) + ") does not cover them");
+    if (result != nullptr) {
+      result->read_up_to_hz = frequencies.back();
+      result->unread_reason = "the record's sample rate (" + format_quantity(sample_rate_hz, Dimension::frequency) +
+                              ") covers tuned frequencies up to " + format_quantity(frequencies.back(), Dimension::frequency) +
+                              " only (the tuned frequency plus the IF span must stay under half the sample rate)";
+      result->notes.push_back("tuned frequencies above " + format_quantity(frequencies.back(), Dimension::frequency) +
+                              " not read: the record's sample rate (" +
+                              format_quantity(sample_rate_hz, Dimension::frequency) + ") does not cover them");
+    }
   }
-  check_sample_rate(waveform, plan.band, frequencies.back(), band.bandwidth_6db_hz);
+  return frequencies;
+}
+
+/// The checks of a sampled scan before any transform: the sample rate covers the tuned frequencies,
+/// the record resolves the IF bandwidth (or holds whole periods), at least 2 samples.
+void check_sampled_scan(const ScanPlan& plan, const std::vector<double>& frequencies, double sample_rate_hz,
+                        std::size_t samples) {
+  const BandParameters band = band_parameters(plan.band);
+  check_sample_rate(sample_rate_hz, plan.band, frequencies.back(), band.bandwidth_6db_hz);
   // A record shorter than the IF filter's 1/B6 cannot resolve the bandwidth, unless it holds whole
   // periods of a periodic signal (then every line sits on a bin and the reading is exact).
-  const double duration_s = waveform.duration_s();
+  const double duration_s = static_cast<double>(samples) / sample_rate_hz;
   if (!plan.periodic_record && duration_s < 1.0 / band.bandwidth_6db_hz) {
     throw Error("record of " + format_quantity(duration_s, Dimension::time) + " is shorter than 1/RBW = " +
                 format_quantity(1.0 / band.bandwidth_6db_hz, Dimension::time) + " of band " + to_string(plan.band) +
                 " (" + format_quantity(band.bandwidth_6db_hz, Dimension::frequency) +
                 "): record longer, or state the switching frequency to treat the record as whole periods");
   }
+  if (samples < 2) throw Error("expected a record of at least 2 samples, found " + std::to_string(samples));
+}
 
-  const RecordSpectrum spectrum = record_spectrum(waveform, thread_count(plan.threads));
+/// The readings of the checked tuned frequencies from the record's spectrum.
+ScanResult read_spectrum(const SampledSpectrum& held, const ScanPlan& plan, const std::vector<double>& frequencies,
+                         ScanResult result) {
+  const BandParameters band = band_parameters(plan.band);
+  const RecordSpectrum spectrum = record_view(held);
   const std::size_t m = envelope_points(spectrum.period_s, spectrum.bin_hz, band.bandwidth_6db_hz);
   const double envelope_interval_s = spectrum.period_s / static_cast<double>(m);
   const DetectorModel model = make_detector_model(band.detector);
@@ -576,6 +544,49 @@ ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
   require_finite_readings(result);
   if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
   return result;
+}
+
+}  // namespace
+
+std::pair<double, double> scan_span_hz(const ScanPlan& plan, double sample_rate_hz) {
+  const std::vector<double> frequencies = covered_frequencies(plan, sample_rate_hz, nullptr);
+  const double half_span = span_bandwidths * band_parameters(plan.band).bandwidth_6db_hz;
+  // None read, or the rate covers none (the scan then stops at check_sample_rate's error).
+  if (frequencies.empty() || 2.0 * (frequencies.back() + half_span) >= sample_rate_hz) return {0.0, 0.0};
+  return {std::max(0.0, frequencies.front() - half_span), frequencies.back() + half_span};
+}
+
+std::pair<double, double> scan_span_hz(const std::vector<ScanPlan>& plans, double sample_rate_hz) {
+  std::pair<double, double> span{0.0, 0.0};
+  for (const ScanPlan& plan : plans) {
+    const auto [low_hz, high_hz] = scan_span_hz(plan, sample_rate_hz);
+    if (high_hz <= 0.0) continue;
+    span.first = span.second > 0.0 ? std::min(span.first, low_hz) : low_hz;
+    span.second = std::max(span.second, high_hz);
+  }
+  return span;
+}
+
+ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan) {
+  ScanResult result = empty_scan_result(waveform.quantity, plan);
+  const std::vector<double> frequencies = covered_frequencies(plan, waveform.sample_rate_hz, &result);
+  if (frequencies.empty()) return result;
+  check_sampled_scan(plan, frequencies, waveform.sample_rate_hz, waveform.samples.size());
+  // Only the bins the tuned frequencies read are kept (scan_span_hz).
+  const auto [low_hz, high_hz] = scan_span_hz(plan, waveform.sample_rate_hz);
+  FftPlanner planner;
+  const SampledSpectrum spectrum =
+      sampled_spectrum(waveform, low_hz, high_hz, planner, static_cast<unsigned>(thread_count(plan.threads)));
+  return read_spectrum(spectrum, plan, frequencies, std::move(result));
+}
+
+ScanResult scan_spectrum(const SampledSpectrum& spectrum, const ScanPlan& plan) {
+  ScanResult result = empty_scan_result(spectrum.quantity, plan);
+  const std::vector<double> frequencies = covered_frequencies(plan, spectrum.sample_rate_hz, &result);
+  if (frequencies.empty()) return result;
+  check_sampled_scan(plan, frequencies, spectrum.sample_rate_hz, spectrum.record_samples);
+  check_spectrum_covers(spectrum, frequencies.front(), frequencies.back(), band_parameters(plan.band).bandwidth_6db_hz);
+  return read_spectrum(spectrum, plan, frequencies, std::move(result));
 }
 
 ScanResult scan_lines(const LineSpectrum& lines, const ScanPlan& plan) {

@@ -11,6 +11,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include "core/receiver/detector.hpp"
@@ -168,6 +169,22 @@ struct ScanResult {
 /// Error if the sample rate does not cover the band (tuned frequency + 2·B6 above Nyquist) or the
 /// record is empty. Uses plan.threads threads.
 [[nodiscard]] ScanResult scan_waveform(const Waveform& waveform, const ScanPlan& plan);
+
+/// The same reading from the record's spectrum (SampledSpectrum, core/source/waveform.hpp), which
+/// needs to hold only the bins scan_span_hz() names: a stage that filters the record in the
+/// frequency domain (the conducted path to the LISN port) hands its product over without a return
+/// to the time domain. The readings equal scan_waveform()'s on the record whose spectrum it is.
+/// Errors as scan_waveform(), and `expected the record's spectrum from 132 kHz to 30.02 MHz, found
+/// ...` when the spectrum lacks bins the scan reads.
+[[nodiscard]] ScanResult scan_spectrum(const SampledSpectrum& spectrum, const ScanPlan& plan);
+
+/// [Hz] The lowest and highest frequency whose spectrum bins a sampled scan of `plan` reads on a
+/// record sampled at `sample_rate_hz`: its tuned frequencies (those the rate covers) ∓ the IF span
+/// (2·B6), the lower one at least 0; {0, 0} when it reads none or the rate covers none of them.
+[[nodiscard]] std::pair<double, double> scan_span_hz(const ScanPlan& plan, double sample_rate_hz);
+/// [Hz] The same over several plans (the span holding each plan's): what one spectrum read by
+/// every band of a scan must hold; {0, 0} when none reads anything.
+[[nodiscard]] std::pair<double, double> scan_span_hz(const std::vector<ScanPlan>& plans, double sample_rate_hz);
 
 /// Exact receiver for a periodic line spectrum: the IF output at each tuned frequency is the sum of
 /// the lines within ±2·B6 weighted by the Gaussian response; its envelope is periodic with 1/f0.

@@ -901,13 +901,16 @@ Capture load_capture(const CaptureSpec& spec, const CaptureLoadOptions& options)
 }
 
 void check_capture_covers_period(const Capture& capture, double fundamental_hz) {
+  check_capture_covers_period(capture.file, capture.waveform.duration_s(), fundamental_hz);
+}
+
+void check_capture_covers_period(const std::string& file, double duration_s, double fundamental_hz) {
   if (!(fundamental_hz > 0.0) || !std::isfinite(fundamental_hz)) {
     throw Error("expected a positive fundamental frequency, found " + format_number(fundamental_hz));
   }
   const double period_s = 1.0 / fundamental_hz;
-  const double duration_s = capture.waveform.duration_s();
   if (duration_s < period_s * (1.0 - 1e-9)) {
-    throw Error("capture '" + capture.file + "' covers " + format_quantity(duration_s, Dimension::time) +
+    throw Error("capture '" + file + "' covers " + format_quantity(duration_s, Dimension::time) +
                 ", fewer than one period of the fundamental (" + format_quantity(fundamental_hz, Dimension::frequency) +
                 ", " + format_quantity(period_s, Dimension::time) + ")");
   }

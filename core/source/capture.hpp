@@ -121,5 +121,8 @@ struct CaptureLoadOptions {
 /// Checks a record is usable for a spectrum at `fundamental_hz`: at least one full period.
 /// Throws "capture 'x.csv' covers 4 µs, fewer than one period of the fundamental (100 kHz, 10 µs)".
 void check_capture_covers_period(const Capture& capture, double fundamental_hz);
+/// The same from the record's file name (as named in messages) and duration [s], for a caller that
+/// has already freed the samples.
+void check_capture_covers_period(const std::string& file, double duration_s, double fundamental_hz);
 
 }  // namespace spurcast

@@ -395,6 +395,66 @@ AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlan
   return spectrum_of(waveform, &waveform.samples, window, planner, threads);
 }
 
+SampledSpectrum sampled_spectrum(const Waveform& waveform, double low_hz, double high_hz, FftPlanner& planner,
+                                 unsigned threads) {
+  check_record(waveform);
+  if (!(low_hz >= 0.0 && low_hz <= high_hz)) throw Error("expected 0 <= low <= high frequency for a record's spectrum");
+  const std::size_t n = waveform.samples.size();
+  threads = threads != 0 ? threads : std::max(1u, std::thread::hardware_concurrency());
+  SampledSpectrum spectrum;
+  spectrum.quantity = waveform.quantity;
+  spectrum.sample_rate_hz = waveform.sample_rate_hz;
+  spectrum.record_samples = n;
+  const double bin_hz = spectrum.bin_hz();
+  const std::size_t last_bin = n / 2;
+  const auto bin_at = [&](double f, bool up) {
+    const double k = up ? std::ceil(f / bin_hz) : std::floor(f / bin_hz);
+    return k >= static_cast<double>(last_bin) ? last_bin : static_cast<std::size_t>(k);
+  };
+  spectrum.first_bin = bin_at(low_hz, false);
+  const std::size_t end_bin = bin_at(high_hz, true) + 1;
+  spectrum.bins.resize(end_bin - spectrum.first_bin);
+  if (n % 2 != 0 || n < split_min_length) {
+    FftPlanner::Buffers buffers(n);
+    std::copy(waveform.samples.begin(), waveform.samples.end(), buffers.input());
+    planner.forward(buffers);
+    std::copy(buffers.output() + spectrum.first_bin, buffers.output() + end_bin, spectrum.bins.begin());
+    return spectrum;
+  }
+  // The radix-2 step of spectrum_of() above, unwindowed: X[k] = E[k] + exp(−j2πk/N)·O[k].
+  const std::size_t h = n / 2;
+  FftPlanner::Buffers even(h);
+  FftPlanner::Buffers odd(h);
+  const double* x = waveform.samples.data();
+  two_parts(threads, [&](int part) {
+    double* half = part == 0 ? even.input() : odd.input();
+    for (std::size_t i = 0; i < h; ++i) half[i] = x[2 * i + static_cast<std::size_t>(part)];
+    planner.forward(part == 0 ? even : odd);
+  });
+  const std::complex<double>* e = even.output();
+  const std::complex<double>* o = odd.output();
+  const double angle_step = -2.0 * pi / static_cast<double>(n);
+  const std::size_t count = spectrum.bins.size();
+  const std::size_t middle = spectrum.first_bin + count / 2;
+  two_parts(threads, [&](int part) {
+    const std::size_t begin = part == 0 ? spectrum.first_bin : middle;
+    const std::size_t end = part == 0 ? middle : end_bin;
+    const std::complex<double> rotation = std::polar(1.0, angle_step);
+    std::complex<double> twiddle = std::polar(1.0, angle_step * static_cast<double>(begin));
+    for (std::size_t k = begin; k < end; ++k) {
+      // exp(−j2πk/N) by recurrence, exact at every multiple of 1024 (rounding stays < 1e-13).
+      if (k % window_block == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
+      const bool mirrored = k > h / 2;
+      const std::size_t j = mirrored ? h - k : k;
+      const std::complex<double> ek = mirrored ? std::conj(e[j]) : e[j];
+      const std::complex<double> ok = mirrored ? std::conj(o[j]) : o[j];
+      spectrum.bins[k - spectrum.first_bin] = ek + twiddle * ok;
+      twiddle *= rotation;
+    }
+  });
+  return spectrum;
+}
+
 double total_power(const AmplitudeSpectrum& spectrum) {
   double sum = 0.0;
   for (const double a : spectrum.rms) sum += a * a;

@@ -137,6 +137,16 @@ struct AmplitudeSpectrum {
 [[nodiscard]] AmplitudeSpectrum amplitude_spectrum(Waveform&& waveform, Window window, FftPlanner& planner,
                                                    unsigned threads = 0);
 
+/// The unwindowed one-sided DFT of a record (rectangular window, no scaling: SampledSpectrum),
+/// keeping only the bins from k = floor(low_hz/Δf) to k = ceil(high_hz/Δf), Δf = sample_rate_hz/N,
+/// clipped to 0..N/2: a receiver that reads a band needs no more, and a 10^8-sample record's
+/// 5·10^7 complex bins (0.8 GB) shrink to those of the band (band B of a 1 GS/s record: 3·10^6).
+/// Records of even length from 2^16 samples are transformed as two halves (one radix-2 step, as
+/// amplitude_spectrum) on up to two threads (`threads`, 0 = all cores); the bins do not depend on
+/// the thread count. Needs at least 2 samples and 0 <= low_hz <= high_hz.
+[[nodiscard]] SampledSpectrum sampled_spectrum(const Waveform& waveform, double low_hz, double high_hz, FftPlanner& planner,
+                                               unsigned threads = 0);
+
 /// Mean-square value from the spectrum, Σ rms[k]² / ENBW: equals mean(x²) exactly for the
 /// rectangular window (Parseval) and mean((w·x)²)/mean(w²) for the others [V²] or [A²].
 [[nodiscard]] double total_power(const AmplitudeSpectrum& spectrum);

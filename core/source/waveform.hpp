@@ -1,6 +1,7 @@
 #pragma once
-/// The two signal value types that flow between stages: a uniformly sampled record (Waveform) and
-/// the exact harmonic content of a periodic signal (LineSpectrum).
+/// The signal value types that flow between stages: a uniformly sampled record (Waveform), part of
+/// its discrete Fourier transform (SampledSpectrum), and the exact harmonic content of a periodic
+/// signal (LineSpectrum).
 #include <complex>
 #include <cstddef>
 #include <string>
@@ -30,6 +31,28 @@ struct Waveform {
 
   [[nodiscard]] double duration_s() const {
     return sample_rate_hz > 0.0 ? static_cast<double>(samples.size()) / sample_rate_hz : 0.0;
+  }
+};
+
+/// A run of bins of the one-sided DFT of a uniformly sampled real record of N = record_samples
+/// samples: bins[i] = X[first_bin + i] with X[k] = Σ_n x[n]·exp(−j·2π·k·n/N) (unnormalised, as
+/// FFTW computes it), at k·sample_rate_hz/N. A record taken as one period of a periodic signal is
+/// described by X[0..N/2] exactly; a run of them is what a stage reading only some frequencies
+/// needs (the receiver reads a band's tuned frequencies ± its IF span), at a fraction of the
+/// record's memory.
+struct SampledSpectrum {
+  Quantity quantity = Quantity::voltage;
+  double sample_rate_hz = 0.0;                 ///< [Hz] of the record, > 0
+  std::size_t record_samples = 0;              ///< N
+  std::size_t first_bin = 0;                   ///< k of bins[0]
+  std::vector<std::complex<double>> bins;      ///< X[first_bin ..] [V] or [A] × samples
+
+  [[nodiscard]] double bin_hz() const { return record_samples > 0 ? sample_rate_hz / static_cast<double>(record_samples) : 0.0; }
+  /// One past the last bin held.
+  [[nodiscard]] std::size_t end_bin() const { return first_bin + bins.size(); }
+  /// [s] N / sample_rate_hz, the period the record stands for.
+  [[nodiscard]] double duration_s() const {
+    return sample_rate_hz > 0.0 ? static_cast<double>(record_samples) / sample_rate_hz : 0.0;
   }
 };
 
