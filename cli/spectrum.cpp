@@ -7,6 +7,7 @@
 #include <string>
 
 #include "cli/commands.hpp"
+#include "cli/terminal.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/chain/spectrum_at.hpp"
 #include "core/input/error.hpp"
@@ -65,7 +66,11 @@ int run_spectrum(const Options& options) {
   settings.threads = options.threads;
   settings.resample = options.resample;
   SpectrumResult result;
+  // A long capture takes seconds to read and transform (about 10 s for 10^8 samples): a progress
+  // line on stderr when it is a terminal (cli/terminal.hpp), cleared before the result is printed.
+  Progress progress;
   if (!options.capture_file.empty()) {
+    progress.show("reading " + options.capture_file + " and taking its spectrum");
     const std::string at = capture_point(options.at);
     CaptureSpec spec;
     spec.file = options.capture_file;
@@ -77,8 +82,10 @@ int run_spectrum(const Options& options) {
     result = capture_spectrum(spec, at, settings);
   } else {
     const std::string at = scenario_point(options.at);
+    progress.show("computing the spectrum of " + options.scenario_file);
     result = scenario_spectrum(load_scenario(options.scenario_file, locate_shipped_data()), at, settings);
   }
+  progress.clear();
   if (!options.csv_file.empty()) write_file_atomically(options.csv_file, spectrum_csv(result));
   std::cout << (options.json ? spectrum_json(result) : spectrum_text(result, options.top));
   return exit_ok;

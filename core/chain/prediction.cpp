@@ -66,11 +66,11 @@ ScanResult scan_modulated_line_spectrum(const ModulatedLines& lines, const ScanP
   return grid;
 }
 
-/// The harmonic lines of a capture (Hann window, f0 given or estimated). With `consume`, the
+/// The harmonic lines of a capture (Hann window, f0 given or estimated; the planner's plans shared
+/// with the caller's other transforms of the record). With `consume`, the
 /// capture's samples are freed as soon as the transform holds them (its other fields stay): a long
 /// record is then resident once, not twice, while it is transformed.
-LineSpectrum lines_from_capture(Capture& capture, std::vector<std::string>& notes, bool consume = false) {
-  FftPlanner planner;
+LineSpectrum lines_from_capture(Capture& capture, std::vector<std::string>& notes, FftPlanner& planner, bool consume = false) {
   const double duration_s = capture.waveform.duration_s();
   const double sample_rate_hz = capture.waveform.sample_rate_hz;
   const Quantity quantity = capture.waveform.quantity;
@@ -450,13 +450,13 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     auto scanned_bins = [&](const Waveform& w) { return sampled_spectrum(w, low_hz, high_hz, planner); };
     if (scenario.capture->current_column) {
       // Both paths from one record (capture.hpp): the lines carry their phases.
-      const LineSpectrum lines = lines_from_capture(capture, p.notes);
+      const LineSpectrum lines = lines_from_capture(capture, p.notes, planner);
       CaptureSpec spec = current_capture_spec(*scenario.capture);
       if (!spec.switching_frequency_hz) spec.switching_frequency_hz = lines.fundamental_hz;  // the voltage's f0
       Capture current = load_capture(spec);
       std::vector<std::string> ignored;
       p.switch_node_v = lines;
-      p.input_current_a = lines_from_capture(current, ignored);
+      p.input_current_a = lines_from_capture(current, ignored, planner);
       phase_lines(capture.waveform, p.switch_node_v);
       phase_lines(current.waveform, p.input_current_a);
       if (scans) {
@@ -468,7 +468,7 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
     } else {
       const bool voltage = capture.waveform.quantity == Quantity::voltage;
       if (scans) (voltage ? captured_v : captured_i) = scanned_bins(capture.waveform);
-      const LineSpectrum lines = lines_from_capture(capture, p.notes, true);  // frees the samples
+      const LineSpectrum lines = lines_from_capture(capture, p.notes, planner, true);  // frees the samples
       (voltage ? p.switch_node_v : p.input_current_a) = lines;
       LineSpectrum& other = voltage ? p.input_current_a : p.switch_node_v;
       other.quantity = voltage ? Quantity::current : Quantity::voltage;

@@ -101,3 +101,27 @@ TEST_CASE("a short request is solved directly") {
   (void)transfer_on_grid(model, {1e5, 2e5, 3e5}, transfer_grid_tolerance, &stats);
   CHECK(stats.solved == 3);
 }
+
+TEST_CASE("the wanted functions only: the same values as all eight, the others left empty") {
+  // Band B's bins of the record (what a receiver reads) and a short request solved directly.
+  const ConductedModel model = resonant_model();
+  std::vector<double> band_bins;
+  for (const double f : record_bins()) {
+    if (f >= 132e3 && f <= 30.018e6) band_bins.push_back(f);
+  }
+  std::vector<double> short_request{1e5, 2e5, 3e5};
+  for (std::vector<double>* request : {&band_bins, &short_request}) {
+    CAPTURE(request->size());
+    const TransferFunctions all = transfer_on_grid(model, *request);
+    const TransferFunctions two =
+        transfer_on_grid(model, *request, {&TransferFunctions::port2_per_switch_node, &TransferFunctions::port2_per_input_current_ohm});
+    // The same grid interpolated the same way: equal bit for bit.
+    CHECK(two.port2_per_switch_node == all.port2_per_switch_node);
+    CHECK(two.port2_per_input_current_ohm == all.port2_per_input_current_ohm);
+    CHECK(two.port2_per_switch_node.size() == request->size());
+    CHECK(two.port1_per_switch_node.empty());
+    CHECK(two.port1_per_input_current_ohm.empty());
+    CHECK(two.line1_current_per_input_current.empty());
+    CHECK(two.line2_current_per_switch_node_s.empty());
+  }
+}

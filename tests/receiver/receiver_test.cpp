@@ -25,6 +25,7 @@
 #include "core/input/error.hpp"
 #include "core/source/fftw_lock.hpp"
 #include "core/receiver/receiver.hpp"
+#include "core/source/spectrum.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/input/units.hpp"
 
@@ -357,6 +358,42 @@ TEST_CASE("a band scan of a slowly sampled record stops where the sample rate en
   CHECK(result.readings.back().frequency_hz < 20e6 - 18e3);
   CHECK(result.readings.back().frequency_hz > 20e6 - 18e3 - 4.5e3);
   CHECK(result.notes.front() == "tuned frequencies above 19.98 MHz not read: the record's sample rate (40 MHz) does not cover them");
+}
+
+TEST_CASE("scan_spectrum: a band's bins read as the whole record, a sine its RMS; a spectrum lacking bins is refused") {
+  // Sines of 1 mV and 0.3 mV RMS at 1 MHz and 2.5 MHz, on the bin grid of 2 ms at 20 MS/s. Each
+  // reads its RMS value on every detector (CW calibration, common practice), from the bins the
+  // scan reads (scan_span_hz: the tuned frequencies ∓ 2·B6) as from the whole spectrum.
+  const double cw_tol_db = 0.01;         // the other sine is 1.5 MHz away: below 1e-6 of the reading
+  const double same_bins_tol_db = 1e-9;  // the same bins, up to the rounding of the twiddle recurrence
+  const Waveform w = cosines(20e6, 40000, {1e6, 2.5e6}, {1e-3, 0.3e-3});
+  ScanPlan plan;
+  plan.band = CisprBand::B;
+  plan.frequencies_hz = {2.5e6, 1e6, 1.7e6};
+  const auto [low_hz, high_hz] = scan_span_hz(plan, w.sample_rate_hz);
+  CHECK(low_hz == doctest::Approx(1e6 - 18e3).epsilon(1e-12));
+  CHECK(high_hz == doctest::Approx(2.5e6 + 18e3).epsilon(1e-12));
+  FftPlanner planner("");
+  const SampledSpectrum part = sampled_spectrum(w, low_hz, high_hz, planner);
+  const SampledSpectrum whole = sampled_spectrum(w, 0.0, w.sample_rate_hz, planner);
+  REQUIRE(part.bins.size() < whole.bins.size() / 5);
+  const ScanResult from_part = scan_spectrum(part, plan);
+  const ScanResult from_whole = scan_spectrum(whole, plan);
+  const ScanResult from_record = scan_waveform(w, plan);
+  REQUIRE(from_part.readings.size() == 3);
+  for (std::size_t k = 0; k < 3; ++k) {
+    for (const Detector d : {Detector::peak, Detector::quasi_peak, Detector::average}) {
+      CHECK(std::abs(from_part.readings[k].level_db(d) - from_whole.readings[k].level_db(d)) < same_bins_tol_db);
+      CHECK(std::abs(from_part.readings[k].level_db(d) - from_record.readings[k].level_db(d)) < same_bins_tol_db);
+      CHECK(std::abs(from_part.readings[0].level_db(d) - volts_to_dbuv(1e-3)) < cw_tol_db);
+      CHECK(std::abs(from_part.readings[2].level_db(d) - volts_to_dbuv(0.3e-3)) < cw_tol_db);
+    }
+  }
+  CHECK(from_part.notes == from_record.notes);
+  // A spectrum that starts above the bins of the lowest tuned frequency (1 MHz − 18 kHz = bin 1964 of 500 Hz).
+  const SampledSpectrum short_part = sampled_spectrum(w, 1.5e6, high_hz, planner);
+  CHECK_THROWS_WITH_AS((void)scan_spectrum(short_part, plan),
+                       "expected the record's spectrum from 982 kHz to 2.518 MHz, found 1.5 MHz to 2.518 MHz", Error);
 }
 
 TEST_CASE("errors of the sampled receiver") {

@@ -230,6 +230,23 @@ TEST_CASE("single-sided RMS spectrum equals numpy.fft.rfft scaled by sqrt(2)/N (
   }
   CHECK(worst_bin < tol);
   CHECK(worst_rms < tol);
+  // sampled_spectrum: the bins from floor(low/Δf) to ceil(high/Δf) of the same transform, on one
+  // thread and on two alike.
+  const double bin_hz = w.sample_rate_hz / static_cast<double>(n);
+  for (const unsigned threads : {1u, 2u}) {
+    const SampledSpectrum part = sampled_spectrum(w, 123.4e3, 456.7e3, planner, threads);
+    CHECK(part.first_bin == static_cast<std::size_t>(std::floor(123.4e3 / bin_hz)));
+    CHECK(part.end_bin() == static_cast<std::size_t>(std::ceil(456.7e3 / bin_hz)) + 1);
+    CHECK(part.record_samples == n);
+    double worst_part = 0.0;
+    for (std::size_t i = 0; i < part.bins.size(); ++i) {
+      worst_part = std::max(worst_part, std::abs(part.bins[i] - reference[part.first_bin + i]));
+    }
+    CHECK(worst_part < tol);
+  }
+  const SampledSpectrum whole = sampled_spectrum(w, 0.0, w.sample_rate_hz, planner);  // clipped to N/2
+  CHECK(whole.first_bin == 0);
+  CHECK(whole.bins.size() == n / 2 + 1);
   std::filesystem::remove_all(dir);
   }
 }
