@@ -163,7 +163,8 @@ struct ScanResult {
 [[nodiscard]] std::vector<double> plan_frequencies(const ScanPlan& plan);
 
 /// FFT receiver on a sampled record. The record is taken as one period of a periodic signal (the
-/// detectors are run to their periodic steady state; a note says so). One FFT of the whole record;
+/// detectors are run to their periodic steady state; a note says so). One FFT of the whole record
+/// (sampled_spectrum, keeping the bins scan_span_hz names) and scan_spectrum() on it:
 /// for each tuned frequency the bins within ±2·B6 are weighted by the Gaussian IF response and
 /// inverse-transformed into a decimated complex envelope, on which the detectors run.
 /// Error if the sample rate does not cover the band (tuned frequency + 2·B6 above Nyquist) or the

@@ -9,7 +9,8 @@
 //    port reads 50 Ω × its line current (docs/references.md §2.3 [D]);
 //  - the 6 dB between one network per line and a single network with the return bonded at the EUT
 //    (docs/references.md §2.3 [D]; common practice).
-// The FFT waveform path is checked against the harmonic path (its slow twin).
+// The FFT waveform path and the spectrum-bin path (lisn_port_spectrum, against a DFT by its
+// definition) are checked against the harmonic path (their slow twin).
 #include <doctest/doctest.h>
 
 #include <cmath>
@@ -288,6 +289,69 @@ TEST_CASE("lisn_port_waveform (FFT, periodic record) against the harmonic path")
       CHECK(worst <= (periods == 1 ? 1e-9 : transfer_grid_tolerance) * scale);
     }
   }
+}
+
+TEST_CASE("lisn_port_spectrum on a run of bins against the harmonic path") {
+  // One period of 12 harmonics at 256 samples, its DFT by the definition X[k] = Σ x[n]·e^(−j2πkn/N)
+  // over bins 3..20: harmonic h sits on bin h with X[h] = N·c_h/√2 (c_h the RMS phasor), so the
+  // port's bins are N/√2 times conduct()'s lines (the harmonic path, checked above against the
+  // closed-form dividers); bins 13..20 hold nothing. 19 bins are solved directly: within rounding.
+  const double bins_rel_tol = 1e-9;
+  const ConductedModel model(example_coupling(), {}, LisnSpec{});
+  const double f0 = 200e3;
+  const std::size_t n = 256;
+  LineSpectrum v, i;
+  v.quantity = Quantity::voltage;
+  i.quantity = Quantity::current;
+  v.fundamental_hz = i.fundamental_hz = f0;
+  for (int k = 1; k <= 12; ++k) {
+    v.harmonics.push_back(std::polar(10.0 / k, 0.3 * k));
+    i.harmonics.push_back(std::polar(1.0 / k, -0.2 * k));
+  }
+  const ConductedResult r = conduct(v, i, model);
+  auto spectrum_of = [&](const LineSpectrum& lines, std::size_t first, std::size_t last) {
+    std::vector<double> x(n, 0.0);
+    for (std::size_t s = 0; s < n; ++s) {
+      for (std::size_t k = 0; k < lines.harmonics.size(); ++k) {
+        x[s] += std::sqrt(2.0) * (lines.harmonics[k] * std::exp(j * 2.0 * pi * static_cast<double>((k + 1) * s) / static_cast<double>(n))).real();
+      }
+    }
+    SampledSpectrum out;
+    out.quantity = lines.quantity;
+    out.sample_rate_hz = static_cast<double>(n) * f0;
+    out.record_samples = n;
+    out.first_bin = first;
+    for (std::size_t k = first; k <= last; ++k) {
+      cd sum(0.0, 0.0);
+      for (std::size_t s = 0; s < n; ++s) sum += x[s] * std::exp(-j * 2.0 * pi * static_cast<double>(k * s) / static_cast<double>(n));
+      out.bins.push_back(sum);
+    }
+    return out;
+  };
+  const SampledSpectrum sv = spectrum_of(v, 3, 20);
+  const SampledSpectrum si = spectrum_of(i, 3, 20);
+  for (const int line : {1, 2}) {
+    CAPTURE(line);
+    const SampledSpectrum port = lisn_port_spectrum(sv, si, model, line);
+    CHECK(port.quantity == Quantity::voltage);
+    CHECK(port.first_bin == 3);
+    REQUIRE(port.bins.size() == 18);
+    const auto& expected = line == 1 ? r.line1_v : r.line2_v;
+    const double scale = static_cast<double>(n) / std::sqrt(2.0) * std::abs(expected[2]);
+    for (std::size_t k = 3; k <= 20; ++k) {
+      CAPTURE(k);
+      const cd want = k <= 12 ? static_cast<double>(n) / std::sqrt(2.0) * expected[k - 1] : cd(0.0, 0.0);
+      CHECK(std::abs(port.bins[k - 3] - want) <= bins_rel_tol * scale);
+    }
+  }
+  // Inputs are checked.
+  SampledSpectrum shifted = si;
+  shifted.first_bin = 4;
+  CHECK_THROWS_WITH_AS((void)lisn_port_spectrum(sv, shifted, model, 1),
+                       "the switch-node and input-current spectra differ in bins, record length or sample rate", Error);
+  CHECK_THROWS_WITH_AS((void)lisn_port_spectrum(si, SampledSpectrum{}, model, 1),
+                       "expected a switch-node voltage spectrum, found a current", Error);
+  CHECK_THROWS_WITH_AS((void)lisn_port_spectrum(sv, si, model, 3), "expected line 1 or 2, found 3", Error);
 }
 
 TEST_CASE("conduct: inputs are checked") {

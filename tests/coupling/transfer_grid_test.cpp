@@ -3,7 +3,7 @@
 // dividers in conducted_test.cpp), for a network with a high-Q resonance: a 10 mH common-mode choke
 // with 40 pF from the switch node to earth, which resonates near 252 kHz with Q ≈ 630 (the case
 // of issue 16), plus an LC stage with parasitics. Also the resonance itself against its closed
-// form 1/(2π√(L·C)).
+// form 1/(2π√(L·C)), and the port-only interpolation against the eight-function one.
 #include <doctest/doctest.h>
 
 #include <cmath>
