@@ -11,6 +11,7 @@
 #include <cstdio>
 #include <functional>
 #include <string>
+#include <vector>
 
 namespace spurcast::bench {
 
@@ -69,21 +70,37 @@ inline double best_wall_ms(int runs, const std::function<void()>& run) {
   return best;
 }
 
-/// Runs a Python script with Debian's /usr/bin/python3 and reads the one number it prints (a
-/// yardstick's seconds); 0 when Python or the module it imports is missing.
+/// Runs `script_file` (a path without a single quote) with Debian's /usr/bin/python3 and
+/// `arguments` (already quoted for the shell) and reads the numbers it prints on its standard
+/// output, at most `count`: fewer (none) when Python or a module it imports is missing or the
+/// script fails. Its standard error is shown when `show_errors`, else discarded.
+inline std::vector<double> python_file_numbers(const std::string& script_file,
+                                               const std::string& arguments, std::size_t count,
+                                               bool show_errors) {
+  std::vector<double> numbers;
+  const std::string command = "/usr/bin/python3 '" + script_file + "'" +
+                              (arguments.empty() ? "" : " " + arguments) +
+                              (show_errors ? "" : " 2>/dev/null");
+  if (std::FILE* pipe = ::popen(command.c_str(), "r")) {
+    double value = 0.0;
+    while (numbers.size() < count && std::fscanf(pipe, "%lf", &value) == 1)
+      numbers.push_back(value);
+    if (::pclose(pipe) != 0) numbers.clear();
+  }
+  return numbers;
+}
+
+/// Runs a Python script (its text) with Debian's /usr/bin/python3 and reads the one number it
+/// prints (a yardstick's seconds); 0 when Python or the module it imports is missing.
 inline double python_number(const std::string& script) {
   const std::string file = "/tmp/spurcast_bench_" + std::to_string(::getpid()) + ".py";
   if (std::FILE* f = std::fopen(file.c_str(), "w")) {
     std::fputs(script.c_str(), f);
     std::fclose(f);
   }
-  double value = 0.0;
-  if (std::FILE* pipe = ::popen(("/usr/bin/python3 " + file + " 2>/dev/null").c_str(), "r")) {
-    if (std::fscanf(pipe, "%lf", &value) != 1) value = 0.0;
-    ::pclose(pipe);
-  }
+  const std::vector<double> numbers = python_file_numbers(file, "", 1, false);
   std::remove(file.c_str());
-  return value;
+  return numbers.empty() ? 0.0 : numbers.front();
 }
 
 /// The yardstick of the speed goals: numpy.fft.rfft of 2^22 random doubles, best of 5 [s].
