@@ -352,7 +352,11 @@ TEST_CASE("a capture's band scans from its spectrum bins read as the LISN-port r
     const Scenario scenario = scenario_from_text(text, (dir / "c.toml").string(), dir.string(), locate_shipped_data());
     // The twin: the records through the time domain.
     const Capture cv = load_capture(*scenario.capture);
-    const Waveform ci = two_channels ? load_capture(current_capture_spec(*scenario.capture)).waveform : Waveform{Quantity::current};
+    const Waveform ci = two_channels ? load_capture(current_capture_spec(*scenario.capture)).waveform : [] {
+      Waveform none;
+      none.quantity = Quantity::current;
+      return none;
+    }();
     const ConductedModel model(scenario.coupling, scenario.filters, scenario.lisn, scenario.converter);
     ScanPlan plan;
     plan.band = CisprBand::B;

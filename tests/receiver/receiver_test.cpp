@@ -535,7 +535,9 @@ TEST_CASE("the receiver's noise floor: default k·T0·B + noise figure, no readi
   LineSpectrum lines;
   lines.fundamental_hz = 1e6;
   lines.harmonics = {{dbuv_to_volts(40.0), 0.0}};
-  ScanPlan plan{.band = CisprBand::B, .frequencies_hz = {1e6, 1.5e6}};
+  ScanPlan plan;
+  plan.band = CisprBand::B;
+  plan.frequencies_hz = {1e6, 1.5e6};
   const ScanResult bare = scan_lines(lines, plan);
   CHECK(bare.readings[1].average_db <= level_floor_db);
   plan.noise_floor_db = -8.7;
