@@ -193,7 +193,16 @@ struct LegendItem {
   std::string colour;
   std::string dash;
   bool block = false;  // a filled swatch instead of a line
+  std::vector<std::string> detectors;  // PlotTrace::detectors of the trace it names
 };
+
+/// ` data-detectors="peak quasi-peak"`, or "" for a trace of no detector.
+std::string detectors_attribute(const std::vector<std::string>& detectors) {
+  if (detectors.empty()) return "";
+  std::string joined;
+  for (const std::string& d : detectors) joined += (joined.empty() ? "" : " ") + d;
+  return " data-detectors=\"" + xml_escape(joined) + "\"";
+}
 
 /// Lays the legend out in rows under the title, from `left` to `right`; returns the rows used.
 int place_legend(TextPlacer& placer, std::string& svg, const std::vector<LegendItem>& items, double left,
@@ -209,6 +218,7 @@ int place_legend(TextPlacer& placer, std::string& svg, const std::vector<LegendI
     }
     const double baseline = first_baseline + row * 17.0;
     const double mid = baseline - 4.0;
+    if (!item.detectors.empty()) svg += "<g class=\"legend-item\"" + detectors_attribute(item.detectors) + ">\n";
     if (item.block) {
       svg += "<rect x=\"" + number(x) + "\" y=\"" + number(mid - 5) + "\" width=\"20\" height=\"10\" fill=\"" +
              item.colour + "\" stroke=\"" + soft_ink_colour + "\" stroke-width=\"0.5\"/>\n";
@@ -219,6 +229,7 @@ int place_legend(TextPlacer& placer, std::string& svg, const std::vector<LegendI
     }
     placer.place(item.label, x + 26.0, baseline, legend_font_px, TextAnchor::start,
                  "fill=\"" + std::string(ink_colour) + "\"");
+    if (!item.detectors.empty()) svg += "</g>\n";
     x += item_width;
   }
   return items.empty() ? 0 : row + 1;
@@ -371,10 +382,10 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
 
   std::vector<LegendItem> legend;
   for (const PlotTrace& trace : plot.traces) {
-    if (!trace.label.empty()) legend.push_back({trace.label, trace.colour, trace.dash, false});
+    if (!trace.label.empty()) legend.push_back({trace.label, trace.colour, trace.dash, false, trace.detectors});
   }
-  if (!plot.spans.empty()) legend.push_back({"broadcast band", plot.spans.front().fill, "", true});
-  if (!plot.markers.empty()) legend.push_back({plot.marker_legend, plot.markers.front().colour, "", true});
+  if (!plot.spans.empty()) legend.push_back({"broadcast band", plot.spans.front().fill, "", true, {}});
+  if (!plot.markers.empty()) legend.push_back({plot.marker_legend, plot.markers.front().colour, "", true, {}});
 
   layout.plot_left = 62.0;
   layout.plot_right = plot.width_px - 22.0;
@@ -482,7 +493,8 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
       d = polyline_path(runs);
     }
     svg += "<path d=\"" + d + "\" stroke=\"" + trace.colour + "\" stroke-width=\"" + number(trace.width_px) + "\"" +
-           (trace.dash.empty() ? "" : " stroke-dasharray=\"" + trace.dash + "\"") + "/>\n";
+           (trace.dash.empty() ? "" : " stroke-dasharray=\"" + trace.dash + "\"") +
+           detectors_attribute(trace.detectors) + "/>\n";
   }
   svg += "</g>\n";
   svg += "<rect x=\"" + number(layout.plot_left) + "\" y=\"" + number(layout.plot_top) + "\" width=\"" +
@@ -626,12 +638,12 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
   for (const SweepBandRow& row : plot.bands) longest_name = std::max(longest_name, code_points(row.name));
   layout.plot_left = std::max(62.0, 14.0 + static_cast<double>(longest_name) * span_font_px * character_width_em);
   layout.plot_right = plot.width_px - 22.0;
-  const std::vector<LegendItem> legend{{"worst margin", ink_colour, "", false},
-                                       {"guard band", "#a8321f", "5 4", false},
-                                       {"clears every band and limit", "#9fd3ae", "", true},
-                                       {"clear", verdict_fill("clear"), "", true},
-                                       {"watch", verdict_fill("watch"), "", true},
-                                       {"noisy", verdict_fill("noisy"), "", true}};
+  const std::vector<LegendItem> legend{{"worst margin", ink_colour, "", false, {}},
+                                       {"guard band", "#a8321f", "5 4", false, {}},
+                                       {"clears every band and limit", "#9fd3ae", "", true, {}},
+                                       {"clear", verdict_fill("clear"), "", true, {}},
+                                       {"watch", verdict_fill("watch"), "", true, {}},
+                                       {"noisy", verdict_fill("noisy"), "", true, {}}};
   const int rows = legend_rows(legend, layout.plot_left, layout.plot_right);
   layout.plot_top = 30.0 + rows * 17.0 + 6.0;
   const double row_height = 13.0;

@@ -80,6 +80,10 @@ struct PlotTrace {
   double width_px = 1.5;
   std::string dash;                 ///< SVG stroke-dasharray ("" = solid)
   bool stems = false;               ///< vertical lines from the bottom of the plot (line spectra)
+  /// The receiver detectors whose readings this trace draws ("peak", "quasi-peak", "average"; several
+  /// when they coincide), written as the path's and legend entry's `data-detectors` attribute so the
+  /// report's detector switches can hide it; empty for limit lines and everything else.
+  std::vector<std::string> detectors;
 };
 
 /// A shaded frequency span with a name (a broadcast band).

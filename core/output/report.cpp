@@ -726,7 +726,10 @@ void add_detector_traces(SpectrumPlot& plot, const Prediction& p, const ScanResu
     const Detector d = group.front();
     PlotTrace trace;
     std::vector<std::string> names;
-    for (Detector member : group) names.push_back(to_string(member));
+    for (Detector member : group) {
+      names.push_back(to_string(member));
+      trace.detectors.push_back(to_string(member));
+    }
     trace.label = (before ? "before: " : "") + join(names, " = ") + (group.size() > 1 ? " (coincide: one line drawn)" : "");
     trace.colour = before ? before_colour(d) : detector_colour(d);
     // Drawn widest first: where different detectors nearly agree all stay visible. The readings before
@@ -837,6 +840,111 @@ void add_emission_markers(SpectrumPlot& plot, const Prediction& p, LimitQuantity
                             "#a8321f"});
   }
   plot.marker_legend = "worst reading of an emission (frequency, detector, margin)";
+}
+
+/// The data of a plot's hover readout (issue 19), as JSON for a <script type="application/json">
+/// block: the plot area in SVG pixels, and for each pixel column of it that holds readings the
+/// highest of them (the reading the column draws on top): its frequency, every detector's level and
+/// whether that level is the receiver's noise floor, and each limit line's level and margin there.
+/// Everything is computed here, with the same limit lines (LimitLine::level_at) as margins.csv; the
+/// page's script only looks a column up and formats it. A margin is given only against a reading of
+/// the line's own detector. Levels and margins rounded to 0.01 dB and frequencies to 0.1 Hz, as the
+/// CSVs print them.
+std::string readout_json(const Prediction& p, const SpectrumPlot& plot, const ScanResult& scan, LimitQuantity quantity,
+                         std::optional<double> distance_m) {
+  const PlotLayout layout = layout_spectrum_plot(plot);
+  const std::vector<Detector>& detectors = p.scenario.receiver.detectors;
+  nlohmann::ordered_json out;
+  out["width"] = plot.width_px;
+  out["height"] = plot.height_px;
+  out["left"] = layout.plot_left;
+  out["right"] = layout.plot_right;
+  out["top"] = layout.plot_top;
+  out["bottom"] = layout.plot_bottom;
+  out["min_hz"] = plot.min_hz;
+  out["max_hz"] = plot.max_hz;
+  out["unit"] = quantity == LimitQuantity::radiated_field ? "dB\xC2\xB5V/m" : "dB\xC2\xB5V";
+  out["detectors"] = nlohmann::ordered_json::array();
+  for (Detector d : detectors) out["detectors"].push_back(to_string(d));
+  // The limit lines the plot draws (add_limit_traces).
+  std::vector<std::pair<const LimitSet*, const LimitLine*>> lines;
+  out["limits"] = nlohmann::ordered_json::array();
+  for (const LimitSet& set : p.scenario.limits.sets) {
+    if (set.measures != quantity) continue;
+    if (distance_m && !(set.distance_m && std::abs(*set.distance_m - *distance_m) < 1e-9)) continue;
+    for (const LimitLine& line : set.lines) {
+      lines.emplace_back(&set, &line);
+      out["limits"].push_back({{"label", line_label(set, line) + " limit"},
+                               {"detector", to_string(line.detector)},
+                               {"unit", limit_unit_symbol(set)}});
+    }
+  }
+  // The plot's log-frequency axis (core/output/plot.cpp): x = left + (log f − log min) / (log max − log min) · width.
+  const double log_min = std::log10(plot.min_hz), log_span = std::log10(plot.max_hz) - log_min;
+  auto x_of = [&](double frequency_hz) {
+    return layout.plot_left + (std::log10(frequency_hz) - log_min) / log_span * (layout.plot_right - layout.plot_left);
+  };
+  auto highest = [&](const Reading& r) {
+    double level = -std::numeric_limits<double>::infinity();
+    for (Detector d : detectors) level = std::max(level, r.level_db(d));
+    return level;
+  };
+  // The highest reading of each pixel column, in ascending frequency.
+  std::vector<const Reading*> chosen;
+  long column = std::numeric_limits<long>::min();
+  for (const Reading& r : scan.readings) {
+    if (r.frequency_hz < plot.min_hz || r.frequency_hz > plot.max_hz) continue;
+    const long c = static_cast<long>(std::floor(x_of(r.frequency_hz)));
+    if (chosen.empty() || c != column) {
+      chosen.push_back(&r);
+      column = c;
+    } else if (highest(r) > highest(*chosen.back())) {
+      chosen.back() = &r;
+    }
+  }
+  auto json_level = [](double level_db) -> nlohmann::ordered_json {
+    if (!std::isfinite(level_db) || level_db <= level_floor_db) return nullptr;
+    return rounded(level_db, 2);
+  };
+  auto& f = out["f"] = nlohmann::ordered_json::array();
+  auto& levels = out["levels"] = nlohmann::ordered_json::array();
+  auto& floor = out["floor"] = nlohmann::ordered_json::array();
+  auto& limit = out["limit"] = nlohmann::ordered_json::array();
+  auto& margin = out["margin"] = nlohmann::ordered_json::array();
+  for (const Reading* r : chosen) {
+    f.push_back(rounded(r->frequency_hz, 1));
+    nlohmann::ordered_json row_levels = nlohmann::ordered_json::array(), row_floor = nlohmann::ordered_json::array();
+    for (Detector d : detectors) {
+      row_levels.push_back(json_level(r->level_db(d)));
+      row_floor.push_back(at_noise_floor(r->level_db(d), scan.noise_floor_db) ? 1 : 0);
+    }
+    nlohmann::ordered_json row_limit = nlohmann::ordered_json::array(), row_margin = nlohmann::ordered_json::array();
+    for (const auto& [set, line] : lines) {
+      const std::optional<double> level = line->level_at(r->frequency_hz);
+      const bool read = std::find(detectors.begin(), detectors.end(), line->detector) != detectors.end();
+      const double reading = r->level_db(line->detector);
+      row_limit.push_back(level ? nlohmann::ordered_json(rounded(*level, 2)) : nlohmann::ordered_json(nullptr));
+      row_margin.push_back(level && read && std::isfinite(reading) && reading > level_floor_db
+                               ? nlohmann::ordered_json(rounded(*level - reading, 2))
+                               : nlohmann::ordered_json(nullptr));
+    }
+    levels.push_back(std::move(row_levels));
+    floor.push_back(std::move(row_floor));
+    limit.push_back(std::move(row_limit));
+    margin.push_back(std::move(row_margin));
+  }
+  // Inside <script> the text must not hold "</": '<' occurs only in strings, where \u003c is the same.
+  std::string text = out.dump();
+  std::string safe;
+  safe.reserve(text.size());
+  for (char c : text) {
+    if (c == '<') {
+      safe += "\\u003c";
+    } else {
+      safe += c;
+    }
+  }
+  return safe;
 }
 
 }  // namespace
@@ -1042,8 +1150,160 @@ footer { color: var(--soft); font-size: 12px; text-align:center; margin-top: 24p
   .tag { border:1px solid #000; background:#fff !important; color:#000 !important; }
   .verdict .word, .verdict .not-computed { color:#000 !important; }
   a { color:#000; }
+  .switches, .readout { display:none; }
 }
+.switches { display:flex; flex-wrap:wrap; gap:4px 16px; margin:0 0 6px; font-size:13px; color:var(--soft); }
+.switches label { cursor:pointer; }
+.readout { margin:4px 0 0; min-height:1.5em; font-size:13px; font-variant-numeric: tabular-nums; }
+.readout span + span::before { content:" \00b7  "; color:var(--soft); }
+.readout .f { margin-right:10px; }
 )css";
+
+/// The page's only script (issue 19): the hover readout and the detector switches of the readings
+/// and radiated plots. What it shows comes from the JSON block beside each plot (readout_json); it
+/// fetches nothing and computes no level. The switches and the readout line are made by the script,
+/// so a page read without script (or printed) is the same page without them.
+constexpr const char* page_script = R"js(
+"use strict";
+(function () {
+  const svgNs = "http://www.w3.org/2000/svg";
+  const prefixes = [[1e9, "G"], [1e6, "M"], [1e3, "k"], [1, ""]];
+  // 4 significant digits with the SI prefix, trailing zeros dropped (as the page's tables).
+  function frequencyText(hz) {
+    for (const [scale, prefix] of prefixes) {
+      const value = Number((hz / scale).toPrecision(4));
+      if (Math.abs(value) >= 1 || scale === 1) return value + " " + prefix + "Hz";
+    }
+    return hz + " Hz";
+  }
+  function levelText(db) { return db.toFixed(1); }
+  // A margin keeps its sign when it rounds to zero, with a true minus sign.
+  function marginText(db) {
+    const text = Math.abs(db).toFixed(1);
+    return (db < 0 ? "\u2212" : "") + text + " dB";
+  }
+  function add(parent, tag, attributes, text) {
+    const e = document.createElement(tag);
+    for (const k in attributes) e.setAttribute(k, attributes[k]);
+    if (text !== undefined) e.textContent = text;
+    parent.appendChild(e);
+    return e;
+  }
+  // The column whose frequency is nearest `hz` on the log axis.
+  function nearest(f, hz) {
+    let lo = 0, hi = f.length - 1;
+    while (hi - lo > 1) {
+      const mid = (lo + hi) >> 1;
+      if (f[mid] <= hz) lo = mid; else hi = mid;
+    }
+    return Math.abs(Math.log(f[lo] / hz)) <= Math.abs(Math.log(f[hi] / hz)) ? lo : hi;
+  }
+  document.querySelectorAll("figure.readout-plot").forEach(function (figure) {
+    const block = figure.querySelector("script.readout-data");
+    const svg = figure.querySelector("svg");
+    if (!block || !svg) return;
+    const d = JSON.parse(block.textContent);
+    if (d.f.length === 0) return;
+    // One switch per drawn group of detectors: detectors whose readings coincide are one line, so
+    // they are switched together ("peak = quasi-peak = average").
+    const groups = [];
+    svg.querySelectorAll("path[data-detectors]").forEach(function (e) {
+      const group = e.getAttribute("data-detectors");
+      if (groups.indexOf(group) < 0) groups.push(group);
+    });
+    const on = {};
+    const shown = {};
+    const switches = document.createElement("div");
+    switches.className = "switches";
+    switches.setAttribute("role", "group");
+    switches.setAttribute("aria-label", "detectors drawn");
+    add(switches, "span", {}, "show:");
+    groups.forEach(function (group) {
+      on[group] = true;
+      const label = add(switches, "label", {});
+      const box = add(label, "input", {type: "checkbox", value: group, "data-detectors": group});
+      box.checked = true;
+      label.appendChild(document.createTextNode(" " + group.split(" ").join(" = ")));
+      box.addEventListener("change", function () {
+        on[group] = box.checked;
+        redraw();
+      });
+    });
+    // A detector is shown while a switched-on group draws it.
+    function update() {
+      d.detectors.forEach(function (name) {
+        shown[name] = groups.some(function (g) { return on[g] && g.split(" ").indexOf(name) >= 0; });
+      });
+    }
+    update();
+    figure.insertBefore(switches, svg);
+    const readout = document.createElement("p");
+    readout.className = "readout";
+    readout.setAttribute("aria-live", "polite");
+    readout.textContent = "Point at the plot (or focus it and use the arrow keys) for the readings at a frequency.";
+    svg.after(readout);
+    const cursor = document.createElementNS(svgNs, "line");
+    cursor.setAttribute("y1", d.top);
+    cursor.setAttribute("y2", d.bottom);
+    cursor.setAttribute("stroke", "#22303a");
+    cursor.setAttribute("stroke-width", "1");
+    cursor.setAttribute("stroke-dasharray", "3 2");
+    cursor.setAttribute("pointer-events", "none");
+    cursor.setAttribute("visibility", "hidden");
+    svg.appendChild(cursor);
+    let current = -1;
+
+    function show(i) {
+      current = i;
+      const x = d.left + Math.log(d.f[i] / d.min_hz) / Math.log(d.max_hz / d.min_hz) * (d.right - d.left);
+      cursor.setAttribute("x1", x);
+      cursor.setAttribute("x2", x);
+      cursor.setAttribute("visibility", "visible");
+      readout.textContent = "";
+      readout.setAttribute("data-frequency-hz", d.f[i]);
+      add(readout, "strong", {class: "f"}, frequencyText(d.f[i]));
+      d.detectors.forEach(function (name, k) {
+        const level = d.levels[i][k];
+        if (!shown[name] || level === null) return;
+        add(readout, "span", {"data-detector": name},
+            name + " " + levelText(level) + " " + d.unit + (d.floor[i][k] ? " (noise floor)" : ""));
+      });
+      d.limits.forEach(function (line, k) {
+        const limit = d.limit[i][k];
+        if (limit === null) return;
+        const margin = d.margin[i][k];
+        const floor = d.floor[i][d.detectors.indexOf(line.detector)];
+        add(readout, "span", {"data-limit": k},
+            line.label + " " + levelText(limit) + " " + line.unit +
+            (margin !== null && shown[line.detector] ? ", margin " + (floor ? "\u2265 " : "") + marginText(margin) : ""));
+      });
+    }
+    function redraw() {
+      update();
+      svg.querySelectorAll("[data-detectors]").forEach(function (e) {
+        const off = on[e.getAttribute("data-detectors")] === false;
+        if (e.classList.contains("legend-item")) e.style.opacity = off ? "0.35" : "";
+        else e.style.display = off ? "none" : "";
+      });
+      if (current >= 0) show(current);
+    }
+    svg.addEventListener("pointermove", function (event) {
+      const matrix = svg.getScreenCTM();
+      if (!matrix) return;
+      const p = new DOMPoint(event.clientX, event.clientY).matrixTransform(matrix.inverse());
+      if (p.x < d.left || p.x > d.right || p.y < d.top || p.y > d.bottom) return;
+      show(nearest(d.f, d.min_hz * Math.pow(d.max_hz / d.min_hz, (p.x - d.left) / (d.right - d.left))));
+    });
+    svg.setAttribute("tabindex", "0");
+    svg.addEventListener("keydown", function (event) {
+      const step = event.key === "ArrowRight" ? 1 : event.key === "ArrowLeft" ? -1 : 0;
+      if (step === 0) return;
+      event.preventDefault();
+      show(Math.min(d.f.length - 1, Math.max(0, (current < 0 ? 0 : current + step))));
+    });
+  });
+})();
+)js";
 
 std::string tag(const std::string& text) { return "<span class=\"tag " + html(text) + "\">" + html(text) + "</span>"; }
 
@@ -1131,7 +1391,11 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   int figure = 1;
   for (const BandScan& scan : p.scans) {
     const BandScan* earlier = before ? before_scan(*before, scan.band) : nullptr;
-    plots_html += "<figure>\n" + spectrum_plot_svg(readings_plot(p, scan, earlier)) + "<figcaption>Figure " +
+    const SpectrumPlot plot = readings_plot(p, scan, earlier);
+    plots_html += "<figure class=\"readout-plot\">\n" + spectrum_plot_svg(plot) +
+                  "<script type=\"application/json\" class=\"readout-data\">" +
+                  readout_json(p, plot, scan.worst, LimitQuantity::conducted_voltage, std::nullopt) +
+                  "</script>\n<figcaption>Figure " +
            std::to_string(figure++) +
            ". Peak, quasi-peak and average readings of a CISPR 16-1-1 receiver at the LISN port (the higher of the "
            "lines at each frequency) against the limit lines; broadcast bands shaded; the worst readings marked with "
@@ -1140,7 +1404,11 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
            ".</figcaption>\n</figure>\n";
   }
   for (const RadiatedScan& scan : p.radiated_scans) {
-    plots_html += "<figure>\n" + spectrum_plot_svg(radiated_plot(p, scan)) + "<figcaption>Figure " +
+    const SpectrumPlot plot = radiated_plot(p, scan);
+    plots_html += "<figure class=\"readout-plot\">\n" + spectrum_plot_svg(plot) +
+                  "<script type=\"application/json\" class=\"readout-data\">" +
+                  readout_json(p, plot, scan.scan, LimitQuantity::radiated_field, scan.distance_m) +
+                  "</script>\n<figcaption>Figure " +
                   std::to_string(figure++) +
                   ". The estimated radiated field read by the receiver (an estimate from the cable and hot-loop "
                   "currents) against the radiated limit lines at the same distance; the worst emissions marked with "
@@ -1375,7 +1643,8 @@ std::string report_html(const Prediction& p, const std::vector<std::string>& fil
   out += verdict_html + plots_html + changes_html + margins_html + bands_html + lab_html + safety_html + model_html +
          inputs_html + files_html;
   out += "<footer>spurcast " SPURCAST_VERSION " \xE2\x80\x94 a pre-compliance estimate from a model; not a test "
-         "result.</footer>\n</main>\n</body>\n</html>\n";
+         "result.</footer>\n</main>\n<script>" +
+         std::string(page_script) + "</script>\n</body>\n</html>\n";
   return out;
 }
 

@@ -10,7 +10,7 @@
 ///   margins.csv          core/compliance/margins.hpp margins_csv()
 ///   bands.csv            core/radio/reception.hpp bands_csv()
 ///   scan-<band>.svg, radiated-<band>-<distance>.svg, source.svg  the plots, also inlined in the report
-///   report.html          one self-contained page (inline CSS and SVG, nothing fetched, no script)
+///   report.html          one self-contained page (inline CSS, SVG and script, nothing fetched; reads the same without script)
 ///   summary.json         verdict, worst_margin_db per detector, bands, files, and more
 /// The CSVs print fixed decimals (frequencies %.1f Hz, levels %.2f dB) so the same prediction always
 /// gives the same bytes; the page shows levels and margins to 0.1 dB and frequencies to 4 significant

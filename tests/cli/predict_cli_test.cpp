@@ -1,7 +1,8 @@
 // End-to-end tests of `spurcast predict` and `spurcast demo` through the built executable
 // (SPURCAST_EXECUTABLE): exit codes, every file written, summary.json against the CSVs, SVG and HTML
 // well-formed (Debian's Python xml.etree / html.parser), colour rules, an interrupted run, and the
-// report rendered by a real browser (headless Debian chromium; skipped with a message if absent).
+// report rendered by a real browser (headless Debian chromium; skipped with a message if absent), and
+// its hover readout and detector switches driven there, read against the CSVs of the same run.
 #include <doctest/doctest.h>
 
 #include <sys/wait.h>
@@ -14,6 +15,7 @@
 #include <fstream>
 #include <map>
 #include <numbers>
+#include <regex>
 #include <sstream>
 #include <string>
 #include <vector>
@@ -342,5 +344,140 @@ TEST_CASE("boost-pfc: summary.json names the mains-gated path, its mains and gat
   const std::string html = read_file(work + "/out/report.html");
   CHECK(html.find("mains-cycle gating") != std::string::npos);
   CHECK(html.find("not modelled (crest of the mains cycle)") == std::string::npos);
+  fs::remove_all(work);
+}
+
+// The script the test adds to a copy of the report: it moves the pointer over the first readings plot
+// at `target_hz`, reads the readout, switches the peak curve off and reports what the page shows.
+constexpr const char* readout_probe = R"js(<script>
+"use strict";
+(function () {
+  const figure = document.querySelector("figure.readout-plot");
+  const svg = figure.querySelector("svg");
+  const d = JSON.parse(figure.querySelector("script.readout-data").textContent);
+  const x = d.left + Math.log(TARGET_HZ / d.min_hz) / Math.log(d.max_hz / d.min_hz) * (d.right - d.left);
+  const at = new DOMPoint(x, (d.top + d.bottom) / 2).matrixTransform(svg.getScreenCTM());
+  svg.dispatchEvent(new PointerEvent("pointermove", {clientX: at.x, clientY: at.y, bubbles: true}));
+  const readout = figure.querySelector(".readout");
+  function spans() {
+    return Array.from(readout.querySelectorAll("span")).map(function (s) { return s.textContent; });
+  }
+  const result = {columns: d.f.length, px: d.right - d.left, min_hz: d.min_hz, max_hz: d.max_hz,
+                  frequency_hz: Number(readout.getAttribute("data-frequency-hz")), before: spans(),
+                  switches: Array.from(figure.querySelectorAll(".switches input")).map(function (i) { return i.value; })};
+  figure.querySelector(".switches input[value='peak']").click();
+  const shown = function (group) {
+    return getComputedStyle(svg.querySelector("path[data-detectors='" + group + "']")).display !== "none";
+  };
+  result.peak_shown = shown("peak");
+  result.quasi_peak_shown = shown("quasi-peak");
+  result.after = spans();
+  const out = document.createElement("pre");
+  out.id = "probe";
+  out.textContent = encodeURIComponent(JSON.stringify(result));
+  document.body.appendChild(out);
+})();
+</script>
+)js";
+
+TEST_CASE("the report's hover readout and detector switches work in a real browser and agree with the CSVs") {
+  std::string chromium;
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) chromium = c;
+  }
+  if (chromium.empty()) {
+    MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
+    return;
+  }
+  // The readings shown are rounded to 0.1 dB from the CSVs' 0.01 dB (core/output/report.hpp).
+  constexpr double display_rounding_db = 0.05 + 1e-9;
+  const std::string work = make_temp_dir();
+  // A dithered example: its peak, quasi-peak and average readings differ, so each has its own curve.
+  REQUIRE(run(quote(executable) + " predict " + quote(source_dir + "/examples/boat-cabin-led.toml") + " -o shown", work)
+              .status <= 1);
+  const fs::path folder = fs::path(work) / "shown";
+  const nlohmann::json summary = nlohmann::json::parse(read_file(folder / "summary.json"));
+  const double target_hz = summary.at("worst").at("frequency_hz").get<double>();
+  std::string page = read_file(folder / "report.html");
+  std::string probe = readout_probe;
+  probe.replace(probe.find("TARGET_HZ"), 9, std::to_string(target_hz));
+  page.insert(page.rfind("</body>"), probe);
+  std::ofstream(folder / "probe.html") << page;
+  fs::create_directory(work + "/profile");
+  const Run shown = run(chromium + " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                        "--disable-background-networking --disable-component-update --disable-sync "
+                        "--user-data-dir=" + quote(work + "/profile") + " --window-size=1280,2400 --dump-dom " +
+                        quote("file://" + (folder / "probe.html").string()),
+                        work);
+  const std::smatch found = [&] {
+    std::smatch m;
+    std::regex_search(shown.out, m, std::regex("<pre id=\"probe\">([^<]*)</pre>"));
+    return m;
+  }();
+  REQUIRE_MESSAGE(!found.empty(), shown.err);
+  // encodeURIComponent's %XX back to bytes.
+  std::string text;
+  const std::string encoded = found[1].str();
+  for (std::size_t i = 0; i < encoded.size(); ++i) {
+    if (encoded[i] == '%' && i + 2 < encoded.size()) {
+      text += static_cast<char>(std::stoi(encoded.substr(i + 1, 2), nullptr, 16));
+      i += 2;
+    } else {
+      text += encoded[i];
+    }
+  }
+  const nlohmann::json r = nlohmann::json::parse(text);
+  CHECK(r.at("switches") == nlohmann::json::array({"peak", "quasi-peak", "average"}));
+
+  // The readout is of a reading within two pixel columns of the pointer.
+  const double column_decades = std::log10(r["max_hz"].get<double>() / r["min_hz"].get<double>()) / r["px"].get<double>();
+  const double frequency_hz = r.at("frequency_hz").get<double>();
+  CHECK(std::abs(std::log10(frequency_hz / target_hz)) <= 2.0 * column_decades);
+  // Its levels are scan.csv's at that frequency.
+  std::vector<std::string> row;
+  for (const std::string& line : lines_of(read_file(folder / "scan.csv"))) {
+    const std::vector<std::string> cells = csv_cells(line);
+    if (cells.size() >= 4 && cells[0] != "frequency_hz" && std::abs(std::stod(cells[0]) - frequency_hz) < 0.05) row = cells;
+  }
+  REQUIRE(row.size() >= 4);
+  const std::regex level_text("^(peak|quasi-peak|average) (-?[0-9]+\\.[0-9]) dB\xC2\xB5V( \\(noise floor\\))?$");
+  std::map<std::string, double> csv_level{{"peak", std::stod(row[1])}, {"quasi-peak", std::stod(row[2])},
+                                          {"average", std::stod(row[3])}};
+  int detectors_read = 0, limits_read = 0;
+  // The limit lines and margins are margins.csv's at that frequency.
+  std::map<std::string, std::pair<double, double>> csv_margin;  // limit label -> (limit, margin)
+  for (const std::string& line : lines_of(read_file(folder / "margins.csv"))) {
+    const std::vector<std::string> cells = csv_cells(line);
+    if (cells.size() >= 6 && cells[0] != "frequency_hz" && std::abs(std::stod(cells[0]) - frequency_hz) < 0.05) {
+      csv_margin[cells[5]] = {std::stod(cells[3]), std::stod(cells[4])};
+    }
+  }
+  REQUIRE(!csv_margin.empty());
+  const std::regex limit_text("^(.*) limit (-?[0-9]+\\.[0-9]) dB\xC2\xB5V, margin (\xE2\x88\x92)?([0-9]+\\.[0-9]) dB$");
+  for (const nlohmann::json& span : r.at("before")) {
+    const std::string s = span.get<std::string>();
+    CAPTURE(s);
+    std::smatch m;
+    if (std::regex_match(s, m, level_text)) {
+      ++detectors_read;
+      CHECK(std::abs(std::stod(m[2]) - csv_level.at(m[1])) <= display_rounding_db);
+    } else if (std::regex_match(s, m, limit_text)) {
+      ++limits_read;
+      REQUIRE(csv_margin.count(m[1]) == 1);
+      const auto [limit, margin] = csv_margin.at(m[1]);
+      CHECK(std::abs(std::stod(m[2]) - limit) <= display_rounding_db);
+      CHECK(std::abs((m[3].matched ? -1.0 : 1.0) * std::stod(m[4]) - margin) <= display_rounding_db);
+    } else {
+      FAIL("unexpected readout text");
+    }
+  }
+  CHECK(detectors_read == 3);
+  CHECK(limits_read == static_cast<int>(csv_margin.size()));
+
+  // Switching peak off hides its curve and its reading; quasi-peak stays.
+  CHECK_FALSE(r.at("peak_shown").get<bool>());
+  CHECK(r.at("quasi_peak_shown").get<bool>());
+  for (const nlohmann::json& span : r.at("after")) CHECK(span.get<std::string>().rfind("peak ", 0) != 0);
+  CHECK(r.at("after").size() == r.at("before").size() - 1);
   fs::remove_all(work);
 }

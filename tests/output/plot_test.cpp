@@ -301,3 +301,30 @@ TEST_CASE("channel strip: a block per channel in its verdict's fill, a counting 
     CHECK(parses_as_xml(channel_strip_svg(strip)));
   }
 }
+
+TEST_CASE("a detector's curve and legend entry carry its detectors, for the report's switches") {
+  SpectrumPlot plot = sample_plot(150e3, 30e6, 960, 420);
+  plot.traces[0].detectors = {"peak"};
+  plot.traces[1].detectors = {"quasi-peak", "average"};  // coinciding readings: one line for both
+  const std::string svg = spectrum_plot_svg(plot);
+  // The curve (a <path>) and the legend entry (a <g> around its swatch and text) of each trace.
+  auto count = [&](const std::string& text) {
+    std::size_t n = 0;
+    for (std::size_t at = svg.find(text); at != std::string::npos; at = svg.find(text, at + 1)) ++n;
+    return n;
+  };
+  CHECK(count(" data-detectors=\"peak\"") == 2);
+  CHECK(count(" data-detectors=\"quasi-peak average\"") == 2);
+  CHECK(count("<g class=\"legend-item\" data-detectors=\"peak\">") == 1);
+  CHECK(count("data-detectors") == 4);  // limit lines and the rest carry none
+  // The attribute changes no position: the layout is the same as without it.
+  SpectrumPlot plain = sample_plot(150e3, 30e6, 960, 420);
+  const PlotLayout a = layout_spectrum_plot(plot), b = layout_spectrum_plot(plain);
+  CHECK(a.texts == b.texts);
+  REQUIRE(a.text_boxes.size() == b.text_boxes.size());
+  for (std::size_t i = 0; i < a.text_boxes.size(); ++i) {
+    CHECK(a.text_boxes[i].x == doctest::Approx(b.text_boxes[i].x));
+    CHECK(a.text_boxes[i].y == doctest::Approx(b.text_boxes[i].y));
+  }
+  if (have_python()) CHECK(parses_as_xml(svg));
+}

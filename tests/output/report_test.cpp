@@ -248,7 +248,11 @@ TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up
   }
   CHECK(page.find("R&amp;D buck &lt;bench&gt;") != std::string::npos);
   CHECK(page.find("a note with &lt;markup&gt; &amp; ampersand") != std::string::npos);
-  CHECK(page.find("<script") == std::string::npos);
+  // Script is inline only (issue 19: hover readouts and detector switches); the switches are made by
+  // the script, so the page as written (read without script) has no control.
+  CHECK(page.find("<script src") == std::string::npos);
+  CHECK(page.find("type=\"checkbox\"") == std::string::npos);
+  CHECK(page.find("class=\"switches\"") == std::string::npos);
   CHECK(page.find("https://") == std::string::npos);
   CHECK(page.find("@import") == std::string::npos);
   // Common practice for a conducted test set-up, marked as such (issue 8).
@@ -276,6 +280,67 @@ TEST_CASE("report.html: every section, escaped text, nothing fetched, the set-up
   CHECK(parsed.at("ids").get<std::vector<std::string>>() == report_section_ids());
   // Two band plots, the source plot and the MW band's channel strip (issue 19 added the strips).
   CHECK(parsed.at("svg_count").get<int>() == 4);
+  // A readout data block per band plot (B and C) and the page's script.
+  CHECK(parsed.at("script_count").get<int>() == 3);
+}
+
+/// The JSON of the n-th readout data block of the page.
+nlohmann::json readout_block(const std::string& page, int n) {
+  const std::string open = "<script type=\"application/json\" class=\"readout-data\">";
+  std::size_t at = 0;
+  for (int i = 0; i <= n; ++i) {
+    at = page.find(open, at);
+    REQUIRE(at != std::string::npos);
+    at += open.size();
+  }
+  return nlohmann::json::parse(page.substr(at, page.find("</script>", at) - at));
+}
+
+// The readings and limits of hand_prediction(): margin = limit − reading of the line's detector
+// (CISPR 16-2-1: a reading is compared with the limit of its own detector), numbers by hand.
+TEST_CASE("report.html: the hover readout data of a band plot holds each reading with its limits and margins") {
+  constexpr double tolerance_db = 1e-9;
+  const std::string page = report_html(hand_prediction(), {"report.html"});
+  const nlohmann::json b = readout_block(page, 0);
+  CHECK(b.at("detectors") == nlohmann::json::array({"peak", "quasi-peak", "average"}));
+  CHECK(b.at("unit") == "dB\xC2\xB5V");
+  REQUIRE(b.at("limits").size() == 2);
+  CHECK(b["limits"][0].at("label") == "flat test line / quasi-peak limit");
+  CHECK(b["limits"][0].at("detector") == "quasi-peak");
+  CHECK(b["limits"][1].at("detector") == "average");
+  // The three readings fall in three pixel columns of a 960 px plot.
+  REQUIRE(b.at("f") == nlohmann::json::array({1e6, 2e6, 30e6}));
+  const double levels[3][3] = {{58.0, 55.0, 44.0}, {50.0, 48.0, 45.0}, {30.0, 29.0, 28.0}};
+  for (int i = 0; i < 3; ++i) {
+    CAPTURE(i);
+    for (int k = 0; k < 3; ++k) CHECK(std::abs(b["levels"][i][k].get<double>() - levels[i][k]) < tolerance_db);
+    CHECK(std::abs(b["limit"][i][0].get<double>() - 60.0) < tolerance_db);
+    CHECK(std::abs(b["limit"][i][1].get<double>() - 50.0) < tolerance_db);
+    CHECK(std::abs(b["margin"][i][0].get<double>() - (60.0 - levels[i][1])) < tolerance_db);
+    CHECK(std::abs(b["margin"][i][1].get<double>() - (50.0 - levels[i][2])) < tolerance_db);
+  }
+  // The plot area the script maps the pointer on is the SVG's own (layout_spectrum_plot).
+  const PlotLayout layout = layout_spectrum_plot(readings_plot(hand_prediction(), hand_prediction().scans[0]));
+  CHECK(std::abs(b.at("left").get<double>() - layout.plot_left) < tolerance_db);
+  CHECK(std::abs(b.at("right").get<double>() - layout.plot_right) < tolerance_db);
+  CHECK(std::abs(b.at("top").get<double>() - layout.plot_top) < tolerance_db);
+  CHECK(std::abs(b.at("bottom").get<double>() - layout.plot_bottom) < tolerance_db);
+}
+
+TEST_CASE("report.html: readings in one pixel column are read out as the highest of them") {
+  constexpr double tolerance_db = 1e-9;
+  Prediction p = hand_prediction();
+  // 1 MHz and 1.0001 MHz are 0.01 px apart on a 0.15–30 MHz axis 876 px wide: one column.
+  p.scans[0].worst.readings = {reading(1e6, 40.0, 39.0, 38.0), reading(1.0001e6, 52.0, 51.0, 50.0),
+                               reading(5e6, 30.0, 29.0, 28.0)};
+  const nlohmann::json b = readout_block(report_html(p, {"report.html"}), 0);
+  REQUIRE(b.at("f") == nlohmann::json::array({1.0001e6, 5e6}));
+  CHECK(std::abs(b["levels"][0][0].get<double>() - 52.0) < tolerance_db);
+  // A detector the limit line names but the receiver did not read gives no margin.
+  p.scenario.receiver.detectors = {Detector::peak, Detector::quasi_peak};
+  const nlohmann::json only = readout_block(report_html(p, {"report.html"}), 0);
+  CHECK(only["margin"][0][1].is_null());
+  CHECK(std::abs(only["limit"][0][1].get<double>() - 50.0) < tolerance_db);
 }
 
 TEST_CASE("report.html leads with the answer: verdict, plots, what to change, margins, bands, lab, inputs last") {

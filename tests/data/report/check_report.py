@@ -2,9 +2,11 @@
 """Checks of report output with Debian's Python standard library (run with /usr/bin/python3).
 
   check_report.py xml FILE...   every file parses as XML (xml.etree.ElementTree)
-  check_report.py html FILE     html.parser: balanced non-void tags, nothing fetched (no script,
-                                link, img, iframe, object, src= or href= to another document), every
-                                inline <svg> parses as XML; prints JSON {"ids": [...], "svg_count": n}
+  check_report.py html FILE     html.parser: balanced non-void tags, nothing fetched (no link, img,
+                                iframe, object, src= or href= to another document; scripts only
+                                inline, with no fetch, XMLHttpRequest, import, worker, socket or
+                                URL but the SVG namespace), every inline <svg> parses as XML;
+                                prints JSON {"ids": [...], "svg_count": n, "script_count": n}
   check_report.py png FILE      decodes the PNG with zlib; prints JSON {"width", "height", "distinct"}
 Exit code 0 when the check holds, 1 with a message on stderr otherwise.
 """
@@ -17,7 +19,16 @@ import xml.etree.ElementTree as ET
 from html.parser import HTMLParser
 
 VOID = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta", "source", "track", "wbr"}
-FORBIDDEN = {"script", "link", "img", "iframe", "object", "embed", "audio", "video", "source"}
+FORBIDDEN = {"link", "img", "iframe", "object", "embed", "audio", "video", "source"}
+# Script types a self-contained page may carry: classic inline script and inline JSON data.
+SCRIPT_TYPES = {None, "text/javascript", "application/json"}
+# What an inline script must not contain: ways to load or send anything, and any URL but the SVG
+# namespace name (createElementNS), which names a vocabulary and is never fetched.
+SCRIPT_FORBIDDEN = re.compile(r"\bfetch\b|XMLHttpRequest|\bimport\b|importScripts|\bWorker\b|WebSocket|"
+                              r"EventSource|sendBeacon|\beval\b|\bFunction\(|document\.write|\.src\b|"
+                              r"\bhref\b|\bwindow\.open\b|\blocation\b")
+URL = re.compile(r"[a-z][a-z0-9+.-]*://|//[a-z0-9.-]+\.[a-z]", re.I)
+SVG_NAMESPACE = "http://www.w3.org/2000/svg"
 # SVG elements that may be written self-closing (<line/>) inside the HTML.
 SVG_NAMES = {"svg", "line", "rect", "path", "circle", "text", "title", "defs", "clippath", "g", "polyline"}
 
@@ -28,11 +39,20 @@ class Checker(HTMLParser):
         self.stack = []
         self.ids = []
         self.errors = []
+        self.scripts = 0
+        self.in_script = False
 
     def handle_starttag(self, tag, attrs):
         attributes = dict(attrs)
         if tag in FORBIDDEN:
             self.errors.append("forbidden element <%s>" % tag)
+        if tag == "script":
+            self.scripts += 1
+            self.in_script = True
+            if "src" in attributes:
+                self.errors.append("script fetched from another document: src=%r" % attributes["src"])
+            if attributes.get("type") not in SCRIPT_TYPES:
+                self.errors.append("script of type %r" % attributes.get("type"))
         for name, value in attrs:
             if name in ("src", "href") or (value and re.search(r"url\((?!#)", value)):
                 self.errors.append("reference to another document: %s=%r" % (name, value))
@@ -48,7 +68,18 @@ class Checker(HTMLParser):
             if name in ("src", "href"):
                 self.errors.append("reference to another document: %s=%r" % (name, value))
 
+    def handle_data(self, data):
+        if not self.in_script:
+            return
+        found = SCRIPT_FORBIDDEN.search(data)
+        if found:
+            self.errors.append("inline script uses %r" % found.group(0))
+        for url in URL.finditer(data.replace(SVG_NAMESPACE, "")):
+            self.errors.append("inline script names a URL: %r" % url.group(0))
+
     def handle_endtag(self, tag):
+        if tag == "script":
+            self.in_script = False
         if tag in VOID:
             return
         if not self.stack or self.stack[-1] != tag:
@@ -85,7 +116,7 @@ def check_html(path):
     if checker.errors:
         sys.stderr.write("%s: %s\n" % (path, "; ".join(checker.errors[:5])))
         return 1
-    print(json.dumps({"ids": checker.ids, "svg_count": len(svgs)}))
+    print(json.dumps({"ids": checker.ids, "svg_count": len(svgs), "script_count": checker.scripts}))
     return 0
 
 
