@@ -377,6 +377,7 @@ std::string render_spectrum(const SpectrumPlot& plot, PlotLayout& layout) {
     throw Error("plot frequency range must satisfy 0 < min < max");
   }
   layout = PlotLayout{};
+  layout.height_px = plot.height_px;
   std::string svg = svg_open(plot.width_px, plot.height_px, plot.title);
   TextPlacer placer(layout, svg, plot.width_px, plot.height_px);
 
@@ -557,6 +558,7 @@ std::string render_strip(const ChannelStrip& strip, PlotLayout& layout) {
     throw Error("channel strip frequency range must satisfy 0 <= low < high");
   }
   layout = PlotLayout{};
+  layout.height_px = strip.height_px;
   std::string svg = svg_open(strip.width_px, strip.height_px, strip.title + " channels");
   TextPlacer placer(layout, svg, strip.width_px, strip.height_px);
   // The strip starts after the band's name (a long user band name pushes it right, up to a third).
@@ -617,6 +619,34 @@ std::string render_strip(const ChannelStrip& strip, PlotLayout& layout) {
   return svg;
 }
 
+constexpr const char* recommended_colour = "#1d5c8c";
+constexpr const char* window_colour = "#2f7a4a";
+constexpr double list_font_px = 11.0;
+constexpr double list_line_px = 15.0;
+
+/// `text` broken at spaces into lines whose estimated width fits `width_px` (a word longer than the
+/// width keeps a line of its own).
+std::vector<std::string> wrap_text(const std::string& text, double font_px, double width_px) {
+  std::vector<std::string> lines;
+  std::string line;
+  std::size_t start = 0;
+  while (start <= text.size()) {
+    std::size_t end = text.find(' ', start);
+    if (end == std::string::npos) end = text.size();
+    const std::string word = text.substr(start, end - start);
+    const std::string joined = line.empty() ? word : line + " " + word;
+    if (!line.empty() && estimate_text_box(joined, 0, 0, font_px, TextAnchor::start).width > width_px) {
+      lines.push_back(line);
+      line = word;
+    } else {
+      line = joined;
+    }
+    start = end + 1;
+  }
+  if (!line.empty()) lines.push_back(line);
+  return lines;
+}
+
 std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
   check_size(plot.width_px, plot.height_px);
   const std::size_t n = plot.parameter.size();
@@ -631,8 +661,56 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
   if (plot.log_parameter && !(plot.parameter.front() > 0.0)) throw Error("sweep plot: log axis needs values > 0");
 
   layout = PlotLayout{};
-  std::string svg = svg_open(plot.width_px, plot.height_px, plot.title);
-  TextPlacer placer(layout, svg, plot.width_px, plot.height_px);
+  // The list under the plot: the recommended value with its reason, then each window edge's reason
+  // behind the letter that tags the edge in the plot.
+  struct ListLine {
+    std::string tag;   // "a", "b", ... on the first line of an edge's entry
+    std::string text;
+    std::string colour;
+  };
+  struct EdgeTag {
+    std::string tag;
+    double value;
+  };
+  std::vector<ListLine> list;
+  std::vector<EdgeTag> edge_tags;
+  const double list_left = 12.0, list_text_left = 30.0;
+  const double list_width = plot.width_px - list_text_left - 12.0;
+  auto add_entry = [&](const std::string& tag, const std::string& text, const std::string& colour) {
+    bool first = true;
+    for (const std::string& line : wrap_text(text, list_font_px, list_width)) {
+      list.push_back({first ? tag : std::string(), line, colour});
+      first = false;
+    }
+  };
+  auto value_text = [&](double v) { return format_quantity(v, plot.parameter_dimension, 4); };
+  if (plot.recommended) {
+    add_entry("", "recommended: " + value_text(*plot.recommended) +
+                      (plot.recommended_reason.empty() ? std::string() : " (" + plot.recommended_reason + ")"),
+              recommended_colour);
+  }
+  std::size_t edge_count = 0;
+  for (const SweepWindow& window : plot.clear_windows) {
+    for (const bool low : {true, false}) {
+      const std::string& reason = low ? window.low_reason : window.high_reason;
+      if (reason.empty()) continue;
+      if (++edge_count > sweep_plot_listed_edges) continue;
+      const std::string tag(1, static_cast<char>('a' + edge_tags.size()));
+      edge_tags.push_back({tag, low ? window.from : window.to});
+      add_entry(tag,
+                std::string(low ? "lower" : "upper") + " edge of " + value_text(window.from) + " to " +
+                    value_text(window.to) + ": " + reason,
+                window_colour);
+    }
+  }
+  if (edge_count > sweep_plot_listed_edges) {
+    add_entry("", "and " + std::to_string(edge_count - sweep_plot_listed_edges) +
+                      " more window edges (the sweep's text and JSON give every reason)",
+              soft_ink_colour);
+  }
+  layout.height_px = plot.height_px + (list.empty() ? 0.0 : 8.0 + static_cast<double>(list.size()) * list_line_px);
+  std::string svg = svg_open(plot.width_px, layout.height_px, plot.title);
+  TextPlacer placer(layout, svg, plot.width_px, layout.height_px);
 
   std::size_t longest_name = 0;
   for (const SweepBandRow& row : plot.bands) longest_name = std::max(longest_name, code_points(row.name));
@@ -761,7 +839,31 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
     svg += "<line x1=\"" + number(x) + "\" y1=\"" + number(layout.plot_top) + "\" x2=\"" + number(x) + "\" y2=\"" +
            number(layout.plot_bottom) + "\" stroke=\"#1d5c8c\" stroke-width=\"2\" stroke-dasharray=\"2 3\"/>\n";
     placer.try_place("recommended " + format_quantity(*plot.recommended, plot.parameter_dimension, 4), x + 4.0,
-                     layout.plot_top + 14.0, span_font_px, TextAnchor::start, "fill=\"#1d5c8c\"");
+                     layout.plot_top + 14.0, span_font_px, TextAnchor::start,
+                     "fill=\"" + std::string(recommended_colour) + "\"");
+  }
+  // Each edge's letter at the top of the margin panel, in the first free row.
+  const TextBox margin_panel{layout.plot_left, layout.plot_top, layout.plot_right - layout.plot_left,
+                             margin_bottom - layout.plot_top};
+  const std::string tag_attributes = "fill=\"" + std::string(window_colour) +
+                                     "\" font-weight=\"bold\" stroke=\"#ffffff\" stroke-width=\"3\" paint-order=\"stroke\"";
+  for (const EdgeTag& edge : edge_tags) {
+    const double x = clamp(x_of(std::clamp(edge.value, p_min, p_max)), layout.plot_left, layout.plot_right);
+    bool placed = false;
+    for (int row = 0; row < 4 && !placed; ++row) {
+      placed = placer.try_place(edge.tag, x, layout.plot_top + 26.0 + row * 13.0, tick_font_px, TextAnchor::middle,
+                                tag_attributes, margin_panel);
+    }
+    if (!placed) layout.dropped_span_labels.push_back(edge.tag);
+  }
+  for (std::size_t i = 0; i < list.size(); ++i) {
+    const double baseline = plot.height_px + 14.0 + static_cast<double>(i) * list_line_px;
+    if (!list[i].tag.empty()) {
+      placer.place(list[i].tag, list_left, baseline, list_font_px, TextAnchor::start,
+                   "fill=\"" + list[i].colour + "\" font-weight=\"bold\"");
+    }
+    placer.place(list[i].text, list[i].tag.empty() && i == 0 ? list_left : list_text_left, baseline, list_font_px,
+                 TextAnchor::start, "fill=\"" + list[i].colour + "\"");
   }
   svg += "</svg>\n";
   return svg;

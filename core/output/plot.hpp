@@ -12,6 +12,7 @@
 ///   SpectrumPlot plot{.title = "Receiver readings, band B", .min_hz = 150e3, .max_hz = 30e6};
 ///   plot.traces.push_back({.label = "quasi-peak", .frequency_hz = f, .level = qp, .colour = "#c8553d"});
 ///   const std::string svg = spectrum_plot_svg(plot);
+#include <cstddef>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -127,6 +128,7 @@ struct PlotLayout {
   std::vector<std::string> dropped_span_labels;  ///< band names that found no free place
   std::vector<TextBox> marker_boxes;  ///< the marker dots (no text is placed over them)
   std::vector<std::string> dropped_marker_labels;  ///< marker labels that found no free place
+  double height_px = 0.0;  ///< the picture's height (a sweep plot grows by the list under it)
 };
 
 /// The layout (positions of every text) of `plot`. Error on an invalid range or size.
@@ -149,7 +151,16 @@ struct SweepBandRow {
 struct SweepWindow {
   double from = 0.0;  ///< parameter values, from <= to
   double to = 0.0;
+  /// Why the window stops at each end (which harmonic, channel or limit the value just outside it
+  /// fails, RobustWindow::low_edge / high_edge); empty where the swept range ends the window. Each
+  /// reason is tagged with a letter at its edge and written out in the list under the plot.
+  std::string low_reason;
+  std::string high_reason;
 };
+
+/// Most window edges the list under a sweep plot spells out; the rest are counted in one line
+/// (judgement: more would make the picture a page of text; the sweep's text and JSON list them all).
+inline constexpr std::size_t sweep_plot_listed_edges = 14;
 
 struct SweepPlot {
   std::string title;
@@ -162,11 +173,16 @@ struct SweepPlot {
   std::vector<SweepBandRow> bands;
   std::vector<SweepWindow> clear_windows;
   std::optional<double> recommended;      ///< the sweep's recommended value, marked and labelled
+  /// Why it is recommended ("6.2 dB of headroom to the limits less the guard band"), written after
+  /// the value at the head of the list under the plot.
+  std::string recommended_reason;
   double width_px = 960.0;
   double height_px = 460.0;
 };
 
-/// The sweep plot as a standalone SVG. Error when the vectors disagree in length or are empty.
+/// The sweep plot as a standalone SVG: the picture is `height_px` tall plus one line per entry of
+/// the list under it (the recommended value and the reason of each window edge, wrapped to the
+/// width). Error when the vectors disagree in length or are empty.
 [[nodiscard]] std::string sweep_plot_svg(const SweepPlot& plot);
 /// The text boxes the sweep plot places (for tests).
 [[nodiscard]] PlotLayout layout_sweep_plot(const SweepPlot& plot);

@@ -255,10 +255,23 @@ std::string sweep_svg(const SweepResult& result, const std::string& title) {
   if (!result.criteria.empty()) {
     const std::size_t last = result.criteria.size() - 1;
     for (const RobustWindow& w : result.windows) {
-      if (w.criterion == last && w.last_point < n) plot.clear_windows.push_back({w.from_value, w.to_value});
+      if (w.criterion == last && w.last_point < n) {
+        plot.clear_windows.push_back({w.from_value, w.to_value, w.open_low ? std::string() : w.low_edge,
+                                      w.open_high ? std::string() : w.high_edge});
+      }
     }
     if (result.recommended && result.recommended->point < n) {
-      plot.recommended = result.points[result.recommended->point].values.front();
+      const SweepRecommendation& r = *result.recommended;
+      plot.recommended = result.points[r.point].values.front();
+      // The same words as the text output's "recommended:" line.
+      if (r.headroom_db) {
+        plot.recommended_reason = fmt::format("{:.1f} dB of headroom to the {}{}", *r.headroom_db, r.headroom_to,
+                                              result.tolerance_fraction > 0.0
+                                                  ? fmt::format(", the least over +/-{:g} %", 100.0 * result.tolerance_fraction)
+                                                  : std::string());
+      } else {
+        plot.recommended_reason = r.headroom_to;
+      }
     }
   }
   return sweep_plot_svg(plot);

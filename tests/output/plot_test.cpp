@@ -328,3 +328,65 @@ TEST_CASE("a detector's curve and legend entry carry its detectors, for the repo
   }
   if (have_python()) CHECK(parses_as_xml(svg));
 }
+
+TEST_CASE("sweep plot: the recommended value and each window edge's reason, tagged, listed under it, no overlap") {
+  SweepPlot sweep;
+  sweep.title = "sweep of switching.frequency";
+  for (int i = 0; i < 60; ++i) {
+    sweep.parameter.push_back(100e3 + i * 50e3);
+    sweep.worst_margin_db.push_back(8.0 * std::sin(i * 0.2));
+  }
+  const std::string long_reason =
+      "at 1.15 MHz: MW channel 1.152 MHz noisy at 31.4 dB\xC2\xB5V/m (harmonic 7), within +/-5 % of 1.2 MHz where "
+      "the average limit of CISPR 32 class B, AC mains port is exceeded by 2.3 dB at 1.2 MHz";
+  sweep.clear_windows = {{100e3, 450e3, "", "at 500 kHz: MW channel 999 kHz noisy (harmonic 2)"},
+                         {1.2e6, 1.4e6, long_reason, "at 1.45 MHz: quasi-peak margin 4.1 dB under the guard band"}};
+  sweep.recommended = 300e3;
+  sweep.recommended_reason = "6.2 dB of headroom to the limits less the guard band";
+  for (const auto& [w, h] : std::vector<std::pair<double, double>>{{640, 400}, {960, 460}}) {
+    CAPTURE(w);
+    SweepPlot sized = sweep;
+    sized.width_px = w;
+    sized.height_px = h;
+    const PlotLayout layout = layout_sweep_plot(sized);
+    // The list makes the picture taller; every text stays inside it and clear of the others.
+    CHECK(layout.height_px > h);
+    check_no_overlap(layout, w, layout.height_px);
+    CHECK(has_text(layout, "recommended 300 kHz"));
+    // The list, read in order: the recommendation, then each edge behind its letter (wrapped lines
+    // joined again with a space). Three edges: the first window starts where the sweep does.
+    std::string list;
+    for (std::size_t i = 0; i < layout.texts.size(); ++i) {
+      if (layout.text_boxes[i].y > h) list += layout.texts[i] + " ";
+    }
+    CHECK(list == "recommended: 300 kHz (6.2 dB of headroom to the limits less the guard band) a upper edge of "
+                  "100 kHz to 450 kHz: at 500 kHz: MW channel 999 kHz noisy (harmonic 2) b lower edge of 1.2 MHz to "
+                  "1.4 MHz: " + long_reason + " c upper edge of 1.2 MHz to 1.4 MHz: at 1.45 MHz: quasi-peak margin "
+                  "4.1 dB under the guard band ");
+    // Each letter is also in the plot, at its edge (or counted as dropped).
+    for (const char* tag : {"a", "b", "c"}) {
+      CAPTURE(tag);
+      const auto in_plot = std::count_if(layout.texts.begin(), layout.texts.end(), [&](const std::string& t) { return t == tag; });
+      const auto dropped = std::count(layout.dropped_span_labels.begin(), layout.dropped_span_labels.end(), tag);
+      CHECK(in_plot + dropped == 2);  // once in the plot or dropped, once in the list
+    }
+  }
+  const std::string svg = sweep_plot_svg(sweep);
+  const PlotLayout layout = layout_sweep_plot(sweep);
+  char height[32];
+  std::snprintf(height, sizeof height, "height=\"%.1f\"", layout.height_px);  // the SVG's number format
+  CHECK(svg.find(height) != std::string::npos);
+  if (have_python()) CHECK(parses_as_xml(svg));
+
+  // More edges than the list spells out: the rest are counted, never dropped silently.
+  SweepPlot many = sweep;
+  many.clear_windows.clear();
+  for (int i = 0; i < 10; ++i) {
+    many.clear_windows.push_back({200e3 + i * 250e3, 300e3 + i * 250e3, "low reason " + std::to_string(i),
+                                  "high reason " + std::to_string(i)});
+  }
+  const PlotLayout crowded = layout_sweep_plot(many);
+  check_no_overlap(crowded, many.width_px, crowded.height_px);
+  CHECK(has_text(crowded, "and 6 more window edges (the sweep's text and JSON give every reason)"));
+  CHECK(has_text(crowded, "n"));  // the 14th letter
+}

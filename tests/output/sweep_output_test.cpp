@@ -3,7 +3,7 @@
 // contract names: the axis key, method, limits_verdict, worst_margin_db, <detector>_margin_db,
 // margin_db:<line>, verdict:<band>, robust:<criterion>, error), JSON that parses with
 // nlohmann::json and holds the same margins with `files` last, the text with its closing lines,
-// and the plot as SVG.
+// and the plot as SVG with the recommended value and each window edge's reason as the text gives them.
 #include <doctest/doctest.h>
 
 #include <nlohmann/json.hpp>
@@ -16,6 +16,8 @@
 
 #include "core/chain/sweep.hpp"
 #include "core/input/toml_reader.hpp"
+#include "core/input/units.hpp"
+#include "core/output/plot.hpp"
 #include "core/output/sweep_output.hpp"
 
 using namespace spurcast;
@@ -116,4 +118,43 @@ TEST_CASE("sweep_text and sweep_svg") {
   CHECK(svg.find("<svg") != std::string::npos);
   CHECK(svg.find("sweep of switching.frequency") != std::string::npos);
   CHECK(sweep_goal_met(r) == std::any_of(r.windows.begin(), r.windows.end(), [](const RobustWindow& w) { return w.criterion == 0; }));
+}
+
+TEST_CASE("sweep_svg: the recommended value and every closed window edge with its reason, as the text gives them") {
+  // Medium wave clears above about 1.7 MHz for the greenhouse buck (README): a window with a closed
+  // lower edge inside this range.
+  const std::string file = std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml";
+  const toml::table table = parse_toml_file(file, "scenario file");
+  SweepOptions options;
+  options.axes.push_back(make_axis(table, parse_vary("switching.frequency=1.2MHz:2.5MHz:14")));
+  options.criteria.push_back(parse_window_criterion("MW"));
+  options.tolerance_fraction = 0.05;
+  options.threads = 2;
+  const SweepResult r = run_sweep(table, file, std::string(SPURCAST_SOURCE_DIR) + "/examples", locate_shipped_data(), options);
+  const std::string svg = sweep_svg(r, "sweep of switching.frequency");
+  // Every text of the picture in order, joined by spaces: the list's wrapped lines read as one.
+  std::string texts;
+  for (std::size_t at = svg.find("<text"); at != std::string::npos; at = svg.find("<text", at + 1)) {
+    const std::size_t open = svg.find('>', at) + 1;
+    texts += svg.substr(open, svg.find("</text>", open) - open) + " ";
+  }
+  int closed_edges = 0;
+  for (const RobustWindow& w : r.windows) {
+    if (!w.open_low) {
+      ++closed_edges;
+      CHECK(texts.find(xml_escape(w.low_edge)) != std::string::npos);
+    }
+    if (!w.open_high) {
+      ++closed_edges;
+      CHECK(texts.find(xml_escape(w.high_edge)) != std::string::npos);
+    }
+  }
+  CHECK(closed_edges >= 1);
+  REQUIRE(r.recommended);
+  // The value at the plot's 4 digits, and what the text output says sets it.
+  const double value = r.points[r.recommended->point].values.front();
+  CHECK(texts.find("recommended: " + format_quantity(value, Dimension::frequency, 4) + " (") != std::string::npos);
+  REQUIRE(!r.recommended->headroom_to.empty());
+  CHECK(texts.find(xml_escape(r.recommended->headroom_to) + ")") != std::string::npos);
+  CHECK(sweep_text(r, {}).find(r.recommended->headroom_to) != std::string::npos);
 }
