@@ -37,6 +37,8 @@ button.primary { background:var(--accent); color:#fff; }
 #verdict.pass { background:var(--pass); } #verdict.marginal { background:var(--marginal); } #verdict.fail { background:var(--fail); }
 #status { color:var(--muted); margin-left:10px; }
 #status.error { color:var(--fail); font-weight:600; }
+#status.busy { color:var(--accent); }
+#answer.stale table, #answer.stale #verdict, #answer.stale #worst-line { opacity:.5; transition:opacity .15s; }
 table { border-collapse:collapse; width:100%; margin:6px 0 14px; background:#fff; }
 th, td { text-align:left; padding:3px 8px; border-bottom:1px solid var(--line); font-variant-numeric:tabular-nums; }
 th { font-weight:600; color:var(--muted); font-size:12px; }
@@ -60,7 +62,7 @@ td.num { text-align:right; }
   <p class="note">Sliders span a quarter to four times the scenario's value; type any value with its unit in
   the field. "save as…" downloads the changed scenario through the browser; the server writes no file.</p>
 </section>
-<section>
+<section id="answer">
   <h2>Answer</h2>
   <div><span id="verdict">…</span><span id="status"></span></div>
   <p id="worst-line"></p>
@@ -94,8 +96,12 @@ function fixed(x, digits) { return (x === null || x === undefined) ? "—" : Num
 
 let keys = [];
 let changed = {};
-let timer = null;
-let sequence = 0;
+// One evaluation at a time: the server computes every request it gets, so a slider dragged across
+// its range must not queue one per step. A change made while one is computing waits, and only the
+// latest state is sent when it ends (the answer to the older state is not drawn).
+let inFlight = false;
+let waiting = false;
+let progressTimer = null;
 
 function sliderRange(k) {
   if (k.kind === "number" && k.si_value >= 0 && k.si_value <= 1) return {log:false, lo:0, hi:1};
@@ -154,8 +160,25 @@ function buildControls(scenario) {
 }
 
 function schedule() {
-  if (timer) clearTimeout(timer);
-  timer = setTimeout(evaluate, 120);
+  if (inFlight) { waiting = true; return; }
+  evaluate();
+}
+
+// An exact answer normally comes within a frame or two and is drawn without a flicker; a slower one
+// (a dithered source, a long capture) shows that it is computing, for how long, and dims the
+// answer it will replace.
+const progressDelayMs = 50;
+function showProgress(started) {
+  const status = document.getElementById("status");
+  status.className = "busy";
+  status.textContent = "computing… " + ((performance.now() - started) / 1000).toFixed(1) + " s" +
+                       (waiting ? " (a newer change waits)" : "");
+  document.getElementById("answer").classList.add("stale");
+  progressTimer = setTimeout(showProgress, 100, started);
+}
+function stopProgress() {
+  clearTimeout(progressTimer);
+  progressTimer = null;
 }
 
 async function post(path) {
@@ -163,21 +186,32 @@ async function post(path) {
 }
 
 async function evaluate() {
-  const mine = ++sequence;
+  inFlight = true;
+  waiting = false;
   const status = document.getElementById("status");
-  status.className = ""; status.textContent = "computing…";
+  stopProgress();
+  progressTimer = setTimeout(showProgress, progressDelayMs, performance.now());
   let response, body;
   try {
     response = await post("/api/evaluate");
     body = await response.json();
   } catch (e) {
-    if (mine === sequence) { status.className = "error"; status.textContent = "no answer from the server: " + e; }
+    stopProgress();
+    inFlight = false;
+    status.className = "error"; status.textContent = "no answer from the server: " + e;
     return;
   }
-  if (mine !== sequence) return;  // a later change is on its way
-  if (response.status === 503) { setTimeout(evaluate, 1000); return; }
+  stopProgress();
+  if (response.status === 503) {  // the server is busy with other clients: ask again, still one at a time
+    status.className = "busy"; status.textContent = "the server is busy; asking again…";
+    setTimeout(evaluate, 1000 * (Number(response.headers.get("Retry-After")) || 1));
+    return;
+  }
+  inFlight = false;
+  if (waiting) { evaluate(); return; }  // latest wins: this answer is for an older state
+  document.getElementById("answer").classList.remove("stale");
   if (!response.ok) { status.className = "error"; status.textContent = body.error || ("HTTP " + response.status); return; }
-  status.textContent = "";
+  status.className = ""; status.textContent = "";
   draw(body);
 }
 
@@ -253,7 +287,7 @@ async function start(fromLink) {
   }
   buildControls(scenario);
   document.querySelectorAll("label").forEach(l => l.classList.toggle("changed", l.textContent in changed));
-  evaluate();
+  schedule();
 }
 start(true);
 </script>

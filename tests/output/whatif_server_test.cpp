@@ -333,3 +333,152 @@ TEST_CASE("the page in a real browser shows what predict gives for a changed fre
     CHECK(dom.find(row) != std::string::npos);
   }
 }
+
+// The page's own script with the network replaced by a stand-in (added by the test before it): each
+// evaluation answers what the session answers for the same request, after a delay, so the page's
+// handling of a slow path can be watched in virtual time.
+constexpr const char* slow_path_harness = R"js(<script>
+"use strict";
+(function () {
+  const scenario = SCENARIO;
+  const answers = ANSWERS;
+  const log = window.spurcastTest = {calls: [], active: 0, most: 0, statuses: [], marks: {}};
+  window.fetch = function (path, options) {
+    if (path === "/api/scenario") return Promise.resolve(new Response(JSON.stringify(scenario)));
+    const key = JSON.parse(options.body).set["switching.frequency"] || "";
+    log.calls.push(key);
+    log.active += 1;
+    log.most = Math.max(log.most, log.active);
+    // The unchanged scenario answers at once (the exact path), every change after 400 ms (a slow one).
+    return new Promise(function (resolve) {
+      setTimeout(function () {
+        log.active -= 1;
+        resolve(new Response(JSON.stringify(answers[key]), {status: 200, headers: {"Content-Type": "application/json"}}));
+      }, key === "" ? 10 : 400);
+    });
+  };
+  function cells() {
+    return Array.from(document.querySelectorAll("#detectors td[data-detector]")).map(function (td) {
+      return td.getAttribute("data-detector") + "=" + td.textContent;
+    });
+  }
+  function mark(name) {
+    log.marks[name] = {status: document.getElementById("status").textContent, cells: cells(),
+                       stale: document.getElementById("answer").classList.contains("stale")};
+  }
+  window.addEventListener("load", function () {
+    new MutationObserver(function () {
+      log.statuses.push(document.getElementById("status").textContent);
+    }).observe(document.getElementById("status"), {childList: true, characterData: true, subtree: true});
+    setTimeout(function () {
+      mark("first");
+      const field = document.querySelector("input[type=text][data-key='switching.frequency']");
+      ["1 MHz", "1.5 MHz", "1.9 MHz"].forEach(function (value, i) {
+        setTimeout(function () { field.value = value; field.dispatchEvent(new Event("change")); }, 20 * i);
+      });
+      setTimeout(mark, 250, "computing");
+      setTimeout(mark, 500, "older answer in");
+      setTimeout(function () {
+        mark("last");
+        const out = document.createElement("pre");
+        out.id = "result";
+        out.textContent = encodeURIComponent(JSON.stringify(log));
+        document.body.appendChild(out);
+      }, 1500);
+    }, 1000);
+  });
+})();
+</script>
+)js";
+
+TEST_CASE("the page computes one change at a time, shows progress on a slow path and draws only the latest") {
+  std::string chromium;
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) chromium = c;
+  }
+  if (chromium.empty()) {
+    MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
+    return;
+  }
+  spurcast::WhatIfSession session(spurcast::parse_toml_file(example, "scenario file"), example, example_dir,
+                                  spurcast::locate_shipped_data());
+  session.set_port(8470);
+  const auto ask = [&](const std::string& method, const std::string& path, const std::string& body) {
+    const spurcast::WhatIfResponse r = session.handle({method, path, "127.0.0.1:8470", std::nullopt, body});
+    REQUIRE(r.status == 200);
+    return json::parse(r.body);
+  };
+  json answers;
+  answers[""] = ask("POST", "/api/evaluate", R"({"set": {}})");
+  for (const char* f : {"1 MHz", "1.9 MHz"}) {
+    answers[f] = ask("POST", "/api/evaluate", std::string(R"({"set": {"switching.frequency": ")") + f + "\"}}");
+  }
+  // The three answers differ, so the page shows which one it drew.
+  REQUIRE(answers["1 MHz"]["worst_margin_db"] != answers["1.9 MHz"]["worst_margin_db"]);
+  REQUIRE(answers[""]["worst_margin_db"] != answers["1 MHz"]["worst_margin_db"]);
+  const auto cells_of = [](const json& answer) {
+    std::vector<std::string> cells;
+    for (const auto& [detector, margin] : answer["worst_margin_db"].items()) {
+      cells.push_back(detector + "=" + fmt::format("{:.1f}", margin.get<double>()));  // the page shows 0.1 dB
+    }
+    return cells;
+  };
+  // Inside a <script>, '<' only occurs in JSON strings, where \u003c is the same character.
+  const auto script_json = [](const json& value) {
+    std::string text;
+    for (char c : value.dump()) text += c == '<' ? std::string("\\u003c") : std::string(1, c);
+    return text;
+  };
+  std::string harness = slow_path_harness;
+  harness.replace(harness.find("SCENARIO"), 8, script_json(ask("GET", "/api/scenario", "")));
+  harness.replace(harness.find("ANSWERS"), 7, script_json(answers));
+  std::string page = spurcast::whatif_page_html();
+  page.insert(page.find("<script>"), harness);
+  const fs::path dir = fresh_directory("spurcast-whatif-", "slow-path");
+  fs::create_directories(dir / "profile");
+  write_text(dir / "page.html", page);
+  const std::string command = chromium +
+                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                              "--disable-background-networking --disable-component-update --disable-sync "
+                              "--virtual-time-budget=10000 --user-data-dir=" +
+                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
+                              spurcast::test::shell_quote("file://" + (dir / "page.html").string()) + " >" +
+                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
+  REQUIRE(std::system(command.c_str()) == 0);
+  const std::string dom = read_text(dir / "dom.html");
+  const auto at = dom.find("<pre id=\"result\">");
+  REQUIRE(at != std::string::npos);
+  const std::string encoded = dom.substr(at + 17, dom.find("</pre>", at) - at - 17);
+  std::string text;  // encodeURIComponent's %XX back to bytes
+  for (std::size_t i = 0; i < encoded.size(); ++i) {
+    if (encoded[i] == '%' && i + 2 < encoded.size()) {
+      text += static_cast<char>(std::stoi(encoded.substr(i + 1, 2), nullptr, 16));
+      i += 2;
+    } else {
+      text += encoded[i];
+    }
+  }
+  const json log = json::parse(text);
+  INFO(log.dump());
+  // One request at a time: the unchanged scenario, the first change, then only the latest of the
+  // two changes made while the first was computing.
+  CHECK(log["calls"] == json::array({"", "1 MHz", "1.9 MHz"}));
+  CHECK(log["most"] == 1);
+  // The fast answer was drawn with no progress shown.
+  CHECK(log["marks"]["first"]["cells"] == cells_of(answers[""]));
+  CHECK(log["marks"]["first"]["status"] == "");
+  // The slow one shows that it is computing, with the answer it will replace dimmed.
+  CHECK(log["marks"]["computing"]["status"].get<std::string>().rfind("computing\xE2\x80\xA6 ", 0) == 0);
+  CHECK(log["marks"]["computing"]["stale"] == true);
+  CHECK(log["marks"]["computing"]["cells"] == cells_of(answers[""]));
+  // The answer to the older state came and was not drawn: a newer change was waiting.
+  CHECK(log["marks"]["older answer in"]["cells"] == cells_of(answers[""]));
+  CHECK(log["marks"]["older answer in"]["stale"] == true);
+  // The latest is drawn, and the progress is gone.
+  CHECK(log["marks"]["last"]["cells"] == cells_of(answers["1.9 MHz"]));
+  CHECK(log["marks"]["last"]["status"] == "");
+  CHECK(log["marks"]["last"]["stale"] == false);
+  for (const json& status : log["statuses"]) {
+    CHECK(status.get<std::string>().find("error") == std::string::npos);
+  }
+}
