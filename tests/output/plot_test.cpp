@@ -223,7 +223,7 @@ TEST_CASE("every plot is well-formed XML, text is escaped, and bad input is refu
     for (int i = 0; i < 60; ++i) row.verdicts.push_back(i % 7 < 3 ? "clear" : (i % 7 < 5 ? "watch" : "noisy"));
     sweep.bands.push_back(row);
   }
-  sweep.clear_windows = {{300e3, 450e3}, {2e6, 2.2e6}};
+  sweep.clear_windows = {{300e3, 450e3, "", ""}, {2e6, 2.2e6, "", ""}};
   const std::string sweep_svg = sweep_plot_svg(sweep);
   for (const auto& [w, h] : std::vector<std::pair<double, double>>{{640, 400}, {960, 460}}) {
     SweepPlot sized = sweep;
