@@ -103,6 +103,29 @@ void two_parts(unsigned threads, Part part) {
   }
 }
 
+/// The radix-2 decimation-in-time step (Cooley & Tukey 1965): X[k] = E[k] + exp(−j2πk/N)·O[k] for
+/// k in [begin, end), E and O the N/2-point transforms of the even and odd samples (E[k] =
+/// conj(E[N/2 − k]) above N/4, the real-input symmetry); visit(k, X[k]) for each. The twiddle goes
+/// by recurrence from an exact start, recomputed exactly at every multiple of window_block
+/// (rounding stays < 1e-13), so every bin gets the same value however the range is split.
+template <typename Visit>
+void radix2_combine(const std::complex<double>* e, const std::complex<double>* o, std::size_t n, std::size_t begin,
+                    std::size_t end, Visit&& visit) {
+  const std::size_t h = n / 2;
+  const double angle_step = -2.0 * pi / static_cast<double>(n);
+  const std::complex<double> rotation = std::polar(1.0, angle_step);
+  std::complex<double> twiddle = std::polar(1.0, angle_step * static_cast<double>(begin));
+  for (std::size_t k = begin; k < end; ++k) {
+    if (k % window_block == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
+    const bool mirrored = k > h / 2;
+    const std::size_t j = mirrored ? h - k : k;
+    const std::complex<double> ek = mirrored ? std::conj(e[j]) : e[j];
+    const std::complex<double> ok = mirrored ? std::conj(o[j]) : o[j];
+    visit(k, ek + twiddle * ok);
+    twiddle *= rotation;
+  }
+}
+
 std::string format_number(double x) {
   char buffer[32];
   std::snprintf(buffer, sizeof buffer, "%.4g", x);
@@ -355,24 +378,13 @@ AmplitudeSpectrum spectrum_of(const Waveform& waveform, std::vector<double>* con
   const double line_scale = std::numbers::sqrt2 / sum_w;  // as in finish_spectrum
   const std::complex<double>* e = even.output();
   const std::complex<double>* o = odd.output();
-  const double angle_step = -2.0 * pi / static_cast<double>(n);
   const std::size_t bins_middle = std::max<std::size_t>(window_block, h / 2 / window_block * window_block);
   two_parts(threads, [&](int part) {
     const std::size_t begin = part == 0 ? 0 : std::min(bins_middle, bins);
     const std::size_t end = part == 0 ? std::min(bins_middle, bins) : bins;
-    const std::complex<double> rotation = std::polar(1.0, angle_step);
-    std::complex<double> twiddle;
-    for (std::size_t k = begin; k < end; ++k) {
-      // exp(−j2πk/N) by recurrence, exact at every multiple of 1024 (begin is one).
-      if (k % window_block == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
-      const bool mirrored = k > h / 2;
-      const std::size_t j = mirrored ? h - k : k;
-      const std::complex<double> ek = mirrored ? std::conj(e[j]) : e[j];
-      const std::complex<double> ok = mirrored ? std::conj(o[j]) : o[j];
-      const std::complex<double> xk = ek + twiddle * ok;
+    radix2_combine(e, o, n, begin, end, [&](std::size_t k, std::complex<double> xk) {
       spectrum.rms[k] = line_scale * std::sqrt(xk.real() * xk.real() + xk.imag() * xk.imag());
-      twiddle *= rotation;
-    }
+    });
   });
   spectrum.dc = (e[0].real() + o[0].real()) / sum_w;
   spectrum.rms[0] = std::abs(spectrum.dc);
@@ -433,24 +445,13 @@ SampledSpectrum sampled_spectrum(const Waveform& waveform, double low_hz, double
   });
   const std::complex<double>* e = even.output();
   const std::complex<double>* o = odd.output();
-  const double angle_step = -2.0 * pi / static_cast<double>(n);
   const std::size_t count = spectrum.bins.size();
   const std::size_t middle = spectrum.first_bin + count / 2;
   two_parts(threads, [&](int part) {
     const std::size_t begin = part == 0 ? spectrum.first_bin : middle;
     const std::size_t end = part == 0 ? middle : end_bin;
-    const std::complex<double> rotation = std::polar(1.0, angle_step);
-    std::complex<double> twiddle = std::polar(1.0, angle_step * static_cast<double>(begin));
-    for (std::size_t k = begin; k < end; ++k) {
-      // exp(−j2πk/N) by recurrence, exact at every multiple of 1024 (rounding stays < 1e-13).
-      if (k % window_block == 0) twiddle = std::polar(1.0, angle_step * static_cast<double>(k));
-      const bool mirrored = k > h / 2;
-      const std::size_t j = mirrored ? h - k : k;
-      const std::complex<double> ek = mirrored ? std::conj(e[j]) : e[j];
-      const std::complex<double> ok = mirrored ? std::conj(o[j]) : o[j];
-      spectrum.bins[k - spectrum.first_bin] = ek + twiddle * ok;
-      twiddle *= rotation;
-    }
+    radix2_combine(e, o, n, begin, end,
+                   [&](std::size_t k, std::complex<double> xk) { spectrum.bins[k - spectrum.first_bin] = xk; });
   });
   return spectrum;
 }
