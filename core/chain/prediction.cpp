@@ -445,9 +445,12 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       plan.step_hz = step_hz;
       plans.push_back(plan);
     }
-    const auto [low_hz, high_hz] = scan_span_hz(plans, capture.waveform.sample_rate_hz);
+    // A pair, not a structured binding: clang 14 cannot capture a binding in a lambda.
+    const std::pair<double, double> span_hz = scan_span_hz(plans, capture.waveform.sample_rate_hz);
     FftPlanner planner;
-    auto scanned_bins = [&](const Waveform& w) { return sampled_spectrum(w, low_hz, high_hz, planner); };
+    auto scanned_bins = [&](const Waveform& w) {
+      return sampled_spectrum(w, span_hz.first, span_hz.second, planner);
+    };
     if (scenario.capture->current_column) {
       // Both paths from one record (capture.hpp): the lines carry their phases.
       const LineSpectrum lines = lines_from_capture(capture, p.notes, planner);
