@@ -8,10 +8,12 @@
 #include <new>
 
 #include "cli/commands.hpp"
+#include "cli/process_memory.hpp"
 #include "core/input/error.hpp"
 #include "core/output/output_dir.hpp"
 
 int main(int argc, char** argv) {
+  spurcast::cli::keep_freed_memory_for_reuse();
   CLI::App app{"spurcast: conducted and broadcast-band EMI estimates for switching converters"};
   app.set_version_flag("--version", std::string("spurcast ") + SPURCAST_VERSION);
   app.require_subcommand(1);

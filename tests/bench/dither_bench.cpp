@@ -17,6 +17,7 @@
 #include "core/coupling/transfer_grid.hpp"
 #include "core/input/toml_reader.hpp"
 #include "core/source/source.hpp"
+#include "cli/process_memory.hpp"
 #include "timing.hpp"
 
 using namespace spurcast;
@@ -33,6 +34,7 @@ void row(const char* what, const Timing& t, double yard_s, const char* goal) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  cli::keep_freed_memory_for_reuse();  // as the spurcast command does
   const bool skip_numpy = argc > 1 && std::strcmp(argv[1], "--skip-numpy") == 0;
   const ShippedData data = locate_shipped_data();
   const std::string path = data.examples_directory() + "/boat-cabin-led.toml";

@@ -128,6 +128,7 @@ void scipy_yardstick(const Waveform& record, double step_hz, const ScanResult& r
 }  // namespace
 
 int main(int argc, char** argv) {
+  cli::keep_freed_memory_for_reuse();  // as the spurcast command does (and its yardstick)
   bool skip_scipy = false;
   for (int i = 1; i < argc; ++i) {
     if (std::strcmp(argv[i], "--skip-scipy") == 0) skip_scipy = true;

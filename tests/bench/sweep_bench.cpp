@@ -19,6 +19,7 @@
 #include "core/source/source.hpp"
 #include "core/chain/sweep.hpp"
 #include "core/input/toml_reader.hpp"
+#include "cli/process_memory.hpp"
 
 using namespace spurcast;
 
@@ -54,6 +55,7 @@ Timing best_of_3(const std::function<void()>& run) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  cli::keep_freed_memory_for_reuse();  // as the spurcast command does
   const ShippedData data = locate_shipped_data();
   const std::string path = argc > 1 ? argv[1] : data.examples_directory() + "/greenhouse-buck.toml";
   const toml::table table = parse_toml_file(path, "scenario file");

@@ -13,6 +13,8 @@
 #include <string>
 #include <vector>
 
+#include "cli/process_memory.hpp"
+
 namespace spurcast::bench {
 
 /// CPU time of the whole process (every thread) [s].
@@ -78,7 +80,10 @@ inline std::vector<double> python_file_numbers(const std::string& script_file,
                                                const std::string& arguments, std::size_t count,
                                                bool show_errors) {
   std::vector<double> numbers;
-  const std::string command = "/usr/bin/python3 '" + script_file + "'" +
+  // Under the allocator settings of the spurcast command (cli/process_memory.hpp): without them
+  // numpy's rfft of 2^22 doubles took 0.33 s on the test machine instead of 0.14 s, most of it
+  // faulting in a fresh output array.
+  const std::string command = cli::same_allocator_environment() + " /usr/bin/python3 '" + script_file + "'" +
                               (arguments.empty() ? "" : " " + arguments) +
                               (show_errors ? "" : " 2>/dev/null");
   if (std::FILE* pipe = ::popen(command.c_str(), "r")) {
