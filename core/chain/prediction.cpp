@@ -503,7 +503,8 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       }
       const SwitchingSpec& spec = *scenario.switching;
       dithered_conducted = conduct(dithered_switch_node_lines(spec, *repeat, dither_top_hz),
-                                   dithered_input_current_lines(spec, *repeat, dither_top_hz), model);
+                                   dithered_input_current_lines(spec, *repeat, dither_top_hz), model,
+                                   LineSolve::adaptive_grid);
     }
     // A boost PFC stage: its lines at each instant of the mains half-cycle, through the network
     // once, for the bands whose spans hold one harmonic each.

@@ -109,7 +109,8 @@ ScanResult scan_plan(const Scenario& scenario, const std::string& at, const Scan
       result = scan_lines(dithered_input_current_lines(spec, *repeat, top_hz), dense_plan);
     } else {
       const ConductedResult conducted = conduct(dithered_switch_node_lines(spec, *repeat, top_hz),
-                                                dithered_input_current_lines(spec, *repeat, top_hz), *model);
+                                                dithered_input_current_lines(spec, *repeat, top_hz), *model,
+                                                LineSolve::adaptive_grid);  // as predict() solves them
       result = scan_two_lines([&](int line) { return scan_lines(conducted.line_spectrum(line), dense_plan); });
     }
   } else if (scenario.switching && !scenario.switching->dither && scenario.converter.topology == Topology::boost_pfc &&

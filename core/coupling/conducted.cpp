@@ -223,7 +223,7 @@ LineSpectrum ConductedResult::line_spectrum(int line) const {
 }
 
 ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& input_current_a,
-                        const ConductedModel& model) {
+                        const ConductedModel& model, LineSolve solve) {
   const bool has_v = !switch_node_v.harmonics.empty();
   const bool has_i = !input_current_a.harmonics.empty();
   if (has_v && switch_node_v.quantity != Quantity::voltage) {
@@ -253,7 +253,8 @@ ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& i
   const std::size_t count = std::max(switch_node_v.harmonics.size(), input_current_a.harmonics.size());
   result.frequency_hz.resize(count);
   for (std::size_t k = 0; k < count; ++k) result.frequency_hz[k] = static_cast<double>(k + 1) * f0;
-  const TransferFunctions h = transfer_at(model, result.frequency_hz);
+  const TransferFunctions h = solve == LineSolve::adaptive_grid ? transfer_on_grid(model, result.frequency_hz)
+                                                                : transfer_at(model, result.frequency_hz);
   for (auto* vec : {&result.line1_v, &result.line2_v, &result.dm_v, &result.cm_v, &result.line1_current_a,
                     &result.line2_current_a, &result.dm_current_a, &result.cm_current_a}) {
     vec->resize(count);

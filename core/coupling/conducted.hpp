@@ -128,8 +128,12 @@ struct ConductedResult {
 /// Evaluates the model at the harmonics of the two sources. Both must have the same fundamental
 /// (relative tolerance 1e-9) unless one has no harmonics (then it is absent); the shorter one is
 /// padded with zeros. Throws Error on a fundamental mismatch or a wrong quantity.
+/// How conduct() solves the network at the lines: at every line, or (for the dense lines of a
+/// dithered source's repeat, thousands of them) on the adaptive grid of transfer_grid.hpp and
+/// interpolated, within transfer_grid_tolerance.
+enum class LineSolve { every_line, adaptive_grid };
 [[nodiscard]] ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& input_current_a,
-                                      const ConductedModel& model);
+                                      const ConductedModel& model, LineSolve solve = LineSolve::every_line);
 
 /// The LISN port voltages of a modulated source (a boost PFC stage over the mains half-cycle,
 /// core/source/mains_cycle.hpp), one ModulatedLines per port (index 0: line 1, 1: line 2; one
