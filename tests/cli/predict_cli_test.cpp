@@ -288,6 +288,24 @@ TEST_CASE("colour only on a terminal, never with NO_COLOR") {
   fs::remove_all(work);
 }
 
+TEST_CASE("progress on stderr only when stderr is a terminal, and cleared before the output") {
+  // Issue 18: a run that takes more than a second says what it is doing, on a terminal only.
+  if (::access("/usr/bin/script", X_OK) != 0) {
+    MESSAGE("skipped: /usr/bin/script (util-linux) not found");
+    return;
+  }
+  const std::string work = make_temp_dir();
+  const std::string sweep = quote(executable) + " sweep " + quote(source_dir + "/examples/boat-cabin-led.toml") +
+                            " --vary switching.dither.deviation=2%:12%:4 --meet-limits";
+  const Run tty = run("NO_COLOR=1 /usr/bin/script -qec " + quote(sweep) + " /dev/null", work);
+  CHECK(tty.out.find("\rspurcast: ") != std::string::npos);
+  const Run piped = run(sweep, work);
+  CHECK(piped.out.find("Sweep of switching.dither.deviation") != std::string::npos);
+  CHECK(piped.out.find("spurcast: ") == std::string::npos);
+  CHECK(piped.err.empty());
+  fs::remove_all(work);
+}
+
 TEST_CASE("the report renders in a real browser (headless chromium screenshot is not blank)") {
   const char* candidates[] = {"/usr/bin/chromium", "/usr/bin/chromium-browser"};
   std::string chromium;
