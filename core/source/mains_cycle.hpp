@@ -9,30 +9,68 @@
 ///   D(θ)     = 1 − v_in(θ)/V_out                     (the boost's duty follows the input)
 ///   I(θ)     = I_crest·s                             (unity power factor: the current follows the
 ///   voltage) ΔI(θ)    = ΔI_crest·s·(1 − m·s)/(1 − m), m = V_pk/V_out   (ripple ∝ v_in·D/(L·f_sw))
-/// The switching frequency is fixed (a continuous-conduction PFC stage; a critical-conduction
-/// stage, whose frequency varies over the cycle, is not modelled). Where v_in is below the
+/// The switching frequency is fixed (a continuous-conduction PFC stage, `conduction =
+/// "continuous"`, the default). Where v_in is below the
 /// switching threshold the stage does not switch (no emission). The switch-node swing V_out, the
 /// edges and the ringing stay as at the crest; the input current's ringing follows I(θ). D(θ) is
 /// held where the edges still fit in the off time (at most 1 − (rise + fall)/(2·T), and below
 /// max_mains_cycle_duty); ΔI(θ) is held at 2·I(θ) (the edge of continuous conduction) near the zero
 /// crossing.
 ///
+/// Critical conduction (`conduction = "critical"`, also called transition or boundary mode; common
+/// practice for PFC stages up to a few hundred watts): the controller holds the on time constant over
+/// the half-cycle and turns the switch on again when the inductor current has fallen to zero, so
+/// the current's triangle runs from 0 to 2·I(θ) in every switching cycle and its mean follows the
+/// rectified mains (common practice: peak current v_in·t_on/L ∝ v_in). With t_on = D_crest/f_crest
+/// fixed by the crest spec, the volt-second balance of the boost (on: v_in/L; off: (V_out − v_in)/L)
+/// gives, at phase θ (common practice, any text on transition-mode PFC, from memory):
+///   D(θ)     = 1 − v_in(θ)/V_out
+///   f_sw(θ)  = D(θ)/t_on = (1 − v_in(θ)/V_out)/t_on     (lowest at the crest, highest near zero)
+///   ΔI(θ)    = 2·I(θ)                                    (the current returns to zero each cycle)
+/// f_sw(θ) tends to 1/t_on at the zero crossing; it is clamped at max_critical_frequency_ratio ×
+/// f_crest (judgement: a controller's frequency clamp or minimum off time); where the clamp holds,
+/// the stage is taken as still in critical conduction at the clamped frequency with D(θ) (on time
+/// D/f_max, shorter than t_on), its triangle still 0 to 2·I(θ) (judgement: a real controller enters
+/// discontinuous conduction or skips valleys there, at the lowest currents of the half-cycle). The
+/// lines at instant j then sit at k·f_sw(θ_j) (ModulatedLines::instant_fundamental_hz).
+///
 /// Example:
 ///   const MainsCycle cycle = mains_cycle_lines(crest, MainsCycleSpec{50.0, 40.0}, 30e6);
 ///   cycle.switch_node_v.phases[j] ... the switch-node lines at the j-th instant of the half-cycle
 #include <cstddef>
+#include <optional>
+#include <string>
 
 #include "core/source/source.hpp"
 #include "core/source/waveform.hpp"
 
 namespace spurcast {
 
+/// How the boost PFC stage conducts: continuous (fixed frequency, the default) or critical
+/// (constant on time, frequency varying over the half-cycle).
+enum class Conduction { continuous, critical };
+
+/// "continuous" or "critical".
+[[nodiscard]] std::string conduction_name(Conduction conduction);
+
 /// The mains keys of [converter] for topology boost-pfc.
 struct MainsCycleSpec {
   double mains_frequency_hz = 50.0;  ///< [Hz] in [min_mains_frequency_hz, max_mains_frequency_hz]
   double switching_threshold_v =
       0.0;  ///< [V] the rectified input voltage below which the stage idles, ≥ 0
+  Conduction conduction = Conduction::continuous;  ///< `conduction`
 };
+
+/// The highest switching frequency of a critical-conduction stage, as a multiple of its crest
+/// frequency: 4 (judgement: a 100 kHz crest then reaches at most 400 kHz near the zero crossing,
+/// where controllers clamp their frequency or hold a minimum off time; without the clamp f_sw
+/// tends to 1/t_on there).
+inline constexpr double max_critical_frequency_ratio = 4.0;
+
+/// [Hz] The switching frequency of a critical-conduction stage at mains phase θ [rad]:
+/// min((1 − V_pk·|sin θ|/V_out)/t_on, max_critical_frequency_ratio·f_crest), t_on = D_crest/f_crest
+/// (rules above), whether or not the stage switches there (the threshold is not applied).
+[[nodiscard]] double critical_switching_frequency_hz(const SwitchingSpec& crest, double phase_rad);
 
 /// 50 Hz, the default mains frequency (common practice: 50 Hz in most of the world, 60 Hz in the
 /// Americas and parts of Asia).
@@ -60,6 +98,12 @@ struct MainsCycle {
   double crest_input_v = 0.0;        ///< [V] V_pk = (1 − D_crest)·V_out
   std::size_t switching_phases = 0;  ///< instants at which the stage switches
   std::size_t phases = 0;            ///< instants sampled
+  Conduction conduction = Conduction::continuous;
+  /// [Hz] the lowest and highest switching frequency over the switching instants (equal for
+  /// continuous conduction), and the instants held at the critical-conduction clamp.
+  double lowest_switching_hz = 0.0;
+  double highest_switching_hz = 0.0;
+  std::size_t clamped_phases = 0;
 
   /// The fraction of each half-cycle during which the stage switches (switching_phases / phases).
   [[nodiscard]] double switching_fraction() const {
@@ -70,14 +114,17 @@ struct MainsCycle {
 /// V_pk = (1 − duty)·amplitude [V] of a crest spec.
 [[nodiscard]] double crest_input_voltage_v(const SwitchingSpec& crest);
 
-/// The switching spec at mains phase θ [rad] (0 to π), from the crest spec (rules above); nullopt
-/// where the stage idles (v_in below the threshold). The crest spec must be valid, without dither.
+/// The switching spec at mains phase θ [rad] (0 to π), from the crest spec (rules above, for
+/// mains.conduction); nullopt where the stage idles (v_in below the threshold). The crest spec must
+/// be valid, without dither.
 [[nodiscard]] std::optional<SwitchingSpec> spec_at_mains_phase(const SwitchingSpec& crest,
                                                                const MainsCycleSpec& mains,
                                                                double phase_rad);
 
 /// The exact lines (source.hpp's piecewise-linear series) up to max_frequency_hz at `phases`
-/// instants θ_j = π·(j + 1/2)/phases of the half-cycle, modulation period 1/(2·f_mains).
+/// instants θ_j = π·(j + 1/2)/phases of the half-cycle, modulation period 1/(2·f_mains); for
+/// critical conduction with the instants' switching frequencies (instant_fundamental_hz, every
+/// instant's, idle or not) and at each instant the lines up to max_frequency_hz (zeros above).
 /// Error when the crest spec is dithered or invalid.
 [[nodiscard]] MainsCycle mains_cycle_lines(const SwitchingSpec& crest, const MainsCycleSpec& mains,
                                            double max_frequency_hz,

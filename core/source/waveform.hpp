@@ -76,11 +76,21 @@ struct LineSpectrum {
 /// T = modulation_period_s, harmonic k of fundamental_hz has the RMS phasor phases[j][k−1]
 /// (quasi-static: each switching cycle near t_j is the periodic waveform of those lines). Every
 /// phases[j] has the same size; an instant at which nothing switches holds zeros.
+/// A switching frequency that varies over the modulation (a critical-conduction PFC stage) is
+/// given per instant: harmonic k of instant j then sits at k·instant_fundamental_hz[j], and
+/// fundamental_hz is the lowest of them.
 struct ModulatedLines {
   Quantity quantity = Quantity::voltage;
-  double fundamental_hz = 0.0;       ///< [Hz] the switching frequency, > 0
+  double fundamental_hz = 0.0;       ///< [Hz] the switching frequency, > 0 (varying: the lowest)
   double modulation_period_s = 0.0;  ///< [s] T, > 0 (half a mains period)
   std::vector<std::vector<std::complex<double>>> phases;  ///< [j][k−1] RMS phasors [V] or [A]
+  /// [Hz] per instant j, each ≥ fundamental_hz; empty: every instant at fundamental_hz.
+  std::vector<double> instant_fundamental_hz;
+
+  /// [Hz] the fundamental at instant j.
+  [[nodiscard]] double fundamental_at(std::size_t j) const {
+    return instant_fundamental_hz.empty() ? fundamental_hz : instant_fundamental_hz[j];
+  }
 };
 
 }  // namespace spurcast
