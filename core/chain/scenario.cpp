@@ -62,6 +62,10 @@ Scenario scenario_from_table(const toml::table& table, const std::string& file, 
       const bool boost = converter.topology == Topology::boost || converter.topology == Topology::boost_pfc;
       spec.input_current_shape = boost ? InputCurrentShape::triangular : InputCurrentShape::pulsed;
       spec.current_ripple_a = converter.inductor_ripple_a.value_or(0.0);
+      // Critical conduction: the triangle runs from zero to 2·I (core/source/mains_cycle.hpp).
+      if (converter.topology == Topology::boost_pfc && converter.mains.conduction == Conduction::critical) {
+        spec.current_ripple_a = 2.0 * spec.current_a;
+      }
       if (const auto problem = switching_problem(spec)) {
         throw Error(problem->key == "inductor_ripple" ? converter.ripple_where : converter.where, problem->message);
       }

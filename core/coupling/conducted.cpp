@@ -280,6 +280,72 @@ ConductedResult conduct(const LineSpectrum& switch_node_v, const LineSpectrum& i
   return result;
 }
 
+namespace {
+
+/// conduct_modulated for lines whose fundamental varies over the instants (critical conduction):
+/// the lines of every instant sit at their own frequencies k·f_j, so the transfer functions are
+/// taken from the adaptive grid (transfer_grid.hpp) at the distinct frequencies of the lines that
+/// are not zero, and each line is weighted by the transfer at its own frequency.
+std::vector<ModulatedLines> conduct_swept(const ModulatedLines& switch_node_v, const ModulatedLines& input_current_a,
+                                          const ConductedModel& model, std::size_t count) {
+  const std::size_t phases = switch_node_v.phases.size();
+  if (switch_node_v.instant_fundamental_hz != input_current_a.instant_fundamental_hz ||
+      switch_node_v.instant_fundamental_hz.size() != phases) {
+    throw Error("the switch-node and input-current lines of the mains cycle do not share their instants");
+  }
+  for (const double f : switch_node_v.instant_fundamental_hz) {
+    if (!(std::isfinite(f) && f > 0.0)) {
+      throw Error("expected a fundamental frequency > 0 Hz, found " + format_quantity(f, Dimension::frequency));
+    }
+  }
+  auto phasor = [](const std::vector<cd>& lines, std::size_t k) { return k < lines.size() ? lines[k] : cd(0.0, 0.0); };
+  std::vector<double> frequency_hz;
+  for (std::size_t j = 0; j < phases; ++j) {
+    const double f = switch_node_v.instant_fundamental_hz[j];
+    for (std::size_t k = 0; k < count; ++k) {
+      if (phasor(switch_node_v.phases[j], k) != cd(0.0, 0.0) || phasor(input_current_a.phases[j], k) != cd(0.0, 0.0)) {
+        frequency_hz.push_back(static_cast<double>(k + 1) * f);
+      }
+    }
+  }
+  std::sort(frequency_hz.begin(), frequency_hz.end());
+  frequency_hz.erase(std::unique(frequency_hz.begin(), frequency_hz.end()), frequency_hz.end());
+  const TransferFunctions h =
+      frequency_hz.empty() ? TransferFunctions{}
+                           : transfer_on_grid(model, frequency_hz,
+                                              {&TransferFunctions::port1_per_input_current_ohm,
+                                               &TransferFunctions::port1_per_switch_node,
+                                               &TransferFunctions::port2_per_input_current_ohm,
+                                               &TransferFunctions::port2_per_switch_node});
+  std::vector<ModulatedLines> ports(static_cast<std::size_t>(model.line_count()));
+  for (std::size_t line = 0; line < ports.size(); ++line) {
+    ModulatedLines& port = ports[line];
+    port.quantity = Quantity::voltage;
+    port.fundamental_hz = switch_node_v.fundamental_hz;
+    port.modulation_period_s = switch_node_v.modulation_period_s;
+    port.instant_fundamental_hz = switch_node_v.instant_fundamental_hz;
+    port.phases.assign(phases, std::vector<cd>(count));
+    const auto& per_i = line == 0 ? h.port1_per_input_current_ohm : h.port2_per_input_current_ohm;
+    const auto& per_v = line == 0 ? h.port1_per_switch_node : h.port2_per_switch_node;
+    for (std::size_t j = 0; j < phases; ++j) {
+      const double f = switch_node_v.instant_fundamental_hz[j];
+      for (std::size_t k = 0; k < count; ++k) {
+        const cd v = phasor(switch_node_v.phases[j], k);
+        const cd i = phasor(input_current_a.phases[j], k);
+        if (v == cd(0.0, 0.0) && i == cd(0.0, 0.0)) continue;
+        const auto at = static_cast<std::size_t>(
+            std::lower_bound(frequency_hz.begin(), frequency_hz.end(), static_cast<double>(k + 1) * f) -
+            frequency_hz.begin());
+        // Superposition of the two sources, as conduct() does at each harmonic.
+        port.phases[j][k] = per_i[at] * i + per_v[at] * v;
+      }
+    }
+  }
+  return ports;
+}
+
+}  // namespace
+
 std::vector<ModulatedLines> conduct_modulated(const ModulatedLines& switch_node_v, const ModulatedLines& input_current_a,
                                               const ConductedModel& model) {
   const std::size_t phases = switch_node_v.phases.size();
@@ -299,6 +365,9 @@ std::vector<ModulatedLines> conduct_modulated(const ModulatedLines& switch_node_
   std::size_t count = 0;
   for (std::size_t j = 0; j < phases; ++j) {
     count = std::max({count, switch_node_v.phases[j].size(), input_current_a.phases[j].size()});
+  }
+  if (!switch_node_v.instant_fundamental_hz.empty() || !input_current_a.instant_fundamental_hz.empty()) {
+    return conduct_swept(switch_node_v, input_current_a, model, count);
   }
   std::vector<double> frequency_hz(count);
   for (std::size_t k = 0; k < count; ++k) frequency_hz[k] = static_cast<double>(k + 1) * f0;

@@ -142,6 +142,10 @@ enum class LineSolve { every_line, adaptive_grid };
 /// instants. The sidebands the modulation spreads around k·f0 (within a receiver span, ±2·B6) take
 /// the transfer at k·f0 (narrowband: the network's transfer is taken flat across ±2·B6 of each
 /// harmonic). The two sources must have the same fundamental, modulation period and instants.
+/// Lines whose fundamental varies over the instants (ModulatedLines::instant_fundamental_hz, a
+/// critical-conduction stage) are weighted at their own frequencies k·f_j, the transfer functions
+/// interpolated from the adaptive grid (transfer_grid.hpp, within transfer_grid_tolerance) at the
+/// frequencies of the lines that are not zero; the ports keep the instants' fundamentals.
 [[nodiscard]] std::vector<ModulatedLines> conduct_modulated(const ModulatedLines& switch_node_v,
                                                             const ModulatedLines& input_current_a,
                                                             const ConductedModel& model);

@@ -50,7 +50,7 @@ ConverterSpec read_converter_section(TableReader& reader) {
       reader.fail(key, std::string("'") + key + "' belongs to topology netlist, not " + name);
     }
   }
-  for (const char* key : {"mains_frequency", "switching_threshold"}) {
+  for (const char* key : {"mains_frequency", "switching_threshold", "conduction"}) {
     if (spec.topology != Topology::boost_pfc && reader.has(key)) {
       reader.fail(key, std::string("'") + key + "' belongs to topology boost-pfc, not " + name);
     }
@@ -58,7 +58,7 @@ ConverterSpec read_converter_section(TableReader& reader) {
   // min_input_voltage and output_power are read by read_converter_power (core/coupling/input_stability.hpp).
   reader.finish({"topology", "inductor_ripple", "interwinding_capacitance", "secondary_capacitance",
                  "y_capacitance", "min_input_voltage", "output_power", "file", "subckt", "mains_frequency",
-                 "switching_threshold"});
+                 "switching_threshold", "conduction"});
   auto checked = [&](std::string_view key, Dimension dimension, double value,
                      bool strictly_positive) {
     if (!(std::isfinite(value) && (strictly_positive ? value > 0.0 : value >= 0.0))) {
@@ -68,8 +68,18 @@ ConverterSpec read_converter_section(TableReader& reader) {
     }
     return value;
   };
+  if (spec.topology == Topology::boost_pfc &&
+      reader.optional_choice("conduction", {"continuous", "critical"}).value_or("continuous") == "critical") {
+    spec.mains.conduction = Conduction::critical;
+    spec.conduction_where = reader.position("conduction");
+    // The current returns to zero in every cycle: its ripple is 2·I, not a value of its own.
+    if (reader.has("inductor_ripple")) {
+      reader.fail("inductor_ripple", "'inductor_ripple' does not apply to conduction = \"critical\": the current's "
+                                     "triangle runs from zero to twice `current` in every cycle");
+    }
+  }
   // A boost's input current is its ripple: required there, so that it is never a silent zero.
-  if (boost || reader.has("inductor_ripple")) {
+  if ((boost && spec.mains.conduction != Conduction::critical) || reader.has("inductor_ripple")) {
     spec.inductor_ripple_a =
         checked("inductor_ripple", Dimension::current,
                 reader.required_quantity("inductor_ripple", Dimension::current), false);

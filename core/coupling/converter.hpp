@@ -11,7 +11,10 @@
 ///              cycle; over each half-cycle the duty, the switching-cell current and its ripple
 ///              follow the rectified mains, and the stage idles where the input is below
 ///              `switching_threshold` (core/source/mains_cycle.hpp); `mains_frequency` (default
-///              50 Hz) sets the half-cycle the receiver reads;
+///              50 Hz) sets the half-cycle the receiver reads; `conduction` = "continuous"
+///              (default: fixed frequency) or "critical" (constant on time: the frequency varies
+///              over the half-cycle and the current returns to zero in every cycle, so
+///              `inductor_ripple` is refused with it);
 ///   flyback    the primary draws a ramp during the on time and nothing during the off time; the
 ///              drain swing also drives the transformer's interwinding capacitance into the
 ///              secondary, which returns through its capacitance to earth (output cable, load) and
@@ -65,6 +68,7 @@ struct ConverterSpec {
   MainsCycleSpec mains;
   SourcePosition mains_frequency_where;  ///< of `mains_frequency` (or the table), may be empty
   SourcePosition threshold_where;        ///< of `switching_threshold` (or the table), may be empty
+  SourcePosition conduction_where;       ///< of `conduction = "critical"`, may be empty
   /// netlist: the subcircuit as a SPICE stage (its file, subckt and elements; pins as above).
   std::shared_ptr<const FilterStage> netlist;
   SourcePosition ripple_where;   ///< of `inductor_ripple` (for messages), may be empty
@@ -75,7 +79,8 @@ struct ConverterSpec {
 /// optional for buck and flyback); interwinding_capacitance and secondary_capacitance (required for
 /// flyback), y_capacitance (optional, flyback), file and subckt (required for netlist: a SPICE file
 /// relative to the scenario's folder and the subcircuit's name); mains_frequency (10 Hz to 1 kHz,
-/// default 50 Hz) and switching_threshold (a voltage ≥ 0, default 0 V) for boost-pfc only. A key
+/// default 50 Hz), switching_threshold (a voltage ≥ 0, default 0 V) and conduction ("continuous",
+/// the default, or "critical"; inductor_ripple is then refused) for boost-pfc only. A key
 /// of another topology is refused at its position: "'interwinding_capacitance' belongs to topology
 /// flyback, not boost". The threshold against the crest input voltage is checked with [switching]
 /// (core/chain/scenario.cpp).

@@ -172,6 +172,46 @@ TEST_CASE("superposition: both sources at once = each alone, summed") {
   }
 }
 
+TEST_CASE("modulated lines at a varying fundamental: each line through the transfer at its own frequency") {
+  // The fast path (the adaptive grid, interpolated) against its slow twin: conduct() of each
+  // instant's lines at that instant's fundamental, solved directly.
+  const ConductedModel model(example_coupling(), {}, LisnSpec{});
+  ModulatedLines v, i;
+  v.quantity = Quantity::voltage;
+  i.quantity = Quantity::current;
+  const std::vector<double> instants_hz = {100e3, 137.5e3, 250e3, 400e3};
+  for (ModulatedLines* lines : {&v, &i}) {
+    lines->fundamental_hz = 100e3;
+    lines->modulation_period_s = 0.01;
+    lines->instant_fundamental_hz = instants_hz;
+  }
+  for (const double f : instants_hz) {
+    v.phases.push_back(paul_trapezoid(Quantity::voltage, 400.0, 0.3, 20e-9, f, 60).harmonics);
+    i.phases.push_back(paul_trapezoid(Quantity::current, 2.0, 0.3, 20e-9, f, 60).harmonics);
+  }
+  const std::vector<ModulatedLines> ports = conduct_modulated(v, i, model);
+  REQUIRE(ports.size() == 2);
+  CHECK(ports[0].instant_fundamental_hz == instants_hz);
+  for (std::size_t j = 0; j < instants_hz.size(); ++j) {
+    LineSpectrum vj, ij;
+    vj.quantity = Quantity::voltage;
+    ij.quantity = Quantity::current;
+    vj.fundamental_hz = ij.fundamental_hz = instants_hz[j];
+    vj.harmonics = v.phases[j];
+    ij.harmonics = i.phases[j];
+    const ConductedResult direct = conduct(vj, ij, model);
+    for (std::size_t k = 0; k < direct.line1_v.size(); ++k) {
+      // The grid's tolerance (transfer_grid_tolerance at its checked midpoints), with a margin of 10.
+      CHECK(std::abs(ports[0].phases[j][k] - direct.line1_v[k]) <= 10.0 * transfer_grid_tolerance * std::abs(direct.line1_v[k]) + 1e-15);
+      CHECK(std::abs(ports[1].phases[j][k] - direct.line2_v[k]) <= 10.0 * transfer_grid_tolerance * std::abs(direct.line2_v[k]) + 1e-15);
+    }
+  }
+  ModulatedLines shifted = i;
+  shifted.instant_fundamental_hz[2] = 260e3;
+  CHECK_THROWS_WITH_AS(conduct_modulated(v, shifted, model),
+                       "the switch-node and input-current lines of the mains cycle do not share their instants", Error);
+}
+
 TEST_CASE("an LC stage (inductor on the LISN side): closed form, and the −40 dB/decade low-pass") {
   // lines = 1 keeps the closed form short: line 2 is bonded to ground.
   FilterStage lc;

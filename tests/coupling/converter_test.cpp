@@ -163,3 +163,23 @@ TEST_CASE("[converter] boost-pfc: mains_frequency (50 Hz by default) and switchi
                                       "secondary_capacitance = \"1 nF\"\nswitching_threshold = \"20 V\"\n"),
                        "c.toml:4:23: 'switching_threshold' belongs to topology boost-pfc, not flyback", Error);
 }
+
+TEST_CASE("[converter] boost-pfc: conduction continuous (default) or critical, which takes no inductor_ripple") {
+  // Critical (transition-mode) conduction: the inductor current starts from zero in every cycle, so
+  // its ripple is twice its mean (common practice), never a value of its own.
+  CHECK(read_converter("topology = \"boost-pfc\"\ninductor_ripple = \"1 A\"\n").mains.conduction == Conduction::continuous);
+  CHECK(read_converter("topology = \"boost-pfc\"\ninductor_ripple = \"1 A\"\nconduction = \"continuous\"\n").mains.conduction ==
+        Conduction::continuous);
+  const ConverterSpec critical = read_converter("topology = \"boost-pfc\"\nconduction = \"critical\"\n");
+  CHECK(critical.mains.conduction == Conduction::critical);
+  CHECK_FALSE(critical.inductor_ripple_a);
+  CHECK(conduction_name(critical.mains.conduction) == "critical");
+  CHECK_THROWS_WITH_AS(read_converter("topology = \"boost-pfc\"\nconduction = \"critical\"\ninductor_ripple = \"1 A\"\n"),
+                       "c.toml:3:19: 'inductor_ripple' does not apply to conduction = \"critical\": the current's triangle "
+                       "runs from zero to twice `current` in every cycle",
+                       Error);
+  CHECK_THROWS_WITH_AS(read_converter("topology = \"boost-pfc\"\ninductor_ripple = \"1 A\"\nconduction = \"boundary\"\n"),
+                       "c.toml:3:14: expected one of continuous or critical, found \"boundary\"", Error);
+  CHECK_THROWS_WITH_AS(read_converter("topology = \"buck\"\nconduction = \"critical\"\n"),
+                       "c.toml:2:14: 'conduction' belongs to topology boost-pfc, not buck", Error);
+}
