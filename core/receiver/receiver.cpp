@@ -662,6 +662,7 @@ std::string to_string(ModulatedReading reading) {
     case ModulatedReading::sidebands: return "sidebands";
     case ModulatedReading::quasi_static: return "quasi-static";
     case ModulatedReading::several_harmonics: return "several harmonics";
+    case ModulatedReading::swept: return "swept";
   }
   return "sidebands";
 }
@@ -672,6 +673,100 @@ ModulatedReading modulated_reading(double fundamental_hz, double modulation_peri
   if (2.0 * span_bandwidths * b6 * modulation_period_s <= max_sideband_lines) return ModulatedReading::sidebands;
   return ModulatedReading::quasi_static;
 }
+
+SweptGain swept_if_gain(double start_offset_hz, double end_offset_hz, double duration_s, double bandwidth_6db_hz) {
+  const double a = 4.0 * std::numbers::ln2 / (bandwidth_6db_hz * bandwidth_6db_hz);  // |H| = exp(−a·u²)
+  const double width_hz = end_offset_hz - start_offset_hz;
+  const double x = duration_s > 0.0 ? a * std::abs(width_hz) / (duration_s * std::numbers::pi) : 0.0;
+  const double widening = 1.0 + x * x;
+  const double swept_a = a / widening;             // the response widened by √(1 + x²)
+  const double height = 1.0 / std::sqrt(std::sqrt(widening));  // and lowered by (1 + x²)^(−1/4)
+  SweptGain gain;
+  const double nearest_hz = start_offset_hz * end_offset_hz <= 0.0
+                                ? 0.0
+                                : std::min(std::abs(start_offset_hz), std::abs(end_offset_hz));
+  gain.highest = height * std::exp(-swept_a * nearest_hz * nearest_hz);
+  const double root = std::sqrt(swept_a);
+  if (std::abs(width_hz) * root < 1e-6) {
+    // No sweep to speak of: the gain at the middle of the interval.
+    const double middle_hz = 0.5 * (start_offset_hz + end_offset_hz);
+    gain.mean = height * std::exp(-swept_a * middle_hz * middle_hz);
+  } else {
+    // ∫ exp(−a'·u²) du over [u0, u1] / (u1 − u0) = √π/(2√a')·(erf(√a'·u1) − erf(√a'·u0))/(u1 − u0);
+    // where both ends lie on the same side the difference is taken of erfc, which keeps its digits.
+    const double u0 = std::min(start_offset_hz, end_offset_hz) * root;
+    const double u1 = std::max(start_offset_hz, end_offset_hz) * root;
+    double difference = 0.0;
+    if (u0 >= 0.0) {
+      difference = std::erfc(u0) - std::erfc(u1);
+    } else if (u1 <= 0.0) {
+      difference = std::erfc(-u1) - std::erfc(-u0);
+    } else {
+      difference = std::erf(u1) - std::erf(u0);
+    }
+    gain.mean = height * 0.5 * std::sqrt(std::numbers::pi) * difference / (u1 - u0);
+  }
+  return gain;
+}
+
+namespace {
+
+/// scan_modulated_lines for lines whose fundamental varies over the instants (the method in
+/// receiver.hpp, ModulatedReading::swept).
+void read_swept_lines(const ModulatedLines& lines, const ScanPlan& plan, const std::vector<double>& frequencies,
+                      ScanResult& result) {
+  const std::size_t phases = lines.phases.size();
+  const std::size_t count = lines.phases.front().size();
+  const BandParameters band = band_parameters(plan.band);
+  const double b6 = band.bandwidth_6db_hz;
+  const DetectorModel model = make_detector_model(band.detector);
+  const double interval_s = lines.modulation_period_s / static_cast<double>(phases);
+  // Each instant's interval [t_j − Δ/2, t_j + Δ/2] in two halves over which the fundamental runs
+  // linearly from the midpoint with the instant before (periodic) to f_j and on to the midpoint
+  // with the instant after.
+  std::vector<double> start_hz(phases), end_hz(phases);
+  for (std::size_t j = 0; j < phases; ++j) {
+    const double f = lines.fundamental_at(j);
+    start_hz[j] = 0.5 * (lines.fundamental_at((j + phases - 1) % phases) + f);
+    end_hz[j] = 0.5 * (f + lines.fundamental_at((j + 1) % phases));
+  }
+  const double a = 4.0 * std::numbers::ln2 / (b6 * b6);
+  parallel_chunks(thread_count(plan.threads), frequencies.size(), [&](std::size_t begin, std::size_t end) {
+    std::vector<double> mean_envelope(phases), peak_envelope(phases);
+    for (std::size_t i = begin; i < end; ++i) {
+      const double tuned_hz = frequencies[i];
+      for (std::size_t j = 0; j < phases; ++j) {
+        const double f = lines.fundamental_at(j);
+        const double low_hz = std::min({start_hz[j], f, end_hz[j]});
+        const double high_hz = std::max({start_hz[j], f, end_hz[j]});
+        // The harmonics whose (sweep-widened) span reaches the tuned frequency.
+        const double fastest_hz_per_s = 2.0 * std::max(std::abs(f - start_hz[j]), std::abs(end_hz[j] - f)) / interval_s;
+        const double x = a * (tuned_hz / low_hz + 1.0) * fastest_hz_per_s / std::numbers::pi;
+        const double reach_hz = span_bandwidths * b6 * std::sqrt(1.0 + x * x);
+        const auto first = static_cast<std::size_t>(std::max(1.0, std::ceil((tuned_hz - reach_hz) / high_hz)));
+        const auto last = static_cast<std::size_t>(
+            std::min(static_cast<double>(count), std::floor((tuned_hz + reach_hz) / low_hz)));
+        double mean = 0.0, peak = 0.0;
+        for (std::size_t k = first; k <= last; ++k) {
+          const double amplitude = std::numbers::sqrt2 * std::abs(lines.phases[j][k - 1]);
+          if (amplitude == 0.0) continue;
+          const double kk = static_cast<double>(k);
+          const SweptGain before = swept_if_gain(kk * start_hz[j] - tuned_hz, kk * f - tuned_hz, 0.5 * interval_s, b6);
+          const SweptGain after = swept_if_gain(kk * f - tuned_hz, kk * end_hz[j] - tuned_hz, 0.5 * interval_s, b6);
+          mean += amplitude * 0.5 * (before.mean + after.mean);
+          peak += amplitude * std::max(before.highest, after.highest);
+        }
+        mean_envelope[j] = mean;
+        peak_envelope[j] = std::max(peak, mean);
+      }
+      DetectorReadings r = read_periodic_envelope(mean_envelope, interval_s, model);
+      r.peak = std::max(r.peak, *std::max_element(peak_envelope.begin(), peak_envelope.end()) / std::numbers::sqrt2);
+      result.readings[i] = make_reading(tuned_hz, r);
+    }
+  });
+}
+
+}  // namespace
 
 ScanResult scan_modulated_lines(const ModulatedLines& lines, const ScanPlan& plan,
                                 std::optional<ModulatedReading> forced) {
@@ -685,9 +780,25 @@ ScanResult scan_modulated_lines(const ModulatedLines& lines, const ScanPlan& pla
   for (const auto& phase : lines.phases) {
     if (phase.size() != count) throw Error("expected the same harmonics at every instant of the modulation");
   }
+  const bool varying = !lines.instant_fundamental_hz.empty();
+  if (varying) {
+    if (lines.instant_fundamental_hz.size() != phases) {
+      throw Error("expected a switching frequency at every instant of the modulation");
+    }
+    for (const double f : lines.instant_fundamental_hz) {
+      if (!(std::isfinite(f) && f >= f0 * (1.0 - 1e-12))) {
+        throw Error("expected every instant's switching frequency at or above the lowest, " +
+                    format_quantity(f0, Dimension::frequency) + ", found " + format_quantity(f, Dimension::frequency));
+      }
+    }
+    if (forced && *forced != ModulatedReading::swept && *forced != ModulatedReading::several_harmonics) {
+      throw Error("lines whose switching frequency varies are read swept, not " + to_string(*forced));
+    }
+  }
   const BandParameters band = band_parameters(plan.band);
   const double b6 = band.bandwidth_6db_hz;
-  const ModulatedReading method = forced.value_or(modulated_reading(f0, period_s, plan.band));
+  const ModulatedReading method =
+      forced.value_or(varying ? ModulatedReading::swept : modulated_reading(f0, period_s, plan.band));
   if (method == ModulatedReading::several_harmonics || f0 <= 2.0 * span_bandwidths * b6) {
     throw Error("band " + to_string(plan.band) + ": the receiver's span (" +
                 format_quantity(2.0 * span_bandwidths * b6, Dimension::frequency) + ") holds several harmonics of " +
@@ -696,6 +807,13 @@ ScanResult scan_modulated_lines(const ModulatedLines& lines, const ScanPlan& pla
   const std::vector<double> frequencies = plan_frequencies(plan);
   ScanResult result = empty_scan_result(lines.quantity, plan);
   if (frequencies.empty()) return result;
+  if (method == ModulatedReading::swept) {
+    result.readings.resize(frequencies.size());
+    read_swept_lines(lines, plan, frequencies, result);
+    require_finite_readings(result);
+    if (plan.noise_floor_db) apply_noise_floor(result, *plan.noise_floor_db);
+    return result;
+  }
   const DetectorModel model = make_detector_model(band.detector);
   const auto harmonic_count = static_cast<long long>(count);
   // The harmonic nearest the tuned frequency, or 0 when none lies within its span (±2·B6, plus

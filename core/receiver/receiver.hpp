@@ -203,15 +203,47 @@ struct ScanResult {
 ///    homogeneous (a scaled envelope reads scaled), so each harmonic's envelope is read once and
 ///    scaled by |H|. Chosen otherwise (band B on 50 Hz mains: 360 sideband lines in the span);
 ///  - several_harmonics: the span (±2·B6) holds more than one harmonic of f0 (f0 ≤ 4·B6); the
-///    beat between harmonics is not read over the modulation: scan_modulated_lines refuses it.
-enum class ModulatedReading { sidebands, quasi_static, several_harmonics };
+///    beat between harmonics is not read over the modulation: scan_modulated_lines refuses it;
+///  - swept: the fundamental varies over the instants (ModulatedLines::instant_fundamental_hz, a
+///    critical-conduction PFC stage), so harmonic k sweeps across the band and no sideband series
+///    at k·f0 + n/T exists. Quasi-static with the sweep: the fundamental is taken linear in time
+///    between the instants (from the midpoint with the instant before to f_j, then to the midpoint
+///    with the instant after, two halves of Δ = T/N), and in each half harmonic k is a line sweeping
+///    linearly at μ = k·df/dt through the IF. A linear sweep through the Gaussian IF
+///    |H(u)| = exp(−a·u²), a = 4·ln2/B6², gives the envelope (swept_if_gain)
+///        |y| = A·(1 + x²)^(−1/4)·exp(−a·u²/(1 + x²)),   x = a·μ/π,   u = the line's offset now
+///    (the chirp exp(jπμt²) through the Gaussian impulse response is a Gaussian integral: our
+///    derivation; for x → 0 the quasi-static |H(u)|, and its peak factor is the swept analyser's
+///    sweep loss of a Gaussian filter, [1 + 0.195·(μ/B3²)²]^(−1/4) with B3 = B6/√2, common
+///    practice). The envelope handed to the average and quasi-peak detectors at instant j is the
+///    sum over harmonics of A_k·(that gain averaged over the interval: an erf difference), the
+///    peak the largest over the instants of Σ_k A_k·(its highest value in the interval), A_k =
+///    √2·|X_k(t_j)|. Checked against a numpy time-domain simulation of a critical-conduction
+///    stage (tests/receiver/swept_lines_test.cpp). Judgements: the magnitudes of harmonics add
+///    (their beat is not read: a bound where two pass the IF at once); a line passing in a
+///    fraction of the interval reaches the quasi-peak detector spread over the interval (the
+///    average is kept; the quasi-peak, which charges more from a short burst than from its mean,
+///    reads somewhat low for fast sweeps, always between the average and the peak).
+enum class ModulatedReading { sidebands, quasi_static, several_harmonics, swept };
+
+/// The Gaussian IF's response to a line sweeping linearly from start_offset_hz to end_offset_hz
+/// (offsets from the tuned frequency) in duration_s (see ModulatedReading::swept): its mean and its
+/// highest value over the sweep, relative to the line's amplitude.
+struct SweptGain {
+  double mean = 0.0;
+  double highest = 0.0;
+};
+[[nodiscard]] SweptGain swept_if_gain(double start_offset_hz, double end_offset_hz, double duration_s,
+                                      double bandwidth_6db_hz);
 /// The most sideband lines in a span (4·B6·T) for the exact sideband reading: 64 (judgement: the
 /// quasi-static reading then sees an IF response shorter than T/16; the two agree within
 /// 0.1 dB there, tests/receiver/modulated_lines_test.cpp).
 inline constexpr double max_sideband_lines = 64.0;
-/// "sidebands", "quasi-static" or "several harmonics".
+/// "sidebands", "quasi-static", "several harmonics" or "swept".
 [[nodiscard]] std::string to_string(ModulatedReading reading);
-/// The reading scan_modulated_lines makes in `band` for fundamental f0 and modulation period T.
+/// The reading scan_modulated_lines makes in `band` for fundamental f0 and modulation period T
+/// (for a fixed fundamental; lines whose fundamental varies are read swept unless their lowest
+/// fundamental makes several_harmonics).
 [[nodiscard]] ModulatedReading modulated_reading(double fundamental_hz, double modulation_period_s, CisprBand band);
 
 /// The receiver on modulated lines (see ModulatedReading): peak, quasi-peak and average of the
