@@ -529,12 +529,37 @@ Prediction predict(const Scenario& scenario, const PredictionOptions& options) {
       gating.switching_threshold_v = mains.switching_threshold_v;
       gating.switching_fraction = cycle.switching_fraction();
       gating.phases = cycle.phases;
+      gating.conduction = cycle.conduction;
+      gating.lowest_switching_hz = cycle.lowest_switching_hz;
+      gating.highest_switching_hz = cycle.highest_switching_hz;
+      gating.clamped_phases = cycle.clamped_phases;
+      const bool critical = cycle.conduction == Conduction::critical;
+      if (critical) {
+        // Lines whose fundamental varies are read swept (receiver.hpp, ModulatedReading::swept).
+        for (auto& band_reading : gating.band_readings) {
+          if (band_reading.second != ModulatedReading::several_harmonics) band_reading.second = ModulatedReading::swept;
+        }
+      }
       if (gated_top_hz > 0.0) gated_ports = conduct_modulated(cycle.switch_node_v, cycle.input_current_a, model);
       std::string how;
       for (const auto& [band, reading] : gating.band_readings) {
         how += (how.empty() ? "" : ", ") + std::string("band ") + to_string(band) + " " +
                (reading == ModulatedReading::several_harmonics ? "at the crest (its span holds several harmonics)"
                                                                : to_string(reading));
+      }
+      if (critical) {
+        p.notes.push_back(
+            "critical-conduction boost PFC stage: constant on time (" +
+            format_quantity(spec.duty / spec.frequency_hz, Dimension::time) + "), the switching frequency runs from " +
+            format_quantity(cycle.lowest_switching_hz, Dimension::frequency) + " at the crest to " +
+            format_quantity(cycle.highest_switching_hz, Dimension::frequency) + " near the zero crossing" +
+            (cycle.clamped_phases > 0
+                 ? " (clamped at " + format_quantity(max_critical_frequency_ratio, Dimension::number) +
+                       " x the crest frequency over " + std::to_string(cycle.clamped_phases) + " of the " +
+                       std::to_string(cycle.phases) + " instants, judgement: a controller's frequency clamp)"
+                 : std::string()) +
+            "; the current's triangle runs from zero to twice the mean in every cycle; the receiver reads the "
+            "harmonics sweeping through its IF (path: swept mains-cycle lines)");
       }
       p.notes.push_back("boost PFC stage: receiver readings follow the " +
                         format_quantity(mains.mains_frequency_hz, Dimension::frequency) +

@@ -99,6 +99,12 @@ struct MainsGating {
   double switching_threshold_v = 0.0;  ///< [V]
   double switching_fraction = 0.0;     ///< of each half-cycle during which the stage switches
   std::size_t phases = 0;              ///< instants sampled over the half-cycle
+  Conduction conduction = Conduction::continuous;
+  /// [Hz] the switching frequency's range over the half-cycle (critical conduction: the crest's
+  /// frequency up to the highest, near the zero crossing), and the instants held at the clamp.
+  double lowest_switching_hz = 0.0;
+  double highest_switching_hz = 0.0;
+  std::size_t clamped_phases = 0;
   /// How each scanned band was read; several_harmonics: that band shows the crest's lines.
   std::vector<std::pair<CisprBand, ModulatedReading>> band_readings;
 };

@@ -120,8 +120,11 @@ ScanResult scan_plan(const Scenario& scenario, const std::string& at, const Scan
     const MainsCycle cycle = mains_cycle_lines(*scenario.switching, scenario.converter.mains, top_hz);
     notes.push_back("boost PFC stage: read over the " +
                     format_quantity(cycle.mains_frequency_hz, Dimension::frequency) + " mains half-cycle (" +
-                    to_string(modulated_reading(cycle.switch_node_v.fundamental_hz,
-                                                cycle.switch_node_v.modulation_period_s, plan.band)) +
+                    (cycle.conduction == Conduction::critical
+                         ? "critical conduction, " + format_quantity(cycle.lowest_switching_hz, Dimension::frequency) +
+                               " to " + format_quantity(cycle.highest_switching_hz, Dimension::frequency) + ", swept"
+                         : to_string(modulated_reading(cycle.switch_node_v.fundamental_hz,
+                                                       cycle.switch_node_v.modulation_period_s, plan.band))) +
                     ", switching over " + format_quantity(100.0 * cycle.switching_fraction(), Dimension::number, 3) +
                     " % of it)");
     if (at == "source") {

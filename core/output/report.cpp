@@ -351,6 +351,12 @@ std::string summary_json(const Prediction& p, const std::vector<std::string>& fi
                          {"switching_fraction", rounded(g.switching_fraction, 4)},
                          {"instants", g.phases},
                          {"bands", bands}};
+    if (g.conduction == Conduction::critical) {
+      j["mains_gating"]["conduction"] = conduction_name(g.conduction);
+      j["mains_gating"]["lowest_switching_hz"] = rounded(g.lowest_switching_hz, 1);
+      j["mains_gating"]["highest_switching_hz"] = rounded(g.highest_switching_hz, 1);
+      j["mains_gating"]["clamped_instants"] = g.clamped_phases;
+    }
   }
   j["verdict"] = to_string(p.verdict);
   // What was not computed comes right after the verdict it qualifies.
@@ -525,8 +531,11 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
   const ConverterSpec& cv = s.converter;
   if (cv.topology != Topology::buck || cv.inductor_ripple_a) {
     add("converter", "topology", topology_name(cv.topology));
+    const bool critical = cv.topology == Topology::boost_pfc && cv.mains.conduction == Conduction::critical;
     add("converter", "inductor ripple (peak to peak)",
-        cv.inductor_ripple_a ? q(*cv.inductor_ripple_a, Dimension::current) : "none (flat-topped pulse)");
+        critical                ? std::string("twice the input current (critical conduction: from zero in every cycle)")
+        : cv.inductor_ripple_a ? q(*cv.inductor_ripple_a, Dimension::current)
+                               : "none (flat-topped pulse)");
     if (cv.topology == Topology::netlist) {
       add("converter", "subcircuit", cv.netlist->subckt + " in " + cv.netlist->file);
     }
@@ -534,10 +543,14 @@ std::vector<ScenarioInput> scenario_inputs(const Scenario& s) {
       add("converter", "mains frequency", q(cv.mains.mains_frequency_hz, Dimension::frequency));
       add("converter", "switching threshold (rectified input)", q(cv.mains.switching_threshold_v, Dimension::voltage));
       const bool dithered = s.switching && s.switching->dither;
+      add("converter", "conduction", conduction_name(cv.mains.conduction));
       add("converter", "mains-cycle gating",
-          dithered ? "not modelled with dither (crest of the mains cycle)"
-                   : "duty, current and ripple follow the rectified mains over each half-cycle; fixed switching "
-                     "frequency (a critical-conduction stage's varying frequency is not modelled)");
+          dithered   ? "not modelled with dither (crest of the mains cycle)"
+          : critical ? "constant on time: duty, current and switching frequency follow the rectified mains over each "
+                       "half-cycle (the frequency clamped at " +
+                           q(max_critical_frequency_ratio, Dimension::number) + " x the crest's, judgement)"
+                     : "duty, current and ripple follow the rectified mains over each half-cycle; fixed switching "
+                       "frequency (continuous conduction)");
     }
     if (cv.topology == Topology::flyback) {
       add("converter", "interwinding capacitance", q(cv.interwinding_capacitance_f, Dimension::capacitance));

@@ -365,6 +365,57 @@ TEST_CASE("boost-pfc: summary.json names the mains-gated path, its mains and gat
   fs::remove_all(work);
 }
 
+TEST_CASE("boost-pfc in critical conduction: the swept path is named, the frequency range given, average below peak") {
+  // examples/laundry-dryer-crm-pfc.toml (invented values): 100 kHz at the crest of 230 V mains,
+  // t_on = 0.1875/100 kHz; the average detector reads the swept harmonics' linear mean over the
+  // half-cycle, the peak their highest passage, so the average is below the peak (CISPR 16-1-1
+  // detectors on a varying envelope, common practice).
+  const std::string work = make_temp_dir();
+  const Run r = run(quote(executable) + " predict " + quote(source_dir + "/examples/laundry-dryer-crm-pfc.toml") +
+                        " -o out --json",
+                    work);
+  CHECK_MESSAGE(r.err.empty(), r.err);
+  const nlohmann::json summary = check_report_folder(fs::path(work) / "out");
+  CHECK(summary.at("receiver_path") == "mains-gated-lines");
+  const nlohmann::json& gating = summary.at("mains_gating");
+  CHECK(gating.at("conduction") == "critical");
+  CHECK(gating.at("bands").at("B") == "swept");
+  // f_sw = (1 − 325·s/400)/1.875 µs: 100 kHz at the crest (the instant nearest it: within 0.01 %),
+  // clamped at 400 kHz near the zero crossing.
+  CHECK(gating.at("lowest_switching_hz").get<double>() == doctest::Approx(100e3).epsilon(1e-4));
+  CHECK(gating.at("highest_switching_hz").get<double>() == doctest::Approx(400e3).epsilon(1e-9));
+  CHECK(gating.at("clamped_instants").get<int>() > 0);
+  bool noted = false;
+  for (const auto& note : summary.at("notes")) {
+    const std::string text = note.get<std::string>();
+    noted = noted || (text.rfind("critical-conduction boost PFC stage: ", 0) == 0 &&
+                      text.find("path: swept mains-cycle lines") != std::string::npos &&
+                      text.find("judgement") != std::string::npos);
+  }
+  CHECK(noted);
+  // The highest average reading of band B below the highest peak reading, from scan CSV.
+  const std::string csv = read_file(work + "/out/scan.csv");
+  std::istringstream lines(csv);
+  std::string line;
+  std::getline(lines, line);
+  REQUIRE(line.rfind("frequency_hz,peak_dbuv,quasi_peak_dbuv,average_dbuv", 0) == 0);
+  double peak = -1e9, average = -1e9;
+  while (std::getline(lines, line)) {
+    std::istringstream row(line);
+    std::string cell;
+    std::vector<double> values;
+    while (std::getline(row, cell, ',') && values.size() < 4) values.push_back(std::stod(cell));
+    REQUIRE(values.size() == 4);
+    peak = std::max(peak, values[1]);
+    average = std::max(average, values[3]);
+  }
+  MESSAGE("band B: highest peak " << peak << " dBµV, highest average " << average << " dBµV");
+  CHECK(average < peak - 3.0);
+  const std::string html = read_file(work + "/out/report.html");
+  CHECK(html.find("constant on time") != std::string::npos);
+  fs::remove_all(work);
+}
+
 // The script the test adds to a copy of the report: it moves the pointer over the first readings plot
 // at `target_hz`, reads the readout, switches the peak curve off and reports what the page shows.
 constexpr const char* readout_probe = R"js(<script>
