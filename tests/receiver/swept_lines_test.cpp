@@ -14,6 +14,8 @@
 //    average of a periodic envelope, docs/references.md §1.6) and maximum (the peak).
 #include <doctest/doctest.h>
 
+#include <unistd.h>
+
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -58,7 +60,9 @@ bool have_numpy() { return std::system("/usr/bin/python3 -c \"import numpy\" > /
 
 /// Runs a python script with arguments and returns the numbers it prints.
 std::vector<double> run_python(const std::string& name, const std::string& script, const std::string& arguments) {
-  const std::filesystem::path dir = std::filesystem::temp_directory_path() / "spurcast_swept_lines_test";
+  // Per process: another build's test run may use the same temporary folder at the same time.
+  const std::filesystem::path dir =
+      std::filesystem::temp_directory_path() / ("spurcast_swept_lines_test_" + std::to_string(::getpid()));
   std::filesystem::create_directories(dir);
   {
     std::ofstream py(dir / (name + ".py"));
@@ -71,6 +75,8 @@ std::vector<double> run_python(const std::string& name, const std::string& scrip
   std::vector<double> values;
   double v = 0.0;
   while (in >> v) values.push_back(v);
+  in.close();
+  std::filesystem::remove_all(dir);
   return values;
 }
 
