@@ -686,6 +686,7 @@ SweptGain swept_if_gain(double start_offset_hz, double end_offset_hz, double dur
                                 ? 0.0
                                 : std::min(std::abs(start_offset_hz), std::abs(end_offset_hz));
   gain.highest = height * std::exp(-swept_a * nearest_hz * nearest_hz);
+  if (gain.highest < negligible_swept_gain) return gain;  // mean ≤ highest: taken as 0
   const double root = std::sqrt(swept_a);
   if (std::abs(width_hz) * root < 1e-6) {
     // No sweep to speak of: the gain at the middle of the interval.

@@ -233,6 +233,10 @@ struct SweptGain {
   double mean = 0.0;
   double highest = 0.0;
 };
+/// Below this highest gain a sweep's mean is taken as 0 (its erf is not evaluated): 1e-7, −140 dB
+/// (judgement: far below any reading beside the line's own passage, and below the receiver's noise
+/// floor for any line under 1 V).
+inline constexpr double negligible_swept_gain = 1e-7;
 [[nodiscard]] SweptGain swept_if_gain(double start_offset_hz, double end_offset_hz, double duration_s,
                                       double bandwidth_6db_hz);
 /// The most sideband lines in a span (4·B6·T) for the exact sideband reading: 64 (judgement: the
