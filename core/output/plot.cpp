@@ -716,12 +716,10 @@ std::string render_sweep(const SweepPlot& plot, PlotLayout& layout) {
   for (const SweepBandRow& row : plot.bands) longest_name = std::max(longest_name, code_points(row.name));
   layout.plot_left = std::max(62.0, 14.0 + static_cast<double>(longest_name) * span_font_px * character_width_em);
   layout.plot_right = plot.width_px - 22.0;
-  const std::vector<LegendItem> legend{{"worst margin", ink_colour, "", false, {}},
-                                       {"guard band", "#a8321f", "5 4", false, {}},
-                                       {"clears every band and limit", "#9fd3ae", "", true, {}},
-                                       {"clear", verdict_fill("clear"), "", true, {}},
-                                       {"watch", verdict_fill("watch"), "", true, {}},
-                                       {"noisy", verdict_fill("noisy"), "", true, {}}};
+  std::vector<LegendItem> legend{{"worst margin", ink_colour, "", false, {}},
+                                 {"guard band", "#a8321f", "5 4", false, {}}};
+  if (!plot.windows_label.empty()) legend.push_back({plot.windows_label, "#9fd3ae", "", true, {}});
+  for (const char* verdict : {"clear", "watch", "noisy"}) legend.push_back({verdict, verdict_fill(verdict), "", true, {}});
   const int rows = legend_rows(legend, layout.plot_left, layout.plot_right);
   layout.plot_top = 30.0 + rows * 17.0 + 6.0;
   const double row_height = 13.0;

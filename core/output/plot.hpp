@@ -172,6 +172,9 @@ struct SweepPlot {
   double guard_db = 6.0;
   std::vector<SweepBandRow> bands;
   std::vector<SweepWindow> clear_windows;
+  /// The legend entry of the highlighted windows: what they meet, in the words of what was asked
+  /// ("windows where MW is clear and quasi-peak and average margins ≥ 6 dB"); empty: no entry.
+  std::string windows_label;
   std::optional<double> recommended;      ///< the sweep's recommended value, marked and labelled
   /// Why it is recommended ("6.2 dB of headroom to the limits less the guard band"), written after
   /// the value at the head of the list under the plot.

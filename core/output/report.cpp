@@ -981,6 +981,8 @@ SpectrumPlot readings_plot(const Prediction& p, const BandScan& scan, const Band
   return plot;
 }
 
+std::string readings_plot_file(const BandScan& scan) { return "scan-" + to_string(scan.band) + ".svg"; }
+
 SpectrumPlot radiated_plot(const Prediction& p, const RadiatedScan& scan) {
   const BandParameters band = band_parameters(scan.band);
   SpectrumPlot plot;
@@ -1673,7 +1675,7 @@ std::vector<OutputFile> report_files(const Prediction& p, const Prediction* befo
   files.push_back({"bands.csv", bands_csv(p.reception)});
   files.push_back({"channels.csv", channels_csv(p.reception)});
   for (const BandScan& scan : p.scans) {
-    files.push_back({"scan-" + to_string(scan.band) + ".svg",
+    files.push_back({readings_plot_file(scan),
                      spectrum_plot_svg(readings_plot(p, scan, before ? before_scan(*before, scan.band) : nullptr))});
   }
   for (const RadiatedScan& scan : p.radiated_scans) {

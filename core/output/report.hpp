@@ -84,6 +84,8 @@ struct ScenarioInput {
 /// its readings are drawn too, light and dashed, labelled "before".
 [[nodiscard]] SpectrumPlot readings_plot(const Prediction& prediction, const BandScan& scan,
                                          const BandScan* before = nullptr);
+/// "scan-B.svg": the file name of readings_plot() of `scan` in a report folder.
+[[nodiscard]] std::string readings_plot_file(const BandScan& scan);
 /// The radiated-field plot of one band C/D estimate: the readings (dBµV/m) against the radiated limit
 /// lines at the scan's distance, one marker per emission. Written as radiated-<band>-<distance>.svg.
 [[nodiscard]] SpectrumPlot radiated_plot(const Prediction& prediction, const RadiatedScan& scan);

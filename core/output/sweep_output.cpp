@@ -226,6 +226,41 @@ std::string sweep_text(const SweepResult& result, const std::vector<std::string>
   return text;
 }
 
+std::string sweep_windows_label(const SweepResult& result) {
+  if (result.criteria.empty()) return "";
+  const auto words = [&](const WindowCriterion& c) -> std::string {
+    switch (c.kind) {
+      case WindowCriterion::Kind::band_clear: return c.band + " is clear";
+      case WindowCriterion::Kind::fundamental_outside: return "the fundamental is outside band " + c.band;
+      case WindowCriterion::Kind::limits_met: {
+        std::vector<std::string> names;
+        for (const Detector d : result.detectors) names.push_back(to_string(d));
+        const std::string guard = fmt::format(" \xE2\x89\xA5 {:g} dB", result.guard_db);
+        if (names.empty()) return "every margin" + guard + " (no limit compared)";
+        std::string text = names.front();
+        for (std::size_t i = 1; i < names.size(); ++i) text += (i + 1 == names.size() ? " and " : ", ") + names[i];
+        return text + (names.size() == 1 ? " margin" : " margins") + guard;
+      }
+      case WindowCriterion::Kind::all: return "";
+    }
+    return "";
+  };
+  std::vector<std::string> parts;
+  if (result.criteria.back().kind == WindowCriterion::Kind::all) {
+    for (const WindowCriterion& c : result.criteria) {
+      if (c.kind != WindowCriterion::Kind::all) parts.push_back(words(c));
+    }
+  } else {
+    parts.push_back(words(result.criteria.back()));
+  }
+  std::string text = "windows where " + parts.front();
+  for (std::size_t i = 1; i < parts.size(); ++i) text += (i + 1 == parts.size() ? " and " : ", ") + parts[i];
+  if (result.tolerance_fraction > 0.0) {
+    text += fmt::format(" (robust to \xC2\xB1{:g} % frequency drift)", 100.0 * result.tolerance_fraction);
+  }
+  return text;
+}
+
 /// The sweep plot of the report module: worst margin and band verdicts along the first axis (the
 /// first group of a grid), the windows of the last criterion highlighted.
 std::string sweep_svg(const SweepResult& result, const std::string& title) {
@@ -253,6 +288,7 @@ std::string sweep_svg(const SweepResult& result, const std::string& title) {
     }
   }
   if (!result.criteria.empty()) {
+    plot.windows_label = sweep_windows_label(result);
     const std::size_t last = result.criteria.size() - 1;
     for (const RobustWindow& w : result.windows) {
       if (w.criterion == last && w.last_point < n) {

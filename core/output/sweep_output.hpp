@@ -26,6 +26,12 @@ namespace spurcast {
 /// each of `written`, and the reminder that a prediction is not a compliance result.
 [[nodiscard]] std::string sweep_text(const SweepResult& result, const std::vector<std::string>& written);
 
+/// The legend of the sweep plot's windows: what a window of the last criterion meets, named as it
+/// was asked ("windows where MW is clear and quasi-peak and average margins ≥ 6 dB", the detectors
+/// of the limit lines compared and the guard band for --meet-limits, every criterion for "all
+/// criteria"), with the drift it holds across; "" when the sweep was asked for no window.
+[[nodiscard]] std::string sweep_windows_label(const SweepResult& result);
+
 /// The sweep plot: worst margin and band verdicts along the first axis (the first group of a grid),
 /// the windows of the last criterion highlighted; a log axis when the values span more than 20:1.
 [[nodiscard]] std::string sweep_svg(const SweepResult& result, const std::string& title);

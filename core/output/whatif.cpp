@@ -15,6 +15,7 @@
 #include "core/input/error.hpp"
 #include "core/input/text.hpp"
 #include "core/input/units.hpp"
+#include "core/output/plot.hpp"
 #include "core/output/report.hpp"
 
 namespace spurcast {
@@ -75,7 +76,8 @@ WhatIfResponse json_error(int status, const std::string& message) {
   return r;
 }
 
-WhatIfResponse json_answer(const json& value) {
+template <class Json>
+WhatIfResponse json_answer(const Json& value) {
   WhatIfResponse r;
   r.body = value.dump(2) + "\n";
   return r;
@@ -127,6 +129,21 @@ std::string set_object_of(const std::string& body) {
   if (!request.contains("set")) return "{}";
   if (!request["set"].is_object()) throw Error("expected \"set\" to be an object of scenario keys and values");
   return request["set"].dump();
+}
+
+/// The answer to /api/evaluate: summary.json's members in its order, then `plots`: per receiver
+/// band scanned, the SVG that `predict -o DIR` writes as scan-<band>.svg (the same plot functions),
+/// so the page redraws the plots from the answer alone.
+nlohmann::ordered_json evaluate_answer(const Prediction& prediction) {
+  nlohmann::ordered_json answer = nlohmann::ordered_json::parse(summary_json(prediction, {}));
+  nlohmann::ordered_json plots = nlohmann::ordered_json::array();
+  for (const BandScan& scan : prediction.scans) {
+    plots.push_back({{"band", to_string(scan.band)},
+                     {"file", readings_plot_file(scan)},
+                     {"svg", spectrum_plot_svg(readings_plot(prediction, scan))}});
+  }
+  answer["plots"] = std::move(plots);
+  return answer;
 }
 
 }  // namespace
@@ -287,9 +304,7 @@ WhatIfResponse WhatIfSession::route(const WhatIfRequest& request) const {
     }
     try {
       const Prediction prediction = predict(scenario_from_table(edited, file_, directory_, data_));
-      WhatIfResponse r;
-      r.body = summary_json(prediction, {});
-      return r;
+      return json_answer(evaluate_answer(prediction));
     } catch (const Error& e) {
       return json_error(400, e.what());
     }

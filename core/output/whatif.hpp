@@ -8,6 +8,9 @@
 ///   GET  /api/scenario       the editable keys of the loaded scenario and their current values
 ///   POST /api/evaluate       {"set": {"switching.frequency": "1.9 MHz", ...}} → the summary, in the
 ///                            schema of summary.json (summary_json() of core/output/report.hpp)
+///                            with one more member, "plots": [{"band": "B", "file": "scan-B.svg",
+///                            "svg": "<svg ..."}, ...], per receiver band scanned the SVG that
+///                            `predict -o DIR` writes as that file, byte for byte
 ///   POST /api/scenario.toml  the same body → the changed scenario as TOML text, for the page's
 ///                            "save as…" browser download (the server never writes a file)
 ///

@@ -38,7 +38,7 @@ button.primary { background:var(--accent); color:#fff; }
 #status { color:var(--muted); margin-left:10px; }
 #status.error { color:var(--fail); font-weight:600; }
 #status.busy { color:var(--accent); }
-#answer.stale table, #answer.stale #verdict, #answer.stale #worst-line { opacity:.5; transition:opacity .15s; }
+#answer.stale table, #answer.stale #verdict, #answer.stale #worst-line, #answer.stale #plots { opacity:.5; transition:opacity .15s; }
 table { border-collapse:collapse; width:100%; margin:6px 0 14px; background:#fff; }
 th, td { text-align:left; padding:3px 8px; border-bottom:1px solid var(--line); font-variant-numeric:tabular-nums; }
 th { font-weight:600; color:var(--muted); font-size:12px; }
@@ -47,6 +47,8 @@ td.num { text-align:right; }
 .tag.pass, .tag.clear { background:var(--pass); } .tag.marginal, .tag.watch { background:var(--marginal); }
 .tag.fail, .tag.noisy { background:var(--fail); }
 .note { color:var(--muted); font-size:12px; }
+#plots figure { margin:0 0 12px; }
+#plots svg { display:block; max-width:100%; height:auto; background:#fff; }
 </style>
 </head>
 <body>
@@ -66,6 +68,7 @@ td.num { text-align:right; }
   <h2>Answer</h2>
   <div><span id="verdict">…</span><span id="status"></span></div>
   <p id="worst-line"></p>
+  <div id="plots"></div>
   <h2>Worst margin per detector</h2>
   <table><thead><tr><th>detector</th><th class="num">worst margin [dB]</th></tr></thead><tbody id="detectors"></tbody></table>
   <h2>Worst frequencies</h2>
@@ -215,6 +218,59 @@ async function evaluate() {
   draw(body);
 }
 
+// The plots come as SVG text in the answer. They are parsed as SVG, not HTML, and only drawing
+// elements and their presentation attributes are kept, so a script, an event handler, a foreign
+// object or a link to anything outside the picture never reaches the page (the server writes none;
+// this holds even for an answer that is not ours). null when the text is not one SVG picture.
+// The SVG namespace as the HTML parser gives it to an <svg> (so the page names no URL).
+const svgNs = (() => { const probe = document.createElement("div"); probe.innerHTML = "<svg></svg>"; return probe.firstChild.namespaceURI; })();
+const svgElements = new Set(["svg", "g", "defs", "clipPath", "rect", "line", "path", "polyline", "polygon",
+                             "circle", "ellipse", "text", "tspan", "title", "desc"]);
+function sanitizeSvg(text) {
+  if (typeof text !== "string") return null;
+  const doc = new DOMParser().parseFromString(text, "image/svg+xml");
+  const root = doc.documentElement;
+  if (!root || root.namespaceURI !== svgNs || root.localName !== "svg" ||
+      doc.getElementsByTagNameNS("*", "parsererror").length > 0) return null;
+  const clean = (element) => {
+    for (const a of Array.from(element.attributes)) {
+      const name = a.localName.toLowerCase();
+      const value = a.value.replace(/\s+/g, "").toLowerCase();
+      const external = value.includes("url(") && !/^url\(#[\w.-]+\)$/.test(value);
+      if (name.startsWith("on") || name === "href" || name === "style" || a.namespaceURI || external ||
+          value.includes("javascript:")) {
+        element.removeAttributeNode(a);
+      }
+    }
+    for (const child of Array.from(element.childNodes)) {
+      if (child.nodeType === Node.TEXT_NODE) continue;
+      if (child.nodeType === Node.ELEMENT_NODE && child.namespaceURI === svgNs && svgElements.has(child.localName)) {
+        clean(child);
+      } else {
+        child.remove();  // script, style, foreignObject, a, use, image, animate, comments, ...
+      }
+    }
+  };
+  clean(root);
+  return document.importNode(root, true);
+}
+
+// Each band's plot, or a note where the answer has none (or one that is not a picture).
+function drawPlots(s) {
+  const box = document.getElementById("plots");
+  box.textContent = "";
+  const plots = Array.isArray(s.plots) ? s.plots : [];
+  for (const scan of (s.scans || [])) {
+    const plot = plots.find(p => p && p.band === scan.band);
+    const figure = el("figure", {"data-plot-band":scan.band});
+    const svg = plot ? sanitizeSvg(plot.svg) : null;
+    if (svg) figure.appendChild(svg);
+    else figure.appendChild(el("p", {class:"note"}, "no plot of band " + scan.band + " in this answer"));
+    box.appendChild(figure);
+  }
+  if (box.childNodes.length === 0) box.appendChild(el("p", {class:"note"}, "no receiver band was scanned"));
+}
+
 function draw(s) {
   const verdict = document.getElementById("verdict");
   verdict.textContent = s.verdict;
@@ -250,6 +306,7 @@ function draw(s) {
     bands.appendChild(tr);
   }
   document.getElementById("notes").textContent = (s.notes || []).join(" ");
+  drawPlots(s);
 }
 
 async function save() {

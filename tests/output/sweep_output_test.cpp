@@ -158,3 +158,31 @@ TEST_CASE("sweep_svg: the recommended value and every closed window edge with it
   CHECK(texts.find(xml_escape(r.recommended->headroom_to) + ")") != std::string::npos);
   CHECK(sweep_text(r, {}).find(r.recommended->headroom_to) != std::string::npos);
 }
+
+TEST_CASE("sweep_svg: the windows' legend names what was asked, with the detectors and guard of --meet-limits") {
+  const std::string file = std::string(SPURCAST_SOURCE_DIR) + "/examples/greenhouse-buck.toml";
+  const toml::table table = parse_toml_file(file, "scenario file");
+  SweepOptions options;
+  options.axes.push_back(make_axis(table, parse_vary("switching.frequency=1.2MHz:2.5MHz:6")));
+  options.criteria.push_back(parse_window_criterion("MW"));
+  options.criteria.push_back(WindowCriterion{WindowCriterion::Kind::limits_met, ""});
+  options.tolerance_fraction = 0.05;
+  options.threads = 2;
+  const SweepResult r = run_sweep(table, file, std::string(SPURCAST_SOURCE_DIR) + "/examples", locate_shipped_data(), options);
+  // Two criteria: the sweep adds "all criteria", whose windows the plot highlights.
+  REQUIRE(r.criteria.back().kind == WindowCriterion::Kind::all);
+  // CISPR 32 Annex A (the class B AC mains port, as CISPR 22 before it) sets the conducted limit for
+  // the quasi-peak and the average detector and none for peak (common practice; the same two lines
+  // as limits/cispr32-class-b-conducted.toml); the example's guard band is 6 dB.
+  const std::string label = "windows where MW is clear and quasi-peak and average margins \xE2\x89\xA5 6 dB "
+                            "(robust to \xC2\xB1" "5 % frequency drift)";
+  CHECK(sweep_windows_label(r) == label);
+  const std::string svg = sweep_svg(r, "sweep of switching.frequency");
+  CHECK(svg.find(">" + xml_escape(label) + "</text>") != std::string::npos);
+  CHECK(svg.find("clears every band and limit") == std::string::npos);
+
+  // One criterion alone, no drift: that criterion's words only.
+  const SweepResult& mw = example_sweep();
+  CHECK(sweep_windows_label(mw) == "windows where MW is clear");
+  CHECK(sweep_svg(mw, "sweep").find(">windows where MW is clear</text>") != std::string::npos);
+}

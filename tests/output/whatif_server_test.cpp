@@ -4,6 +4,7 @@
 // written into the file; the security rules against requests a foreign page could send.
 #include <doctest/doctest.h>
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <string>
@@ -18,6 +19,7 @@
 #include "cli_support.hpp"
 #include "core/chain/scenario.hpp"
 #include "core/input/toml_reader.hpp"
+#include "core/input/units.hpp"
 #include "core/output/whatif_server.hpp"
 
 // Last: <httplib.h> pulls in <resolv.h> and <signal.h>, whose macros (_res, si_value) clash with Eigen.
@@ -54,8 +56,10 @@ struct RunningServer {
   [[nodiscard]] std::string host() const { return "127.0.0.1:" + std::to_string(port); }
 };
 
-/// `spurcast predict --json` on a copy of the example with `from` replaced by `to` in its text.
-json predict_edited(const std::vector<std::pair<std::string, std::string>>& edits, const std::string& name) {
+/// `spurcast predict --json` on a copy of the example with `from` replaced by `to` in its text; the
+/// report folder it wrote in `report_dir` when asked.
+json predict_edited(const std::vector<std::pair<std::string, std::string>>& edits, const std::string& name,
+                    fs::path* report_dir = nullptr) {
   const fs::path dir = fresh_directory("spurcast-whatif-", name);
   std::string text = read_text(example);
   for (const auto& [from, to] : edits) {
@@ -67,7 +71,35 @@ json predict_edited(const std::vector<std::pair<std::string, std::string>>& edit
   // The limit files are named relative to the limits folder, so the copy needs nothing beside it.
   const auto run = run_cli(dir, {"predict", "edited.toml", "-o", "report", "--json"}, dir);
   REQUIRE_MESSAGE((run.exit_code == 0 || run.exit_code == 1), run.err);
+  if (report_dir) *report_dir = dir / "report";
   return json::parse(run.out);
+}
+
+/// The text of each <text> element of an SVG or HTML document, in order, with the entities of XML
+/// (and &nbsp;, which an HTML serializer writes) read back, so a plot and the page's copy of it compare.
+std::vector<std::string> svg_texts(const std::string& document) {
+  std::vector<std::string> texts;
+  for (std::size_t at = document.find("<text"); at != std::string::npos; at = document.find("<text", at + 1)) {
+    const std::size_t open = document.find('>', at) + 1;
+    const std::string raw = document.substr(open, document.find("</text>", open) - open);
+    std::string text;
+    for (std::size_t i = 0; i < raw.size(); ++i) {
+      bool replaced = false;
+      for (const auto& [entity, character] : std::vector<std::pair<std::string, std::string>>{
+               {"&amp;", "&"}, {"&lt;", "<"}, {"&gt;", ">"}, {"&quot;", "\""}, {"&apos;", "'"}, {"&#39;", "'"},
+               {"&nbsp;", "\xC2\xA0"}}) {
+        if (raw.compare(i, entity.size(), entity) == 0) {
+          text += character;
+          i += entity.size() - 1;
+          replaced = true;
+          break;
+        }
+      }
+      if (!replaced) text += raw[i];
+    }
+    texts.push_back(text);
+  }
+  return texts;
 }
 
 json error_of(const httplib::Result& result) {
@@ -90,9 +122,10 @@ TEST_CASE("evaluate answers what predict gives for the scenario with the same va
   const json answer = json::parse(result->body);
 
   // The same edit made by hand in a copy of the file, run through the CLI.
+  fs::path report;
   const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""},
                                         {"parasitic_capacitance = \"35 pF\"", "parasitic_capacitance = \"50 pF\""}},
-                                       "predict");
+                                       "predict", &report);
 
   CHECK(answer["verdict"] == expected["verdict"]);
   REQUIRE(answer["worst_margin_db"].size() == expected["worst_margin_db"].size());
@@ -107,6 +140,29 @@ TEST_CASE("evaluate answers what predict gives for the scenario with the same va
     CHECK(answer["bands"][i]["name"] == expected["bands"][i]["name"]);
     CHECK(answer["bands"][i]["verdict"] == expected["bands"][i]["verdict"]);
   }
+  // One plot per band scanned, byte for byte the SVG predict wrote for that band.
+  REQUIRE(answer["plots"].size() == expected["scans"].size());
+  REQUIRE(!expected["scans"].empty());
+  for (std::size_t i = 0; i < expected["scans"].size(); ++i) {
+    const std::string band = expected["scans"][i]["band"].get<std::string>();
+    INFO(band);
+    CHECK(answer["plots"][i]["band"] == band);
+    CHECK(answer["plots"][i]["file"] == "scan-" + band + ".svg");
+    CHECK(answer["plots"][i]["svg"].get<std::string>() == read_text(report / ("scan-" + band + ".svg")));
+  }
+  // Apart from "plots", the answer has summary.json's members in its order.
+  std::vector<std::string> answer_keys, expected_keys;
+  const nlohmann::ordered_json answer_in_order = nlohmann::ordered_json::parse(result->body);
+  const nlohmann::ordered_json summary_in_order = nlohmann::ordered_json::parse(read_text(report / "summary.json"));
+  for (const auto& [key, value] : answer_in_order.items()) {
+    (void)value;
+    if (key != "plots") answer_keys.push_back(key);
+  }
+  for (const auto& [key, value] : summary_in_order.items()) {
+    (void)value;
+    expected_keys.push_back(key);
+  }
+  CHECK(answer_keys == expected_keys);
   // The edit moved the answer: the unedited scenario's worst frequency is its 220 kHz fundamental.
   const auto base = client.Post("/api/evaluate", "{}", "application/json");
   REQUIRE(base);
@@ -317,7 +373,8 @@ TEST_CASE("the page in a real browser shows what predict gives for a changed fre
                               spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
   REQUIRE(std::system(command.c_str()) == 0);
   const std::string dom = read_text(dir / "dom.html");
-  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""}}, "browser-predict");
+  fs::path report;
+  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"1.9 MHz\""}}, "browser-predict", &report);
   REQUIRE(!expected["worst_margin_db"].empty());
   for (const auto& [detector, margin] : expected["worst_margin_db"].items()) {
     // The page shows margins to 0.1 dB.
@@ -331,6 +388,19 @@ TEST_CASE("the page in a real browser shows what predict gives for a changed fre
                             band["verdict"].get<std::string>() + "\">";
     INFO(row);
     CHECK(dom.find(row) != std::string::npos);
+  }
+  // Each band's plot as the page drew it says what predict's scan-<band>.svg says: the same title,
+  // ticks, legend and worst readings (frequency, detector, margin).
+  REQUIRE(!expected["scans"].empty());
+  for (const json& scan : expected["scans"]) {
+    const std::string band = scan["band"].get<std::string>();
+    const auto figure = dom.find("<figure data-plot-band=\"" + band + "\">");
+    REQUIRE(figure != std::string::npos);
+    const std::string drawn = dom.substr(figure, dom.find("</figure>", figure) - figure);
+    CHECK(drawn.find("<svg") != std::string::npos);
+    const std::vector<std::string> texts = svg_texts(drawn);
+    CHECK(texts.size() > 5);
+    CHECK(texts == svg_texts(read_text(report / ("scan-" + band + ".svg"))));
   }
 }
 
@@ -481,4 +551,175 @@ TEST_CASE("the page computes one change at a time, shows progress on a slow path
   for (const json& status : log["statuses"]) {
     CHECK(status.get<std::string>().find("error") == std::string::npos);
   }
+}
+
+// The page's own script with the network replaced by a stand-in: each evaluation answers at once
+// with the answer the test prepared for the frequency posted (what the session answers for it, one
+// of them made hostile, one without its plots).
+constexpr const char* plot_harness = R"js(<script>
+"use strict";
+(function () {
+  const scenario = SCENARIO;
+  const answers = ANSWERS;
+  const log = window.spurcastTest = {calls: [], marks: {}};
+  window.fetch = function (path, options) {
+    if (path === "/api/scenario") return Promise.resolve(new Response(JSON.stringify(scenario)));
+    const key = JSON.parse(options.body).set["switching.frequency"] || "";
+    log.calls.push(key);
+    const answer = answers[key];
+    return Promise.resolve(answer ? new Response(JSON.stringify(answer), {status: 200})
+                                  : new Response(JSON.stringify({error: "no answer prepared for " + key}), {status: 400}));
+  };
+  function mark(name) {
+    const figure = document.querySelector("#plots figure[data-plot-band='B']");
+    log.marks[name] = {
+      status: document.getElementById("status").textContent,
+      cells: Array.from(document.querySelectorAll("#detectors td[data-detector]")).map(function (td) {
+        return td.getAttribute("data-detector") + "=" + td.textContent;
+      }),
+      texts: figure ? Array.from(figure.querySelectorAll("text")).map(function (t) { return t.textContent; }) : null,
+      note: figure && figure.querySelector("p") ? figure.querySelector("p").textContent : "",
+      markup: figure ? figure.innerHTML : "",
+      hostile_ran: window.spurcastHostile || 0
+    };
+  }
+  window.addEventListener("load", function () {
+    setTimeout(function () {
+      mark("first");
+      const slider = document.querySelector("input[type=range][data-key='switching.frequency']");
+      slider.value = 1000;  // the right end: four times the scenario's value
+      slider.dispatchEvent(new Event("input"));
+      setTimeout(function () {
+        mark("moved");
+        const field = document.querySelector("input[type=text][data-key='switching.frequency']");
+        field.value = "1.9 MHz";
+        field.dispatchEvent(new Event("change"));
+        setTimeout(function () {
+          mark("no plots");
+          const out = document.createElement("pre");
+          out.id = "result";
+          out.textContent = encodeURIComponent(JSON.stringify(log));
+          document.body.appendChild(out);
+        }, 500);
+      }, 500);
+    }, 1000);
+  });
+})();
+</script>
+)js";
+
+// A plot that is not ours: each way an SVG can run script or fetch from elsewhere, around one text.
+constexpr const char* hostile_svg =
+    R"svg(<svg xmlns="http://www.w3.org/2000/svg" xmlns:xlink="http://www.w3.org/1999/xlink" onload="window.spurcastHostile=1" viewBox="0 0 100 50">)svg"
+    R"svg(<script>window.spurcastHostile=2</script>)svg"
+    R"svg(<rect width="10" height="10" onclick="window.spurcastHostile=3" style="fill:url(http://example.invalid/a)"/>)svg"
+    R"svg(<foreignObject width="50" height="50"><iframe xmlns="http://www.w3.org/1999/xhtml" src="http://example.invalid/b"></iframe></foreignObject>)svg"
+    R"svg(<image href="http://example.invalid/c.png" width="5" height="5"/><use xlink:href="http://example.invalid/d.svg#x"/>)svg"
+    R"svg(<a href="javascript:window.spurcastHostile=4"><text x="1" y="20">link</text></a>)svg"
+    R"svg(<g fill="url(http://example.invalid/e)"><set attributeName="onmouseover" to="window.spurcastHostile=5"/></g>)svg"
+    R"svg(<text x="1" y="40">kept text</text></svg>)svg";
+
+TEST_CASE("the page redraws the plot when the frequency slider moves, and draws only a sanitized SVG") {
+  std::string chromium;
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) chromium = c;
+  }
+  if (chromium.empty()) {
+    MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
+    return;
+  }
+  spurcast::WhatIfSession session(spurcast::parse_toml_file(example, "scenario file"), example, example_dir,
+                                  spurcast::locate_shipped_data());
+  session.set_port(8470);
+  const auto ask = [&](const std::string& method, const std::string& path, const std::string& body) {
+    const spurcast::WhatIfResponse r = session.handle({method, path, "127.0.0.1:8470", std::nullopt, body});
+    REQUIRE(r.status == 200);
+    return json::parse(r.body);
+  };
+  // The slider spans a quarter to four times the scenario's 220 kHz (the page's note); its right end
+  // is 880 kHz, which the page writes as "880 kHz" in the field and posts.
+  const std::string moved = "880 kHz";
+  json answers;
+  answers[""] = ask("POST", "/api/evaluate", R"({"set": {}})");
+  answers[moved] = ask("POST", "/api/evaluate", R"({"set": {"switching.frequency": "880 kHz"}})");
+  answers["1.9 MHz"] = ask("POST", "/api/evaluate", R"({"set": {"switching.frequency": "1.9 MHz"}})");
+  REQUIRE(answers[""]["plots"].size() == 1);
+  REQUIRE(answers[""]["plots"][0]["band"] == "B");
+  answers[""]["plots"][0]["svg"] = hostile_svg;
+  answers["1.9 MHz"].erase("plots");
+  const auto script_json = [](const json& value) {
+    std::string text;
+    for (char c : value.dump()) text += c == '<' ? std::string("\\u003c") : std::string(1, c);
+    return text;
+  };
+  std::string harness = plot_harness;
+  harness.replace(harness.find("SCENARIO"), 8, script_json(ask("GET", "/api/scenario", "")));
+  harness.replace(harness.find("ANSWERS"), 7, script_json(answers));
+  std::string page = spurcast::whatif_page_html();
+  page.insert(page.find("<script>"), harness);
+  const fs::path dir = fresh_directory("spurcast-whatif-", "plots");
+  fs::create_directories(dir / "profile");
+  write_text(dir / "page.html", page);
+  const std::string command = chromium +
+                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                              "--disable-background-networking --disable-component-update --disable-sync "
+                              "--virtual-time-budget=10000 --user-data-dir=" +
+                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
+                              spurcast::test::shell_quote("file://" + (dir / "page.html").string()) + " >" +
+                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
+  REQUIRE(std::system(command.c_str()) == 0);
+  const std::string dom = read_text(dir / "dom.html");
+  const auto at = dom.find("<pre id=\"result\">");
+  REQUIRE(at != std::string::npos);
+  const std::string encoded = dom.substr(at + 17, dom.find("</pre>", at) - at - 17);
+  std::string text;  // encodeURIComponent's %XX back to bytes
+  for (std::size_t i = 0; i < encoded.size(); ++i) {
+    if (encoded[i] == '%' && i + 2 < encoded.size()) {
+      text += static_cast<char>(std::stoi(encoded.substr(i + 1, 2), nullptr, 16));
+      i += 2;
+    } else {
+      text += encoded[i];
+    }
+  }
+  const json log = json::parse(text);
+  INFO(log.dump());
+  CHECK(log["calls"] == json::array({"", moved, "1.9 MHz"}));
+
+  // The hostile plot: its text is drawn, nothing that runs or fetches is left, and nothing ran.
+  const json& first = log["marks"]["first"];
+  CHECK(first["texts"].size() == 1);
+  CHECK(first["texts"][0] == "kept text");
+  CHECK(first["hostile_ran"] == 0);
+  const std::string markup = first["markup"].get<std::string>();
+  CHECK(markup.find("<svg") != std::string::npos);
+  for (const char* gone : {"script", "onload", "onclick", "foreignObject", "iframe", "<image", "<use", "href",
+                           "example.invalid", "javascript", "style", "<set", "onmouseover"}) {
+    INFO(gone);
+    CHECK(markup.find(gone) == std::string::npos);
+  }
+
+  // The slider moved: the plot of band B changed to the one predict draws for 880 kHz.
+  fs::path report;
+  const json expected = predict_edited({{"frequency = \"220 kHz\"", "frequency = \"880 kHz\""}}, "slider-predict", &report);
+  const json& after = log["marks"]["moved"];
+  REQUIRE(after["texts"].is_array());
+  std::vector<std::string> drawn;
+  for (const json& t : after["texts"]) drawn.push_back(t.get<std::string>());
+  const std::vector<std::string> predicted = svg_texts(read_text(report / "scan-B.svg"));
+  CHECK(drawn == predicted);
+  CHECK(after["texts"] != first["texts"]);
+  // The worst reading's marker names the frequency predict gives as the worst (4 digits, as the plot).
+  const std::string worst = spurcast::format_quantity(expected["worst"]["frequency_hz"].get<double>(),
+                                                      spurcast::Dimension::frequency, 4) + " ";
+  CHECK(std::any_of(drawn.begin(), drawn.end(), [&](const std::string& t) { return t.rfind(worst, 0) == 0; }));
+
+  // An answer without plots still draws its margins, with a note where the plot would be.
+  const json& bare = log["marks"]["no plots"];
+  for (const auto& [detector, margin] : answers["1.9 MHz"]["worst_margin_db"].items()) {
+    CHECK(std::find(bare["cells"].begin(), bare["cells"].end(),
+                    json(detector + "=" + fmt::format("{:.1f}", margin.get<double>()))) != bare["cells"].end());
+  }
+  CHECK(bare["texts"].empty());
+  CHECK(bare["note"] == "no plot of band B in this answer");
+  CHECK(bare["status"] == "");
 }
