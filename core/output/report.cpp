@@ -22,7 +22,6 @@ namespace {
 constexpr const char* peak_colour = "#3f8fa6";
 constexpr const char* quasi_peak_colour = "#c8553d";
 constexpr const char* average_colour = "#6a5aa8";
-constexpr const char* limit_colour = "#22303a";
 
 std::string fixed(double value, int decimals) {
   char buffer[64];

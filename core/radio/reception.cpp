@@ -145,7 +145,11 @@ std::string number(double value, const char* format) {
 }  // namespace
 
 double sweep_peak_factor(double sweep_rate_hz_per_s, double bandwidth_3db_hz) {
-  const double x = 0.195 * sweep_rate_hz_per_s / (bandwidth_3db_hz * bandwidth_3db_hz);
+  // A Gaussian filter exp(−a·f²), a = 2·ln 2/B3², driven by exp(jπSt²): the output's peak
+  // amplitude is (1 + (a·S/π)²)^(−1/4) (the Gaussian integral of the convolution at the crossing;
+  // tests/receiver/swept_lines_test checks the same response against numpy's filtered chirp).
+  const double x = 2.0 * std::numbers::ln2 / std::numbers::pi * sweep_rate_hz_per_s /
+                   (bandwidth_3db_hz * bandwidth_3db_hz);
   return 1.0 / std::sqrt(1.0 + x * x);
 }
 

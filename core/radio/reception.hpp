@@ -105,7 +105,9 @@ struct ReceiverLines {
 
 /// The sweep-rate factor of a channel [power ratio, ≤ 1]: the peak power a Gaussian filter of 3 dB
 /// bandwidth B3 reads from a line sweeping through it at `sweep_rate_hz_per_s`,
-/// [1 + (0.195·S/B3²)²]^(−1/2) (the swept-analyser sweep-loss relation for a Gaussian filter, from memory).
+/// [1 + 0.195·(S/B3²)²]^(−1/2), 0.195 = (2·ln 2/π)² (a Gaussian filter's response to a linear sweep;
+/// derived in reception.cpp, checked against core/receiver's swept_if_gain, which numpy checks).
+/// Before 2026-12-04 the 0.195 stood inside the square, understating the loss of fast sweeps.
 [[nodiscard]] double sweep_peak_factor(double sweep_rate_hz_per_s, double bandwidth_3db_hz);
 
 /// A dithered source's lines as a channel of `bandwidth_hz` (6 dB) hears them: each line spread over its

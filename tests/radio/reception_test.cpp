@@ -9,6 +9,7 @@
 #include <string>
 
 #include "core/radio/reception.hpp"
+#include "core/receiver/receiver.hpp"
 #include "core/input/error.hpp"
 #include "core/input/units.hpp"
 
@@ -309,16 +310,29 @@ TEST_CASE("dither credit depends on the modulation rate against the channel band
   const double enbw = 4.5e3 * std::sqrt(std::numbers::pi / std::log(4.0));
   CHECK(std::abs(enbw - 6774.2) < 0.1);
   CHECK(std::abs(centre_level(1e6) - (40.0 + 10.0 * std::log10(enbw / 120e3))) <= tol_spread_db);
-  // 12 kHz: sweep rate 4·60 kHz·12 kHz = 2.88e9 Hz/s; Gaussian sweep loss with B3 = 9/√2 kHz:
-  // [1 + (0.195·S/B3²)²]^(−1/2) = 0.0718 (−11.44 dB), above the time average: heard at −11.4 dB.
+  // Gaussian sweep loss with B3 = 9/√2 kHz: [1 + 0.195·(S/B3²)²]^(−1/2), 0.195 = (2·ln 2/π)².
+  // 12 kHz: S = 4·60 kHz·12 kHz = 2.88e9 Hz/s gives −15.0 dB, below the time average: heard at the
+  // time average. 3 kHz: S = 7.2e8 Hz/s gives −9.0 dB, above it: heard at −9.0 dB.
   const double b3 = 9e3 / std::sqrt(2.0);
-  const double x12 = 0.195 * 2.88e9 / (b3 * b3);
-  CHECK(std::abs(centre_level(12e3) - (40.0 - 5.0 * std::log10(1.0 + x12 * x12))) <= tol_spread_db);
-  // 300 Hz: a slow sweep across the channel is heard as nearly the full line (−0.25 dB), not with the
+  const double c = 2.0 * std::numbers::ln2 / std::numbers::pi;
+  const double x12 = c * 2.88e9 / (b3 * b3);
+  CHECK(-5.0 * std::log10(1.0 + x12 * x12) < 10.0 * std::log10(enbw / 120e3));
+  CHECK(std::abs(centre_level(12e3) - (40.0 + 10.0 * std::log10(enbw / 120e3))) <= tol_spread_db);
+  const double x3k = c * 7.2e8 / (b3 * b3);
+  CHECK(std::abs(centre_level(3e3) - (40.0 - 5.0 * std::log10(1.0 + x3k * x3k))) <= tol_spread_db);
+  CHECK(centre_level(3e3) > centre_level(12e3) + 3.0);
+  // 300 Hz: a slow sweep across the channel is heard as nearly the full line, not with the
   // 12 dB credit of the time average.
-  const double x300 = 0.195 * 7.2e7 / (b3 * b3);
+  const double x300 = c * 7.2e7 / (b3 * b3);
   CHECK(std::abs(centre_level(300.0) - (40.0 - 5.0 * std::log10(1.0 + x300 * x300))) <= tol_spread_db);
-  CHECK(centre_level(300.0) > 39.5);
+  CHECK(centre_level(300.0) > 38.5);  // −1.0 dB
+  // The same factor as the receiver's swept Gaussian IF (core/receiver, checked against numpy's
+  // filtered chirp in swept_lines_test): the peak power of a line swept across the whole passband.
+  for (const double rate : {1e7, 2e8, 2.88e9}) {
+    const double b6 = 9e3;
+    const SweptGain whole = swept_if_gain(-4.0 * b6, 4.0 * b6, 8.0 * b6 / rate, b6);
+    CHECK(sweep_peak_factor(rate, b6 / std::sqrt(2.0)) == doctest::Approx(whole.highest * whole.highest).epsilon(1e-3));
+  }
   CHECK(sweep_peak_factor(0.0, b3) == doctest::Approx(1.0));
 }
 

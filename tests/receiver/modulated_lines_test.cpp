@@ -19,6 +19,8 @@
 #include <string>
 #include <vector>
 
+#include <unistd.h>
+
 #include "core/input/error.hpp"
 #include "core/input/units.hpp"
 #include "core/receiver/receiver.hpp"
@@ -96,7 +98,8 @@ bool have_scipy() { return std::system("/usr/bin/python3 -c \"import scipy, nump
 /// The CISPR 16-1-1 average and quasi-peak readings of a periodic envelope (peak volts, samples
 /// `dt` apart) by scipy: [average, quasi-peak] in V RMS.
 std::vector<double> scipy_readings(const std::vector<double>& envelope, double dt, const DetectorTimeConstants& c) {
-  const std::filesystem::path dir = std::filesystem::temp_directory_path() / "spurcast_modulated_lines_test";
+  const std::filesystem::path dir = std::filesystem::temp_directory_path() /
+                                    ("spurcast_modulated_lines_test_" + std::to_string(::getpid()));  // one per run
   std::filesystem::create_directories(dir);
   {
     std::ofstream out(dir / "envelope.txt");
@@ -160,6 +163,8 @@ print(meter_max(env) / np.sqrt(2.0), meter_max(qp_trace) / (rf * np.sqrt(2.0)))
   std::ifstream in(dir / "out.txt");
   double average = 0.0, quasi_peak = 0.0;
   in >> average >> quasi_peak;
+  in.close();
+  std::filesystem::remove_all(dir);
   return {average, quasi_peak};
 }
 
