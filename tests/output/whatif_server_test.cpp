@@ -110,6 +110,14 @@ json error_of(const httplib::Result& result) {
   return body["error"];
 }
 
+/// The first chromium found, "" when none is installed.
+std::string find_chromium() {
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) return c;
+  }
+  return "";
+}
+
 }  // namespace
 
 TEST_CASE("evaluate answers what predict gives for the scenario with the same value written in the file") {
@@ -350,10 +358,7 @@ TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
 }
 
 TEST_CASE("the page in a real browser shows what predict gives for a changed frequency") {
-  std::string chromium;
-  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
-    if (::access(c, X_OK) == 0) chromium = c;
-  }
+  const std::string chromium = find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;
@@ -403,6 +408,52 @@ TEST_CASE("the page in a real browser shows what predict gives for a changed fre
     CHECK(texts == svg_texts(read_text(report / ("scan-" + band + ".svg"))));
   }
 }
+
+namespace {
+
+/// Runs the what-if page in headless chromium with `harness` (a <script> whose SCENARIO and ANSWERS
+/// stand for the page's GET /api/scenario answer and the evaluate answers by state) ahead of the
+/// page's own script, and returns the JSON log the harness leaves URI-encoded in <pre id="result">.
+json run_page_harness(const std::string& chromium, std::string harness, const json& scenario, const json& answers,
+                      const std::string& name) {
+  // Inside a <script>, '<' only occurs in JSON strings, where \u003c is the same character.
+  const auto script_json = [](const json& value) {
+    std::string text;
+    for (char c : value.dump()) text += c == '<' ? std::string("\\u003c") : std::string(1, c);
+    return text;
+  };
+  harness.replace(harness.find("SCENARIO"), 8, script_json(scenario));
+  harness.replace(harness.find("ANSWERS"), 7, script_json(answers));
+  std::string page = spurcast::whatif_page_html();
+  page.insert(page.find("<script>"), harness);
+  const fs::path dir = fresh_directory("spurcast-whatif-", name);
+  fs::create_directories(dir / "profile");
+  write_text(dir / "page.html", page);
+  const std::string command = chromium +
+                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
+                              "--disable-background-networking --disable-component-update --disable-sync "
+                              "--virtual-time-budget=10000 --user-data-dir=" +
+                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
+                              spurcast::test::shell_quote("file://" + (dir / "page.html").string()) + " >" +
+                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
+  REQUIRE(std::system(command.c_str()) == 0);
+  const std::string dom = read_text(dir / "dom.html");
+  const auto at = dom.find("<pre id=\"result\">");
+  REQUIRE(at != std::string::npos);
+  const std::string encoded = dom.substr(at + 17, dom.find("</pre>", at) - at - 17);
+  std::string text;  // encodeURIComponent's %XX back to bytes
+  for (std::size_t i = 0; i < encoded.size(); ++i) {
+    if (encoded[i] == '%' && i + 2 < encoded.size()) {
+      text += static_cast<char>(std::stoi(encoded.substr(i + 1, 2), nullptr, 16));
+      i += 2;
+    } else {
+      text += encoded[i];
+    }
+  }
+  return json::parse(text);
+}
+
+}  // namespace
 
 // The page's own script with the network replaced by a stand-in (added by the test before it): each
 // evaluation answers what the session answers for the same request, after a delay, so the page's
@@ -462,10 +513,7 @@ constexpr const char* slow_path_harness = R"js(<script>
 )js";
 
 TEST_CASE("the page computes one change at a time, shows progress on a slow path and draws only the latest") {
-  std::string chromium;
-  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
-    if (::access(c, X_OK) == 0) chromium = c;
-  }
+  const std::string chromium = find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;
@@ -493,42 +541,7 @@ TEST_CASE("the page computes one change at a time, shows progress on a slow path
     }
     return cells;
   };
-  // Inside a <script>, '<' only occurs in JSON strings, where \u003c is the same character.
-  const auto script_json = [](const json& value) {
-    std::string text;
-    for (char c : value.dump()) text += c == '<' ? std::string("\\u003c") : std::string(1, c);
-    return text;
-  };
-  std::string harness = slow_path_harness;
-  harness.replace(harness.find("SCENARIO"), 8, script_json(ask("GET", "/api/scenario", "")));
-  harness.replace(harness.find("ANSWERS"), 7, script_json(answers));
-  std::string page = spurcast::whatif_page_html();
-  page.insert(page.find("<script>"), harness);
-  const fs::path dir = fresh_directory("spurcast-whatif-", "slow-path");
-  fs::create_directories(dir / "profile");
-  write_text(dir / "page.html", page);
-  const std::string command = chromium +
-                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
-                              "--disable-background-networking --disable-component-update --disable-sync "
-                              "--virtual-time-budget=10000 --user-data-dir=" +
-                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
-                              spurcast::test::shell_quote("file://" + (dir / "page.html").string()) + " >" +
-                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
-  REQUIRE(std::system(command.c_str()) == 0);
-  const std::string dom = read_text(dir / "dom.html");
-  const auto at = dom.find("<pre id=\"result\">");
-  REQUIRE(at != std::string::npos);
-  const std::string encoded = dom.substr(at + 17, dom.find("</pre>", at) - at - 17);
-  std::string text;  // encodeURIComponent's %XX back to bytes
-  for (std::size_t i = 0; i < encoded.size(); ++i) {
-    if (encoded[i] == '%' && i + 2 < encoded.size()) {
-      text += static_cast<char>(std::stoi(encoded.substr(i + 1, 2), nullptr, 16));
-      i += 2;
-    } else {
-      text += encoded[i];
-    }
-  }
-  const json log = json::parse(text);
+  const json log = run_page_harness(chromium, slow_path_harness, ask("GET", "/api/scenario", ""), answers, "slow-path");
   INFO(log.dump());
   // One request at a time: the unchanged scenario, the first change, then only the latest of the
   // two changes made while the first was computing.
@@ -620,10 +633,7 @@ constexpr const char* hostile_svg =
     R"svg(<text x="1" y="40">kept text</text></svg>)svg";
 
 TEST_CASE("the page redraws the plot when the frequency slider moves, and draws only a sanitized SVG") {
-  std::string chromium;
-  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
-    if (::access(c, X_OK) == 0) chromium = c;
-  }
+  const std::string chromium = find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;
@@ -647,41 +657,7 @@ TEST_CASE("the page redraws the plot when the frequency slider moves, and draws 
   REQUIRE(answers[""]["plots"][0]["band"] == "B");
   answers[""]["plots"][0]["svg"] = hostile_svg;
   answers["1.9 MHz"].erase("plots");
-  const auto script_json = [](const json& value) {
-    std::string text;
-    for (char c : value.dump()) text += c == '<' ? std::string("\\u003c") : std::string(1, c);
-    return text;
-  };
-  std::string harness = plot_harness;
-  harness.replace(harness.find("SCENARIO"), 8, script_json(ask("GET", "/api/scenario", "")));
-  harness.replace(harness.find("ANSWERS"), 7, script_json(answers));
-  std::string page = spurcast::whatif_page_html();
-  page.insert(page.find("<script>"), harness);
-  const fs::path dir = fresh_directory("spurcast-whatif-", "plots");
-  fs::create_directories(dir / "profile");
-  write_text(dir / "page.html", page);
-  const std::string command = chromium +
-                              " --headless --no-sandbox --disable-gpu --disable-quic --no-first-run "
-                              "--disable-background-networking --disable-component-update --disable-sync "
-                              "--virtual-time-budget=10000 --user-data-dir=" +
-                              spurcast::test::shell_quote((dir / "profile").string()) + " --dump-dom " +
-                              spurcast::test::shell_quote("file://" + (dir / "page.html").string()) + " >" +
-                              spurcast::test::shell_quote((dir / "dom.html").string()) + " 2>/dev/null";
-  REQUIRE(std::system(command.c_str()) == 0);
-  const std::string dom = read_text(dir / "dom.html");
-  const auto at = dom.find("<pre id=\"result\">");
-  REQUIRE(at != std::string::npos);
-  const std::string encoded = dom.substr(at + 17, dom.find("</pre>", at) - at - 17);
-  std::string text;  // encodeURIComponent's %XX back to bytes
-  for (std::size_t i = 0; i < encoded.size(); ++i) {
-    if (encoded[i] == '%' && i + 2 < encoded.size()) {
-      text += static_cast<char>(std::stoi(encoded.substr(i + 1, 2), nullptr, 16));
-      i += 2;
-    } else {
-      text += encoded[i];
-    }
-  }
-  const json log = json::parse(text);
+  const json log = run_page_harness(chromium, plot_harness, ask("GET", "/api/scenario", ""), answers, "plots");
   INFO(log.dump());
   CHECK(log["calls"] == json::array({"", moved, "1.9 MHz"}));
 
