@@ -2,6 +2,7 @@
 // Shared helpers of the end-to-end tests that run the built spurcast executable
 // (SPURCAST_EXECUTABLE): file reading, shell quoting, fresh folders and captured runs.
 #include <sys/wait.h>
+#include <unistd.h>
 
 #include <cstdlib>
 #include <filesystem>
@@ -13,6 +14,14 @@
 namespace spurcast::test {
 
 namespace fs = std::filesystem;
+
+/// Debian's chromium for the browser tests, "" when it is not installed.
+inline std::string find_chromium() {
+  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
+    if (::access(c, X_OK) == 0) return c;
+  }
+  return "";
+}
 
 inline std::string read_text(const fs::path& path) {
   std::ifstream in(path, std::ios::binary);

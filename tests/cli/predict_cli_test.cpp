@@ -22,6 +22,8 @@
 
 #include <nlohmann/json.hpp>
 
+#include "cli_support.hpp"
+
 namespace fs = std::filesystem;
 
 namespace {
@@ -307,11 +309,7 @@ TEST_CASE("progress on stderr only when stderr is a terminal, and cleared before
 }
 
 TEST_CASE("the report renders in a real browser (headless chromium screenshot is not blank)") {
-  const char* candidates[] = {"/usr/bin/chromium", "/usr/bin/chromium-browser"};
-  std::string chromium;
-  for (const char* c : candidates) {
-    if (::access(c, X_OK) == 0) chromium = c;
-  }
+  const std::string chromium = spurcast::test::find_chromium();
   if (chromium.empty() || !have_python()) {
     MESSAGE("skipped: headless chromium (apt-get install -y chromium) or /usr/bin/python3 not installed");
     return;
@@ -450,10 +448,7 @@ constexpr const char* readout_probe = R"js(<script>
 )js";
 
 TEST_CASE("the report's hover readout and detector switches work in a real browser and agree with the CSVs") {
-  std::string chromium;
-  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
-    if (::access(c, X_OK) == 0) chromium = c;
-  }
+  const std::string chromium = spurcast::test::find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;

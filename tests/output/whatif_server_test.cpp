@@ -110,14 +110,6 @@ json error_of(const httplib::Result& result) {
   return body["error"];
 }
 
-/// The first chromium found, "" when none is installed.
-std::string find_chromium() {
-  for (const char* c : {"/usr/bin/chromium", "/usr/bin/chromium-browser"}) {
-    if (::access(c, X_OK) == 0) return c;
-  }
-  return "";
-}
-
 }  // namespace
 
 TEST_CASE("evaluate answers what predict gives for the scenario with the same value written in the file") {
@@ -358,7 +350,7 @@ TEST_CASE("the server listens on the loopback address 127.0.0.1 only") {
 }
 
 TEST_CASE("the page in a real browser shows what predict gives for a changed frequency") {
-  const std::string chromium = find_chromium();
+  const std::string chromium = spurcast::test::find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;
@@ -513,7 +505,7 @@ constexpr const char* slow_path_harness = R"js(<script>
 )js";
 
 TEST_CASE("the page computes one change at a time, shows progress on a slow path and draws only the latest") {
-  const std::string chromium = find_chromium();
+  const std::string chromium = spurcast::test::find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;
@@ -633,7 +625,7 @@ constexpr const char* hostile_svg =
     R"svg(<text x="1" y="40">kept text</text></svg>)svg";
 
 TEST_CASE("the page redraws the plot when the frequency slider moves, and draws only a sanitized SVG") {
-  const std::string chromium = find_chromium();
+  const std::string chromium = spurcast::test::find_chromium();
   if (chromium.empty()) {
     MESSAGE("skipped: headless chromium not installed (apt-get install -y chromium)");
     return;
